@@ -1,0 +1,38 @@
+"""physics/ imports only numpy, scipy, a few standard-library modules and physics.* (DEVELOPERS.md)."""
+
+import ast
+import pathlib
+
+PHYSICS = pathlib.Path(__file__).resolve().parents[2] / "physics"
+ALLOWED = {"numpy", "scipy", "dataclasses", "math", "typing", "enum", "physics", "__future__"}
+
+
+def _imports(path):
+    tree = ast.parse(path.read_text(), filename=str(path))
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            for alias in node.names:
+                yield alias.name.split(".")[0], node.lineno
+        elif isinstance(node, ast.ImportFrom):
+            if node.level:  # relative import stays inside physics
+                yield "physics", node.lineno
+            else:
+                yield node.module.split(".")[0], node.lineno
+
+
+def test_physics_imports_only_allowed_modules():
+    files = sorted(PHYSICS.rglob("*.py"))
+    assert len(files) >= 5
+    bad = [
+        f"{p.relative_to(PHYSICS.parent)}:{line}: import {mod}"
+        for p in files
+        for mod, line in _imports(p)
+        if mod not in ALLOWED
+    ]
+    assert not bad, "forbidden imports in physics/:\n" + "\n".join(bad)
+
+
+def test_import_checker_catches_a_forbidden_import(tmp_path):
+    p = tmp_path / "x.py"
+    p.write_text("import pandas\nfrom os import path\nimport numpy as np\n")
+    assert [m for m, _ in _imports(p)] == ["pandas", "os", "numpy"]
