@@ -58,9 +58,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-# Standard acceleration of gravity [m/s^2], ISO 80000-3 / ICAO Doc 7488 (exact by definition).
-# Kept here until physics.constants is shared by every module.
-G0_MPS2 = 9.80665
+from physics.constants import G0 as G0_MPS2  # standard gravity [m/s^2], ICAO Doc 7488
 
 #: Route payload limits and not-possible reasons, in code order (index = integer code).
 ROUTE_LIMITS: tuple[str, ...] = (
@@ -74,7 +72,7 @@ ROUTE_LIMITS: tuple[str, ...] = (
 
 #: Default reserve policy and passenger mass (common practice; see module docstring).
 CONTINGENCY_FRACTION_DEFAULT = 0.05     # 5 % of trip fuel [3]
-ALTERNATE_DISTANCE_M_DEFAULT = 200.0e3  # 200 km: near the 100 NM (185 km) regional norm
+ALTERNATE_DISTANCE_M_DEFAULT = 370.0e3  # 200 NM (370 km) planning alternate, common practice
 FINAL_RESERVE_S_DEFAULT = 30.0 * 60.0   # 30 min holding, turbine aircraft [3]
 PASSENGER_MASS_KG_DEFAULT = 100.0       # per passenger with baggage (common practice)
 

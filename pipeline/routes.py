@@ -18,6 +18,7 @@ import pyproj
 
 from physics import routefuel
 from pipeline.errors import BadInput
+from schemas.tables import ROUTE_DEFAULTS
 
 _GEOD = pyproj.Geod(ellps="WGS84")
 
@@ -34,8 +35,8 @@ class RouteParams:
         Contingency fuel, per cent of trip fuel; 5 % is common practice (EASA AMC1
         CAT.OP.MPA.150(b), from memory).
     alternate_distance_km : float
-        Destination-to-alternate cruise distance; 200 km (a round figure near the 100 NM
-        regional planning norm; common practice).
+        Destination-to-alternate cruise distance; 370 km (200 NM) is a common planning
+        figure (common practice).
     final_reserve_min : float
         Final reserve, minutes of holding; 30 min for turbine aircraft (ICAO Annex 6 Part I,
         4.3.6.3; from memory).
@@ -43,11 +44,11 @@ class RouteParams:
         Standard mass per passenger with baggage; 100 kg is common practice.
     """
 
-    route_factor: float = 1.05
-    contingency_pct: float = routefuel.CONTINGENCY_FRACTION_DEFAULT * 100.0
-    alternate_distance_km: float = routefuel.ALTERNATE_DISTANCE_M_DEFAULT / 1000.0
-    final_reserve_min: float = routefuel.FINAL_RESERVE_S_DEFAULT / 60.0
-    passenger_mass_kg: float = routefuel.PASSENGER_MASS_KG_DEFAULT
+    route_factor: float = ROUTE_DEFAULTS["route_factor"]
+    contingency_pct: float = ROUTE_DEFAULTS["contingency_pct"]
+    alternate_distance_km: float = ROUTE_DEFAULTS["alternate_distance_km"]
+    final_reserve_min: float = ROUTE_DEFAULTS["final_reserve_min"]
+    passenger_mass_kg: float = ROUTE_DEFAULTS["passenger_mass_kg"]
 
     @classmethod
     def from_mapping(cls, params) -> "RouteParams":
@@ -96,6 +97,11 @@ _REASONS = {
     "no_takeoff": "no takeoff mass at the origin",
     "no_cruise_data": "the aircraft type has no usable cruise speed, lift-to-drag ratio or fuel consumption",
 }
+
+#: (user-unit column, SI column of ``schemas.load``, SI per user unit)
+_POLICY_SI = (("contingency_pct", "contingency_fraction", 0.01),
+              ("alternate_distance_km", "alternate_distance_m", 1000.0),
+              ("final_reserve_min", "final_reserve_s", 60.0))
 
 _AIRCRAFT_NEEDED = ("aircraft_type_id", "oew_kg", "mtow_kg", "max_payload_kg", "max_fuel_kg",
                     "max_landing_mass_kg", "taxi_fuel_kg", "cruise_tas_mps", "cruise_lift_to_drag")
@@ -155,6 +161,10 @@ def route_legs(tables, params=None) -> pd.DataFrame:
     routes["great_circle_km"] = great_circle_km(
         lat[routes["origin_id"]].to_numpy(), lon[routes["origin_id"]].to_numpy(),
         lat[routes["destination_id"]].to_numpy(), lon[routes["destination_id"]].to_numpy())
+    # the loaded (SI) routes table names the policy columns in SI; a user-unit frame does not
+    for name, si_name, scale in _POLICY_SI:
+        if name not in routes.columns and si_name in routes.columns:
+            routes[name] = pd.to_numeric(routes[si_name], errors="coerce") / scale
     for name, default in p.as_dict().items():
         routes[name] = _optional(routes, name, default)
     routes["air_distance_km"] = routefuel.air_distance_m(

@@ -224,3 +224,15 @@ def test_payload_planning_frame_one_row_per_route_type_month():
     got = plan[(plan["route_id"] == "saltmere-farcliff-jet")
                & (plan["month"] == 7)]["payload_wet_p95_kg"].iloc[0]
     assert_allclose(got, src)
+
+
+def test_si_policy_columns_of_the_loaded_routes_table_are_read():
+    # schemas.load gives contingency_fraction, alternate_distance_m and final_reserve_s
+    t = _tables()
+    t["routes"]["contingency_fraction"] = [0.03, 0.05, 0.05]
+    t["routes"]["alternate_distance_m"] = [100e3, 370e3, 370e3]
+    t["routes"]["final_reserve_s"] = [2700.0, 1800.0, 1800.0]
+    df = routes.route_payload_frame(t, _airfield_results(), None)
+    row = df[df["route_id"] == "saltmere-dunegate-jet"].iloc[0]
+    assert_allclose([row["contingency_pct"], row["alternate_distance_km"],
+                     row["final_reserve_min"]], [3.0, 100.0, 45.0])
