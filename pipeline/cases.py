@@ -1,0 +1,202 @@
+"""Build the case arrays of a run and split them into chunks of whole airfields.
+
+A *case* is one runway direction × month × aircraft type × condition on the design day:
+the month's mean daily maximum temperature (plus the run's climate scenario offset
+``temperature_offset_k``), calm wind, station pressure from the month's QNH and the airfield
+elevation. Conditions: ``dry`` (dry friction, 35 ft screen) and ``wet`` (wet friction, 15 ft
+screen, 14 CFR 25.113).
+
+The cases are written, never held whole in memory, to ``<work>/cases.parquet``: one Parquet
+row group per chunk, each chunk holding **complete airfields** (every direction, month,
+type and condition of each of its airfields), so an airfield-level row producer (e.g. the
+best usable direction for each wind) sees everything it needs inside one chunk. A chunk
+task reads its row group only. The aircraft table (SI) goes to ``<work>/aircraft.parquet``
+and every validated input table to ``<work>/tables/<name>.parquet`` for row producers.
+
+No formulas here: the atmosphere comes from :mod:`physics.atmosphere`, friction from
+:mod:`physics.friction`, screen heights from :mod:`physics.constants`.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.parquet as pq
+
+from physics import atmosphere, constants
+from schemas.results import CONDITIONS
+
+CASES_FILE = "cases.parquet"
+AIRCRAFT_FILE = "aircraft.parquet"
+TABLES_DIR = "tables"
+
+SCREEN_HEIGHT_M = {
+    "dry": constants.SCREEN_HEIGHT_35FT_M,  # 14 CFR 25.113(a), dry runway
+    "wet": constants.SCREEN_HEIGHT_15FT_M,  # 14 CFR 25.113, wet runway
+}
+
+CASE_KEYS = ("airfield_id", "runway_id", "aircraft_type_id", "month", "condition")
+"""Key columns of a case, in sort order."""
+
+
+@dataclass(frozen=True)
+class ChunkPlan:
+    """Which airfields go into which chunk, and how many cases each chunk has."""
+
+    airfield_blocks: tuple[tuple[str, ...], ...]
+    cases_per_chunk: tuple[int, ...]
+
+    @property
+    def n_chunks(self) -> int:
+        return len(self.airfield_blocks)
+
+    @property
+    def n_cases(self) -> int:
+        return int(sum(self.cases_per_chunk))
+
+    @property
+    def n_airfields(self) -> int:
+        return sum(len(b) for b in self.airfield_blocks)
+
+
+def friction_for(surface: np.ndarray, condition: str) -> tuple[np.ndarray, np.ndarray]:
+    """Rolling and braking friction per runway for one condition (from :mod:`physics.friction`)."""
+    from physics import friction
+
+    surface_codes = friction.surface_code(np.asarray(surface, dtype=object))
+    condition_codes = np.full(np.shape(surface_codes), friction.condition_code(condition))
+    return (np.asarray(friction.rolling_friction(surface_codes, condition_codes), dtype=float),
+            np.asarray(friction.braking_friction(surface_codes, condition_codes), dtype=float))
+
+
+def plan_chunks(tables: dict[str, pd.DataFrame], chunk_size: int,
+                conditions: tuple[str, ...] = CONDITIONS) -> ChunkPlan:
+    """Group airfields (in id order) into chunks of about ``chunk_size`` cases.
+
+    An airfield is never split; a chunk closes once it reaches ``chunk_size`` cases, so a
+    chunk holds at most ``chunk_size`` plus one airfield's cases.
+    """
+    if chunk_size < 1:
+        raise ValueError("chunk_size must be at least 1")
+    n_types = len(tables["aircraft_types"])
+    per_direction = 12 * n_types * len(conditions)
+    counts = tables["runways"].groupby("airfield_id", sort=True).size()
+    blocks, sizes, current, size = [], [], [], 0
+    for airfield_id, n_dirs in counts.items():
+        current.append(str(airfield_id))
+        size += int(n_dirs) * per_direction
+        if size >= chunk_size:
+            blocks.append(tuple(current))
+            sizes.append(size)
+            current, size = [], 0
+    if current:
+        blocks.append(tuple(current))
+        sizes.append(size)
+    return ChunkPlan(tuple(blocks), tuple(sizes))
+
+
+def station_frame(tables: dict[str, pd.DataFrame], runways: pd.DataFrame,
+                  temperature_offset_k: float) -> pd.DataFrame:
+    """Runway directions × 12 months with the design-day atmosphere (one row each)."""
+    airfields = tables["airfields"][["airfield_id", "elevation_m"]]
+    climate = tables["climate_monthly"][["airfield_id", "month", "mean_daily_max_k", "qnh_pa"]]
+    frame = runways.merge(airfields, on="airfield_id", how="left", validate="many_to_one")
+    frame = frame.merge(climate, on="airfield_id", how="left", validate="many_to_many")
+    temperature_k = frame["mean_daily_max_k"].to_numpy(float) + float(temperature_offset_k)
+    pressure_pa = atmosphere.station_pressure_pa(frame["elevation_m"].to_numpy(float),
+                                                 frame["qnh_pa"].to_numpy(float))
+    density = atmosphere.density_kg_m3(pressure_pa, temperature_k)
+    frame["temperature_k"] = temperature_k
+    frame["oat_c"] = temperature_k - constants.ZERO_CELSIUS_K
+    frame["pressure_pa"] = pressure_pa
+    frame["pressure_altitude_m"] = atmosphere.pressure_altitude_m(pressure_pa)
+    frame["density_altitude_m"] = atmosphere.density_altitude_m(density)
+    return frame
+
+
+def block_cases(tables: dict[str, pd.DataFrame], airfield_ids, temperature_offset_k: float,
+                conditions: tuple[str, ...] = CONDITIONS) -> pd.DataFrame:
+    """All cases of some airfields: directions × months × types × conditions."""
+    runways = tables["runways"]
+    runways = runways[runways["airfield_id"].isin(list(airfield_ids))]
+    stations = station_frame(tables, runways, temperature_offset_k)
+    stations = stations.sort_values(["airfield_id", "runway_id", "month"], kind="stable")
+    types = tables["aircraft_types"]["aircraft_type_id"].astype(str).to_numpy()
+    parts = []
+    for condition in conditions:
+        mu_roll, mu_brake = friction_for(stations["surface"].to_numpy(object), condition)
+        n = len(stations)
+        t = len(types)
+        part = pd.DataFrame({
+            "airfield_id": np.repeat(stations["airfield_id"].to_numpy(object), t),
+            "runway_id": np.repeat(stations["runway_id"].to_numpy(object), t),
+            "aircraft_type_id": np.tile(types, n),
+            "aircraft_index": np.tile(np.arange(t, dtype=np.int32), n),
+            "month": np.repeat(stations["month"].to_numpy(np.int8), t),
+            "condition": condition,
+        })
+        for col in ("tora_m", "toda_m", "asda_m", "slope", "pressure_pa", "temperature_k",
+                    "oat_c", "pressure_altitude_m", "density_altitude_m"):
+            part[col] = np.repeat(stations[col].to_numpy(float), t)
+        part["mu_roll"] = np.repeat(mu_roll, t)
+        part["mu_brake"] = np.repeat(mu_brake, t)
+        part["headwind_mps"] = 0.0  # design day: calm
+        part["screen_height_m"] = SCREEN_HEIGHT_M[condition]
+        parts.append(part)
+    cases = pd.concat(parts, ignore_index=True)
+    return cases.sort_values(list(CASE_KEYS), kind="stable", ignore_index=True)
+
+
+def _atomic_write_table(table: pa.Table, path: Path) -> None:
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
+    pq.write_table(table, tmp)
+    os.replace(tmp, path)
+
+
+def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str | os.PathLike,
+                temperature_offset_k: float, conditions: tuple[str, ...] = CONDITIONS) -> Path:
+    """Write the run's inputs for the chunk tasks into ``work_dir``; return its path.
+
+    ``cases.parquet`` gets one row group per chunk of ``plan`` (built one block at a time,
+    so memory stays bounded by the chunk size).
+    """
+    work = Path(work_dir)
+    (work / TABLES_DIR).mkdir(parents=True, exist_ok=True)
+    for name, frame in tables.items():
+        _atomic_write_table(pa.Table.from_pandas(frame, preserve_index=False),
+                            work / TABLES_DIR / f"{name}.parquet")
+    aircraft = tables["aircraft_types"].reset_index(drop=True)
+    _atomic_write_table(pa.Table.from_pandas(aircraft, preserve_index=False), work / AIRCRAFT_FILE)
+
+    target = work / CASES_FILE
+    tmp = target.with_name(f".{target.name}.{os.getpid()}.tmp")
+    writer = None
+    try:
+        for block, expected in zip(plan.airfield_blocks, plan.cases_per_chunk):
+            cases = block_cases(tables, block, temperature_offset_k, conditions)
+            if len(cases) != expected:  # a broken invariant, not a user error
+                raise RuntimeError(f"chunk of {block[:3]}… has {len(cases)} cases, planned {expected}")
+            table = pa.Table.from_pandas(cases, preserve_index=False)
+            if writer is None:
+                writer = pq.ParquetWriter(tmp, table.schema)
+            writer.write_table(table, row_group_size=max(len(cases), 1))
+        if writer is not None:
+            writer.close()
+            writer = None
+            os.replace(tmp, target)
+    finally:
+        if writer is not None:
+            writer.close()
+        if tmp.exists():
+            tmp.unlink()
+    return work
+
+
+def read_chunk_cases(work_dir: str | os.PathLike, chunk: int) -> pd.DataFrame:
+    """The cases of one chunk (one row group of ``cases.parquet``)."""
+    return pq.ParquetFile(Path(work_dir) / CASES_FILE).read_row_group(chunk).to_pandas()

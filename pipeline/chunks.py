@@ -1,0 +1,243 @@
+"""Compute one chunk of cases and write its Parquet part files (idempotent, atomic).
+
+:func:`compute_chunk` is the body of the Prefect chunk task and is called directly by tests.
+It reads its cases (one row group of ``<work>/cases.parquet``) and the aircraft table from
+the run's work folder, solves the takeoff-weight limit with
+:func:`physics.weightlimit.solve_takeoff_weight`, turns the result into ``results_direction``
+rows for the ``design_day`` basis and then asks the **row producers** for more rows
+(:mod:`pipeline.producers` — the single place where e.g. reliability rows are added).
+
+Each part is written to a temporary name and renamed into place, so a part file is either
+complete or absent. Parts are named by chunk number, and a part carrying the same chunk key
+(code version + run parameters + chunk) is reused rather than recomputed: running a chunk
+twice (a retry, a lost Dask worker) is safe and gives the same file.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.parquet as pq
+
+from pipeline import cases as case_io
+from pipeline import producers
+from schemas.results import RESULT_COLUMNS, columns
+
+PARTS_DIR = "parts"
+_KEY_META = b"fieldlimits_chunk_key"
+_BASES_META = b"fieldlimits_airfield_bases"
+
+_SITE_COLUMNS = ("tora_m", "toda_m", "asda_m", "slope", "mu_roll", "mu_brake", "pressure_pa",
+                 "temperature_k", "headwind_mps", "screen_height_m")
+
+# results column <- WeightLimit field, converted from m/s to knots where the name says so
+_SPEED_FIELDS = {"v1_kt": "v1_mps", "vr_kt": "vr_mps", "v2_kt": "v2_mps", "v_lof_kt": "v_lof_mps"}
+_PLAIN_FIELDS = ("takeoff_distance_m", "takeoff_run_m", "accelerate_stop_m", "climb_gradient")
+
+_ARROW_TYPES = {"BIGINT": pa.int64(), "VARCHAR": pa.string(), "TINYINT": pa.int8(),
+                "DOUBLE": pa.float64()}
+RESULT_SCHEMA = pa.schema([pa.field(c.name, _ARROW_TYPES[c.sql_type]) for c in columns("results_direction")])
+
+
+@dataclass(frozen=True)
+class ChunkResult:
+    """What a chunk task hands to the writer: paths and counts, no data."""
+
+    chunk: int
+    direction_path: str
+    airfield_path: str | None
+    airfield_bases: tuple[str, ...]
+    rows: int
+    cases: int
+    reused: bool = False
+
+
+@dataclass
+class ChunkContext:
+    """Everything a row producer may use for one chunk (see :mod:`pipeline.producers`)."""
+
+    run_id: int
+    chunk: int
+    cases: pd.DataFrame
+    aircraft: object
+    site: object
+    design_rows: pd.DataFrame
+    params: dict
+    work_dir: Path
+    _tables: dict = field(default_factory=dict)
+
+    @property
+    def airfield_ids(self) -> list[str]:
+        return sorted(self.cases["airfield_id"].unique().tolist())
+
+    def table(self, name: str) -> pd.DataFrame:
+        """An input table (SI) restricted to this chunk's airfields where it has airfield_id."""
+        if name not in self._tables:
+            path = self.work_dir / case_io.TABLES_DIR / f"{name}.parquet"
+            if not path.exists():
+                self._tables[name] = None
+            else:
+                schema_names = pq.read_schema(path).names
+                filters = [("airfield_id", "in", self.airfield_ids)] if "airfield_id" in schema_names else None
+                self._tables[name] = pq.read_table(path, filters=filters).to_pandas()
+        return self._tables[name]
+
+
+def chunk_key(params: dict, chunk: int, run_id: int) -> str:
+    """Identity of a chunk's output: parameters (incl. code version and input hash), run, chunk."""
+    return json.dumps({"params": params, "chunk": chunk, "run_id": run_id}, sort_keys=True, default=str)
+
+
+def aircraft_arrays(aircraft_table: pd.DataFrame, index: np.ndarray):
+    """``physics.weightlimit.Aircraft`` with one element per case (row ``index`` of the table)."""
+    from physics.weightlimit import Aircraft
+
+    values = {}
+    for f in dataclasses.fields(Aircraft):
+        if f.name not in aircraft_table.columns:
+            raise KeyError(f"aircraft_types has no column {f.name!r} needed by the physics")
+        values[f.name] = aircraft_table[f.name].to_numpy(dtype=float)[index]
+    return Aircraft(**values)
+
+
+def site_arrays(cases: pd.DataFrame):
+    """``physics.weightlimit.Site`` with one element per case."""
+    from physics.weightlimit import Site
+
+    names = {f.name for f in dataclasses.fields(Site)}
+    return Site(**{name: cases[name].to_numpy(dtype=float) for name in _SITE_COLUMNS if name in names})
+
+
+def _field(result, name: str, n: int) -> np.ndarray:
+    value = getattr(result, name, None)
+    if value is None:
+        return np.full(n, np.nan)
+    return np.broadcast_to(np.asarray(value, dtype=float), (n,))
+
+
+def design_day_rows(run_id: int, cases: pd.DataFrame, result) -> pd.DataFrame:
+    """``results_direction`` rows (basis ``design_day``) from the cases and a WeightLimit."""
+    from physics import constants, limits
+
+    n = len(cases)
+    rows = {
+        "run_id": np.full(n, run_id, dtype=np.int64),
+        "airfield_id": cases["airfield_id"].to_numpy(object),
+        "runway_id": cases["runway_id"].to_numpy(object),
+        "aircraft_type_id": cases["aircraft_type_id"].to_numpy(object),
+        "month": cases["month"].to_numpy(np.int8),
+        "condition": cases["condition"].to_numpy(object),
+        "basis": np.full(n, "design_day", dtype=object),
+        "reliability": np.full(n, np.nan),
+        "oat_c": cases["oat_c"].to_numpy(float),
+        "pressure_altitude_m": cases["pressure_altitude_m"].to_numpy(float),
+        "density_altitude_m": cases["density_altitude_m"].to_numpy(float),
+        "headwind_mps": cases["headwind_mps"].to_numpy(float),
+        "tow_limit_kg": _field(result, "tow_limit_kg", n),
+        "limiting_factor": np.asarray(limits.name(np.asarray(result.limiting_factor)), dtype=object).reshape(n),
+    }
+    for col in _PLAIN_FIELDS:
+        rows[col] = _field(result, col, n)
+    for col, src in _SPEED_FIELDS.items():
+        rows[col] = _field(result, src, n) / constants.KT_MPS
+    return pd.DataFrame(rows, columns=list(RESULT_COLUMNS))
+
+
+def to_result_table(frame: pd.DataFrame) -> pa.Table:
+    """Arrow table with exactly the result columns and types (NaN → NULL)."""
+    frame = frame.reindex(columns=list(RESULT_COLUMNS))
+    arrays = []
+    for f in RESULT_SCHEMA:
+        col = frame[f.name]
+        if pa.types.is_floating(f.type):
+            values = col.to_numpy(dtype=float)
+            arrays.append(pa.array(values, type=f.type, mask=np.isnan(values)))
+        else:
+            arrays.append(pa.array(col.tolist() if f.type == pa.string() else col.to_numpy(), type=f.type,
+                                   from_pandas=True))
+    return pa.Table.from_arrays(arrays, schema=RESULT_SCHEMA)
+
+
+def _write_part(table: pa.Table, path: Path, key: str, bases: tuple[str, ...]) -> None:
+    meta = {_KEY_META: key.encode(), _BASES_META: json.dumps(list(bases)).encode()}
+    table = table.replace_schema_metadata({**(table.schema.metadata or {}), **meta})
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.{id(table)}.tmp")
+    try:
+        pq.write_table(table, tmp)
+        os.replace(tmp, path)
+    finally:
+        if tmp.exists():
+            tmp.unlink()
+
+
+def _existing_part(path: Path, key: str) -> tuple[bool, tuple[str, ...], int]:
+    if not path.exists():
+        return False, (), 0
+    try:
+        meta = pq.read_schema(path).metadata or {}
+        rows = pq.ParquetFile(path).metadata.num_rows
+    except Exception:
+        return False, (), 0
+    if meta.get(_KEY_META) != key.encode():
+        return False, (), 0
+    return True, tuple(json.loads(meta.get(_BASES_META, b"[]"))), rows
+
+
+def part_paths(work_dir: Path, chunk: int) -> tuple[Path, Path]:
+    parts = Path(work_dir) / PARTS_DIR
+    return (parts / f"part-{chunk:05d}.direction.parquet",
+            parts / f"part-{chunk:05d}.airfield.parquet")
+
+
+def compute_chunk(work_dir: str | os.PathLike, chunk: int, run_id: int, params: dict) -> ChunkResult:
+    """Compute chunk ``chunk`` of the run in ``work_dir`` and write its part files.
+
+    Safe to call more than once: an existing part with the same chunk key is reused.
+    """
+    from physics.weightlimit import solve_takeoff_weight
+
+    work = Path(work_dir)
+    direction_path, airfield_path = part_paths(work, chunk)
+    direction_path.parent.mkdir(parents=True, exist_ok=True)
+    key = chunk_key(params, chunk, run_id)
+    done, bases, rows = _existing_part(direction_path, key)
+    if done and (not bases or _existing_part(airfield_path, key)[0]):
+        n_cases = pq.ParquetFile(work / case_io.CASES_FILE).metadata.row_group(chunk).num_rows
+        return ChunkResult(chunk, str(direction_path), str(airfield_path) if bases else None,
+                           bases, rows, n_cases, reused=True)
+
+    cases = case_io.read_chunk_cases(work, chunk)
+    aircraft_table = pd.read_parquet(work / case_io.AIRCRAFT_FILE)
+    aircraft = aircraft_arrays(aircraft_table, cases["aircraft_index"].to_numpy())
+    site = site_arrays(cases)
+    result = solve_takeoff_weight(aircraft, site)
+    design = design_day_rows(run_id, cases, result)
+
+    context = ChunkContext(run_id=run_id, chunk=chunk, cases=cases, aircraft=aircraft, site=site,
+                           design_rows=design, params=params, work_dir=work)
+    direction_frames, airfield_frames = [design], []
+    for produce in producers.active_producers():
+        out = producers.normalise(produce(context))
+        if out.direction is not None and len(out.direction):
+            direction_frames.append(out.direction)
+        if out.airfield is not None and len(out.airfield):
+            airfield_frames.append(out.airfield)
+
+    direction = pd.concat(direction_frames, ignore_index=True) if len(direction_frames) > 1 else design
+    airfield_bases: tuple[str, ...] = ()
+    airfield_out = None
+    if airfield_frames:
+        airfield = pd.concat(airfield_frames, ignore_index=True)
+        airfield_bases = tuple(sorted(airfield["basis"].unique().tolist()))
+        _write_part(to_result_table(airfield), airfield_path, key, airfield_bases)
+        airfield_out = str(airfield_path)
+    _write_part(to_result_table(direction), direction_path, key, airfield_bases)
+    return ChunkResult(chunk, str(direction_path), airfield_out, airfield_bases,
+                       len(direction), len(cases))

@@ -1,0 +1,118 @@
+"""The ``fieldlimits`` command line.
+
+Subcommands are discovered from the modules of :mod:`pipeline.commands`: each module
+defines ``NAME``, ``HELP``, ``add_arguments(parser)`` and ``run(args) -> int``. Adding a
+command means adding a module there; this file does not change.
+
+Errors reach the user as one line ``fieldlimits: error: …`` and an exit status: 2 for bad
+input or arguments, 1 for anything else (``FIELDLIMITS_DEBUG=1`` shows the traceback).
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import os
+import pkgutil
+import sys
+import traceback
+
+import pipeline.settings  # noqa: F401  (offline Prefect defaults first)
+
+from pipeline.errors import FieldlimitsError
+from schemas.caution import CAUTION
+
+ORDER = ("run", "check", "sql", "export", "report", "explain", "serve", "generate")
+DESCRIPTION = (
+    "Takeoff-weight limits and route payloads for every runway direction, month and "
+    "aircraft type of an airline network, stored run by run in DuckDB."
+)
+
+
+def _version() -> str:
+    from importlib import metadata
+
+    try:
+        return metadata.version("fieldlimits")
+    except metadata.PackageNotFoundError:
+        return "unknown"
+
+
+class _BrokenCommand:
+    """Stands in for a command module that failed to import."""
+
+    def __init__(self, name: str, error: BaseException):
+        self.NAME = name
+        self.HELP = f"(unavailable: {type(error).__name__}: {error})"
+        self._error = error
+
+    def add_arguments(self, parser):
+        parser.add_argument("rest", nargs=argparse.REMAINDER)
+
+    def run(self, args) -> int:
+        raise FieldlimitsError(f"the command {self.NAME!r} cannot load: {self._error}")
+
+
+def discover_commands() -> list:
+    """Command modules of :mod:`pipeline.commands`, in :data:`ORDER` then by name."""
+    import pipeline.commands as package
+
+    found = []
+    for info in pkgutil.iter_modules(package.__path__):
+        if info.name.startswith("_"):
+            continue
+        try:
+            module = importlib.import_module(f"pipeline.commands.{info.name}")
+        except Exception as exc:  # one broken command must not break the others
+            found.append(_BrokenCommand(info.name, exc))
+            continue
+        if all(hasattr(module, a) for a in ("NAME", "HELP", "add_arguments", "run")):
+            found.append(module)
+    rank = {name: i for i, name in enumerate(ORDER)}
+    return sorted(found, key=lambda m: (rank.get(m.NAME, len(ORDER)), m.NAME))
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="fieldlimits", description=f"{DESCRIPTION}\n\n{CAUTION}", epilog=CAUTION,
+        formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--version", action="version", version=f"fieldlimits {_version()}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for module in discover_commands():
+        doc = getattr(module, "DESCRIPTION", None) or module.HELP
+        p = sub.add_parser(module.NAME, help=module.HELP, description=f"{doc}\n\n{CAUTION}",
+                           epilog=CAUTION, formatter_class=argparse.RawDescriptionHelpFormatter)
+        module.add_arguments(p)
+        p.set_defaults(_command=module)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as exc:  # argparse: --help (0) or a usage error (2)
+        return int(exc.code or 0)
+    command = getattr(args, "_command", None)
+    if command is None:
+        parser.print_help()
+        return 2
+    try:
+        return int(command.run(args) or 0)
+    except FieldlimitsError as exc:
+        print(f"fieldlimits: error: {exc}", file=sys.stderr)
+        return exc.exit_code
+    except KeyboardInterrupt:
+        print("fieldlimits: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # anything unforeseen: one line, details on request
+        if os.environ.get("FIELDLIMITS_DEBUG"):
+            traceback.print_exc()
+        message = str(exc).strip().splitlines()[0] if str(exc).strip() else ""
+        print(f"fieldlimits: error: {type(exc).__name__}: {message} "
+              "(set FIELDLIMITS_DEBUG=1 for details)", file=sys.stderr)
+        return 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())

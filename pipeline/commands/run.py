@@ -1,0 +1,94 @@
+"""``fieldlimits run [DIR]``: compute and store one run."""
+
+from __future__ import annotations
+
+import os
+import sys
+
+from pipeline.commands import add_db_argument
+from pipeline.errors import BadInput
+
+NAME = "run"
+HELP = "compute takeoff-weight limits for an input folder (the demo network by default) and store the run"
+DESCRIPTION = (
+    "Validate the input tables in DIR (the bundled demo network when DIR is omitted), compute\n"
+    "every runway direction x month x aircraft type x condition (dry, wet) on the design day\n"
+    "(mean daily maximum temperature, calm wind), and store the run in one transaction in the\n"
+    "DuckDB file. Progress goes to stderr; a summary is printed at the end. Bad input exits\n"
+    "with status 2 and leaves the database as it was."
+)
+
+
+def _floats(text: str) -> tuple[float, ...]:
+    try:
+        values = tuple(float(x) for x in text.split(",") if x.strip())
+    except ValueError:
+        raise BadInput(f"expected comma-separated numbers, got {text!r}") from None
+    return values
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("input_dir", nargs="?", metavar="DIR",
+                        help="folder with airfields, runways, climate_monthly, wind_rose, "
+                             "aircraft_types (and optional routes) as CSV or Parquet")
+    add_db_argument(parser)
+    parser.add_argument("--temperature-offset", type=float, default=0.0, metavar="K",
+                        help="climate scenario: add K kelvin to every monthly temperature (default 0)")
+    parser.add_argument("--conditions", default="dry,wet",
+                        help="runway conditions to compute, comma separated (default dry,wet)")
+    parser.add_argument("--reliability", default="0.5,0.85,0.95", metavar="P,P,...",
+                        help="reliability levels (shares of days) for reliability rows when that "
+                             "model is installed (default 0.5,0.85,0.95)")
+    parser.add_argument("--chunk-size", type=int, default=None, metavar="N",
+                        help="cases per chunk task (default 8000; whole airfields per chunk)")
+    parser.add_argument("--workers", type=int, default=None, metavar="N",
+                        help="parallel chunk tasks (default PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS, 2)")
+    parser.add_argument("--cluster", default=None, metavar="ADDRESS",
+                        help="run the chunk tasks on a Dask cluster (tcp://host:8786, or 'local' "
+                             "for a temporary local cluster); needs the dask extra")
+    parser.add_argument("--work-dir", default=None, metavar="PATH",
+                        help="folder for the run's temporary case and part files "
+                             "(default: next to the database; must be shared with Dask workers)")
+    parser.add_argument("--no-prefect", action="store_true",
+                        help="run the same steps in this process without Prefect (quick checks)")
+    parser.add_argument("--quiet", action="store_true", help="no progress lines")
+
+
+def run(args) -> int:
+    from pipeline import progress
+    from pipeline.steps import DEFAULT_CHUNK_SIZE, RunParams
+
+    if args.input_dir is None:
+        from demo_network import demo_path
+
+        input_dir = demo_path()
+    else:
+        input_dir = args.input_dir
+    chunk_size = args.chunk_size or DEFAULT_CHUNK_SIZE
+    if chunk_size < 1:
+        raise BadInput("--chunk-size must be at least 1")
+    params = RunParams(
+        temperature_offset_k=args.temperature_offset,
+        chunk_size=chunk_size,
+        conditions=tuple(c.strip() for c in args.conditions.split(",") if c.strip()),
+        reliability_levels=_floats(args.reliability),
+    )
+    if not args.quiet:
+        progress.set_reporter(progress.StderrProgress())
+    if args.no_prefect:
+        if args.cluster:
+            raise BadInput("--cluster needs Prefect; drop --no-prefect")
+        from pipeline.steps import run_local
+
+        summary = run_local(input_dir, args.db, params, workers=args.workers or 2,
+                            work_root=args.work_dir)
+    else:
+        os.environ.setdefault("PREFECT_LOGGING_LEVEL", "WARNING")
+        from pipeline.flow import run_with_prefect
+
+        summary = run_with_prefect(input_dir, args.db, params, cluster=args.cluster,
+                                   workers=args.workers, work_root=args.work_dir)
+    print(summary.text())
+    print(f"stored in {os.path.abspath(args.db)}; query with: fieldlimits sql \"SELECT * FROM latest_results_airfield LIMIT 20\"",
+          file=sys.stdout)
+    return 0

@@ -1,0 +1,143 @@
+"""Definitions of the output tables fieldlimits writes to DuckDB.
+
+One definition per table drives the DDL files ``pipeline/sql/create_<table>.sql`` (generated
+with ``python -m pipeline.ddl --write`` and checked by a test) and the column reference in
+the documentation. Every column says its unit; ``[-]`` means dimensionless, ``[text]`` a
+name or code.
+
+The tables:
+
+``runs``
+    One row per run: status, times, parameters (including the climate scenario
+    ``temperature_offset_k``), input hashes, code version, row counts.
+``run_inputs``
+    One row per run × input table: the file read, its row count and SHA-256.
+``results_direction``
+    One row per run × runway direction × month × aircraft type × condition × basis.
+``results_airfield``
+    The best runway direction per run × airfield × month × type × condition × basis
+    (same columns; ``runway_id`` is the best direction).
+
+No primary keys on the big tables: a key makes bulk inserts about ten times slower in
+DuckDB 2 and the writer guarantees uniqueness by construction (one load per run).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True)
+class ResultColumn:
+    """One column of an output table."""
+
+    name: str
+    sql_type: str
+    unit: str
+    description: str
+    not_null: bool = False
+
+
+def _c(name, sql_type, unit, description, not_null=False):
+    return ResultColumn(name, sql_type, unit, description, not_null)
+
+
+RUNS = (
+    _c("run_id", "BIGINT", "-", "run number, increasing", True),
+    _c("status", "VARCHAR", "text", "running, complete, failed or interrupted", True),
+    _c("started_at", "TIMESTAMP", "UTC", "when the run was registered", True),
+    _c("finished_at", "TIMESTAMP", "UTC", "when the run completed or failed"),
+    _c("input_dir", "VARCHAR", "text", "input folder read (absolute path)"),
+    _c("parameters", "VARCHAR", "JSON", "all run parameters as a JSON object"),
+    _c("temperature_offset_k", "DOUBLE", "K", "climate scenario: uniform offset added to every monthly temperature"),
+    _c("input_hash", "VARCHAR", "sha256", "hash over all input tables used"),
+    _c("input_hashes", "VARCHAR", "JSON", "per table SHA-256 of the input files"),
+    _c("code_version", "VARCHAR", "text", "package version + hash of the source code"),
+    _c("airfields", "BIGINT", "count", "airfields computed"),
+    _c("cases", "BIGINT", "count", "design-day cases computed (directions × months × types × conditions)"),
+    _c("chunks", "BIGINT", "count", "chunk tasks the cases were split into"),
+    _c("reused_cases", "BIGINT", "count", "cases reused from an earlier run instead of recomputed"),
+    _c("rows_direction", "BIGINT", "count", "rows written to results_direction"),
+    _c("rows_airfield", "BIGINT", "count", "rows written to results_airfield"),
+    _c("rows_route_payload", "BIGINT", "count", "rows written to route_payload"),
+    _c("error", "VARCHAR", "text", "why the run failed (NULL when complete)"),
+    _c("host", "VARCHAR", "text", "machine that ran it"),
+    _c("pid", "BIGINT", "-", "process id of the run (detects interrupted runs)"),
+)
+
+RUN_INPUTS = (
+    _c("run_id", "BIGINT", "-", "run number", True),
+    _c("table_name", "VARCHAR", "text", "input table (airfields, runways, ...)", True),
+    _c("file_name", "VARCHAR", "text", "file read for it (absolute path)"),
+    _c("row_count", "BIGINT", "count", "rows in the table"),
+    _c("sha256", "VARCHAR", "sha256", "hash of the table's content"),
+)
+
+_RESULT_COMMON = (
+    _c("run_id", "BIGINT", "-", "run number", True),
+    _c("airfield_id", "VARCHAR", "text", "airfield id", True),
+    _c("runway_id", "VARCHAR", "text", "runway direction (designator) for the takeoff"),
+    _c("aircraft_type_id", "VARCHAR", "text", "aircraft type id", True),
+    _c("month", "TINYINT", "1-12", "calendar month", True),
+    _c("condition", "VARCHAR", "text", "runway condition: dry or wet", True),
+    _c("basis", "VARCHAR", "text", "design_day (mean daily maximum, calm) or reliability", True),
+    _c("reliability", "DOUBLE", "-", "share of days the limit is achieved; NULL for the design day"),
+    _c("oat_c", "DOUBLE", "degC", "outside air temperature used"),
+    _c("pressure_altitude_m", "DOUBLE", "m", "pressure altitude of the station"),
+    _c("density_altitude_m", "DOUBLE", "m", "density altitude of the station"),
+    _c("headwind_mps", "DOUBLE", "m/s", "factored headwind component used (negative = tailwind)"),
+    _c("tow_limit_kg", "DOUBLE", "kg", "takeoff-weight limit (NULL when no takeoff is possible)"),
+    _c("limiting_factor", "VARCHAR", "text", "what sets the limit (physics.limits.FACTORS)", True),
+    _c("takeoff_distance_m", "DOUBLE", "m", "takeoff distance required at the limit mass"),
+    _c("takeoff_run_m", "DOUBLE", "m", "takeoff run required at the limit mass"),
+    _c("accelerate_stop_m", "DOUBLE", "m", "accelerate-stop distance at the limit mass"),
+    _c("v1_kt", "DOUBLE", "kt", "decision speed V1 at the limit mass"),
+    _c("vr_kt", "DOUBLE", "kt", "rotation speed VR at the limit mass"),
+    _c("v2_kt", "DOUBLE", "kt", "takeoff safety speed V2 at the limit mass"),
+    _c("v_lof_kt", "DOUBLE", "kt", "lift-off speed at the limit mass"),
+    _c("climb_gradient", "DOUBLE", "-", "second-segment climb gradient at the limit mass (rise over run)"),
+)
+
+TABLES: dict[str, tuple[ResultColumn, ...]] = {
+    "runs": RUNS,
+    "run_inputs": RUN_INPUTS,
+    "results_direction": _RESULT_COMMON,
+    "results_airfield": _RESULT_COMMON,
+}
+
+DESCRIPTIONS: dict[str, str] = {
+    "runs": "one row per run: status, times, parameters, input hashes, code version, row counts",
+    "run_inputs": "one row per run and input table: file, rows, SHA-256",
+    "results_direction": "takeoff-weight limit per run, runway direction, month, aircraft type, condition and basis",
+    "results_airfield": "best runway direction per run, airfield, month, aircraft type, condition and basis",
+}
+
+RESULT_COLUMNS: tuple[str, ...] = tuple(c.name for c in _RESULT_COMMON)
+"""Column order of results_direction and results_airfield (the contract in DEVELOPERS.md)."""
+
+CONDITIONS: tuple[str, ...] = ("dry", "wet")
+BASES: tuple[str, ...] = ("design_day", "reliability")
+
+
+def columns(table: str) -> tuple[ResultColumn, ...]:
+    """Columns of an output table, in order."""
+    try:
+        return TABLES[table]
+    except KeyError:
+        raise KeyError(f"unknown output table {table!r}; known: {', '.join(TABLES)}") from None
+
+
+def create_table_sql(table: str) -> str:
+    """``CREATE TABLE IF NOT EXISTS`` statement for an output table, units in comments."""
+    cols = columns(table)
+    width = max(len(c.name) for c in cols)
+    lines = []
+    for i, c in enumerate(cols):
+        sep = "," if i < len(cols) - 1 else ""
+        null = " NOT NULL" if c.not_null else ""
+        lines.append(f"    {c.name.ljust(width)} {c.sql_type}{null}{sep}  -- [{c.unit}] {c.description}")
+    return (
+        f"-- {table}: {DESCRIPTIONS[table]}.\n"
+        f"-- Generated from schemas/results.py by `python -m pipeline.ddl --write`; edit that file, not this one.\n"
+        f"CREATE TABLE IF NOT EXISTS {table} (\n" + "\n".join(lines) + "\n);\n"
+    )
