@@ -1,0 +1,954 @@
+"""Validation of an input folder against the table definitions in :mod:`schemas.tables`.
+
+:func:`validate_folder` reads every table of a folder (``<table>.csv`` or
+``<table>.parquet``) and returns the list of every problem found; it never raises for bad
+data. :func:`schemas.load.load_folder` runs the same checks and raises :class:`InputError`
+when any of them is an error.
+
+Row numbers
+-----------
+``Problem.row`` is the 1-based data row: row 1 is the first row below the header. In a CSV
+file opened in a spreadsheet, data row N is on sheet line N + 1 (the header is line 1); the
+message says both. Blank lines in a CSV file count as rows, so numbers match the file.
+
+Heuristics for unit mistakes (stated so a user can judge them)
+---------------------------------------------------------------
+* Elevation above 5 000 m that would be −500 … 5 000 m if read as feet: "looks like feet".
+  An elevation between 4 500 and 5 000 m gives a warning (higher than any airfield in
+  regular service).
+* A climate row above 60 °C that would be −60 … 60 °C if read as Fahrenheit: "looks like
+  °F"; and an airfield whose twelve monthly means are all ≥ 30 with an annual mean above
+  40 gives a warning (no airfield has such a climate in °C; in °F it is a mild one).
+  Values 200 … 340 look like kelvin.
+* QNH 25 … 33 looks like inches of mercury, 85 … 110 like kilopascals.
+* A share (wet days) above 1 but ≤ 100 looks like a percentage.
+* A mass below 300 kg on an aircraft row that is plausible × 1000 looks like tonnes.
+* Wind-rose frequencies whose airfield-month sums are 100 ± 1 are percentages: converted
+  to shares with a warning.
+"""
+
+from __future__ import annotations
+
+import codecs
+import csv
+import difflib
+import io
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from schemas.tables import FILE_SUFFIXES, TABLES, TableSpec
+
+MAX_ROWS_PER_CHECK = 50
+"""At most this many rows are listed for one check of one column; the rest are counted."""
+
+_MISSING = {"", "nan", "na", "n/a", "null", "none", "#n/a"}
+_DECIMAL_COMMA = re.compile(r"^[+-]?\d+,\d+$")
+
+
+@dataclass
+class Problem:
+    """One problem found in the input tables.
+
+    Attributes
+    ----------
+    severity : str
+        ``'error'`` (the run cannot proceed) or ``'warning'``.
+    file : str
+        File name (``runways.csv``) or, for a missing file, the expected name.
+    row : int or None
+        1-based data row (row 1 is the first row below the header; sheet line row + 1).
+    column : str or None
+        Column name.
+    value : str or None
+        The offending value as text.
+    expected : str or None
+        What was expected.
+    message : str
+        What is wrong and how to fix it.
+    """
+
+    severity: str
+    file: str
+    row: int | None
+    column: str | None
+    value: str | None
+    expected: str | None
+    message: str
+
+    def __str__(self) -> str:
+        where = self.file
+        if self.row is not None:
+            if self.file.endswith(".csv"):
+                where += f", row {self.row} (line {self.row + 1} of the file)"
+            else:
+                where += f", row {self.row}"
+        if self.column:
+            where += f", column '{self.column}'"
+        text = f"{self.severity.upper()} {where}: {self.message}"
+        extra = []
+        if self.value is not None:
+            extra.append(f"found {self.value!r}")
+        if self.expected:
+            extra.append(f"expected {self.expected}")
+        if extra:
+            text += " (" + "; ".join(extra) + ")"
+        return text
+
+
+class InputError(ValueError):
+    """The input tables have errors; ``problems`` lists all of them (and the warnings)."""
+
+    def __init__(self, problems: list[Problem]):
+        self.problems = list(problems)
+        errors = [p for p in self.problems if p.severity == "error"]
+        shown = "\n".join(f"  {p}" for p in errors[:40])
+        more = f"\n  ... and {len(errors) - 40} more errors" if len(errors) > 40 else ""
+        super().__init__(
+            f"{len(errors)} error(s) in the input tables; fix them and run again:\n{shown}{more}"
+        )
+
+    @property
+    def errors(self) -> list[Problem]:
+        return [p for p in self.problems if p.severity == "error"]
+
+
+@dataclass
+class FolderCheck:
+    """Result of checking a folder: typed frames (user units) and problems."""
+
+    frames: dict[str, pd.DataFrame] = field(default_factory=dict)
+    files: dict[str, Path] = field(default_factory=dict)
+    problems: list[Problem] = field(default_factory=list)
+
+    @property
+    def ok(self) -> bool:
+        return not any(p.severity == "error" for p in self.problems)
+
+
+def validate_folder(path) -> list[Problem]:
+    """Check every input table in a folder and return all problems found.
+
+    Parameters
+    ----------
+    path : str or Path
+        Folder holding ``airfields``, ``runways``, ``climate_monthly``, ``wind_rose``,
+        ``aircraft_types`` and optionally ``routes``, each as ``.csv`` (UTF-8) or ``.parquet``.
+
+    Returns
+    -------
+    list of Problem
+        Errors and warnings, in table order; empty when everything is fine. Never raises
+        for bad data (a missing folder is reported as a problem too).
+    """
+    return check_folder(path).problems
+
+
+def check_folder(path) -> FolderCheck:
+    """Read and check a folder; return typed frames in user units and the problems."""
+    folder = Path(path)
+    out = FolderCheck()
+    if not folder.is_dir():
+        out.problems.append(Problem("error", str(folder), None, None, None,
+                                    "a folder of input tables",
+                                    "input folder not found"))
+        return out
+    for name, spec in TABLES.items():
+        located = _locate(folder, spec, out.problems)
+        if located is None:
+            continue
+        out.files[name] = located
+        raw = _read(located, out.problems)
+        if raw is None:
+            continue
+        frame = _typed_frame(raw, spec, located.name, out.problems)
+        if frame is None:
+            continue
+        out.frames[name] = frame
+    _cross_checks(out)
+    return out
+
+
+# ---------------------------------------------------------------------------------------
+# reading
+
+def _locate(folder: Path, spec: TableSpec, problems: list[Problem]) -> Path | None:
+    found = [folder / f"{spec.name}{s}" for s in FILE_SUFFIXES if (folder / f"{spec.name}{s}").is_file()]
+    if len(found) > 1:
+        problems.append(Problem(
+            "error", found[0].name, None, None, None, "one file per table",
+            f"both {found[0].name} and {found[1].name} exist; keep only one of them"))
+        return None
+    if found:
+        return found[0]
+    if not spec.required_file:
+        return None
+    near = [p.name for p in sorted(folder.iterdir())
+            if p.is_file() and (p.stem.lower() in (spec.name, spec.name.rstrip("s"))
+                                or p.name.lower() in (f"{spec.name}.csv", f"{spec.name}.parquet"))]
+    hint = f"; found {', '.join(near)}: rename it to {spec.name}.csv" if near else ""
+    problems.append(Problem(
+        "error", f"{spec.name}.csv", None, None, None,
+        f"{spec.name}.csv or {spec.name}.parquet",
+        f"required table '{spec.name}' is missing from {folder}{hint}"))
+    return None
+
+
+def _read(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
+    if path.suffix == ".parquet":
+        return _read_parquet(path, problems)
+    return _read_csv(path, problems)
+
+
+def _read_parquet(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
+    try:
+        df = pd.read_parquet(path)
+    except Exception as exc:  # any reader failure is a problem for the user, not a crash
+        problems.append(Problem("error", path.name, None, None, None, "a Parquet file",
+                                f"cannot read the file as Parquet ({type(exc).__name__}: {exc})"))
+        return None
+    if df.shape[0] == 0:
+        problems.append(Problem("error", path.name, None, None, None, "at least one data row",
+                                "the file has no data rows"))
+        return None
+    df = df.reset_index(drop=True)
+    df.columns = [str(c).strip() for c in df.columns]
+    return df
+
+
+def _read_csv(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
+    name = path.name
+    data = path.read_bytes()
+    if not data.strip():
+        problems.append(Problem("error", name, None, None, None, "a header line and data rows",
+                                "the file is empty"))
+        return None
+    magic = {b"PK\x03\x04": "an Excel workbook or other zip archive",
+             b"PAR1": "a Parquet file", b"\xd0\xcf\x11\xe0": "an old Excel workbook"}
+    for head, what in magic.items():
+        if data.startswith(head):
+            problems.append(Problem("error", name, None, None, None, "comma-separated UTF-8 text",
+                                    f"the file is {what}, not CSV text; export it as "
+                                    "'CSV UTF-8 (comma delimited)'"))
+            return None
+    if data.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
+        problems.append(Problem("error", name, None, None, None, "UTF-8 text",
+                                "the file is encoded as UTF-16; save it as 'CSV UTF-8'"))
+        return None
+    try:
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = data[: exc.start].count(b"\n") + 1
+        try:
+            data.decode("cp1252")
+            guess = "it looks like Windows-1252 / Latin-1"
+        except UnicodeDecodeError:
+            guess = "the encoding is unknown"
+        problems.append(Problem(
+            "error", name, line - 1 if line > 1 else None, None,
+            f"byte 0x{data[exc.start]:02x}", "UTF-8 text",
+            f"the file is not UTF-8 (first invalid byte on line {line}; {guess}); "
+            "save it as 'CSV UTF-8'"))
+        return None
+    if "\x00" in text:
+        problems.append(Problem("error", name, None, None, None, "CSV text",
+                                "the file contains NUL bytes: it is binary, not CSV text"))
+        return None
+    first = text.splitlines()[0]
+    if "," not in first and (";" in first or "\t" in first):
+        sep = "';'" if ";" in first else "tabs"
+        problems.append(Problem("error", name, None, None, first[:80], "comma-separated columns",
+                                f"the columns are separated by {sep}; save the file with commas"))
+        return None
+    try:
+        header = next(csv.reader([first]))
+    except csv.Error as exc:
+        problems.append(Problem("error", name, None, None, first[:80], "a CSV header line",
+                                f"the header line is not valid CSV ({exc})"))
+        return None
+    try:
+        df = pd.read_csv(io.StringIO(text), dtype=str, keep_default_na=False, na_filter=False,
+                         skip_blank_lines=False, engine="c")
+    except pd.errors.EmptyDataError:
+        problems.append(Problem("error", name, None, None, None, "a header line and data rows",
+                                "the file is empty"))
+        return None
+    except (pd.errors.ParserError, csv.Error, ValueError) as exc:
+        _locate_csv_error(text, name, len(header), problems, exc)
+        return None
+    if len(df.columns) != len(header):  # pragma: no cover - defensive
+        header = list(df.columns)
+    df.columns = [h.strip() for h in header]
+    # blank lines stay as rows so numbers match the file; drop them now (index keeps numbers)
+    blank = (df == "").all(axis=1)
+    df = df[~blank]
+    if df.shape[0] == 0:
+        problems.append(Problem("error", name, None, None, None, "at least one data row",
+                                "the file has a header but no data rows"))
+        return None
+    return df
+
+
+def _locate_csv_error(text, name, n_header, problems, exc) -> None:
+    """Find the lines whose field count differs from the header (only on the error path)."""
+    found = 0
+    try:
+        for i, fields in enumerate(csv.reader(io.StringIO(text), strict=True)):
+            if i == 0 or not fields:
+                continue
+            if len(fields) != n_header:
+                found += 1
+                if found <= MAX_ROWS_PER_CHECK:
+                    problems.append(Problem(
+                        "error", name, i, None, f"{len(fields)} fields",
+                        f"{n_header} fields like the header",
+                        "row has a different number of fields than the header "
+                        "(a stray comma or an unquoted comma in a name?)"))
+    except csv.Error as err:
+        problems.append(Problem("error", name, None, None, None, "valid CSV",
+                                f"the file is not valid CSV ({err}); an unclosed quote?"))
+        return
+    if found == 0:
+        problems.append(Problem("error", name, None, None, None, "valid CSV",
+                                f"the file is not valid CSV ({exc})"))
+    elif found > MAX_ROWS_PER_CHECK:
+        problems.append(Problem("error", name, None, None, None, None,
+                                f"... and {found - MAX_ROWS_PER_CHECK} more rows with the "
+                                "wrong number of fields"))
+
+
+# ---------------------------------------------------------------------------------------
+# columns and cells
+
+def _rows(index) -> np.ndarray:
+    return np.asarray(index, dtype=np.int64) + 1
+
+
+def _report(problems, severity, file, frame_index, mask, column, values, expected, message,
+            hint=None) -> None:
+    """Add one problem per masked row (at most MAX_ROWS_PER_CHECK, then a summary)."""
+    mask = np.asarray(mask, dtype=bool)
+    if not mask.any():
+        return
+    rows = _rows(frame_index)[mask]
+    vals = np.asarray(values, dtype=object)[mask]
+    for r, v in zip(rows[:MAX_ROWS_PER_CHECK], vals[:MAX_ROWS_PER_CHECK]):
+        msg = message
+        if hint is not None:
+            h = hint(v)
+            if h:
+                msg = f"{message}; {h}"
+        problems.append(Problem(severity, file, int(r), column, _text(v), expected, msg))
+    if rows.size > MAX_ROWS_PER_CHECK:
+        more = rows[MAX_ROWS_PER_CHECK:]
+        problems.append(Problem(
+            severity, file, None, column, None, expected,
+            f"... and {more.size} more rows with the same problem "
+            f"(rows {', '.join(map(str, more[:10]))}{', …' if more.size > 10 else ''})"))
+
+
+def _text(v) -> str | None:
+    if v is None:
+        return ""
+    if isinstance(v, float):
+        if np.isnan(v):
+            return ""
+        return f"{v:g}" if abs(v) < 1e15 else repr(v)
+    return str(v)
+
+
+def _as_text(series: pd.Series) -> pd.Series:
+    """Text values with surrounding spaces removed; missing cells as ''."""
+    if series.dtype == object or pd.api.types.is_string_dtype(series):
+        s = series.astype(object).where(series.notna(), "")
+        s = s.map(lambda v: v if isinstance(v, str) else _scalar_text(v))
+        return s.str.strip()
+    if pd.api.types.is_float_dtype(series):
+        return series.map(lambda v: "" if pd.isna(v) else _scalar_text(v))
+    return series.map(lambda v: "" if pd.isna(v) else str(v)).str.strip()
+
+
+def _scalar_text(v) -> str:
+    if isinstance(v, float) and v.is_integer():
+        return str(int(v))
+    return str(v)
+
+
+def _typed_frame(raw: pd.DataFrame, spec: TableSpec, file: str,
+                 problems: list[Problem]) -> pd.DataFrame | None:
+    cols = list(raw.columns)
+    seen: set[str] = set()
+    keep = []
+    for i, c in enumerate(cols):
+        if c in seen:
+            problems.append(Problem("error", file, None, c, None, "each column once",
+                                    f"column '{c}' appears more than once in the header; "
+                                    "keep one"))
+            continue
+        seen.add(c)
+        keep.append(i)
+    raw = raw.iloc[:, keep]
+    known = set(spec.names)
+    for c in raw.columns:
+        if c in known:
+            continue
+        if c.startswith("Unnamed:") or c == "":
+            if (_as_text(raw[c]) == "").all():
+                continue
+            problems.append(Problem("warning", file, None, c or "(blank)", None, None,
+                                    "a column without a header holds values; it is ignored"))
+            continue
+        guess = difflib.get_close_matches(c, spec.names, n=1, cutoff=0.6)
+        hint = f"; did you mean '{guess[0]}'?" if guess else ""
+        if c.lower().endswith("_ft"):
+            hint += " Give lengths in metres (ft × 0.3048) in the '_m' column."
+        if c.lower().endswith("_f"):
+            hint += " Give temperatures in °C ((°F − 32) × 5/9) in the '_c' column."
+        problems.append(Problem("warning", file, None, c, None,
+                                ", ".join(spec.names), f"unknown column, ignored{hint}"))
+    missing = [c for c in spec.columns if c.required and c.name not in raw.columns]
+    for c in missing:
+        problems.append(Problem("error", file, None, c.name, None, c.description,
+                                f"required column '{c.name}' is missing"))
+    if missing:
+        return None
+
+    out = pd.DataFrame(index=raw.index)
+    for col in spec.columns:
+        if col.name in raw.columns:
+            series = raw[col.name]
+        else:
+            series = pd.Series([None] * len(raw), index=raw.index, dtype=object)
+        out[col.name] = _convert_column(series, col, file, problems)
+    return out
+
+
+def _convert_column(series: pd.Series, col, file, problems) -> pd.Series:
+    idx = series.index
+    if col.dtype == "str":
+        text = _as_text(series)
+        blank = text.str.lower().isin(_MISSING).to_numpy()
+        if col.required:
+            _report(problems, "error", file, idx, blank, col.name, text, col.description,
+                    "required value is blank or NaN")
+        ok = ~blank
+        if col.allowed is not None:
+            bad = ok & ~text.isin(col.allowed).to_numpy()
+            _report(problems, "error", file, idx, bad, col.name, text, col.range_text(),
+                    f"unknown value for {col.name}",
+                    hint=lambda v: _allowed_hint(v, col.allowed))
+        if col.pattern is not None:
+            bad = ok & ~text.str.match(col.pattern).to_numpy()
+            _report(problems, "error", file, idx, bad, col.name, text,
+                    "letters, digits, '-', '_' or '.', no spaces",
+                    "not a valid identifier")
+        result = text.astype(object).where(ok, None)
+        if col.default is not None:
+            result = result.where(ok, col.default)
+        return result
+
+    if pd.api.types.is_bool_dtype(series):
+        values = pd.Series(np.nan, index=idx)
+        text = series.astype(str)
+        _report(problems, "error", file, idx, np.ones(len(series), bool), col.name, text,
+                "a number", "true/false value where a number is expected")
+        return values
+    if pd.api.types.is_numeric_dtype(series):
+        values = series.astype(float)
+        text = values
+        failed = values.isna().to_numpy()
+        blank = failed
+        badtype = np.zeros(len(series), bool)
+    else:
+        text = _as_text(series)
+        values = pd.to_numeric(text, errors="coerce").astype(float)
+        failed = values.isna().to_numpy()
+        blank = np.zeros(len(series), bool)
+        if failed.any():
+            blank[failed] = text[failed].str.lower().isin(_MISSING).to_numpy()
+        badtype = failed & ~blank
+    inf = np.isinf(values.to_numpy())
+    badtype = badtype | inf
+    values = values.where(~inf, np.nan)
+    if badtype.any():
+        _report(problems, "error", file, idx, badtype, col.name, text,
+                "a whole number" if col.dtype == "int" else "a number",
+                "not a number", hint=_number_hint)
+    if col.required:
+        _report(problems, "error", file, idx, blank, col.name, text, col.description,
+                "required value is blank or NaN")
+    v = values.to_numpy()
+    present = ~np.isnan(v)
+    if col.dtype == "int":
+        frac = present & (np.abs(v - np.round(v)) > 1e-9)
+        _report(problems, "error", file, idx, frac, col.name, v, "a whole number",
+                "not a whole number")
+    bad_range = np.zeros(len(v), bool)
+    with np.errstate(invalid="ignore"):
+        if col.min is not None:
+            bad_range |= present & (v < col.min)
+        if col.max is not None:
+            bad_range |= present & (v > col.max)
+    if bad_range.any():
+        _report(problems, "error", file, idx, bad_range, col.name, v, col.range_text(),
+                "value out of range", hint=_RANGE_HINTS.get(col.name))
+    if col.default is not None:
+        values = values.where(present | badtype, float(col.default))
+    return values
+
+
+def _allowed_hint(v, allowed) -> str | None:
+    low = str(v).strip().lower()
+    if low in allowed:
+        return f"write it in lower case: '{low}'"
+    guess = difflib.get_close_matches(low, allowed, n=1, cutoff=0.5)
+    return f"did you mean '{guess[0]}'?" if guess else None
+
+
+def _number_hint(v) -> str | None:
+    s = str(v).strip()
+    if _DECIMAL_COMMA.match(s):
+        return "use a point as the decimal separator"
+    if s.lower() in ("inf", "-inf", "infinity"):
+        return "must be finite"
+    if re.match(r"^[+-]?[\d.]+\s*[A-Za-z°%]+$", s):
+        return "give the number only; the unit is in the column name"
+    return None
+
+
+def _feet_hint(v) -> str | None:
+    if 5000 < v * 1.0 <= 5000 / 0.3048:
+        return f"looks like feet: {v:g} ft = {v * 0.3048:.0f} m"
+    return None
+
+
+def _fahrenheit_hint(v) -> str | None:
+    if 200 <= v <= 340:
+        return f"looks like kelvin: {v:g} K = {v - 273.15:.1f} °C"
+    if 60 < v <= 140:
+        return f"looks like °F: {v:g} °F = {(v - 32) * 5 / 9:.1f} °C"
+    return None
+
+
+def _qnh_hint(v) -> str | None:
+    if 25 <= v <= 33:
+        return f"looks like inches of mercury: {v:g} inHg = {v * 33.8639:.1f} hPa"
+    if 85 <= v <= 110:
+        return f"looks like kilopascals: {v:g} kPa = {v * 10:.1f} hPa"
+    return None
+
+
+def _share_hint(v) -> str | None:
+    if 1 < v <= 100:
+        return f"looks like a percentage: give {v / 100:g}"
+    return None
+
+
+def _tonnes_hint(v) -> str | None:
+    if 0 < v < 300 and v * 1000 >= 300:
+        return f"looks like tonnes: {v:g} t = {v * 1000:.0f} kg"
+    return None
+
+
+def _longitude_hint(v) -> str | None:
+    if 180 < v <= 360:
+        return f"use −180 … 180: {v:g} = {v - 360:g}"
+    return None
+
+
+def _temperature_span_hint(v) -> str | None:
+    if 0 < v <= 36:
+        return f"in °F? a spread of {v:g} °F is {v * 5 / 9:.1f} °C"
+    return None
+
+
+_RANGE_HINTS = {
+    "elevation_m": _feet_hint,
+    "mean_daily_max_c": _fahrenheit_hint,
+    "p50_daily_max_c": _fahrenheit_hint,
+    "p85_daily_max_c": _fahrenheit_hint,
+    "p95_daily_max_c": _fahrenheit_hint,
+    "flat_rate_oat_c": _fahrenheit_hint,
+    "qnh_hpa": _qnh_hint,
+    "wet_day_share": _share_hint,
+    "longitude_deg": _longitude_hint,
+    "mtow_kg": _tonnes_hint,
+    "oew_kg": _tonnes_hint,
+    "max_landing_mass_kg": _tonnes_hint,
+    "tora_m": _feet_hint,
+    "toda_m": _feet_hint,
+    "asda_m": _feet_hint,
+}
+
+
+# ---------------------------------------------------------------------------------------
+# table and cross-table checks
+
+def _fname(check: FolderCheck, table: str) -> str:
+    p = check.files.get(table)
+    return p.name if p is not None else f"{table}.csv"
+
+
+def _cross_checks(check: FolderCheck) -> None:
+    f = check.frames
+    pr = check.problems
+    for name, df in f.items():
+        _duplicate_keys(df, TABLES[name], _fname(check, name), pr)
+    if "runways" in f:
+        _runway_checks(f["runways"], _fname(check, "runways"), pr)
+    if "airfields" in f:
+        _airfield_checks(f["airfields"], _fname(check, "airfields"), pr)
+    if "climate_monthly" in f:
+        _climate_checks(f["climate_monthly"], _fname(check, "climate_monthly"), pr)
+    if "wind_rose" in f:
+        f["wind_rose"] = _wind_rose_checks(f["wind_rose"], _fname(check, "wind_rose"), pr)
+    if "aircraft_types" in f:
+        _aircraft_checks(f["aircraft_types"], _fname(check, "aircraft_types"), pr)
+    if "routes" in f:
+        _route_checks(f["routes"], _fname(check, "routes"), pr)
+    for name, df in f.items():
+        for fk in TABLES[name].foreign_keys:
+            ref = f.get(fk.ref_table)
+            if ref is None:
+                continue
+            col, refcol = fk.columns[0], fk.ref_columns[0]
+            vals = df[col]
+            bad = vals.notna().to_numpy() & ~vals.isin(set(ref[refcol].dropna())).to_numpy()
+            _report(pr, "error", _fname(check, name), df.index, bad, col, vals,
+                    f"an {refcol} listed in {_fname(check, fk.ref_table)}",
+                    f"refers to an unknown {fk.ref_table.rstrip('s').replace('_', ' ')}",
+                    hint=lambda v, r=ref[refcol].dropna().tolist():
+                        _suggest(v, r))
+    if "airfields" in f:
+        af = f["airfields"]
+        ids = af["airfield_id"].dropna()
+        for table in ("climate_monthly", "wind_rose"):
+            if table in f:
+                _months_complete(af, f[table], table, _fname(check, table),
+                                 _fname(check, "airfields"), pr)
+        if "runways" in f:
+            has = ids.isin(set(f["runways"]["airfield_id"].dropna())).to_numpy()
+            _report(pr, "warning", _fname(check, "airfields"), ids.index, ~has, "airfield_id",
+                    ids, "at least one row in runways",
+                    "airfield has no runway: it gets no results")
+
+
+def _suggest(v, candidates) -> str | None:
+    guess = difflib.get_close_matches(str(v), candidates, n=1, cutoff=0.75)
+    return f"did you mean '{guess[0]}'?" if guess else None
+
+
+def _duplicate_keys(df, spec: TableSpec, file, pr) -> None:
+    key = list(spec.key)
+    valid = df[[k for k in key if spec.column(k).required]].notna().all(axis=1)
+    sub = df[valid]
+    if sub.empty:
+        return
+    dup = sub.duplicated(key, keep="first").to_numpy()
+    if not dup.any():
+        return
+    first = pd.Series(sub.index, index=sub.index).groupby(
+        [sub[k] for k in key], dropna=False).transform("min")
+    rows = _rows(sub.index)[dup]
+    firsts = (first.to_numpy() + 1)[dup]
+    texts = sub[key][dup].head(MAX_ROWS_PER_CHECK).astype(str).agg(", ".join, axis=1).to_numpy()
+    for r, fr, t in list(zip(rows, firsts, texts))[:MAX_ROWS_PER_CHECK]:
+        pr.append(Problem("error", file, int(r), key[-1], t,
+                          f"a unique ({', '.join(key)})",
+                          f"duplicate key: the same ({', '.join(key)}) is on row {int(fr)}"))
+    if rows.size > MAX_ROWS_PER_CHECK:
+        pr.append(Problem("error", file, None, key[-1], None, None,
+                          f"... and {rows.size - MAX_ROWS_PER_CHECK} more duplicate keys"))
+
+
+def _airfield_checks(df, file, pr) -> None:
+    e = df["elevation_m"].to_numpy()
+    with np.errstate(invalid="ignore"):
+        high = (e > 4500) & (e <= 5000)
+    _report(pr, "warning", file, df.index, high, "elevation_m", e, "metres",
+            "elevation above 4 500 m is higher than any airfield in regular service; "
+            "is it in feet?")
+
+
+def _runway_checks(df, file, pr) -> None:
+    tora, toda, asda = (df[c].to_numpy() for c in ("tora_m", "toda_m", "asda_m"))
+    with np.errstate(invalid="ignore"):
+        _report(pr, "error", file, df.index, toda < tora, "toda_m", toda,
+                "toda_m ≥ tora_m", "TODA shorter than TORA (TODA = TORA + clearway)")
+        _report(pr, "error", file, df.index, asda < tora, "asda_m", asda,
+                "asda_m ≥ tora_m", "ASDA shorter than TORA (ASDA = TORA + stopway)")
+    rid = df["runway_id"].astype(object)
+    m = rid.astype(str).str.extract(r"^(\d{1,2})[LCR]?$")[0]
+    number = pd.to_numeric(m, errors="coerce").to_numpy()
+    heading = df["heading_true_deg"].to_numpy()
+    with np.errstate(invalid="ignore"):
+        diff = np.abs((number * 10.0 - heading + 180.0) % 360.0 - 180.0)
+        bad = (number >= 1) & (number <= 36) & (diff > 35)
+    _report(pr, "warning", file, df.index, bad, "heading_true_deg", heading,
+            "within 35° of the designator × 10°",
+            "true heading far from the runway designator: check the heading "
+            "(true, of this takeoff direction)")
+
+
+def _climate_checks(df, file, pr) -> None:
+    cols = ["p50_daily_max_c", "p85_daily_max_c", "p95_daily_max_c"]
+    for lo, hi in ((cols[0], cols[1]), (cols[1], cols[2]), (cols[0], cols[2])):
+        a, b = df[lo].to_numpy(), df[hi].to_numpy()
+        with np.errstate(invalid="ignore"):
+            bad = a > b
+        _report(pr, "error", file, df.index, bad, hi, b, f"{hi} ≥ {lo}",
+                "percentiles must rise (p50 ≤ p85 ≤ p95)")
+    t = df["mean_daily_max_c"]
+    g = t.groupby(df["airfield_id"])
+    stats = pd.DataFrame({"min": g.min(), "mean": g.mean(), "max": g.max()})
+    fahr_range = stats.index[(stats["max"] > 60) & (stats["max"] <= 140) & (stats["min"] > -76)]
+    fahr_warm = stats.index[(stats["min"] >= 30) & (stats["mean"] > 40) & (stats["max"] <= 60)]
+    first_row = pd.Series(df.index, index=df.index).groupby(df["airfield_id"]).min() + 1
+    for afid in list(fahr_range)[:MAX_ROWS_PER_CHECK]:
+        pr.append(Problem("error", file, int(first_row[afid]), "mean_daily_max_c", str(afid),
+                          "°C", f"the temperatures of airfield '{afid}' look like °F: "
+                          "convert with (°F − 32) × 5/9"))
+    for afid in list(fahr_warm)[:MAX_ROWS_PER_CHECK]:
+        pr.append(Problem("warning", file, int(first_row[afid]), "mean_daily_max_c", str(afid),
+                          "°C", f"every month of airfield '{afid}' is at least 30 with an annual "
+                          f"mean of {stats.loc[afid, 'mean']:.1f}: are these °F?"))
+
+
+def _months_complete(af, df, table, file, af_file, pr) -> None:
+    months = df[["airfield_id", "month"]].dropna()
+    months = months[(months["month"] >= 1) & (months["month"] <= 12)]
+    present = months.groupby("airfield_id")["month"].agg(lambda m: set(m.astype(int)))
+    n = 0
+    for i, afid in zip(af.index, af["airfield_id"]):
+        if afid is None:
+            continue
+        got = present.get(afid, set())
+        miss = sorted(set(range(1, 13)) - got)
+        if not miss:
+            continue
+        n += 1
+        if n > MAX_ROWS_PER_CHECK:
+            continue
+        if not got:
+            pr.append(Problem("error", file, None, "airfield_id", str(afid),
+                              "12 months for every airfield",
+                              f"airfield '{afid}' (row {i + 1} of {af_file}) has no rows"))
+        else:
+            pr.append(Problem("error", file, None, "month", str(afid),
+                              "months 1 … 12 for every airfield",
+                              f"airfield '{afid}' is missing month(s) "
+                              f"{', '.join(map(str, miss))}"))
+    if n > MAX_ROWS_PER_CHECK:
+        pr.append(Problem("error", file, None, "month", None, None,
+                          f"... and {n - MAX_ROWS_PER_CHECK} more airfields with missing months"))
+
+
+def _wind_rose_checks(df, file, pr) -> pd.DataFrame:
+    df = df.copy()
+    d, w = df["direction_deg"].to_numpy(), df["sector_width_deg"].to_numpy()
+    lo, hi = df["speed_low_mps"].to_numpy(), df["speed_high_mps"].to_numpy()
+    calm = np.isnan(d)
+    idx = df.index
+    _report(pr, "error", file, idx, calm & ~np.isnan(w), "direction_deg", d,
+            "a sector centre (the row has a sector width)",
+            "direction blank but sector width given (a calm row leaves both blank)")
+    _report(pr, "error", file, idx, ~calm & np.isnan(w), "sector_width_deg", w,
+            "a width such as 22.5 or 30",
+            "sector width blank on a row with a direction")
+    with np.errstate(invalid="ignore"):
+        _report(pr, "error", file, idx, hi <= lo, "speed_high_mps", hi,
+                "speed_high_mps > speed_low_mps", "speed class upper bound not above lower bound")
+        _report(pr, "warning", file, idx, calm & (lo > 0), "speed_low_mps", lo, "0",
+                "calm row should start at 0 m/s")
+        n_sect = 360.0 / w
+        _report(pr, "error", file, idx, ~np.isnan(w) & (np.abs(n_sect - np.round(n_sect)) > 1e-6),
+                "sector_width_deg", w, "a width that divides 360° (e.g. 10, 22.5, 30, 45)",
+                "sector width does not divide the circle")
+    # frequency sums per airfield-month (percent detection)
+    grp = [df["airfield_id"], df["month"]]
+    sums = df["frequency"].groupby(grp).transform("sum").to_numpy()
+    first = pd.Series(idx, index=idx).groupby(grp).transform("min").to_numpy()
+    valid_grp = df["airfield_id"].notna().to_numpy() & df["month"].notna().to_numpy()
+    share_ok = np.abs(sums - 1.0) <= 0.01
+    pct = np.abs(sums - 100.0) <= 1.0
+    freq = df["frequency"].to_numpy().copy()
+    freq[pct] = freq[pct] / 100.0
+    df["frequency"] = freq
+    if (pct & valid_grp).any():
+        n_pct = len(set(zip(df["airfield_id"][pct], df["month"][pct])))
+        pr.append(Problem("warning", file, None, "frequency", None, "shares summing to 1",
+                          f"frequencies of {n_pct} airfield-month(s) sum to 100: read as "
+                          "percentages and converted to shares"))
+    with np.errstate(invalid="ignore"):
+        _report(pr, "error", file, idx, (freq > 1.0) & ~pct, "frequency", df["frequency"],
+                "a share 0 … 1 (or percentages summing to 100)", "frequency above 1")
+    bad_sum = valid_grp & ~share_ok & ~pct & (idx.to_numpy() + 0 == first)
+    af, mo = df["airfield_id"].to_numpy(), df["month"].to_numpy()
+    _report(pr, "error", file, idx, bad_sum, "frequency",
+            np.array([f"{s:.4g}" for s in sums]) if bad_sum.any() else sums,
+            "1 ± 0.01 (or 100 ± 1 %)",
+            "frequencies of this airfield and month do not sum to 1 (the row is the "
+            "first of the airfield-month)")
+    _sector_coverage(df[~calm & valid_grp], file, pr)
+    _speed_classes(df[valid_grp], file, pr)
+    return df
+
+
+def _sector_coverage(nc, file, pr) -> None:
+    nc = nc[nc["sector_width_deg"].notna() & nc["direction_deg"].notna()
+            & nc["speed_low_mps"].notna() & nc["speed_high_mps"].notna()]
+    if nc.empty:
+        return
+    am = [nc["airfield_id"], nc["month"]]
+    width = nc["sector_width_deg"]
+    mixed = width.groupby(am).transform("nunique").to_numpy() > 1
+    firstw = width.groupby(am).transform("first").to_numpy()
+    _report(pr, "error", file, nc.index, mixed & (width.to_numpy() != firstw),
+            "sector_width_deg", width, f"one sector width per airfield and month",
+            "sector width differs from the first row of the same airfield and month")
+    w = width.to_numpy()
+    d = nc["direction_deg"].to_numpy() % 360.0
+    d0 = pd.Series(d, index=nc.index).groupby(am).transform("min").to_numpy()
+    k = (d - d0) / w
+    off_grid = np.abs(k - np.round(k)) > 1e-6
+    _report(pr, "error", file, nc.index, off_grid, "direction_deg", nc["direction_deg"],
+            "sector centres a whole number of sector widths apart",
+            "direction is not on the sector grid of its airfield and month: sectors overlap")
+    kk = np.round(k).astype(np.int64)
+    cls = [nc["airfield_id"], nc["month"], nc["speed_low_mps"], nc["speed_high_mps"]]
+    key = pd.DataFrame({"a": nc["airfield_id"], "m": nc["month"],
+                        "lo": nc["speed_low_mps"], "hi": nc["speed_high_mps"], "k": kk})
+    dup = key.duplicated(keep="first").to_numpy() & ~off_grid
+    _report(pr, "error", file, nc.index, dup, "direction_deg", nc["direction_deg"],
+            "each sector once per speed class",
+            "sector appears twice in the same speed class: sectors overlap")
+    count = pd.Series(1, index=nc.index).groupby(cls).transform("sum").to_numpy()
+    need = np.round(360.0 / w)
+    short = count < need
+    if short.any():
+        sub = nc[short]
+        groups = sub.groupby(["airfield_id", "month", "speed_low_mps", "speed_high_mps"],
+                             sort=False)
+        n = 0
+        for (a, m, slo, shi), g in groups:
+            n += 1
+            if n > MAX_ROWS_PER_CHECK:
+                continue
+            wid = g["sector_width_deg"].iloc[0]
+            base = g["direction_deg"].min() % wid
+            full = {round((base + j * wid) % 360.0, 6) for j in range(int(round(360 / wid)))}
+            have = {round(x % 360.0, 6) for x in g["direction_deg"]}
+            miss = sorted(full - have)
+            pr.append(Problem(
+                "error", file, int(g.index.min()) + 1, "direction_deg",
+                None, f"{int(round(360 / wid))} sectors of {wid:g}° in every speed class",
+                f"airfield '{a}' month {int(m)} speed class {slo:g}–{shi:g} m/s misses "
+                f"sector(s) {', '.join(f'{x:g}' for x in miss[:12])}"
+                f"{' …' if len(miss) > 12 else ''} (the row is the class's first)"))
+        if n > MAX_ROWS_PER_CHECK:
+            pr.append(Problem("error", file, None, "direction_deg", None, None,
+                              f"... and {n - MAX_ROWS_PER_CHECK} more speed classes with "
+                              "missing sectors"))
+
+
+def _speed_classes(df, file, pr) -> None:
+    ok = df["speed_low_mps"].notna() & df["speed_high_mps"].notna()
+    sub = df[ok]
+    calm = sub["direction_deg"].isna()
+    classes = (sub[~calm].drop_duplicates(["airfield_id", "month", "speed_low_mps",
+                                           "speed_high_mps"])
+               .sort_values(["airfield_id", "month", "speed_low_mps", "speed_high_mps"]))
+    if classes.empty:
+        return
+    prev_hi = classes.groupby(["airfield_id", "month"])["speed_high_mps"].shift()
+    lo = classes["speed_low_mps"].to_numpy()
+    with np.errstate(invalid="ignore"):
+        overlap = lo < prev_hi.to_numpy() - 1e-9
+        gap = lo > prev_hi.to_numpy() + 1e-9
+    _report(pr, "error", file, classes.index, overlap, "speed_low_mps", lo,
+            "speed classes that do not overlap",
+            "speed class overlaps the class below it in the same airfield and month")
+    _report(pr, "warning", file, classes.index, gap, "speed_low_mps", lo,
+            "contiguous speed classes",
+            "gap between this speed class and the one below it")
+    lowest = classes.groupby(["airfield_id", "month"])["speed_low_mps"].min()
+    calms = sub[calm]
+    if not calms.empty:
+        keyidx = pd.MultiIndex.from_arrays([calms["airfield_id"], calms["month"]])
+        low_cls = lowest.reindex(keyidx).to_numpy()
+        with np.errstate(invalid="ignore"):
+            bad = calms["speed_high_mps"].to_numpy() > low_cls + 1e-9
+        _report(pr, "warning", file, calms.index, bad, "speed_high_mps",
+                calms["speed_high_mps"], "calm threshold ≤ the lowest speed class",
+                "calm threshold overlaps the lowest speed class")
+
+
+def _aircraft_checks(df, file, pr) -> None:
+    g = {c: df[c].to_numpy() for c in df.columns if c not in ("aircraft_type_id", "name",
+                                                              "thrust_model")}
+    idx = df.index
+    with np.errstate(invalid="ignore"):
+        _report(pr, "error", file, idx, g["oew_kg"] >= g["mtow_kg"], "oew_kg", g["oew_kg"],
+                "oew_kg < mtow_kg", "empty mass not below MTOW")
+        zfw = g["oew_kg"] + g["max_payload_kg"]
+        _report(pr, "error", file, idx, zfw > g["mtow_kg"], "max_payload_kg",
+                g["max_payload_kg"], "oew_kg + max_payload_kg ≤ mtow_kg",
+                "empty mass plus maximum payload exceeds MTOW")
+        _report(pr, "error", file, idx, g["max_landing_mass_kg"] > g["mtow_kg"],
+                "max_landing_mass_kg", g["max_landing_mass_kg"], "≤ mtow_kg",
+                "maximum landing mass above MTOW")
+        _report(pr, "error", file, idx, g["max_landing_mass_kg"] <= g["oew_kg"],
+                "max_landing_mass_kg", g["max_landing_mass_kg"], "> oew_kg",
+                "maximum landing mass not above the empty mass")
+        _report(pr, "warning", file, idx, zfw > g["max_landing_mass_kg"], "max_payload_kg",
+                g["max_payload_kg"], "oew_kg + max_payload_kg ≤ max_landing_mass_kg",
+                "a full payload could never land")
+        _report(pr, "warning", file, idx, g["oew_kg"] + g["max_fuel_kg"] > g["mtow_kg"],
+                "max_fuel_kg", g["max_fuel_kg"], "oew_kg + max_fuel_kg ≤ mtow_kg",
+                "full tanks with no payload exceed MTOW")
+        _report(pr, "error", file, idx, g["vr_over_vs"] > g["vlof_over_vs"], "vlof_over_vs",
+                g["vlof_over_vs"], "≥ vr_over_vs", "lift-off speed below rotation speed")
+        _report(pr, "error", file, idx, g["vlof_over_vs"] > g["v2_over_vs"], "v2_over_vs",
+                g["v2_over_vs"], "≥ vlof_over_vs", "V2 below lift-off speed")
+        _report(pr, "error", file, idx, g["cl_ground_roll"] >= g["cl_max_takeoff"],
+                "cl_ground_roll", g["cl_ground_roll"], "< cl_max_takeoff",
+                "ground-roll lift coefficient not below the maximum")
+        multi = g["engine_count"] >= 2
+        _report(pr, "error", file, idx, multi & ~(g["vmcg_kt"] > 0), "vmcg_kt", g["vmcg_kt"],
+                "> 0 for multi-engine types", "multi-engine type without a ground minimum "
+                "control speed")
+    model = df["thrust_model"].to_numpy()
+    fan, prop = model == "turbofan", model == "propeller"
+    jet = fan | (model == "quadratic")
+    _report(pr, "error", file, idx, fan & ~(g["bypass_ratio"] > 0), "bypass_ratio",
+            g["bypass_ratio"], "> 0 for the turbofan model", "turbofan type needs a bypass ratio")
+    _report(pr, "error", file, idx, prop & ~(g["shaft_power_per_engine_kw"] > 0),
+            "shaft_power_per_engine_kw", g["shaft_power_per_engine_kw"],
+            "> 0 for the propeller model", "propeller type needs its shaft power")
+    _report(pr, "error", file, idx, prop & ~(g["propeller_efficiency"] > 0),
+            "propeller_efficiency", g["propeller_efficiency"], "> 0 for the propeller model",
+            "propeller type needs a propeller efficiency")
+    _report(pr, "error", file, idx, prop & np.isnan(g["cruise_psfc_kg_per_kwh"]),
+            "cruise_psfc_kg_per_kwh", g["cruise_psfc_kg_per_kwh"],
+            "a value for propeller types", "propeller type needs its cruise fuel consumption")
+    _report(pr, "error", file, idx, jet & np.isnan(g["cruise_tsfc_g_per_kn_s"]),
+            "cruise_tsfc_g_per_kn_s", g["cruise_tsfc_g_per_kn_s"],
+            "a value for jet types", "jet type needs its cruise fuel consumption")
+
+
+def _route_checks(df, file, pr) -> None:
+    same = (df["origin_id"] == df["destination_id"]).to_numpy() & df["origin_id"].notna().to_numpy()
+    _report(pr, "error", file, df.index, same, "destination_id", df["destination_id"],
+            "a destination other than the origin", "route starts and ends at the same airfield")
+    ok = df["route_id"].notna()
+    sub = df[ok]
+    for col in ("origin_id", "destination_id"):
+        n = sub.groupby("route_id")[col].transform("nunique").to_numpy()
+        firstv = sub.groupby("route_id")[col].transform("first")
+        bad = (n > 1) & (sub[col] != firstv).to_numpy()
+        _report(pr, "error", file, sub.index, bad, col, sub[col],
+                "the same value on every row of the route",
+                f"rows of the same route_id disagree on {col}")
