@@ -1,0 +1,725 @@
+"""Climatology: daily-maximum temperature distribution, wind-rose runway components,
+runway usability and reliability levels of the takeoff-weight limit.
+
+The question answered here is the planner's: *what mass can I count on for p of the
+departures of this month?* A day is a pair (daily maximum temperature, wind). The model:
+
+1. **Temperature.** The daily maximum temperature of a month is normal with the month's mean
+   and standard deviation (or follows given percentiles, interpolated in the standard-normal
+   score, see :func:`daily_max_temperature_k`). Takeoffs are assumed at the hottest hour of
+   the day (the daily maximum), which is conservative; no diurnal cycle is modelled.
+2. **Wind.** A wind rose (direction sector × speed class, calms apart) is represented by
+   *points*: each cell by a small midpoint grid of directions across the sector times
+   speeds across the class, each point carrying an equal share of the cell's frequency
+   (:func:`wind_rose_points`); the calm share is one point of zero speed.
+3. **Usability.** A point is usable on a runway direction when its reported crosswind is
+   within the type's crosswind limit and its reported tailwind within the tailwind limit
+   (:func:`runway_usability`). Each point is flown on the usable direction that gives the
+   highest mass at that temperature; if no direction is usable the day is not possible.
+4. **Independence.** Temperature and wind are taken as statistically independent (stated
+   assumption; in reality hot afternoons and sea breezes are correlated).
+5. **Reliability level.** With S(M) the share of days on which mass M is achievable,
+   the mass achievable on at least p of days is M_p = max{M : S(M) ≥ p}
+   (:func:`reliability_masses`).
+6. **Efficiency.** The weight limit is not solved for every day: the caller solves it on a
+   small grid of temperature (at fixed standard-normal scores) × factored headwind per
+   runway direction, and this module interpolates (:func:`grid_masses_at_points`) and
+   inverts the interpolant in temperature exactly, so the temperature distribution is
+   treated as continuous, not binned.
+
+Conventions (all arrays, no loops over cases):
+
+- ``N`` groups (airfield × month × aircraft type), ``D`` runway directions of the airfield
+  (padded with invalid directions), ``J`` wind points (index 0 is the calm point),
+  ``G`` temperature nodes, ``H`` headwind nodes, ``L`` reliability levels.
+- Masses that are not possible are ``-inf`` inside, NaN at the interface.
+
+References
+----------
+.. [1] 14 CFR Part 25, §25.105(d)(1): not more than 50 % of the reported headwind and not
+   less than 150 % of the reported tailwind (EASA CS 25.105(d)(1) identical).
+.. [2] ICAO, *Annex 14, Aerodromes, Vol. I*, §3.1.1–3.1.4 and Attachment A §1: runway
+   orientation for a usability factor of at least 95 % at the allowable crosswind component.
+.. [3] FAA Advisory Circular 150/5300-13 (Airport Design), Appendix on wind analysis:
+   wind coverage of a runway from a wind rose, wind uniform within each cell.
+.. [4] D. S. Wilks, *Statistical Methods in the Atmospheric Sciences*, 3rd ed., Academic
+   Press, 2011, §4.4.2 (Gaussian distribution) and §3.1 (quantiles) [from memory for the
+   section numbers].
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import special
+
+from physics import limits, wind
+
+#: Standard-normal scores of the default temperature grid nodes. [–]
+DEFAULT_SCORE_NODES = (-2.5, -1.25, 0.0, 1.0, 1.75, 2.5)
+#: Default reliability levels (share of days). [–]
+DEFAULT_LEVELS = (0.50, 0.85, 0.95)
+#: Probabilities of the optional percentile columns of the climate table. [–]
+PERCENTILE_PROBABILITIES = (0.50, 0.85, 0.95)
+
+
+# ----------------------------------------------------------------------------------------
+# Temperature
+# ----------------------------------------------------------------------------------------
+def normal_score(probability):
+    """Standard-normal score (probit) of a probability.
+
+    Parameters
+    ----------
+    probability : array_like
+        Non-exceedance probability, 0 … 1. [–]
+
+    Returns
+    -------
+    numpy.ndarray or float
+        z with Phi(z) = probability; ±inf at 0 and 1. [–]
+
+    Notes
+    -----
+    z = Phi⁻¹(p), Phi the standard-normal distribution function.
+
+    References
+    ----------
+    .. [4] Wilks (2011), §4.4.2.
+    """
+    return special.ndtri(np.asarray(probability, dtype=float))
+
+
+def normal_probability(score):
+    """Standard-normal distribution function Phi(z).
+
+    Parameters
+    ----------
+    score : array_like
+        Standard-normal score, ±inf allowed. [–]
+
+    Returns
+    -------
+    numpy.ndarray or float
+        Phi(z) = (1 + erf(z / √2)) / 2. [–]
+
+    Notes
+    -----
+    Phi(z) = ½ [1 + erf(z/√2)].
+
+    References
+    ----------
+    .. [4] Wilks (2011), §4.4.2.
+    """
+    return special.ndtr(np.asarray(score, dtype=float))
+
+
+def daily_max_temperature_k(score, mean_k, sd_k, percentile_values_k=None,
+                            percentile_probabilities=PERCENTILE_PROBABILITIES):
+    """Daily maximum temperature at a standard-normal score (the quantile function).
+
+    Parameters
+    ----------
+    score : array_like
+        Standard-normal score z of the day (z = Phi⁻¹(p) for the p quantile). [–]
+    mean_k : array_like
+        Monthly mean of the daily maximum temperature. [K]
+    sd_k : array_like
+        Day-to-day standard deviation of the daily maximum temperature, ≥ 0. [K]
+    percentile_values_k : array_like, optional
+        Given percentiles of the daily maximum, shape ``(..., A)`` for the probabilities
+        ``percentile_probabilities``; NaN where a percentile is not given. [K]
+    percentile_probabilities : sequence of float, optional
+        Increasing probabilities of the given percentiles, all ≥ 0.5. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        Temperature, broadcast of the inputs. [K]
+
+    Notes
+    -----
+    Without percentiles the distribution is normal: T(z) = mean + sd z [4].
+
+    With percentiles, T(z) is piecewise linear in the score z through the anchors
+    (z_0 = 0, T_0) and (z_a = Phi⁻¹(p_a), T_a) for the given p_a > 0.5, where T_0 is the
+    given median, else the mean. Below the first anchor (the cold side) the slope is sd
+    (the normal's dT/dz); above the last given anchor the slope of the last segment is
+    kept (sd when only the median is given). A normal distribution's own percentiles
+    therefore reproduce the normal exactly. A missing percentile is skipped (the anchor
+    falls on the extension of the previous segment).
+
+    References
+    ----------
+    .. [4] Wilks (2011), §4.4.2 (Gaussian quantiles), §3.1 (empirical quantiles).
+    """
+    z = np.asarray(score, dtype=float)
+    mean = np.asarray(mean_k, dtype=float)
+    sd = np.asarray(sd_k, dtype=float)
+    if percentile_values_k is None:
+        return mean + sd * z
+    pv = np.asarray(percentile_values_k, dtype=float)
+    probs = np.asarray(percentile_probabilities, dtype=float)
+    z_anchor = normal_score(probs)
+    # Anchor 0 at z = 0: the given median if there is one, else the mean.
+    first_is_median = np.isclose(probs[0], 0.5)
+    t0 = np.where(np.isfinite(pv[..., 0]), pv[..., 0], mean) if first_is_median else mean
+    knots_z = z_anchor[1:] if first_is_median else z_anchor
+    knots_v = pv[..., 1:] if first_is_median else pv
+    t = t0 + sd * np.minimum(z, 0.0)
+    prev_z, prev_t, slope = 0.0, t0, sd
+    for a in range(knots_z.size):  # a fixed, small number of anchors
+        za = knots_z[a]
+        ta = np.where(np.isfinite(knots_v[..., a]), knots_v[..., a], prev_t + slope * (za - prev_z))
+        seg_slope = (ta - prev_t) / (za - prev_z)
+        t = t + seg_slope * np.clip(z - prev_z, 0.0, za - prev_z)
+        prev_z, prev_t, slope = za, ta, seg_slope
+    return t + slope * np.maximum(z - prev_z, 0.0)
+
+
+# ----------------------------------------------------------------------------------------
+# Wind rose
+# ----------------------------------------------------------------------------------------
+def wind_rose_points(direction_deg, sector_width_deg, speed_low_mps, speed_high_mps,
+                     frequency, calm_frequency, *, directions_per_sector=5, speeds_per_class=2):
+    """Representative wind points of a wind rose (midpoint rule over each cell).
+
+    Parameters
+    ----------
+    direction_deg : array_like
+        Centre of each direction sector, wind FROM, true; shape ``(..., C)``. [deg]
+    sector_width_deg : array_like
+        Width of each sector; shape ``(..., C)``. [deg]
+    speed_low_mps, speed_high_mps : array_like
+        Speed class bounds; shape ``(..., C)``. [m/s]
+    frequency : array_like
+        Share of the observations in each cell; padding cells have 0; shape ``(..., C)``. [–]
+    calm_frequency : array_like
+        Share of calms; shape ``(...)``. [–]
+    directions_per_sector : int, optional
+        Sub-directions per sector (midpoints of equal sub-sectors). [–]
+    speeds_per_class : int, optional
+        Sub-speeds per class (midpoints of equal sub-classes). [–]
+
+    Returns
+    -------
+    direction_deg : numpy.ndarray
+        Wind direction FROM of each point, shape ``(..., J)``, J = 1 + C × nd × ns;
+        point 0 is the calm point. [deg]
+    speed_mps : numpy.ndarray
+        Wind speed of each point (0 for the calm point). [m/s]
+    weight : numpy.ndarray
+        Share of days of each point; the weights of a rose sum to 1 (the rose is
+        normalised by its total, so percentages work too). [–]
+
+    Notes
+    -----
+    Each cell's wind is taken as uniform in direction over the sector and uniform in speed
+    over the class, as in the classical wind-coverage analysis [3]. The cell is represented
+    by the nd × ns midpoints theta_i = c + w ((i + ½)/nd − ½), V_k = V_lo + (V_hi − V_lo)
+    (k + ½)/ns, each with weight f/(nd ns): the midpoint rule for the cell's integral. The
+    error on a usability share is of order one sub-cell per cell crossed by a limit line.
+
+    References
+    ----------
+    .. [3] FAA AC 150/5300-13, wind analysis appendix (uniform distribution within a cell).
+    """
+    c = np.asarray(direction_deg, dtype=float)
+    w = np.asarray(sector_width_deg, dtype=float)
+    lo = np.asarray(speed_low_mps, dtype=float)
+    hi = np.asarray(speed_high_mps, dtype=float)
+    f = np.asarray(frequency, dtype=float)
+    calm = np.asarray(calm_frequency, dtype=float)
+    nd, ns = int(directions_per_sector), int(speeds_per_class)
+    di = (np.arange(nd) + 0.5) / nd - 0.5
+    sk = (np.arange(ns) + 0.5) / ns
+    dirs = (c[..., :, None, None] + w[..., :, None, None] * di[:, None]) % 360.0
+    spd = lo[..., :, None, None] + (hi - lo)[..., :, None, None] * sk[None, :]
+    shape = np.broadcast_shapes(dirs.shape, spd.shape)
+    dirs = np.broadcast_to(dirs, shape).reshape(shape[:-3] + (-1,))
+    spd = np.broadcast_to(spd, shape).reshape(shape[:-3] + (-1,))
+    wgt = np.broadcast_to(f[..., :, None, None] / (nd * ns), shape).reshape(shape[:-3] + (-1,))
+    total = calm + f.sum(axis=-1)
+    total = np.where(total > 0.0, total, 1.0)
+    zero = np.zeros(shape[:-3] + (1,))
+    direction = np.concatenate([zero, dirs], axis=-1)
+    speed = np.concatenate([zero, spd], axis=-1)
+    weight = np.concatenate([calm[..., None] + zero, wgt], axis=-1) / total[..., None]
+    return direction, speed, weight
+
+
+def runway_usability(wind_from_true_deg, wind_speed_mps, runway_heading_true_deg,
+                     tailwind_limit_mps, crosswind_limit_mps):
+    """Runway components of wind points, their factored headwind and usability.
+
+    Parameters
+    ----------
+    wind_from_true_deg : array_like
+        Wind direction FROM, true. [deg]
+    wind_speed_mps : array_like
+        Wind speed. [m/s]
+    runway_heading_true_deg : array_like
+        True heading of the takeoff direction. [deg]
+    tailwind_limit_mps, crosswind_limit_mps : array_like
+        The aircraft type's limits on the reported components. [m/s]
+
+    Returns
+    -------
+    factored_headwind_mps : numpy.ndarray
+        Headwind for performance, 50 % headwind / 150 % tailwind [1]. [m/s]
+    crosswind_exceeded : numpy.ndarray of bool
+        |crosswind| > crosswind limit. [–]
+    tailwind_exceeded : numpy.ndarray of bool
+        Tailwind (−headwind) > tailwind limit. [–]
+
+    Notes
+    -----
+    headwind = W cos(theta), crosswind = W sin(theta), theta = wind − heading. A point is
+    usable when neither limit is exceeded; the limits apply to the reported (unfactored)
+    components, the performance to the factored one (common practice; [1] for factoring).
+    A tiny tolerance (1e-9 m/s) keeps a point exactly on the limit usable.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.105(d)(1).
+    .. [2] ICAO Annex 14, Vol. I, §3.1.3 (allowable crosswind components).
+    """
+    head, cross = wind.runway_wind_components(wind_from_true_deg, wind_speed_mps,
+                                              runway_heading_true_deg)
+    eps = 1e-9
+    cross_exceeded = np.abs(cross) > np.asarray(crosswind_limit_mps, dtype=float) + eps
+    tail_exceeded = -head > np.asarray(tailwind_limit_mps, dtype=float) + eps
+    return wind.factored_headwind(head), cross_exceeded, tail_exceeded
+
+
+def wind_coverage(weight, usable):
+    """Usability factor (wind coverage): share of days with a usable wind.
+
+    Parameters
+    ----------
+    weight : array_like
+        Share of days of each wind point, shape ``(..., J)``. [–]
+    usable : array_like of bool
+        Whether each point is usable on at least one direction considered, ``(..., J)``. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        Coverage, 0 … 1. [–]
+
+    Notes
+    -----
+    coverage = Σ_j w_j [usable_j] [2], [3].
+
+    References
+    ----------
+    .. [2] ICAO Annex 14, Vol. I, §3.1.1 (usability factor ≥ 95 %).
+    .. [3] FAA AC 150/5300-13, wind analysis appendix.
+    """
+    return np.sum(np.asarray(weight, dtype=float) * np.asarray(usable, dtype=bool), axis=-1)
+
+
+# ----------------------------------------------------------------------------------------
+# The solving grid
+# ----------------------------------------------------------------------------------------
+def headwind_nodes(min_factored_mps, max_factored_mps, *, tail_nodes=2, head_nodes=4):
+    """Factored-headwind nodes of the solving grid, always including calm (0).
+
+    Parameters
+    ----------
+    min_factored_mps : array_like
+        Lowest factored headwind needed (≤ 0; the worst usable tailwind). [m/s]
+    max_factored_mps : array_like
+        Highest factored headwind needed (≥ 0). [m/s]
+    tail_nodes, head_nodes : int, optional
+        Nodes strictly below and strictly above zero. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        Non-decreasing nodes, shape ``(..., tail_nodes + 1 + head_nodes)``. [m/s]
+
+    Notes
+    -----
+    Equal spacing on each side of zero: h = h_min (1 − i/n_t) and h = h_max k/n_h. A zero
+    range gives repeated nodes, which the interpolation handles (zero-width cells).
+
+    References
+    ----------
+    .. [1] 14 CFR 25.105(d)(1) (the factored component is what the performance uses).
+    """
+    lo = np.minimum(np.asarray(min_factored_mps, dtype=float), 0.0)
+    hi = np.maximum(np.asarray(max_factored_mps, dtype=float), 0.0)
+    t = 1.0 - np.arange(tail_nodes) / tail_nodes if tail_nodes else np.zeros(0)
+    h = np.arange(head_nodes + 1) / head_nodes if head_nodes else np.zeros(1)
+    return np.concatenate([lo[..., None] * t, hi[..., None] * h], axis=-1)
+
+
+def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps):
+    """Linear interpolation of grid masses in factored headwind, at every temperature node.
+
+    Parameters
+    ----------
+    grid_mass_kg : array_like
+        Masses solved on the grid, shape ``(..., G, H)``; NaN where no takeoff. [kg]
+    nodes_mps : array_like
+        Headwind nodes, non-decreasing, shape ``(..., H)``. [m/s]
+    headwind_mps : array_like
+        Factored headwind of each point, shape ``(..., J)``. Values outside the nodes are
+        clamped to the end nodes. [m/s]
+
+    Returns
+    -------
+    numpy.ndarray
+        Masses at the points on each temperature node, shape ``(..., J, G)``; NaN when
+        either neighbouring node is NaN (the no-takeoff rule). [kg]
+
+    Notes
+    -----
+    m(h) = (1 − s) m_k + s m_{k+1}, s = (h − h_k)/(h_{k+1} − h_k), k the cell of h; a
+    zero-width cell gives s = 0. Together with the linear rule in temperature
+    (:func:`reliability_masses`) this is bilinear interpolation.
+
+    References
+    ----------
+    .. [1] W. H. Press et al., *Numerical Recipes*, 3rd ed., CUP, 2007, §3.6
+       (interpolation in two dimensions, bilinear).
+    """
+    grid = np.asarray(grid_mass_kg, dtype=float)
+    nodes = np.asarray(nodes_mps, dtype=float)
+    h = np.asarray(headwind_mps, dtype=float)
+    n_h = nodes.shape[-1]
+    hc = np.clip(h, nodes[..., :1], nodes[..., -1:])
+    k = np.sum(nodes[..., None, :] <= hc[..., :, None], axis=-1) - 1
+    k = np.clip(k, 0, max(n_h - 2, 0))
+    k1 = np.minimum(k + 1, n_h - 1)
+    h0 = np.take_along_axis(nodes, k, axis=-1)
+    h1 = np.take_along_axis(nodes, k1, axis=-1)
+    width = h1 - h0
+    s = np.where(width > 0.0, (hc - h0) / np.where(width > 0.0, width, 1.0), 0.0)
+    # Gather along H for every temperature node: grid (..., G, H) -> (..., G, J).
+    m0 = np.take_along_axis(grid, np.broadcast_to(k[..., None, :], grid.shape[:-1] + k.shape[-1:]), axis=-1)
+    m1 = np.take_along_axis(grid, np.broadcast_to(k1[..., None, :], grid.shape[:-1] + k.shape[-1:]), axis=-1)
+    out = (1.0 - s[..., None, :]) * m0 + s[..., None, :] * m1
+    out = np.where(np.isnan(m0) | np.isnan(m1), np.nan, out)
+    return np.swapaxes(out, -1, -2)
+
+
+# ----------------------------------------------------------------------------------------
+# Reliability levels
+# ----------------------------------------------------------------------------------------
+_NOT_POSSIBLE_KG = -1.0e12  # finite stand-in for "not possible" inside the inversion
+_TIE_KG = 1.0e-6  # masses equal within this count as achieved
+
+
+def _segments(f, scores):
+    """Precompute the inversion of node masses f (..., G), non-increasing, -inf allowed."""
+    f = np.where(np.isfinite(f), f, _NOT_POSSIBLE_KG)
+    z = np.asarray(scores, dtype=float)
+    d = f[..., :-1] - f[..., 1:]  # drop over each segment, ≥ 0
+    inv = np.where(d > 0.0, 1.0 / np.where(d > 0.0, d, 1.0), 1.0e9)
+    return f, z, inv
+
+
+def _crossing_score(seg, mass):
+    """z*(M) = sup{z : m(z) ≥ M} for the piecewise-linear m of _segments (mass broadcast).
+
+    z* = z_0 + Σ_g Δz_g c_g with c_g = (f_g − M)/(f_g − f_{g+1}) clipped to [0, 1], except
+    that the first segment is not clipped below and the last not above: the end segments
+    extend linearly beyond the nodes (a flat end segment extends to ±inf in effect).
+    """
+    f, z, inv = seg
+    m = np.asarray(mass, dtype=float) - _TIE_KG
+    g = f.shape[-1]
+    if g == 1:
+        return np.where(f[..., 0] >= m, np.inf, -np.inf)
+    dz = np.diff(z)
+    out = np.full(np.broadcast_shapes(f.shape[:-1], np.shape(m)), z[0])
+    for k in range(g - 1):  # a fixed, small number of temperature segments
+        c = (f[..., k] - m) * inv[..., k]
+        lo = -np.inf if k == 0 else 0.0
+        hi = np.inf if k == g - 2 else 1.0
+        out = out + dz[k] * np.clip(c, lo, hi)
+    return out
+
+
+def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=None,
+                    direction_valid=None):
+    """Runway direction each wind point is flown on, and why a point is lost.
+
+    Parameters
+    ----------
+    point_mass_kg : array_like
+        Mass of each wind point on each direction at each temperature node, ignoring the
+        wind limits, shape ``(N, D, J, G)``; NaN where no takeoff is possible. [kg]
+    crosswind_exceeded, tailwind_exceeded : array_like of bool, optional
+        ``(N, D, J)`` flags from :func:`runway_usability`. Default: nothing exceeded. [–]
+    direction_valid : array_like of bool, optional
+        ``(N, D)``; False marks padding directions. Default all valid. [–]
+
+    Returns
+    -------
+    direction : numpy.ndarray of int
+        Direction index each point is flown on, ``(N, J)`` (the best candidate when none
+        is usable). [–]
+    mass_kg : numpy.ndarray
+        Mass of each point on that direction at each node, ``(N, J, G)``; -inf where the
+        point is usable on no direction, NaN where no takeoff. [kg]
+    lost_reason : numpy.ndarray of int
+        ``physics.limits`` code ``crosswind_limit`` or ``tailwind_limit`` for a point usable
+        on no direction, else -1; ``(N, J)``. [–]
+
+    Notes
+    -----
+    Among the usable directions, a point is flown on the one with the highest mass summed
+    over the temperature nodes (no-takeoff nodes count 0): the best direction for that wind
+    on a typical day of the month, used at every temperature of that wind. Keeping one
+    direction per wind can only lower the mass against a per-day choice (conservative);
+    the two differ only where two directions cross in mass inside the month's temperature
+    range. A point usable nowhere is lost; its reason is the limit that excludes the best
+    candidate (the direction that would win with the limits ignored), crosswind when that
+    direction exceeds both.
+
+    References
+    ----------
+    .. [2] ICAO Annex 14, Vol. I, §3.1.1 and Attachment A §1 (usability of a runway system).
+    """
+    raw = np.asarray(point_mass_kg, dtype=float)
+    shape3 = raw.shape[:3]
+    cross_ex = (np.zeros(shape3, dtype=bool) if crosswind_exceeded is None
+                else np.broadcast_to(np.asarray(crosswind_exceeded, dtype=bool), shape3))
+    tail_ex = (np.zeros(shape3, dtype=bool) if tailwind_exceeded is None
+               else np.broadcast_to(np.asarray(tailwind_exceeded, dtype=bool), shape3))
+    valid = (np.ones(raw.shape[:2], dtype=bool) if direction_valid is None
+             else np.asarray(direction_valid, dtype=bool))[:, :, None]
+    merit = np.sum(np.where(np.isnan(raw), 0.0, raw), axis=-1)  # (N, D, J)
+    merit_all = np.where(valid, merit, -np.inf)
+    usable = valid & ~cross_ex & ~tail_ex
+    merit_usable = np.where(usable, merit, -np.inf)
+    best = np.argmax(merit_usable, axis=1)  # (N, J)
+    cand = np.argmax(merit_all, axis=1)
+    any_usable = np.any(usable, axis=1)
+    direction = np.where(any_usable, best, cand)
+    mass = np.take_along_axis(raw, direction[:, None, :, None], axis=1)[:, 0]
+    mass = np.where(any_usable[..., None], mass, -np.inf)
+    c_ex = np.take_along_axis(cross_ex, cand[:, None, :], axis=1)[:, 0]
+    reason = np.where(any_usable, -1, np.where(c_ex, limits.code("crosswind_limit"),
+                                                limits.code("tailwind_limit")))
+    return direction, mass, reason.astype(np.int64)
+
+
+@dataclass(frozen=True)
+class ReliabilityLevels:
+    """Reliability levels of groups (airfield × month × type).
+
+    Attributes
+    ----------
+    mass_kg : numpy.ndarray
+        Mass achievable on at least p of days, ``(N, L)``; NaN when not possible. [kg]
+    reason : numpy.ndarray of int
+        ``physics.limits`` code where not possible (crosswind_limit, tailwind_limit or
+        no_takeoff: the largest share of days lost), else -1; ``(N, L)``. [–]
+    point : numpy.ndarray of int
+        Binding wind point j of each level (the most typical day with exactly that mass),
+        ``(N, L)``. [–]
+    score : numpy.ndarray
+        Standard-normal temperature score of the binding day, ``(N, L)``. [–]
+    share_days : numpy.ndarray
+        Share of days on which the target mass is achievable, ``(N,)``. [–]
+    possible_share : numpy.ndarray
+        Share of days on which a takeoff (≥ OEW) is possible, ``(N,)``. [–]
+    """
+
+    mass_kg: np.ndarray
+    reason: np.ndarray
+    point: np.ndarray
+    score: np.ndarray
+    share_days: np.ndarray
+    possible_share: np.ndarray
+
+
+def _prepare(point_mass_kg):
+    f = np.asarray(point_mass_kg, dtype=float)
+    f = np.where(np.isnan(f), -np.inf, f)
+    return np.minimum.accumulate(f, axis=-1)
+
+
+def _share(f, scores, weight, m):
+    """S(m) for f (N, J, G) (or its _segments) and m (N,) or (N, L); also z*_j,
+    shape m.shape + (J,)."""
+    seg = f if isinstance(f, tuple) else _segments(f, scores)
+    seg = tuple(s[:, None] if s.ndim > 1 else s for s in seg)
+    m = np.asarray(m, dtype=float)
+    zj = _crossing_score(seg, m.reshape(m.shape[0], -1)[:, :, None])
+    s = np.sum(weight[:, None, :] * normal_probability(zj), axis=-1)
+    if m.ndim == 1:
+        return s[:, 0], zj[:, 0]
+    return s, zj
+
+
+def share_of_days(mass_kg, point_mass_kg, scores, weight):
+    """Share of days on which a mass is achievable, S(M).
+
+    Parameters
+    ----------
+    mass_kg : array_like
+        Mass asked for, ``(N,)`` or ``(N, L)``. [kg]
+    point_mass_kg : array_like
+        Mass of each wind point on its flown direction at each temperature node,
+        ``(N, J, G)``; -inf or NaN where not possible. [kg]
+    scores : array_like
+        Standard-normal scores of the temperature nodes, increasing, ``(G,)``. [–]
+    weight : array_like
+        Share of days of each wind point, ``(N, J)``. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        S(M), shape of ``mass_kg``. [–]
+
+    Notes
+    -----
+    With temperature and wind independent and the mass non-increasing in temperature,
+    S(M) = Σ_j w_j Phi(z*_j(M)), z*_j(M) = sup{z : m_j(z) ≥ M}: on wind point j a day
+    achieves M if and only if its temperature score is at most z*_j. m_j(z) is linear
+    between the temperature nodes (a running minimum over the nodes makes it
+    non-increasing, which can only lower it), extended linearly beyond the end nodes, and
+    not possible beyond a no-takeoff node. With zero temperature spread every node holds
+    the same temperature, m_j is constant and S is a weighted count (Phi(±inf) = 1, 0).
+
+    References
+    ----------
+    .. [4] Wilks (2011), §4.4.2; total probability over independent variables.
+    """
+    m = np.asarray(mass_kg, dtype=float)
+    return _share(_prepare(point_mass_kg), np.asarray(scores, dtype=float),
+                  np.asarray(weight, dtype=float), m)[0]
+
+
+def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
+                       levels=DEFAULT_LEVELS, target_mass_kg=None, lost_reason=None,
+                       tol_kg=1.0):
+    """Mass achievable on at least p of days, for each group and level.
+
+    Parameters
+    ----------
+    point_mass_kg : array_like
+        Mass of each wind point on its flown direction at each temperature node,
+        ``(N, J, G)`` (from :func:`flown_direction`), **not** capped at MTOW; -inf where the
+        wind point is usable nowhere, NaN where no takeoff is possible. [kg]
+    scores : array_like
+        Standard-normal scores of the temperature nodes, increasing, ``(G,)``. [–]
+    weight : array_like
+        Share of days of each wind point, ``(N, J)``, summing to 1 per group. [–]
+    oew_kg, mtow_kg : array_like
+        Operating empty mass and maximum takeoff mass, ``(N,)``. Below OEW is no takeoff. [kg]
+    levels : sequence of float, optional
+        Reliability levels p (share of days), each in (0, 1]. [–]
+    target_mass_kg : array_like, optional
+        Mass whose share of days is reported, ``(N,)``; default MTOW. [kg]
+    lost_reason : array_like of int, optional
+        ``(N, J)`` codes of points usable nowhere (from :func:`flown_direction`). [–]
+    tol_kg : float, optional
+        Tolerance on the level mass. [kg]
+
+    Returns
+    -------
+    ReliabilityLevels
+        Masses, reasons, binding day and shares.
+
+    Notes
+    -----
+    S(M) is the share of days with mass M achievable (:func:`share_of_days`). The level-p
+    mass is M_p = max{M ∈ [OEW, MTOW] : S(M) ≥ p}; ties count as achieved (S is compared
+    with p − 1e-9 to absorb rounding). It is MTOW if S(MTOW) ≥ p, not possible if
+    S(OEW) < p, and otherwise found by bisection on the bracket [OEW, MTOW] until it is
+    narrower than ``tol_kg``. Equivalently M_p is the lower (1 − p) quantile of the
+    day-to-day mass, days that are not possible counting as mass 0.
+
+    When a level is not possible its reason is whichever of crosswind limit, tailwind
+    limit (wind points usable nowhere) or no takeoff (too hot) loses the largest share of
+    days.
+
+    The binding day of a level is the wind point j whose temperature score z*_j(M_p) is
+    finite and has the highest density w_j phi(z*_j): the most typical day on which the
+    mass is exactly M_p. Without such a point (zero temperature spread, or flat masses)
+    it is the point with the smallest mass ≥ M_p at the node nearest the median.
+
+    References
+    ----------
+    .. [2] ICAO Annex 14, Vol. I, §3.1.1 (usability over the days of the record).
+    .. [4] Wilks (2011), §3.1 (quantiles), §4.4.2.
+    """
+    f = _prepare(point_mass_kg)
+    z = np.asarray(scores, dtype=float)
+    w = np.asarray(weight, dtype=float)
+    oew = np.asarray(oew_kg, dtype=float)
+    mtow = np.asarray(mtow_kg, dtype=float)
+    p = np.asarray(levels, dtype=float)
+    n_groups, n_pts, _ = f.shape
+    eps = 1e-9
+
+    s_mtow = _share(f, z, w, mtow)[0]
+    s_oew, zj_oew = _share(f, z, w, oew)
+    share_target = s_mtow if target_mass_kg is None else _share(
+        f, z, w, np.asarray(target_mass_kg, dtype=float))[0]
+
+    lo = np.repeat(oew[:, None], p.size, axis=1)
+    hi = np.repeat(mtow[:, None], p.size, axis=1)
+    at_mtow = s_mtow[:, None] >= p[None, :] - eps
+    search = (s_oew[:, None] >= p[None, :] - eps) & ~at_mtow
+    # Only the groups that need it are iterated: false position alternating with
+    # bisection (the bisection steps guarantee the bracket halves at least every second
+    # step, the false-position steps converge fast where S is smooth).
+    rows = np.nonzero(np.any(search, axis=1))[0]
+    if rows.size:
+        f_s = _segments(f[rows], z)
+        w_s, lo_s, hi_s = w[rows], lo[rows], hi[rows]
+        s_lo = np.repeat(s_oew[rows, None], p.size, axis=1) - p
+        s_hi = np.repeat(s_mtow[rows, None], p.size, axis=1) - p
+        span = float(np.max(hi_s - lo_s))
+        max_steps = 2 * int(np.ceil(np.log2(max(span, tol_kg) / tol_kg)))
+        for step in range(max_steps):
+            # Converged: bracket narrow, or lo within tol of the root by the local slope.
+            est = s_lo * (hi_s - lo_s) / np.where(s_lo - s_hi > 0, s_lo - s_hi, np.inf)
+            done = (hi_s - lo_s <= tol_kg) | (est <= 0.25 * tol_kg)
+            if np.all(done | ~search[rows]):
+                break
+            if step % 2:
+                x = 0.5 * (lo_s + hi_s)
+            else:
+                t = s_lo / np.where(s_lo - s_hi > 0, s_lo - s_hi, 1.0)
+                x = lo_s + np.clip(t, 0.01, 0.99) * (hi_s - lo_s)
+            s_x = _share(f_s, z, w_s, x)[0] - p
+            ok = s_x >= -eps
+            lo_s, s_lo = np.where(ok, x, lo_s), np.where(ok, s_x, s_lo)
+            hi_s, s_hi = np.where(ok, hi_s, x), np.where(ok, s_hi, s_x)
+        lo[rows] = lo_s
+    mass = np.where(at_mtow, mtow[:, None], np.where(search, lo, np.nan))
+
+    # Binding day at each level mass.
+    m_eval = np.where(np.isfinite(mass), mass, oew[:, None])
+    zj = _share(f, z, w, m_eval)[1]  # (N, L, J)
+    finite = np.isfinite(zj) & (w[:, None, :] > 0)
+    dens = np.where(finite, w[:, None, :] * np.exp(-0.5 * np.where(finite, zj, 0.0) ** 2), -1.0)
+    mid_node = int(np.argmin(np.abs(z)))
+    f_mid = f[:, None, :, mid_node]
+    slack = np.where((f_mid >= m_eval[..., None] - tol_kg) & (w[:, None, :] > 0),
+                     f_mid - m_eval[..., None], np.inf)
+    has_dens = np.max(dens, axis=-1) > 0.0
+    point = np.where(has_dens, np.argmax(dens, axis=-1), np.argmin(slack, axis=-1))
+    zb = np.take_along_axis(zj, point[..., None], axis=-1)[..., 0]
+    score = np.where(np.isfinite(zb), zb, z[mid_node])
+
+    # Why days are lost, for levels that are not possible.
+    lost = np.full((n_groups, n_pts), -1) if lost_reason is None else np.asarray(lost_reason)
+    cross_share = np.sum(w * (lost == limits.code("crosswind_limit")), axis=-1)
+    tail_share = np.sum(w * (lost == limits.code("tailwind_limit")), axis=-1)
+    temp_share = np.sum(w * (lost < 0) * (1.0 - normal_probability(zj_oew)), axis=-1)
+    codes = np.array([limits.code("crosswind_limit"), limits.code("tailwind_limit"),
+                      limits.code("no_takeoff")])
+    reason = codes[np.argmax(np.stack([cross_share, tail_share, temp_share], axis=-1), axis=-1)]
+    reason_l = np.where(np.isnan(mass), reason[:, None], -1).astype(np.int64)
+    return ReliabilityLevels(mass_kg=mass, reason=reason_l, point=point, score=score,
+                             share_days=share_target, possible_share=s_oew)
