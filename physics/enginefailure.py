@@ -1,0 +1,626 @@
+"""Engine failure on takeoff: continued takeoff, accelerate-stop, V1 choice, balanced field.
+
+A transport-category takeoff must allow for one engine failing on the ground roll. If it fails
+at or above the decision speed V1 the crew continues: the remaining engines carry the aircraft
+to lift-off and up to the screen height. If it fails before V1 the crew stops. A runway is
+long enough for a mass when a V1 exists for which both are possible inside the declared
+distances (14 CFR 25.109, 25.113).
+
+Segments on the ground
+----------------------
+Every piece of the ground roll has an acceleration that is quadratic in the true airspeed V,
+
+    a(V) = a0 + a1 V + a2 V²,
+
+(thrust quadratic in airspeed, drag and lift on V|V|, friction on W cos(g) − L, slope), so
+the distance between two airspeeds is ``ds = (V − w) dV / a(V)`` with the headwind w (ground
+speed = V − w; the aircraft is at rest at V = w). The coefficients come from
+:func:`physics.groundrun.acceleration_coefficients` and the distances from
+:func:`physics.groundrun.segment_distance_m`; this module only strings segments together.
+
+Continued takeoff (one engine inoperative, "go")
+    all engines from rest to V1, then N − 1 engines and the engine-out drag increment from V1
+    to lift-off; then the airborne segment to the screen height with N − 1 engines.
+Accelerate-stop ("stop")
+    all engines from rest to V1, then the 2 s at constant V1 of 25.109(a) (recognition and
+    reaction are inside it), then braking to rest with idle thrust, the braking friction and
+    the lift-dumper lift and drag. Two cases (25.109(a)(1) and (a)(2)): engine failure (the
+    failed engine gives no thrust and keeps its drag increment) and all engines (all at idle);
+    the greater governs. No reverse-thrust credit, wet or dry.
+
+With engine failure recognised at V1 (V_EF = V1: the failure speed and V1 coincide; the 2 s
+carry the delay) the all-engines part cancels between go and stop, and the difference
+
+    h(V1) = [C_go − S_oei(V1 → V_LOF)] − [ASDA − 2 (V1 − w) − S_brake(V1 → w)]
+
+of the go and stop margins rises with V1 (``dh/dV1 = (V1 − w)/a_oei + 2 + (V1 − w)/|a_brake|
+> 0``). The best V1 for a mass maximises the smaller margin: it is the root of h, clipped to the
+allowed range [V_MCG, VR]. :func:`balanced_v1_mps` finds it with a fixed number of Newton steps
+(vectorised; no per-case loop). At the root the go and stop distances are equal when
+TODA = ASDA: the balanced V1 and the balanced field length.
+
+Single-engine aircraft have no engine-out case; their accelerate-stop is all engines, and
+since no engine failure decides it, V1 is taken as VR: the runway must allow a stop from the
+rotation speed (the worst point of the ground roll to abandon a single-engine takeoff;
+a conservative planning assumption of ours, not a regulation).
+
+References
+----------
+.. [1] 14 CFR Part 25, §25.107 (takeoff speeds), §25.109 (accelerate-stop distance, 2 s at V1),
+   §25.113 (takeoff distance and takeoff run); EASA CS-25 identical in these provisions.
+.. [2] D. P. Raymer, *Aircraft Design: A Conceptual Approach*, AIAA, §17.8 (ground roll,
+   braking, balanced field length).
+.. [3] J. D. Anderson, *Aircraft Performance and Design*, McGraw-Hill, 1999, §6.7 (takeoff
+   ground roll), §6.8 (braking).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from physics import constants as c
+
+#: Distance allowance of 14 CFR 25.109(a): 2 s at V1 after the stop is begun. [s]
+STOP_DELAY_S = 2.0
+
+#: Newton steps of the V1 search (quadratic convergence; 6 reach 1e-9 m/s from a cold start
+#: in the tests).
+V1_ITERATIONS = 6
+
+
+def _accel(coeffs, v):
+    a0, a1, a2 = coeffs
+    return a0 + (a1 + a2 * v) * v
+
+
+def _segment_m(coeffs, v_from, v_to, headwind):
+    """Ground distance between two airspeeds (delegates to physics.groundrun)."""
+    from physics import groundrun
+
+    a0, a1, a2 = coeffs
+    return groundrun.segment_distance_m(a0, a1, a2, v_from, v_to, headwind)
+
+
+def continued_takeoff_ground_m(*, accel_all, accel_oei, v1_mps, vlof_mps, headwind_mps=0.0):
+    """Ground distance from brake release to lift-off with an engine failure at V1.
+
+    Parameters
+    ----------
+    accel_all : tuple of array_like
+        (a0, a1, a2) of the all-engines ground-roll acceleration a = a0 + a1 V + a2 V².
+        [m/s², 1/s, 1/m]
+    accel_oei : tuple of array_like
+        (a0, a1, a2) with one engine inoperative (thrust of N − 1 engines, drag with the
+        engine-out increment). [m/s², 1/s, 1/m]
+    v1_mps : array_like
+        Decision speed V1, true airspeed (``v1 <= vlof``). [m/s]
+    vlof_mps : array_like
+        Lift-off true airspeed. [m/s]
+    headwind_mps : array_like, optional
+        Headwind component, negative for a tailwind (already factored). [m/s]
+
+    Returns
+    -------
+    numpy.ndarray
+        Ground distance; NaN where either segment cannot be completed (acceleration reaches
+        zero). [m]
+
+    Notes
+    -----
+    s = ∫_w^V1 (V − w)/a_all(V) dV + ∫_V1^VLOF (V − w)/a_oei(V) dV.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.113(a)(1) (engine failure at V_EF, here V_EF = V1).
+    .. [2] Raymer, §17.8, Eq. 17.100 (equation of motion on the ground).
+    """
+    w = np.asarray(headwind_mps, dtype=float)
+    return _segment_m(accel_all, w, v1_mps, w) + _segment_m(accel_oei, v1_mps, vlof_mps, w)
+
+
+def accelerate_stop_m(*, accel_all, accel_brake, v1_mps, headwind_mps=0.0, delay_s=STOP_DELAY_S):
+    """Accelerate-stop distance: all engines to V1, ``delay_s`` at V1, braking to rest.
+
+    Parameters
+    ----------
+    accel_all : tuple of array_like
+        (a0, a1, a2) of the all-engines ground-roll acceleration. [m/s², 1/s, 1/m]
+    accel_brake : tuple of array_like
+        (a0, a1, a2) of the braking deceleration (negative acceleration): idle thrust,
+        braking friction, lift-dumper lift and drag. [m/s², 1/s, 1/m]
+    v1_mps : array_like
+        Decision speed V1, true airspeed. [m/s]
+    headwind_mps : array_like, optional
+        Headwind component, negative for a tailwind. [m/s]
+    delay_s : float, optional
+        Time at constant V1 counted before braking (2 s in 14 CFR 25.109(a)). [s]
+
+    Returns
+    -------
+    numpy.ndarray
+        Accelerate-stop distance; NaN where V1 cannot be reached or braking cannot stop the
+        aircraft. [m]
+
+    Notes
+    -----
+    s = ∫_w^V1 (V − w)/a_all dV + t_d (V1 − w) + ∫_w^V1 (V − w)/(−a_brake) dV.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109(a) (accelerate-stop distance; the distance of 2 s at V1).
+    .. [2] Anderson (1999), §6.8 (braking ground roll).
+    """
+    w = np.asarray(headwind_mps, dtype=float)
+    v1 = np.asarray(v1_mps, dtype=float)
+    return (
+        _segment_m(accel_all, w, v1, w)
+        + delay_s * (v1 - w)
+        + _segment_m(accel_brake, v1, w, w)
+    )
+
+
+def balanced_v1_mps(
+    *,
+    go_constant_m,
+    asda_m,
+    accel_oei,
+    accel_brake,
+    vlof_mps,
+    v1_min_mps,
+    v1_max_mps,
+    headwind_mps=0.0,
+    delay_s=STOP_DELAY_S,
+    v1_start_mps=None,
+    iterations=V1_ITERATIONS,
+):
+    """The V1 that balances the continued-takeoff and accelerate-stop margins.
+
+    Parameters
+    ----------
+    go_constant_m : array_like
+        Distance available to the ground part of the continued takeoff: the least of
+        TODA minus the one-engine airborne distance and TORA minus its takeoff-run share
+        (see :func:`go_constant_m`). [m]
+    asda_m : array_like
+        Accelerate-stop distance available. [m]
+    accel_oei : tuple of array_like
+        (a0, a1, a2) of the one-engine-inoperative ground acceleration. [m/s², 1/s, 1/m]
+    accel_brake : tuple of array_like
+        (a0, a1, a2) of the braking acceleration (negative) of the governing stop case.
+        [m/s², 1/s, 1/m]
+    vlof_mps : array_like
+        Lift-off true airspeed. [m/s]
+    v1_min_mps, v1_max_mps : array_like
+        Allowed V1 range, true airspeed ([V_MCG, VR]). [m/s]
+    headwind_mps : array_like, optional
+        Headwind component. [m/s]
+    delay_s : float, optional
+        Time at V1 before braking. [s]
+    v1_start_mps : array_like, optional
+        First guess (e.g. the V1 of a previous, nearby mass); default mid-range. [m/s]
+    iterations : int, optional
+        Fixed number of vectorised Newton steps. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        V1 in [v1_min, v1_max]: the root of h (see Notes), or the end of the range nearer
+        to it. [m/s]
+
+    Notes
+    -----
+    The go margin minus the stop margin (the all-engines part to V1 cancels),
+
+        h(V1) = C_go − ASDA − S_oei(V1 → V_LOF) + t_d (V1 − w) + S_brake(V1 → w),
+
+    rises with V1, dh/dV1 = (V1 − w)/a_oei(V1) + t_d + (V1 − w)/(−a_brake(V1)); the smaller
+    margin is greatest where h = 0. Newton steps are clipped to the range, so a root
+    outside it converges to the nearer end.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109, 25.113 (the two distances V1 trades between).
+    .. [2] Raymer, §17.8 (balanced field length: V1 where go and stop distances are equal).
+    """
+    w = np.asarray(headwind_mps, dtype=float)
+    lo = np.asarray(v1_min_mps, dtype=float)
+    hi = np.maximum(np.asarray(v1_max_mps, dtype=float), lo)
+    v1 = 0.5 * (lo + hi) if v1_start_mps is None else np.clip(v1_start_mps, lo, hi)
+    v1 = np.broadcast_to(v1, np.broadcast_shapes(np.shape(v1), np.shape(go_constant_m), np.shape(asda_m))).astype(float)
+    base = np.asarray(go_constant_m, dtype=float) - np.asarray(asda_m, dtype=float)
+    for _ in range(iterations):
+        h = (
+            base
+            - _segment_m(accel_oei, v1, vlof_mps, w)
+            + delay_s * (v1 - w)
+            + _segment_m(accel_brake, v1, w, w)
+        )
+        vg = v1 - w
+        dh = vg / _accel(accel_oei, v1) + delay_s + vg / (-_accel(accel_brake, v1))
+        step = np.where(np.isfinite(h) & (dh > 0), h / dh, 0.0)
+        v1 = np.clip(v1 - step, lo, hi)
+    return v1
+
+
+def go_constant_m(*, toda_m, tora_m, airborne_m, airborne_to_midpoint_m=None):
+    """Ground distance the continued takeoff may use, from TODA and TORA (clearway rule).
+
+    Parameters
+    ----------
+    toda_m : array_like
+        Takeoff distance available. [m]
+    tora_m : array_like
+        Takeoff run available. [m]
+    airborne_m : array_like
+        Horizontal distance from lift-off to the screen height. [m]
+    airborne_to_midpoint_m : array_like, optional
+        Horizontal distance from lift-off to the point midway between lift-off and the
+        screen (default half of ``airborne_m``). [m]
+
+    Returns
+    -------
+    numpy.ndarray
+        Least of TODA − airborne and TORA − (airborne to the midpoint where a clearway exists,
+        TODA > TORA; the whole airborne distance otherwise). [m]
+
+    Notes
+    -----
+    Takeoff distance = ground + airborne ≤ TODA; takeoff run = ground + midpoint share ≤ TORA
+    with a clearway, = takeoff distance without one (25.113(b), (c)).
+
+    References
+    ----------
+    .. [1] 14 CFR 25.113(a)–(c).
+    """
+    air = np.asarray(airborne_m, dtype=float)
+    mid = 0.5 * air if airborne_to_midpoint_m is None else np.asarray(airborne_to_midpoint_m, dtype=float)
+    toda = np.asarray(toda_m, dtype=float)
+    tora = np.asarray(tora_m, dtype=float)
+    run_share = np.where(toda > tora, mid, air)
+    return np.minimum(toda - air, tora - run_share)
+
+
+@dataclass(frozen=True)
+class TakeoffSpeeds:
+    """Scheduled takeoff speeds for a mass and day (true airspeeds, arrays). [m/s]
+
+    Attributes
+    ----------
+    vs_mps : stall speed, takeoff flaps. vmcg_mps : minimum control speed on the ground.
+    vr_mps, vlof_mps, v2_mps : rotation, lift-off and takeoff safety speeds.
+    vmcg_limited : bool array, True where VR was raised to V_MCG.
+    """
+
+    vs_mps: np.ndarray
+    vmcg_mps: np.ndarray
+    vr_mps: np.ndarray
+    vlof_mps: np.ndarray
+    v2_mps: np.ndarray
+    vmcg_limited: np.ndarray
+
+
+def scheduled_speeds_mps(aircraft, *, mass_kg, density_kg_m3):
+    """Takeoff speeds from the stall speed and the type's ratios, floored by V_MCG.
+
+    Parameters
+    ----------
+    aircraft : physics.weightlimit.Aircraft
+        Type fields (``cl_max_takeoff``, ``vr_over_vs``, ``vlof_over_vs``, ``v2_over_vs``,
+        ``vmcg_mps`` as calibrated ≈ equivalent airspeed, ``wing_area_m2``).
+    mass_kg : array_like
+        Mass. [kg]
+    density_kg_m3 : array_like
+        Air density. [kg/m³]
+
+    Returns
+    -------
+    TakeoffSpeeds
+        True airspeeds. [m/s]
+
+    Notes
+    -----
+    V_S = sqrt(2 m g/(rho S C_Lmax)); V_x = (V_x/V_S) V_S. V_MCG (an equivalent airspeed)
+    becomes a true airspeed V_MCG sqrt(rho0/rho). V1 must lie in [V_MCG, VR] (V_EF ≥ V_MCG,
+    VR ≥ V1, 14 CFR 25.107(a), (e)); where the ratio schedule puts VR below V_MCG all three
+    speeds are raised by the factor V_MCG/VR (the ratios are kept: the speeds of a heavier
+    aircraft). Single-engine types have no V_MCG constraint.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.107 (takeoff speeds).
+    .. [2] Raymer, §17.8 (V_LOF ≈ 1.1 V_S, V2 ≈ 1.2 V_S).
+    """
+    from physics import aerodynamics
+
+    a = aircraft
+    rho = np.asarray(density_kg_m3, dtype=float)
+    vs = aerodynamics.stall_speed_mps(mass_kg, rho, a.wing_area_m2, a.cl_max_takeoff)
+    vr, vlof, v2 = aerodynamics.takeoff_speeds_mps(vs, a.vr_over_vs, a.vlof_over_vs, a.v2_over_vs)
+    multi = np.asarray(a.engine_count, dtype=float) > 1
+    vmcg = np.where(multi, np.asarray(a.vmcg_mps, dtype=float) * np.sqrt(c.RHO0_KG_M3 / rho), 0.0)
+    raise_by = np.maximum(1.0, vmcg / vr)
+    return TakeoffSpeeds(vs, vmcg, vr * raise_by, vlof * raise_by, v2 * raise_by, raise_by > 1.0)
+
+
+#: Gauss–Legendre nodes per piece for propeller segments of the engine-failure cases.
+PROPELLER_NODES = 12
+
+
+class GroundRegime:
+    """One engine and configuration state on the ground: a(V) and segment distances.
+
+    Built once per trial mass; polynomial-thrust cases use the closed form of
+    :func:`physics.groundrun.segment_distance_quadratic_m`, propeller cases Gauss–Legendre
+    (:func:`physics.groundrun.segment_distance_general_m`, split at the power kink and V = 0).
+
+    Parameters
+    ----------
+    thrust_law : physics.thrust.ThrustLaw
+        Total thrust of the engine state (n cases).
+    mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, slope : array_like
+        As :func:`physics.groundrun.acceleration_coefficients`, shape (n,). [kg], [m²],
+        [kg/m³], [–], [–], [–], [–]
+    headwind_mps : array_like
+        Headwind, shape (n,). [m/s]
+    """
+
+    def __init__(self, thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, slope, headwind_mps):
+        from physics import groundrun
+
+        n = np.shape(thrust_law.t0_n)
+        f = [np.broadcast_to(np.asarray(x, dtype=float), n)
+             for x in (mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, slope, headwind_mps)]
+        m, s_area, rho, cd, cl, mu, slope, w = f
+        self.law, self.w = thrust_law, w
+        kw = dict(mass_kg=m, wing_area_m2=s_area, density_kg_m3=rho, cd=cd, cl=cl, mu=mu,
+                  thrust0_n=thrust_law.t0_n, thrust1_n_per_mps=thrust_law.t1_n_per_mps,
+                  thrust2_n_per_mps2=thrust_law.t2_n_per_mps2, slope=slope)
+        self.coeffs = groundrun.acceleration_coefficients(**kw)
+        self.a2_reverse = (groundrun.acceleration_coefficients(**kw, reverse_flow=True).a2
+                           if np.any(w < 0.0) else None)
+        self.prop = np.nonzero(np.asarray(thrust_law.is_propeller))[0]
+        self._prop_accel = None
+        if self.prop.size:
+            i = self.prop
+            self._prop_accel = groundrun.acceleration_function(
+                thrust_law.take(i), mass_kg=m[i], wing_area_m2=s_area[i], density_kg_m3=rho[i],
+                cd=cd[i], cl=cl[i], mu=mu[i], slope=slope[i])
+            self._kink = thrust_law.kink_airspeed_mps[i]
+
+    def distance_m(self, v_from, v_to):
+        """Ground distance between two true airspeeds (NaN where not reachable). [m]"""
+        from physics import groundrun
+
+        a0, a1, a2 = self.coeffs
+        v_from = np.broadcast_to(np.asarray(v_from, dtype=float), self.w.shape)
+        v_to = np.broadcast_to(np.asarray(v_to, dtype=float), self.w.shape)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            s = groundrun.segment_distance_quadratic_m(a0, a1, a2, v_from, v_to, self.w,
+                                                       a2_reverse=self.a2_reverse)
+        if self.prop.size:
+            i = self.prop
+            s = np.array(s, dtype=float, copy=True)
+            s[i] = groundrun.segment_distance_general_m(self._prop_accel, v_from[i], v_to[i], self.w[i],
+                                                        nodes=PROPELLER_NODES, breakpoints=self._kink)
+        return s
+
+    def acceleration(self, v):
+        """Acceleration at true airspeeds v of shape (n,). [m/s²]"""
+        v = np.broadcast_to(np.asarray(v, dtype=float), self.w.shape)
+        a0, a1, a2 = self.coeffs
+        if self.a2_reverse is not None:
+            a2 = np.where(v < 0.0, self.a2_reverse, a2)
+        out = a0 + (a1 + a2 * v) * v
+        if self.prop.size:
+            i = self.prop
+            out = np.array(out, copy=True)
+            out[i] = self._prop_accel(v[i][:, None])[:, 0]
+        return out
+
+
+@dataclass(frozen=True)
+class EngineFailureModel:
+    """Everything the engine-failure cases need for one trial mass (arrays over cases).
+
+    Built by :func:`engine_failure_model`. ``all_engines``, ``one_out`` are the takeoff
+    ground-roll regimes; ``stop_all``, ``stop_one_out`` the braking regimes.
+    """
+
+    mass_kg: np.ndarray
+    density_kg_m3: np.ndarray
+    speeds: TakeoffSpeeds
+    headwind_mps: np.ndarray
+    multi_engine: np.ndarray
+    all_engines: GroundRegime
+    one_out: GroundRegime
+    stop_all: GroundRegime
+    stop_one_out: GroundRegime
+    v1_min_mps: np.ndarray
+    v1_max_mps: np.ndarray
+
+
+def engine_failure_model(aircraft, site, mass_kg):
+    """Build the ground regimes and speeds of the engine-failure cases for a mass.
+
+    Parameters
+    ----------
+    aircraft : physics.weightlimit.Aircraft
+        Type fields (arrays over cases).
+    site : physics.weightlimit.Site
+        Runway and day fields (arrays over cases).
+    mass_kg : array_like
+        Trial mass. [kg]
+
+    Returns
+    -------
+    EngineFailureModel
+        Regimes, speeds and the V1 range, arrays of the cases' broadcast shape (one
+        dimension; scalars give shape (1,)).
+
+    Notes
+    -----
+    Ground roll: C_D = C_D0 (clean + gear + flaps) + phi K C_L,roll² (Anderson Eq. 6.78);
+    one engine out adds ΔC_D,eo and keeps N − 1 engines at takeoff thrust. Braking: lift
+    dumpers give C_L,brake and ΔC_D,brake; idle thrust (``idle_thrust_fraction`` of takeoff
+    thrust) on N engines (all-engines stop) or N − 1 engines plus ΔC_D,eo (engine-failure
+    stop); friction ``mu_brake``. V1 range [max(V_MCG, w), VR]; single-engine types: V1 = VR.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.107, 25.109. .. [2] Anderson (1999), Eq. 6.78, §6.8.
+    .. [3] Raymer, §17.8 (braking friction and lift dumpers).
+    """
+    from physics import aerodynamics, atmosphere, thrust
+
+    a, s = aircraft, site
+    m = np.asarray(mass_kg, dtype=float)
+    rho = atmosphere.density_kg_m3(s.pressure_pa, s.temperature_k)
+    n = np.broadcast_shapes(*(np.shape(x) for x in (m, rho, a.engine_count, s.tora_m, s.headwind_mps,
+                                                     a.mtow_kg))) or (1,)
+    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), n)  # noqa: E731
+    m, rho, w = b(m), b(rho), b(s.headwind_mps)
+    speeds = scheduled_speeds_mps(a, mass_kg=m, density_kg_m3=rho)
+    n_eng = b(a.engine_count)
+    multi = n_eng > 1
+    k = aerodynamics.induced_drag_factor(a.oswald_efficiency, aerodynamics.aspect_ratio(a.wing_span_m, a.wing_area_m2))
+    phi = aerodynamics.ground_effect_factor(a.wing_height_m, a.wing_span_m)
+    cd0 = b(a.cd0_clean) + b(a.cd0_gear) + b(a.cd0_takeoff_flaps)
+    cd_roll = aerodynamics.drag_coefficient(cd0, k, a.cl_ground_roll, phi)
+    cd_brake = aerodynamics.drag_coefficient(cd0 + b(a.braking_cd_increment), k, a.braking_cl, phi)
+    eo = np.where(multi, b(a.engine_out_drag_cd), 0.0)
+    n_out = np.where(multi, n_eng - 1.0, n_eng)
+    idle = b(a.idle_thrust_fraction)
+    law = lambda ops, tau=1.0: thrust.thrust_law_for_aircraft(  # noqa: E731
+        a, b(s.pressure_pa), b(s.temperature_k), engines_operating=ops, throttle=tau)
+    common = dict(mass_kg=m, wing_area_m2=b(a.wing_area_m2), density_kg_m3=rho, slope=b(s.slope), headwind_mps=w)
+    roll = dict(common, mu=b(s.mu_roll))
+    brake = dict(common, mu=b(s.mu_brake), cl=b(a.braking_cl))
+    all_engines = GroundRegime(law(n_eng), cd=cd_roll, cl=b(a.cl_ground_roll), **roll)
+    one_out = GroundRegime(law(n_out), cd=cd_roll + eo, cl=b(a.cl_ground_roll), **roll)
+    stop_all = GroundRegime(law(n_eng, idle), cd=cd_brake, **brake)
+    stop_one_out = GroundRegime(law(n_out, idle), cd=cd_brake + eo, **brake)
+    lo = np.maximum(speeds.vmcg_mps, w)
+    hi = np.maximum(speeds.vr_mps, lo)
+    lo = np.where(multi, lo, hi)  # single engine: V1 = VR
+    return EngineFailureModel(m, rho, speeds, w, multi, all_engines, one_out, stop_all, stop_one_out, lo, hi)
+
+
+def accelerate_stop_cases_m(model, v1_mps, *, delay_s=STOP_DELAY_S):
+    """Accelerate-stop distances of both 25.109(a) cases at a V1.
+
+    Parameters
+    ----------
+    model : EngineFailureModel
+        From :func:`engine_failure_model`.
+    v1_mps : array_like
+        Decision speed, true airspeed. [m/s]
+    delay_s : float, optional
+        Time at V1 before braking. [s]
+
+    Returns
+    -------
+    engine_failure_m, all_engines_m : numpy.ndarray
+        Distance with the failed engine (N − 1 at idle, its drag kept) and with all engines at
+        idle; for single-engine types both are the all-engines case. [m]
+
+    Notes
+    -----
+    s = S_all(w → V1) + t_d (V1 − w) + S_brake(V1 → w); the greater of the two governs
+    (25.109(a)). With V_EF = V1 the all-engines stop is never the shorter: its idle thrust is
+    larger and its drag smaller.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109(a)(1), (a)(2).
+    """
+    w = model.headwind_mps
+    v1 = np.broadcast_to(np.asarray(v1_mps, dtype=float), w.shape)
+    go = model.all_engines.distance_m(w, v1) + delay_s * (v1 - w)
+    eo = go + model.stop_one_out.distance_m(v1, w)
+    al = go + model.stop_all.distance_m(v1, w)
+    eo = np.where(model.multi_engine, eo, al)
+    return eo, al
+
+
+def continued_takeoff_ground_run_m(model, v1_mps):
+    """Ground distance to lift-off with the engine failing at V1 (multi-engine types).
+
+    Parameters
+    ----------
+    model : EngineFailureModel
+        From :func:`engine_failure_model`.
+    v1_mps : array_like
+        Decision speed, true airspeed. [m/s]
+
+    Returns
+    -------
+    numpy.ndarray
+        S_all(w → V1) + S_oei(V1 → V_LOF); NaN for single-engine types and where lift-off
+        speed cannot be reached. [m]
+
+    Notes
+    -----
+    See :func:`continued_takeoff_ground_m`.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.113(a)(1).
+    """
+    w = model.headwind_mps
+    v1 = np.broadcast_to(np.asarray(v1_mps, dtype=float), w.shape)
+    s = model.all_engines.distance_m(w, v1) + model.one_out.distance_m(v1, model.speeds.vlof_mps)
+    return np.where(model.multi_engine, s, np.nan)
+
+
+def best_v1_mps(model, *, go_available_m, asda_m, v1_start_mps=None, iterations=V1_ITERATIONS,
+                delay_s=STOP_DELAY_S):
+    """The V1 in [V_MCG, VR] that balances the go and stop margins (model version).
+
+    Parameters
+    ----------
+    model : EngineFailureModel
+        From :func:`engine_failure_model`.
+    go_available_m : array_like
+        Ground distance the continued takeoff may use (:func:`go_constant_m`). [m]
+    asda_m : array_like
+        Accelerate-stop distance available. [m]
+    v1_start_mps : array_like, optional
+        First guess. [m/s]
+    iterations : int, optional
+        Newton steps. [–]
+    delay_s : float, optional
+        Time at V1 before braking. [s]
+
+    Returns
+    -------
+    numpy.ndarray
+        V1, true airspeed; VR for single-engine types. [m/s]
+
+    Notes
+    -----
+    Newton on h(V1) = C_go − ASDA − S_oei(V1 → V_LOF) + t_d (V1 − w) + S_stop(V1 → w) with
+    the all-engines stop (the governing one, see :func:`accelerate_stop_cases_m`); steps
+    clipped to the range; non-finite steps (a case that cannot lift off) are not taken.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109, 25.113. .. [2] Raymer, §17.8.
+    """
+    w = model.headwind_mps
+    lo, hi = model.v1_min_mps, model.v1_max_mps
+    vlof = model.speeds.vlof_mps
+    v1 = 0.5 * (lo + hi) if v1_start_mps is None else np.clip(np.asarray(v1_start_mps, dtype=float), lo, hi)
+    v1 = np.broadcast_to(v1, w.shape).astype(float)
+    base = np.broadcast_to(np.asarray(go_available_m, dtype=float) - np.asarray(asda_m, dtype=float), w.shape)
+    for _ in range(iterations):
+        h = (base - model.one_out.distance_m(v1, vlof) + delay_s * (v1 - w)
+             + model.stop_all.distance_m(v1, w))
+        vg = v1 - w
+        with np.errstate(divide="ignore", invalid="ignore"):
+            dh = vg / model.one_out.acceleration(v1) + delay_s - vg / model.stop_all.acceleration(v1)
+            step = h / dh
+        step = np.where(np.isfinite(step) & (dh > 0), step, 0.0)
+        v1 = np.clip(v1 - step, lo, hi)
+    return np.where(model.multi_engine, v1, hi)

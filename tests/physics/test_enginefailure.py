@@ -1,0 +1,199 @@
+"""Engine failure on takeoff: continued takeoff, accelerate-stop, V1 choice, balanced field."""
+
+import types
+
+import numpy as np
+import pytest
+from numpy.testing import assert_allclose
+from scipy.integrate import quad
+
+from physics import enginefailure as ef
+from physics import constants as c
+from tests.physics._transport_fixtures import make_aircraft, quad_of_same_thrust
+
+
+def site(**changes):
+    values = dict(tora_m=2500.0, toda_m=2500.0, asda_m=2500.0, slope=0.0, mu_roll=0.03, mu_brake=0.40,
+                  pressure_pa=c.P0_PA, temperature_k=c.T0_K, headwind_mps=0.0,
+                  screen_height_m=c.SCREEN_HEIGHT_35FT_M)
+    values.update(changes)
+    values = {k: np.asarray(v, dtype=float) for k, v in values.items()}
+    try:
+        from physics.weightlimit import Site
+        import dataclasses
+        names = {f.name for f in dataclasses.fields(Site)}
+        return Site(**{k: v for k, v in values.items() if k in names})
+    except ImportError:
+        return types.SimpleNamespace(**values)
+
+
+# --- segment algebra with constant accelerations (closed forms by hand) -----------------
+
+def test_constant_acceleration_continued_takeoff():
+    # Uniform acceleration, first principles: s = (V² − w²)/(2a) per piece, ground speed V − w.
+    # 2 m/s² to V1 = 60 m/s, then 1 m/s² to 75 m/s, headwind 5 m/s:
+    # (55²)/(2·2) + ((75−5)² − (60−5)²)/(2·1) = 756.25 + 937.5 = 1693.75 m.
+    s = ef.continued_takeoff_ground_m(accel_all=(2.0, 0.0, 0.0), accel_oei=(1.0, 0.0, 0.0),
+                                      v1_mps=60.0, vlof_mps=75.0, headwind_mps=5.0)
+    assert_allclose(s, 1693.75, rtol=1e-12)
+
+
+def test_constant_acceleration_accelerate_stop():
+    # 2 m/s² to 60 m/s (900 m), 2 s at 60 m/s (120 m), −4 m/s² to rest (450 m): 1470 m.
+    s = ef.accelerate_stop_m(accel_all=(2.0, 0.0, 0.0), accel_brake=(-4.0, 0.0, 0.0), v1_mps=60.0)
+    assert_allclose(s, 1470.0, rtol=1e-12)
+
+
+def test_balanced_v1_matches_quadratic_root():
+    # Constant accelerations A (all), B (one out), −D (braking), no wind: h(V1) = 0 is
+    # V1² (1/(2B) + 1/(2D)) + 2 V1 + (C − ASDA − VLOF²/(2B)) = 0 (algebra from the definitions).
+    A, B, D, vlof, C, asda = 2.0, 1.2, 3.5, 80.0, 2600.0, 2400.0
+    qa, qb, qc = 1 / (2 * B) + 1 / (2 * D), 2.0, C - asda - vlof**2 / (2 * B)
+    root = (-qb + np.sqrt(qb * qb - 4 * qa * qc)) / (2 * qa)
+    v1 = ef.balanced_v1_mps(go_constant_m=C, asda_m=asda, accel_oei=(B, 0.0, 0.0),
+                            accel_brake=(-D, 0.0, 0.0), vlof_mps=vlof, v1_min_mps=20.0,
+                            v1_max_mps=vlof)
+    assert_allclose(v1, root, rtol=1e-10)
+    go = C - ef.continued_takeoff_ground_m(accel_all=(A, 0, 0), accel_oei=(B, 0, 0), v1_mps=v1, vlof_mps=vlof)
+    stop = asda - ef.accelerate_stop_m(accel_all=(A, 0, 0), accel_brake=(-D, 0, 0), v1_mps=v1)
+    assert_allclose(go, stop, atol=1e-6)
+
+
+def test_balanced_v1_clips_to_range():
+    kw = dict(accel_oei=(1.2, 0.0, 0.0), accel_brake=(-3.5, 0.0, 0.0), vlof_mps=80.0,
+              v1_min_mps=50.0, v1_max_mps=70.0)
+    # plenty of ASDA, little TODA: V1 as high as allowed; the reverse: as low as allowed
+    assert_allclose(ef.balanced_v1_mps(go_constant_m=2000.0, asda_m=9000.0, **kw), 70.0)
+    assert_allclose(ef.balanced_v1_mps(go_constant_m=9000.0, asda_m=1500.0, **kw), 50.0)
+
+
+def test_go_constant_clearway_rule():
+    # 14 CFR 25.113: with a clearway (TODA > TORA) the run counts to the midpoint of the
+    # airborne part; without one the takeoff run equals the takeoff distance.
+    assert_allclose(ef.go_constant_m(toda_m=2800.0, tora_m=2500.0, airborne_m=400.0), 2300.0)
+    assert_allclose(ef.go_constant_m(toda_m=2600.0, tora_m=2500.0, airborne_m=400.0), 2200.0)
+    assert_allclose(ef.go_constant_m(toda_m=2500.0, tora_m=2500.0, airborne_m=400.0), 2100.0)
+
+
+# --- the aircraft-level model --------------------------------------------------------
+
+def _model(aircraft=None, **site_changes):
+    a = aircraft or make_aircraft()
+    return ef.engine_failure_model(a, site(**site_changes), np.asarray(55_000.0))
+
+
+def test_speeds_and_v1_range():
+    m = _model()
+    sp = m.speeds
+    vs = np.sqrt(2 * 55_000.0 * c.G0 / (c.RHO0_KG_M3 * 105.0 * 2.3))  # Anderson Eq. 5.67
+    assert_allclose(sp.vs_mps, vs, rtol=1e-12)
+    assert_allclose(np.ravel([sp.vr_mps, sp.vlof_mps, sp.v2_mps]), np.ravel([1.05 * vs, 1.10 * vs, 1.20 * vs]),
+                    rtol=1e-12)
+    assert_allclose(m.v1_min_mps, 55.0)  # V_MCG at sea level: EAS = TAS
+    assert_allclose(m.v1_max_mps, 1.05 * vs)
+
+
+def test_vmcg_raises_speeds_when_above_vr():
+    # 25.107: V1 >= V_MCG (V_EF >= V_MCG) and VR >= V1 — a light aircraft gets VR = V_MCG.
+    a = make_aircraft(vmcg_mps=80.0)
+    sp = ef.scheduled_speeds_mps(a, mass_kg=40_000.0, density_kg_m3=c.RHO0_KG_M3)
+    assert sp.vmcg_limited
+    assert_allclose(sp.vr_mps, 80.0)
+    assert_allclose(sp.v2_mps / sp.vr_mps, 1.20 / 1.05)
+    # at altitude V_MCG (an equivalent airspeed) is a higher true airspeed
+    sp2 = ef.scheduled_speeds_mps(a, mass_kg=40_000.0, density_kg_m3=1.0)
+    assert_allclose(sp2.vmcg_mps, 80.0 * np.sqrt(c.RHO0_KG_M3 / 1.0))
+
+
+def test_accelerate_stop_rises_and_go_falls_with_v1():
+    m = _model()
+    v1 = np.linspace(m.v1_min_mps[0], m.v1_max_mps[0], 7)
+    mm = ef.engine_failure_model(make_aircraft(), site(), np.full(7, 55_000.0))
+    eo, al = ef.accelerate_stop_cases_m(mm, v1)
+    go = ef.continued_takeoff_ground_run_m(mm, v1)
+    assert np.all(np.diff(al) > 0) and np.all(np.diff(eo) > 0)
+    assert np.all(np.diff(go) < 0)
+    # 25.109(a): with V_EF = V1 the all-engines stop (more idle thrust, less drag) governs
+    assert np.all(al >= eo)
+
+
+def test_engine_out_ground_run_exceeds_all_engines():
+    m = _model()
+    vlof = m.speeds.vlof_mps
+    aeo = m.all_engines.distance_m(m.headwind_mps, vlof)
+    oei = ef.continued_takeoff_ground_run_m(m, m.v1_min_mps)
+    assert oei > aeo
+    # failure at lift-off speed is no failure on the ground at all
+    assert_allclose(ef.continued_takeoff_ground_run_m(m, vlof), aeo, rtol=1e-12)
+
+
+def test_quad_loses_less_than_twin_of_same_total_thrust():
+    # Same total thrust and drag; one of four engines lost costs half the thrust one of two
+    # costs, so the continued-takeoff penalty over the all-engines run is smaller.
+    tw = _model(make_aircraft(vmcg_mps=45.0))
+    qu = _model(quad_of_same_thrust(vmcg_mps=45.0))
+    v1 = 60.0
+    pen = lambda m: ef.continued_takeoff_ground_run_m(m, v1) - m.all_engines.distance_m(0.0, m.speeds.vlof_mps)  # noqa: E731
+    assert_allclose(qu.all_engines.distance_m(0.0, qu.speeds.vlof_mps),
+                    tw.all_engines.distance_m(0.0, tw.speeds.vlof_mps), rtol=1e-12)
+    assert 0 < pen(qu) < 0.6 * pen(tw)
+
+
+def test_best_v1_balances_ground_distances():
+    # With no airborne part, go = ground to lift-off; on a balanced runway the best V1 makes
+    # continued-takeoff and accelerate-stop distances equal (Raymer §17.8, balanced field).
+    m = _model(make_aircraft(vmcg_mps=30.0))
+    length = 2000.0
+    v1 = ef.best_v1_mps(m, go_available_m=length, asda_m=length)
+    assert m.v1_min_mps < v1 < m.v1_max_mps
+    go = ef.continued_takeoff_ground_run_m(m, v1)
+    _, stop = ef.accelerate_stop_cases_m(m, v1)
+    assert_allclose(go, stop, rtol=1e-9)
+
+
+def test_braking_segment_against_quadrature():
+    # Closed-form braking distance vs scipy.integrate.quad of ds = (V − w) dV / |a(V)|,
+    # with a tailwind (reverse flow below V = 0).
+    m = _model(headwind_mps=-3.0)
+    v1 = 65.0
+    got = m.stop_all.distance_m(v1, -3.0)
+    ref = quad(lambda v: (v + 3.0) / -m.stop_all.acceleration(v)[0], -3.0, v1)[0]
+    assert_allclose(got, ref, rtol=1e-8)
+
+
+def test_propeller_segments_against_quadrature():
+    # Propeller thrust min(T_s, eta P/V) has a kink; Gauss–Legendre split at the kink
+    # against adaptive quadrature.
+    a = make_aircraft(thrust_model=2.0, static_thrust_per_engine_n=45_000.0,
+                      shaft_power_per_engine_w=2.2e6, propeller_efficiency=0.8,
+                      thrust_linear_per_engine_n_per_mps=0.0, thrust_quadratic_per_engine_n_per_mps2=0.0)
+    m = ef.engine_failure_model(a, site(headwind_mps=4.0), np.asarray(45_000.0))
+    vk = m.one_out.law.kink_airspeed_mps[0]
+    v1, vlof = 50.0, m.speeds.vlof_mps[0]
+    assert v1 < vk < vlof or vk < v1
+    got = m.one_out.distance_m(v1, vlof)
+    ref = quad(lambda v: (v - 4.0) / m.one_out.acceleration(v)[0], v1, vlof, points=[vk])[0]
+    assert_allclose(got, ref, rtol=1e-7)
+
+
+def test_single_engine_has_no_engine_out_case():
+    a = make_aircraft(engine_count=1.0, vmcg_mps=0.0)
+    m = _model(a)
+    assert_allclose(m.v1_min_mps, m.speeds.vr_mps)  # V1 = VR: stop from rotation speed
+    assert np.isnan(ef.continued_takeoff_ground_run_m(m, m.speeds.vr_mps))
+    eo, al = ef.accelerate_stop_cases_m(m, m.speeds.vr_mps)
+    assert_allclose(eo, al)
+
+
+def test_wet_braking_lengthens_the_stop():
+    dry, wet = _model(), _model(mu_brake=0.225, mu_roll=0.05)  # Raymer Table 17.1
+    v1 = 65.0
+    assert ef.accelerate_stop_cases_m(wet, v1)[1] > ef.accelerate_stop_cases_m(dry, v1)[1]
+
+
+def test_cannot_lift_off_gives_nan_not_exception():
+    weak = make_aircraft(static_thrust_per_engine_n=12_000.0)
+    m = _model(weak)
+    assert np.isnan(ef.continued_takeoff_ground_run_m(m, m.v1_min_mps))
+    v1 = ef.best_v1_mps(m, go_available_m=2000.0, asda_m=2000.0)
+    assert np.isfinite(v1)
