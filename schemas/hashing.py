@@ -54,9 +54,13 @@ def _digest_block(df: pd.DataFrame, table: str) -> bytes:
     if num:
         parts.append(np.ascontiguousarray(df[num].to_numpy(dtype=np.float64)).tobytes())
     for c in txt:
-        parts.append("\x1f".join("\x00" if v is None or (isinstance(v, float) and np.isnan(v))
-                                 else str(v) for v in df[c]).encode("utf-8"))
+        parts.append(_text_bytes(df[c].to_numpy(dtype=object)))
     return b"\x1e".join(parts)
+
+
+def _text_bytes(values) -> bytes:
+    return "\x1f".join("\x00" if v is None or (isinstance(v, float) and np.isnan(v))
+                        else str(v) for v in values).encode("utf-8")
 
 
 def frame_hash(df: pd.DataFrame, table: str) -> str:
@@ -67,17 +71,28 @@ def frame_hash(df: pd.DataFrame, table: str) -> str:
 
 
 def _group_hashes(df: pd.DataFrame, table: str, by: str) -> dict[str, bytes]:
-    can = _canonical(df, table)
-    can = can.sort_values([by, *TABLES[table].key], kind="mergesort", na_position="first",
-                          ignore_index=True)
-    keys = can[by].to_numpy()
+    """Digest per value of ``by`` over that value's rows (sorted by the table key)."""
+    spec = TABLES[table]
+    can = _canonical(df, table)  # sorted by the key, whose first column is ``by``
+    assert spec.key[0] == by
+    keys = can[by].to_numpy(dtype=object)
     if keys.size == 0:
         return {}
+    num = [c.name for c in spec.columns if c.dtype != "str"]
+    txt = [c.name for c in spec.columns if c.dtype == "str" and c.name != by]
+    mat = np.ascontiguousarray(can[num].to_numpy(dtype=np.float64))
+    texts = [can[c].to_numpy(dtype=object) for c in txt]
+    header = ",".join(c.name for c in spec.columns).encode()
     starts = np.flatnonzero(np.r_[True, keys[1:] != keys[:-1]])
     ends = np.r_[starts[1:], keys.size]
     out = {}
     for s, e in zip(starts, ends):
-        out[keys[s]] = hashlib.sha256(_digest_block(can.iloc[s:e], table)).digest()
+        h = hashlib.sha256(header)
+        h.update(str(keys[s]).encode("utf-8"))
+        h.update(mat[s:e].tobytes())
+        for t in texts:
+            h.update(b"\x1e" + _text_bytes(t[s:e]))
+        out[keys[s]] = h.digest()
     return out
 
 

@@ -257,7 +257,7 @@ def _read_csv(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
         problems.append(Problem("error", name, None, None, None, "CSV text",
                                 "the file contains NUL bytes: it is binary, not CSV text"))
         return None
-    first = text.splitlines()[0]
+    first = text.split("\n", 1)[0].rstrip("\r")
     if "," not in first and (";" in first or "\t" in first):
         sep = "';'" if ";" in first else "tabs"
         problems.append(Problem("error", name, None, None, first[:80], "comma-separated columns",
@@ -269,9 +269,15 @@ def _read_csv(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
         problems.append(Problem("error", name, None, None, first[:80], "a CSV header line",
                                 f"the header line is not valid CSV ({exc})"))
         return None
+    names = [h.strip() for h in header]
+    spec = TABLES.get(path.stem)
+    df = None
+    if spec is not None and len(set(names)) == len(names):
+        df = _read_csv_typed(text, names, spec)
     try:
-        df = pd.read_csv(io.StringIO(text), dtype=str, keep_default_na=False, na_filter=False,
-                         skip_blank_lines=False, engine="c")
+        if df is None:
+            df = pd.read_csv(io.StringIO(text), dtype=str, keep_default_na=False,
+                             na_filter=False, skip_blank_lines=False, engine="c")
     except pd.errors.EmptyDataError:
         problems.append(Problem("error", name, None, None, None, "a header line and data rows",
                                 "the file is empty"))
@@ -281,13 +287,36 @@ def _read_csv(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
         return None
     if len(df.columns) != len(header):  # pragma: no cover - defensive
         header = list(df.columns)
-    df.columns = [h.strip() for h in header]
+    df.columns = names
     # blank lines stay as rows so numbers match the file; drop them now (index keeps numbers)
-    blank = (df == "").all(axis=1)
+    blank = (df.isna() | (df == "")).all(axis=1)
     df = df[~blank]
     if df.shape[0] == 0:
         problems.append(Problem("error", name, None, None, None, "at least one data row",
                                 "the file has a header but no data rows"))
+        return None
+    return df
+
+
+_NA_VALUES = sorted({v for m in _MISSING for v in (m, m.upper(), m.capitalize())}
+                    | {"NaN", "N/A", "#N/A"})
+
+
+def _read_csv_typed(text: str, names: list[str], spec: TableSpec) -> pd.DataFrame | None:
+    """Fast path: parse numeric columns as numbers directly; None when any cell is not one.
+
+    The slower text path then finds and reports each bad cell.
+    """
+    known = {c.name: c for c in spec.columns}
+    dtypes = {i: (float if n in known and known[n].dtype != "str" else str)
+              for i, n in enumerate(names)}
+    try:
+        df = pd.read_csv(io.StringIO(text), header=0, names=list(range(len(names))),
+                         dtype=dtypes, keep_default_na=False, na_values=_NA_VALUES,
+                         skip_blank_lines=False, engine="c")
+    except (ValueError, pd.errors.ParserError, csv.Error):
+        return None
+    if df.shape[1] != len(names):
         return None
     return df
 
@@ -364,7 +393,8 @@ def _as_text(series: pd.Series) -> pd.Series:
     """Text values with surrounding spaces removed; missing cells as ''."""
     if series.dtype == object or pd.api.types.is_string_dtype(series):
         s = series.astype(object).where(series.notna(), "")
-        s = s.map(lambda v: v if isinstance(v, str) else _scalar_text(v))
+        if pd.api.types.infer_dtype(s, skipna=False) != "string":
+            s = s.map(lambda v: v if isinstance(v, str) else _scalar_text(v))
         return s.str.strip()
     if pd.api.types.is_float_dtype(series):
         return series.map(lambda v: "" if pd.isna(v) else _scalar_text(v))
@@ -429,23 +459,27 @@ def _typed_frame(raw: pd.DataFrame, spec: TableSpec, file: str,
 def _convert_column(series: pd.Series, col, file, problems) -> pd.Series:
     idx = series.index
     if col.dtype == "str":
-        text = _as_text(series)
-        blank = text.str.lower().isin(_MISSING).to_numpy()
+        # work on the distinct values (an id column repeats a few thousand values)
+        codes, uniq = pd.factorize(series.astype(object), use_na_sentinel=False)
+        utext = _as_text(pd.Series(uniq, dtype=object))
+        ublank = utext.str.lower().isin(_MISSING).to_numpy()
+        text = pd.Series(utext.to_numpy()[codes], index=idx, dtype=object)
+        blank = ublank[codes]
         if col.required:
             _report(problems, "error", file, idx, blank, col.name, text, col.description,
                     "required value is blank or NaN")
         ok = ~blank
         if col.allowed is not None:
-            bad = ok & ~text.isin(col.allowed).to_numpy()
+            bad = ok & ~utext.isin(col.allowed).to_numpy()[codes]
             _report(problems, "error", file, idx, bad, col.name, text, col.range_text(),
                     f"unknown value for {col.name}",
                     hint=lambda v: _allowed_hint(v, col.allowed))
         if col.pattern is not None:
-            bad = ok & ~text.str.match(col.pattern).to_numpy()
+            bad = ok & ~utext.str.match(col.pattern).to_numpy(dtype=bool)[codes]
             _report(problems, "error", file, idx, bad, col.name, text,
                     "letters, digits, '-', '_' or '.', no spaces",
                     "not a valid identifier")
-        result = text.astype(object).where(ok, None)
+        result = text.where(ok, None)
         if col.default is not None:
             result = result.where(ok, col.default)
         return result
@@ -719,24 +753,23 @@ def _climate_checks(df, file, pr) -> None:
 
 def _months_complete(af, df, table, file, af_file, pr) -> None:
     months = df[["airfield_id", "month"]].dropna()
-    months = months[(months["month"] >= 1) & (months["month"] <= 12)]
-    present = months.groupby("airfield_id")["month"].agg(lambda m: set(m.astype(int)))
+    months = months[(months["month"] >= 1) & (months["month"] <= 12)].drop_duplicates()
+    count = months.groupby("airfield_id")["month"].size()
+    ids = af["airfield_id"]
+    n_have = ids.map(count).fillna(0).to_numpy()
+    bad = ids.notna().to_numpy() & (n_have < 12)
     n = 0
-    for i, afid in zip(af.index, af["airfield_id"]):
-        if afid is None:
-            continue
-        got = present.get(afid, set())
-        miss = sorted(set(range(1, 13)) - got)
-        if not miss:
-            continue
+    for i, afid, have in zip(af.index[bad], ids[bad], n_have[bad]):
         n += 1
         if n > MAX_ROWS_PER_CHECK:
             continue
-        if not got:
+        if have == 0:
             pr.append(Problem("error", file, None, "airfield_id", str(afid),
                               "12 months for every airfield",
                               f"airfield '{afid}' (row {i + 1} of {af_file}) has no rows"))
         else:
+            got = set(months.loc[months["airfield_id"] == afid, "month"].astype(int))
+            miss = sorted(set(range(1, 13)) - got)
             pr.append(Problem("error", file, None, "month", str(afid),
                               "months 1 … 12 for every airfield",
                               f"airfield '{afid}' is missing month(s) "
@@ -767,8 +800,10 @@ def _wind_rose_checks(df, file, pr) -> pd.DataFrame:
         _report(pr, "error", file, idx, ~np.isnan(w) & (np.abs(n_sect - np.round(n_sect)) > 1e-6),
                 "sector_width_deg", w, "a width that divides 360° (e.g. 10, 22.5, 30, 45)",
                 "sector width does not divide the circle")
-    # frequency sums per airfield-month (percent detection)
-    grp = [df["airfield_id"], df["month"]]
+    # frequency sums per airfield-month (percent detection); groups as one integer code
+    am = _group_code(df["airfield_id"], df["month"])
+    df["_am"] = am
+    grp = am
     sums = df["frequency"].groupby(grp).transform("sum").to_numpy()
     first = pd.Series(idx, index=idx).groupby(grp).transform("min").to_numpy()
     valid_grp = df["airfield_id"].notna().to_numpy() & df["month"].notna().to_numpy()
@@ -794,7 +829,16 @@ def _wind_rose_checks(df, file, pr) -> pd.DataFrame:
             "first of the airfield-month)")
     _sector_coverage(df[~calm & valid_grp], file, pr)
     _speed_classes(df[valid_grp], file, pr)
-    return df
+    return df.drop(columns="_am")
+
+
+def _group_code(*cols) -> np.ndarray:
+    """One int64 code per distinct combination of the columns (NaN/None get their own)."""
+    code = np.zeros(len(cols[0]), dtype=np.int64)
+    for c in cols:
+        f, uniq = pd.factorize(c, use_na_sentinel=False)
+        code = code * (len(uniq) + 1) + f
+    return pd.factorize(code)[0].astype(np.int64)
 
 
 def _sector_coverage(nc, file, pr) -> None:
@@ -802,30 +846,32 @@ def _sector_coverage(nc, file, pr) -> None:
             & nc["speed_low_mps"].notna() & nc["speed_high_mps"].notna()]
     if nc.empty:
         return
-    am = [nc["airfield_id"], nc["month"]]
+    am = nc["_am"].to_numpy()
     width = nc["sector_width_deg"]
-    mixed = width.groupby(am).transform("nunique").to_numpy() > 1
-    firstw = width.groupby(am).transform("first").to_numpy()
-    _report(pr, "error", file, nc.index, mixed & (width.to_numpy() != firstw),
-            "sector_width_deg", width, f"one sector width per airfield and month",
-            "sector width differs from the first row of the same airfield and month")
     w = width.to_numpy()
+    wser = pd.Series(w)
+    wmin = wser.groupby(am).transform("min").to_numpy()
+    wmax = wser.groupby(am).transform("max").to_numpy()
+    firstw = wser.groupby(am).transform("first").to_numpy()
+    mixed = wmin != wmax
+    _report(pr, "error", file, nc.index, mixed & (w != firstw),
+            "sector_width_deg", width, "one sector width per airfield and month",
+            "sector width differs from the first row of the same airfield and month")
     d = nc["direction_deg"].to_numpy() % 360.0
-    d0 = pd.Series(d, index=nc.index).groupby(am).transform("min").to_numpy()
+    d0 = pd.Series(d).groupby(am).transform("min").to_numpy()
     k = (d - d0) / w
     off_grid = np.abs(k - np.round(k)) > 1e-6
     _report(pr, "error", file, nc.index, off_grid, "direction_deg", nc["direction_deg"],
             "sector centres a whole number of sector widths apart",
             "direction is not on the sector grid of its airfield and month: sectors overlap")
     kk = np.round(k).astype(np.int64)
-    cls = [nc["airfield_id"], nc["month"], nc["speed_low_mps"], nc["speed_high_mps"]]
-    key = pd.DataFrame({"a": nc["airfield_id"], "m": nc["month"],
-                        "lo": nc["speed_low_mps"], "hi": nc["speed_high_mps"], "k": kk})
+    cls = _group_code(am, nc["speed_low_mps"].to_numpy(), nc["speed_high_mps"].to_numpy())
+    key = pd.DataFrame({"c": cls, "k": kk})
     dup = key.duplicated(keep="first").to_numpy() & ~off_grid
     _report(pr, "error", file, nc.index, dup, "direction_deg", nc["direction_deg"],
             "each sector once per speed class",
             "sector appears twice in the same speed class: sectors overlap")
-    count = pd.Series(1, index=nc.index).groupby(cls).transform("sum").to_numpy()
+    count = np.bincount(cls)[cls]
     need = np.round(360.0 / w)
     short = count < need
     if short.any():

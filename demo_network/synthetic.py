@@ -1,0 +1,323 @@
+"""Synthetic (invented) networks of any size, for benchmarks and scale tests.
+
+    python -m demo_network.synthetic --airfields 2000 --seed 7 --out /tmp/net2000
+    python -m demo_network.synthetic --airfields 20000 --seed 7 --out /tmp/net --format parquet
+
+or ``generate_network(n_airfields, seed, out_dir)``. The same seed gives the same tables,
+byte for byte. Tables and columns are those of :mod:`schemas.tables`; the result validates
+cleanly.
+
+Spreads (invented, chosen to look like a real continent's network):
+
+* Latitude uniform in −55 … 70°, longitude uniform. Elevation: 75 % exponential with a
+  150 m mean (coast and lowland), 20 % uniform 300 … 2 000 m, 5 % uniform 2 000 … 4 000 m.
+* 1 to 3 runways per airfield (60 / 30 / 10 %), lognormal length (median 2 100 m) clipped
+  to 800 … 4 000 m, used both ways (92 %) or one way; runways under 1 300 m are mostly
+  gravel, grass or dirt. Clearway and stopway on some, slopes up to ±1.5 % paved, ±3 % strips.
+* Climate by latitude band: the annual mean of the daily maximum falls about 0.42 °C per
+  degree of latitude beyond 12° and 6.5 °C per km of elevation; the annual swing grows with
+  latitude; a quarter of the 15 … 35° band is hot desert (+5 °C, dry). Wet-day share from
+  dry desert to wet high latitudes.
+* Wind roses: 16 sectors × 3 speed classes (1.5–5, 5–10, 10–25 m/s) plus calm, a von Mises
+  distribution around a prevailing direction, Weibull (shape 2) speeds.
+* Aircraft types: the demo network's eight (``n_types`` < 8 picks a spread of them, more
+  than 8 adds scaled variants). Routes: as many as airfields, between near neighbours,
+  flown by a type suited to the distance.
+"""
+
+from __future__ import annotations
+
+import argparse
+import time
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pyarrow as pa
+import pyarrow.csv as pacsv
+import pyarrow.parquet as pq
+
+from demo_network.build_demo import AIRCRAFT, AIRCRAFT_COLUMNS
+from schemas.caution import CAUTION
+
+SPEED_CLASSES = ((1.5, 5.0), (5.0, 10.0), (10.0, 25.0))
+CALM_MPS = 1.5
+SECTORS = 16
+
+
+def _designator(heading_true, variation):
+    mag = (heading_true - variation) % 360.0
+    num = np.round(mag / 10.0).astype(int)
+    return np.where(num == 0, 36, num)
+
+
+def _airfields(rng, n):
+    lat = rng.uniform(-55.0, 70.0, n)
+    lon = rng.uniform(-180.0, 180.0, n)
+    kind = rng.choice(3, size=n, p=[0.75, 0.20, 0.05])
+    elev = np.where(kind == 0, rng.exponential(150.0, n),
+                    np.where(kind == 1, rng.uniform(300, 2000, n), rng.uniform(2000, 4000, n)))
+    elev = np.round(np.clip(elev, -10.0, 4200.0))
+    ids = np.char.add("syn-", np.char.zfill(np.arange(1, n + 1).astype(str), 6))
+    names = np.char.add("Synthetic field ", np.arange(1, n + 1).astype(str))
+    desert = (np.abs(lat) > 15) & (np.abs(lat) < 35) & (rng.random(n) < 0.25)
+    return dict(airfield_id=ids, name=names, latitude_deg=np.round(lat, 4),
+                longitude_deg=np.round(lon, 4), elevation_m=elev), desert
+
+
+def _runways(rng, ids):
+    n = ids.size
+    n_strips = rng.choice([1, 2, 3], size=n, p=[0.6, 0.3, 0.1])
+    af = np.repeat(np.arange(n), n_strips)
+    k = np.arange(af.size) - np.repeat(np.cumsum(n_strips) - n_strips, n_strips)
+    base = rng.uniform(0, 180, n)[af]
+    heading = (base + 60.0 * k + rng.uniform(-8, 8, af.size)) % 360.0
+    variation = rng.uniform(-15, 15, n)[af]
+    length = np.clip(np.round(rng.lognormal(np.log(2100.0), 0.38, af.size) / 10) * 10,
+                     800, 4000)
+    short = length < 1300
+    surf_short = rng.choice(["paved", "gravel", "grass", "dirt"], size=af.size,
+                            p=[0.3, 0.35, 0.25, 0.1])
+    surf_long = np.where(rng.random(af.size) < 0.95, "paved", "gravel")
+    surface = np.where(short, surf_short, surf_long)
+    paved = surface == "paved"
+    slope = np.round(np.where(paved, np.clip(rng.normal(0, 0.4, af.size), -1.5, 1.5),
+                              np.clip(rng.normal(0, 1.2, af.size), -3, 3)), 1)
+    both = rng.random(af.size) < 0.92
+
+    def clear(m):
+        return np.where(rng.random(m) < 0.5, 0.0, np.round(rng.uniform(60, 300, m), -1))
+
+    def stop(m):
+        return np.where(rng.random(m) < 0.7, 0.0, np.round(rng.uniform(60, 300, m), -1))
+
+    des_a = _designator(heading, variation)
+    des_b = (des_a + 18 - 1) % 36 + 1
+    # direction A for every strip, direction B for strips used both ways
+    s = np.r_[np.arange(af.size), np.flatnonzero(both)]
+    is_b = np.r_[np.zeros(af.size, bool), np.ones(both.sum(), bool)]
+    hdg = np.where(is_b, (heading[s] + 180.0) % 360.0, heading[s])
+    des = np.where(is_b, des_b[s], des_a[s])
+    tora = length[s]
+    out = dict(
+        airfield_id=ids[af[s]],
+        runway_id=np.char.zfill(des.astype(str), 2),
+        heading_true_deg=np.round(hdg, 1),
+        tora_m=tora, toda_m=tora + clear(s.size), asda_m=tora + stop(s.size),
+        slope_pct=np.where(is_b, -slope[s], slope[s]) + 0.0,
+        surface=surface[s],
+    )
+    order = np.lexsort((is_b, s))
+    return {key: v[order] for key, v in out.items()}
+
+
+def _climate(rng, lat, elev, desert):
+    n = lat.size
+    alat = np.abs(lat)
+    tmean = (31.0 - 0.42 * np.maximum(alat - 12.0, 0.0) - 6.5e-3 * elev + 5.0 * desert
+             + rng.normal(0, 1.5, n))
+    amp = np.clip(1.0 + 0.22 * alat + 2.0 * desert + rng.normal(0, 1.0, n), 0.5, 15.0)
+    sd = np.clip(1.4 + 0.05 * alat + rng.normal(0, 0.3, n), 0.8, 6.0)
+    qnh = 1013.0 + rng.normal(0, 3.0, n)
+    wet = np.where(desert, rng.uniform(0.01, 0.05, n),
+                   np.clip(0.08 + 0.005 * alat + rng.normal(0, 0.06, n), 0.02, 0.6))
+    peak = np.where(lat >= 0, 7.3, 1.3)
+    m = np.arange(1, 13)
+    phase = np.cos(2 * np.pi * (m[None, :] - peak[:, None]) / 12.0)
+    t = np.clip(tmean[:, None] + amp[:, None] * phase, -55.0, 50.0)
+    s = np.clip(sd[:, None] * (1.0 - 0.12 * phase), 0.5, 8.0)
+    q = qnh[:, None] - 3.0 * phase * (alat[:, None] > 20)
+    w = np.clip(wet[:, None] * (1.0 - 0.4 * phase), 0.0, 0.95)
+    return dict(month=np.tile(m, n), mean_daily_max_c=np.round(t, 1).ravel(),
+                sd_daily_max_c=np.round(s, 1).ravel(), qnh_hpa=np.round(q, 1).ravel(),
+                wet_day_share=np.round(w, 2).ravel())
+
+
+def _wind(rng, n, lat):
+    prevailing = rng.uniform(0, 360, n)
+    mean_speed = rng.gamma(6.0, 5.0 / 6.0, n)
+    calm = rng.uniform(0.02, 0.20, n)
+    kappa = rng.uniform(0.3, 2.0, n)
+    m = np.arange(1, 13)
+    winter = np.cos(2 * np.pi * (m[None, :] - np.where(lat >= 0, 1.0, 7.0)[:, None]) / 12.0)
+    prev_m = (prevailing[:, None] + 20.0 * winter)[:, :, None]          # (n, 12, 1)
+    speed_m = (mean_speed[:, None] * (1.0 + 0.15 * winter))[:, :, None]
+    calm_m = np.clip(calm[:, None] * (1.0 - 0.4 * winter), 0.01, 0.5)
+    centres = np.arange(SECTORS) * 360.0 / SECTORS
+    diff = np.deg2rad(centres[None, None, :] - prev_m)                  # (n, 12, 16)
+    p_dir = 0.25 / SECTORS + 0.75 * np.exp(kappa[:, None, None] * np.cos(diff))
+    p_dir /= p_dir.sum(axis=2, keepdims=True)
+    scale = speed_m / 0.8862 * (1.0 + 0.25 * np.cos(diff))
+    lo = np.array([c[0] for c in SPEED_CLASSES])
+    hi = np.array([c[1] for c in SPEED_CLASSES])
+    cdf_lo = 1.0 - np.exp(-(lo / scale[..., None]) ** 2)               # (n, 12, 16, 3)
+    cdf_hi = 1.0 - np.exp(-(hi / scale[..., None]) ** 2)
+    cdf_hi[..., -1] = 1.0
+    p_cls = cdf_hi - cdf_lo
+    p_cls /= p_cls.sum(axis=3, keepdims=True)
+    freq = np.round((1.0 - calm_m)[:, :, None, None] * p_dir[..., None] * p_cls, 5)
+    calm_f = np.round(1.0 - freq.sum(axis=(2, 3)), 5)                   # (n, 12)
+    per_month = 1 + SECTORS * len(SPEED_CLASSES)
+    rows = n * 12 * per_month
+    direction = np.full((n, 12, per_month), np.nan)
+    direction[:, :, 1:] = np.repeat(centres, len(SPEED_CLASSES))[None, None, :]
+    low = np.empty((n, 12, per_month))
+    high = np.empty((n, 12, per_month))
+    low[:, :, 0], high[:, :, 0] = 0.0, CALM_MPS
+    low[:, :, 1:] = np.tile(lo, SECTORS)
+    high[:, :, 1:] = np.tile(hi, SECTORS)
+    f = np.empty((n, 12, per_month))
+    f[:, :, 0] = calm_f
+    f[:, :, 1:] = freq.reshape(n, 12, -1)
+    width = np.where(np.isnan(direction), np.nan, 360.0 / SECTORS)
+    return dict(af_index=np.repeat(np.arange(n), 12 * per_month),
+                month=np.tile(np.repeat(m, per_month), n),
+                direction_deg=direction.reshape(rows), sector_width_deg=width.reshape(rows),
+                speed_low_mps=low.reshape(rows), speed_high_mps=high.reshape(rows),
+                frequency=f.reshape(rows))
+
+
+def _aircraft(n_types: int) -> pd.DataFrame:
+    base = pd.DataFrame(AIRCRAFT, columns=AIRCRAFT_COLUMNS)
+    if n_types <= len(base):
+        pick = np.unique(np.round(np.linspace(0, len(base) - 1, max(n_types, 1))).astype(int))
+        return base.iloc[pick].reset_index(drop=True)
+    rows = [base]
+    for v in range(2, int(np.ceil(n_types / len(base))) + 1):
+        f = 1.0 + 0.04 * (v - 1) * (1 if v % 2 else -1)
+        var = base.copy()
+        var["aircraft_type_id"] = var["aircraft_type_id"] + f"-v{v}"
+        var["name"] = var["name"] + f" (variant {v})"
+        for c in ("mtow_kg", "oew_kg", "max_payload_kg", "max_fuel_kg", "max_landing_mass_kg",
+                  "static_thrust_per_engine_kn", "shaft_power_per_engine_kw"):
+            var[c] = np.round(pd.to_numeric(var[c]) * f, 1)
+        rows.append(var)
+    return pd.concat(rows, ignore_index=True).iloc[:n_types]
+
+
+def _routes(rng, af, types: pd.DataFrame):
+    n = af["airfield_id"].size
+    lat, lon = af["latitude_deg"], af["longitude_deg"]
+    order = np.lexsort((lon, np.round(lat / 4.0)))
+    pos = np.empty(n, int)
+    pos[order] = np.arange(n)
+    n_routes = max(n, 2)
+    origin = rng.integers(0, n, n_routes)
+    step = rng.integers(1, 25, n_routes) * rng.choice([-1, 1], n_routes)
+    dest = order[(pos[origin] + step) % n]
+    same = dest == origin
+    dest[same] = (dest[same] + 1) % n
+    # spherical distance only to choose a plausible type (payloads use pyproj later)
+    p1, p2 = np.deg2rad(lat[origin]), np.deg2rad(lat[dest])
+    dl = np.deg2rad(lon[dest] - lon[origin])
+    d_km = 6371.0 * np.arccos(np.clip(np.sin(p1) * np.sin(p2)
+                                      + np.cos(p1) * np.cos(p2) * np.cos(dl), -1, 1))
+    mtow = types["mtow_kg"].to_numpy(float)
+    rank = np.argsort(np.argsort(mtow)) / max(len(mtow) - 1, 1)       # 0 small … 1 large
+    want = np.clip(np.log10(np.maximum(d_km, 50)) / 4.0 + rng.normal(0, 0.15, n_routes), 0, 1)
+    t = np.argmin(np.abs(want[:, None] - rank[None, :]), axis=1)
+    ids = af["airfield_id"]
+    return dict(route_id=np.char.add("synr-", np.char.zfill(np.arange(1, n_routes + 1).astype(str), 6)),
+                origin_id=ids[origin], destination_id=ids[dest],
+                aircraft_type_id=types["aircraft_type_id"].to_numpy()[t])
+
+
+def _arrow(cols: dict) -> pa.Table:
+    arrays = {}
+    for k, v in cols.items():
+        if isinstance(v, pa.Array):
+            arrays[k] = v
+        elif v.dtype.kind in "US" or v.dtype == object:
+            arrays[k] = pa.array(v.astype(str))
+        elif v.dtype.kind == "f":
+            arrays[k] = pa.array(v, mask=np.isnan(v))
+        else:
+            arrays[k] = pa.array(v)
+    return pa.table(arrays)
+
+
+def _write(table: pa.Table, path_stem: Path, fmt: str) -> Path:
+    if fmt == "parquet":
+        path = path_stem.with_suffix(".parquet")
+        pq.write_table(table, path)
+    else:
+        path = path_stem.with_suffix(".csv")
+        pacsv.write_csv(table, path, pacsv.WriteOptions(quoting_style="needed"))
+    return path
+
+
+def generate_network(n_airfields: int, seed: int, out_dir, n_types: int = 8,
+                     fmt: str = "csv") -> dict[str, Path]:
+    """Write a synthetic invented network of ``n_airfields`` airfields.
+
+    Parameters
+    ----------
+    n_airfields : int
+        Number of airfields (≥ 2).
+    seed : int
+        Random seed; the same seed gives the same tables.
+    out_dir : str or Path
+        Folder to write (created if needed); existing table files are replaced.
+    n_types : int, optional
+        Number of aircraft types (default 8, the demo network's types).
+    fmt : {'csv', 'parquet'}, optional
+        File format of the tables.
+
+    Returns
+    -------
+    dict of str to Path
+        Table name -> file written.
+    """
+    if n_airfields < 2:
+        raise ValueError("n_airfields must be at least 2")
+    if fmt not in ("csv", "parquet"):
+        raise ValueError("fmt must be 'csv' or 'parquet'")
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng(seed)
+    af, desert = _airfields(rng, n_airfields)
+    ids = af["airfield_id"]
+    rw = _runways(rng, ids)
+    cl = _climate(rng, af["latitude_deg"], af["elevation_m"], desert)
+    cl = {"airfield_id": np.repeat(ids, 12), **cl}
+    for c in ("p50_daily_max_c", "p85_daily_max_c", "p95_daily_max_c"):
+        cl[c] = np.full(cl["month"].size, np.nan)
+    wind = _wind(rng, n_airfields, af["latitude_deg"])
+    dict_ids = pa.array(ids.astype(str))
+    wind_cols = {"airfield_id": pa.DictionaryArray.from_arrays(
+        pa.array(wind.pop("af_index"), pa.int32()), dict_ids).cast(pa.string()), **wind}
+    types = _aircraft(n_types)
+    routes = _routes(rng, af, types)
+    written = {}
+    for name, cols in (("airfields", af), ("runways", rw), ("climate_monthly", cl),
+                       ("wind_rose", wind_cols), ("routes", routes)):
+        written[name] = _write(_arrow(cols), out / name, fmt)
+    types_tab = pa.Table.from_pandas(types, preserve_index=False)
+    written["aircraft_types"] = _write(types_tab, out / "aircraft_types", fmt)
+    for name, path in written.items():  # never leave the other format's file behind
+        other = path.with_suffix(".csv" if path.suffix == ".parquet" else ".parquet")
+        if other.exists():
+            other.unlink()
+    return written
+
+
+def main(argv=None) -> int:
+    p = argparse.ArgumentParser(
+        prog="python -m demo_network.synthetic",
+        description="Write a synthetic, invented network (all tables) for benchmarks and "
+                    f"scale tests. {CAUTION}")
+    p.add_argument("--airfields", type=int, required=True, help="number of airfields")
+    p.add_argument("--seed", type=int, default=1, help="random seed (default 1)")
+    p.add_argument("--out", type=Path, required=True, help="folder to write")
+    p.add_argument("--types", type=int, default=8, help="number of aircraft types (default 8)")
+    p.add_argument("--format", choices=("csv", "parquet"), default="csv")
+    args = p.parse_args(argv)
+    t0 = time.perf_counter()
+    generate_network(args.airfields, args.seed, args.out, n_types=args.types, fmt=args.format)
+    print(f"synthetic network of {args.airfields} airfields written to {args.out} "
+          f"in {time.perf_counter() - t0:.1f} s")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
