@@ -669,28 +669,29 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     hi = np.repeat(mtow[:, None], p.size, axis=1)
     at_mtow = s_mtow[:, None] >= p[None, :] - eps
     search = (s_oew[:, None] >= p[None, :] - eps) & ~at_mtow
-    # Only the groups that need it are iterated: false position alternating with
-    # bisection (the bisection steps guarantee the bracket halves at least every second
-    # step, the false-position steps converge fast where S is smooth).
+    # Only the groups that need it are iterated. Steps: false position, alternating with
+    # bisection (so the bracket at least halves every second step); once the local slope
+    # says lo is within tol of the root, a step to lo + tol certifies it (S(lo + tol) < p
+    # closes the bracket to tol, also where S is a step function).
     rows = np.nonzero(np.any(search, axis=1))[0]
     if rows.size:
         f_s = _segments(f[rows], z)
         w_s, lo_s, hi_s = w[rows], lo[rows], hi[rows]
         s_lo = np.repeat(s_oew[rows, None], p.size, axis=1) - p
         s_hi = np.repeat(s_mtow[rows, None], p.size, axis=1) - p
+        active = search[rows]
         span = float(np.max(hi_s - lo_s))
-        max_steps = 2 * int(np.ceil(np.log2(max(span, tol_kg) / tol_kg)))
+        max_steps = 2 * int(np.ceil(np.log2(max(span, tol_kg) / tol_kg))) + 2
         for step in range(max_steps):
-            # Converged: bracket narrow, or lo within tol of the root by the local slope.
-            est = s_lo * (hi_s - lo_s) / np.where(s_lo - s_hi > 0, s_lo - s_hi, np.inf)
-            done = (hi_s - lo_s <= tol_kg) | (est <= 0.25 * tol_kg)
-            if np.all(done | ~search[rows]):
+            width = hi_s - lo_s
+            if not np.any(active & (width > tol_kg)):
                 break
-            if step % 2:
-                x = 0.5 * (lo_s + hi_s)
-            else:
-                t = s_lo / np.where(s_lo - s_hi > 0, s_lo - s_hi, 1.0)
-                x = lo_s + np.clip(t, 0.01, 0.99) * (hi_s - lo_s)
+            drop = s_lo - s_hi
+            t = s_lo / np.where(drop > 0, drop, 1.0)
+            est = t * width
+            x = np.where(step % 2, 0.5 * (lo_s + hi_s), lo_s + np.clip(t, 0.01, 0.99) * width)
+            x = np.where(est <= 0.5 * tol_kg, lo_s + tol_kg, x)
+            x = np.minimum(x, hi_s)
             s_x = _share(f_s, z, w_s, x)[0] - p
             ok = s_x >= -eps
             lo_s, s_lo = np.where(ok, x, lo_s), np.where(ok, s_x, s_lo)

@@ -1,0 +1,404 @@
+"""Tests of physics.climatology: temperature quantiles, wind-rose points, usability,
+wind coverage and reliability levels.
+
+Masses here come from simple invented closed-form mass functions m(T, h) so every expected
+value can be computed by hand or by an independent fine numerical integration; the
+interpolation error against the real weight-limit solver is tested in
+tests/pipeline/test_reliability.py.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy import integrate, stats
+
+from physics import climatology as clim
+from physics import limits
+from physics.constants import KT_MPS
+
+Z = np.asarray(clim.DEFAULT_SCORE_NODES)
+
+
+def linear_mass(temperature_k, headwind_mps):
+    """Invented mass function: 60 t at 300 K calm, −800 kg/K, +900 kg per m/s headwind."""
+    return 60_000.0 - 800.0 * (np.asarray(temperature_k) - 300.0) + 900.0 * np.asarray(headwind_mps)
+
+
+def curved_mass(temperature_k, headwind_mps):
+    """Invented smooth, curved mass function (decreasing in T, increasing in headwind)."""
+    t = np.asarray(temperature_k) - 300.0
+    h = np.asarray(headwind_mps)
+    return 60_000.0 - 700.0 * t - 12.0 * t**2 + 1_100.0 * h - 25.0 * h**2
+
+
+def point_masses(mass_fn, mean_k, sd_k, headwind_factored):
+    """(N, J, G) masses of points on their direction at the temperature nodes."""
+    t = clim.daily_max_temperature_k(Z, np.asarray(mean_k)[..., None], np.asarray(sd_k)[..., None])
+    return mass_fn(t[..., None, :], np.asarray(headwind_factored)[..., None])
+
+
+# --------------------------------------------------------------------------------------
+# Temperature
+# --------------------------------------------------------------------------------------
+def test_normal_quantiles_match_scipy():
+    # scipy.stats.norm is the reference implementation of the Gaussian quantile function.
+    p = np.array([0.05, 0.5, 0.85, 0.95, 0.99])
+    t = clim.daily_max_temperature_k(clim.normal_score(p), 303.15, 3.5)
+    np.testing.assert_allclose(t, stats.norm.ppf(p, loc=303.15, scale=3.5), rtol=0, atol=1e-9)
+
+
+def test_normal_score_known_values():
+    # Standard-normal table (any statistics handbook): z(0.95) = 1.644854, z(0.85) = 1.036433.
+    np.testing.assert_allclose(clim.normal_score([0.5, 0.85, 0.95]), [0.0, 1.036433, 1.644854],
+                               atol=1e-6)
+
+
+def test_percentiles_of_a_normal_reproduce_the_normal():
+    mean, sd = 298.0, 4.0
+    pv = stats.norm.ppf([0.5, 0.85, 0.95], loc=mean, scale=sd)
+    z = np.linspace(-3, 3, 61)
+    t = clim.daily_max_temperature_k(z, mean, sd, pv)
+    np.testing.assert_allclose(t, mean + sd * z, atol=1e-9)
+
+
+def test_percentile_interpolation_between_given_values():
+    # Skewed month: median 300, p85 305, p95 312 (hot tail heavier than the SD of 3 says).
+    pv = np.array([300.0, 305.0, 312.0])
+    z85, z95 = stats.norm.ppf([0.85, 0.95])
+    p90 = stats.norm.ppf(0.90)
+    expected_p90 = 305.0 + (312.0 - 305.0) * (p90 - z85) / (z95 - z85)  # linear in z
+    got = clim.daily_max_temperature_k(np.array([p90, z85, z95, 0.0, -1.0]), 299.0, 3.0, pv)
+    np.testing.assert_allclose(got[:4], [expected_p90, 305.0, 312.0, 300.0], atol=1e-9)
+    assert got[4] == pytest.approx(300.0 - 3.0)  # cold side: slope sd from the median
+    # Beyond p95 the last segment's slope continues.
+    z99 = stats.norm.ppf(0.99)
+    slope = (312.0 - 305.0) / (z95 - z85)
+    assert clim.daily_max_temperature_k(z99, 299.0, 3.0, pv) == pytest.approx(312.0 + slope * (z99 - z95))
+
+
+def test_missing_percentiles_fall_back():
+    # Only p95 given (median from the mean): the p85 anchor lies on the mean+sd line.
+    pv = np.array([[np.nan, np.nan, 310.0], [np.nan, np.nan, np.nan]])
+    z85 = stats.norm.ppf(0.85)
+    t = clim.daily_max_temperature_k(np.array([z85, 0.0]), np.array([[300.0], [300.0]]),
+                                     np.array([[3.0], [3.0]]), pv[:, None, :])
+    np.testing.assert_allclose(t[0], [300.0 + 3.0 * z85, 300.0])
+    np.testing.assert_allclose(t[1], [300.0 + 3.0 * z85, 300.0])  # nothing given: the normal
+
+
+# --------------------------------------------------------------------------------------
+# Wind rose
+# --------------------------------------------------------------------------------------
+def _rose16(speed_edges=(0.0, 3.0, 6.0, 10.0, 15.0), seed=0, calm=0.08, percent=False):
+    rng = np.random.default_rng(seed)
+    centres = np.arange(16) * 22.5
+    n_cls = len(speed_edges) - 1
+    c = np.repeat(centres, n_cls)
+    lo = np.tile(speed_edges[:-1], 16)
+    hi = np.tile(speed_edges[1:], 16)
+    f = rng.random(c.size) * np.tile(np.linspace(1.0, 0.2, n_cls), 16)
+    f = f / f.sum() * (1.0 - calm)
+    scale = 100.0 if percent else 1.0
+    return c, np.full(c.size, 22.5), lo, hi, f * scale, calm * scale
+
+
+def test_wind_rose_points_weights_and_geometry():
+    c, w, lo, hi, f, calm = _rose16()
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, calm, directions_per_sector=3, speeds_per_class=2)
+    assert d.shape == (1 + c.size * 6,)
+    assert wt.sum() == pytest.approx(1.0)
+    assert wt[0] == pytest.approx(calm) and s[0] == 0.0
+    # Each cell's points keep its mean direction and mean speed (midpoint rule).
+    cell_d = d[1:].reshape(c.size, 3, 2)
+    cell_s = s[1:].reshape(c.size, 3, 2)
+    np.testing.assert_allclose(cell_s.mean(axis=(1, 2)), 0.5 * (lo + hi))
+    offset = (cell_d - c[:, None, None] + 180.0) % 360.0 - 180.0
+    np.testing.assert_allclose(offset.mean(axis=(1, 2)), 0.0, atol=1e-9)
+    assert np.all(np.abs(offset) < 22.5 / 2)
+
+
+def test_wind_rose_in_percent_is_normalised():
+    a = clim.wind_rose_points(*_rose16(percent=False))[2]
+    b = clim.wind_rose_points(*_rose16(percent=True))[2]
+    np.testing.assert_allclose(a, b)
+
+
+def test_runway_components_reference_example():
+    # REFERENCES §7 [computed]: wind from 180° at 20 kt on heading 140° → headwind 15.32 kt,
+    # crosswind 12.86 kt; 14 CFR 25.105(d)(1): half the headwind for performance.
+    h, cx, tx = clim.runway_usability(180.0, 20 * KT_MPS, 140.0, 10 * KT_MPS, 13 * KT_MPS)
+    assert h / KT_MPS == pytest.approx(0.5 * 15.32, abs=0.01)
+    assert not cx and not tx
+    _, cx12, _ = clim.runway_usability(180.0, 20 * KT_MPS, 140.0, 10 * KT_MPS, 12 * KT_MPS)
+    assert cx12
+    # The reverse direction (heading 320°) has a 15.32 kt tailwind: above a 10 kt limit,
+    # factored ×1.5 for performance.
+    h2, _, tx2 = clim.runway_usability(180.0, 20 * KT_MPS, 320.0, 10 * KT_MPS, 13 * KT_MPS)
+    assert tx2 and h2 / KT_MPS == pytest.approx(-1.5 * 15.32, abs=0.01)
+
+
+def _cell_coverage_exact(c, w, lo, hi, heading, limit):
+    """Share of a cell (uniform in direction and speed) with |V sin(θ − ψ)| ≤ limit."""
+    def usable_speed_share(theta_deg):
+        s = abs(np.sin(np.deg2rad(theta_deg - heading)))
+        v_max = np.inf if s == 0 else limit / s
+        return (np.clip(v_max, lo, hi) - lo) / (hi - lo)
+    # Fine adaptive quadrature over the sector (scipy.integrate.quad), independent of the
+    # midpoint points of the model.
+    val, _ = integrate.quad(usable_speed_share, c - w / 2, c + w / 2, limit=200)
+    return val / w
+
+
+def test_single_runway_coverage_matches_classical_wind_coverage():
+    # Classical runway wind coverage (FAA AC 150/5300-13, wind analysis appendix; ICAO
+    # Annex 14 Vol. I §3.1.1 and Attachment A §1): the share of time the crosswind on the
+    # runway (both ends usable, tailwind ignored) is within the allowable component, wind
+    # uniform within each cell. Computed independently by quadrature.
+    c, w, lo, hi, f, calm = _rose16(seed=3)
+    heading = 70.0
+    limit = 13 * KT_MPS  # 13 kt allowable crosswind (Annex 14 §3.1.3 b, from memory)
+    exact = calm + sum(fi * _cell_coverage_exact(ci, wi, li, hii, heading, limit)
+                       for ci, wi, li, hii, fi in zip(c, w, lo, hi, f))
+    for nd, ns, tol in ((5, 2, 0.004), (31, 8, 0.0004)):
+        d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, calm, directions_per_sector=nd,
+                                         speeds_per_class=ns)
+        _, cx1, _ = clim.runway_usability(d, s, heading, 1e9, limit)
+        _, cx2, _ = clim.runway_usability(d, s, heading + 180.0, 1e9, limit)
+        model = clim.wind_coverage(wt, ~cx1 | ~cx2)
+        # Midpoint-rule error: of order one sub-cell per cell crossed by the limit lines.
+        assert model == pytest.approx(exact, abs=tol)
+    assert 0.80 < exact < 1.0
+
+
+def test_coverage_design_rule_95_percent():
+    # A rose built so that exactly 5 % of the time the wind blows across the runway at
+    # 12–16 m/s (above a 10 m/s allowable crosswind everywhere in those cells), the rest
+    # along it or light: usability factor exactly 95 % (Annex 14 §3.1.1 design minimum).
+    c = np.array([0.0, 180.0, 90.0, 270.0])
+    w = np.full(4, 30.0)
+    lo = np.array([0.0, 0.0, 12.0, 12.0])
+    hi = np.array([15.0, 15.0, 16.0, 16.0])
+    f = np.array([0.45, 0.45, 0.025, 0.025])
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, 0.05)
+    _, cx1, _ = clim.runway_usability(d, s, 0.0, 1e9, 10.0)
+    _, cx2, _ = clim.runway_usability(d, s, 180.0, 1e9, 10.0)
+    # 12 m/s × sin(75°) = 11.6 > 10 at the sector edge: every point of those cells is out.
+    assert clim.wind_coverage(wt, ~cx1 | ~cx2) == pytest.approx(0.95, abs=1e-12)
+
+
+# --------------------------------------------------------------------------------------
+# Headwind interpolation
+# --------------------------------------------------------------------------------------
+def test_headwind_nodes_include_calm_and_range():
+    n = clim.headwind_nodes(np.array([-7.5, 0.0]), np.array([10.0, 4.0]))
+    np.testing.assert_allclose(n[0], [-7.5, -3.75, 0.0, 2.5, 5.0, 7.5, 10.0])
+    np.testing.assert_allclose(n[1], [0.0, 0.0, 0.0, 1.0, 2.0, 3.0, 4.0])
+
+
+def test_interpolation_exact_for_bilinear_and_nan_rule():
+    nodes = clim.headwind_nodes(-6.0, 8.0)
+    t = 300.0 + 3.0 * Z
+    grid = linear_mass(t[:, None], nodes[None, :])  # (G, H)
+    h = np.array([-6.0, -2.2, 0.0, 3.3, 8.0, 12.0])
+    got = clim.interpolate_headwind(grid, nodes, h)  # (J, G)
+    expected = linear_mass(t[None, :], np.clip(h, -6.0, 8.0)[:, None])
+    np.testing.assert_allclose(got, expected, rtol=1e-12)
+    # A no-takeoff node (NaN) makes every interpolant that touches it NaN (not possible).
+    grid_nan = grid.copy()
+    grid_nan[-1, 1] = np.nan  # hottest node, headwind node −3
+    got = clim.interpolate_headwind(grid_nan, nodes, h)
+    assert np.isnan(got[1, -1]) and np.isnan(got[0, -1] * 0 + got[1, -1])
+    assert np.isfinite(got[2, -1]) and np.isfinite(got[1, -2])
+
+
+# --------------------------------------------------------------------------------------
+# Reliability levels
+# --------------------------------------------------------------------------------------
+OEW, MTOW = 40_000.0, 70_000.0
+
+
+def _levels(point_mass, weight, levels=clim.DEFAULT_LEVELS, **kw):
+    n = point_mass.shape[0]
+    return clim.reliability_masses(point_mass, Z, weight, np.full(n, OEW), np.full(n, MTOW),
+                                   levels=levels, **kw)
+
+
+def test_single_wind_point_zero_spread_is_the_direct_value_on_the_best_direction():
+    # All wind from 250° at 8 m/s; directions 250° (into wind) and 070° (downwind).
+    heading = np.array([250.0, 70.0])
+    h, cx, tx = clim.runway_usability(250.0, 8.0, heading[:, None], 10.0, 15.0)  # (D, J=1)
+    t = np.full(Z.size, 301.0)  # zero spread: every node at the mean
+    raw = linear_mass(t[None, None, :], h[:, :, None])[None]  # (1, D, 1, G)
+    d, m, lost = clim.flown_direction(raw, cx[None], tx[None])
+    assert d[0, 0] == 0  # into wind
+    r = _levels(m, np.ones((1, 1)))
+    direct = linear_mass(301.0, 0.5 * 8.0)  # 14 CFR 25.105(d)(1): half the headwind
+    np.testing.assert_allclose(r.mass_kg, direct, atol=1.0)
+
+
+def test_calm_only_equals_design_day_and_normal_quantiles():
+    mean, sd = 303.0, 3.0
+    m = point_masses(linear_mass, [mean], [sd], [[0.0]])  # (1, 1, G)
+    r = _levels(m, np.ones((1, 1)), levels=(0.5, 0.85, 0.95))
+    t_p = mean + sd * stats.norm.ppf([0.5, 0.85, 0.95])  # the p quantile of the day's T
+    # Linear mass in T: the interpolation is exact; bisection tolerance 1 kg.
+    np.testing.assert_allclose(r.mass_kg[0], linear_mass(t_p, 0.0), atol=1.0)
+    assert r.mass_kg[0, 0] == pytest.approx(linear_mass(mean, 0.0), abs=1.0)  # design day
+
+
+def test_zero_spread_median_equals_design_day_at_the_mean():
+    c, w, lo, hi, f, calm = _rose16(seed=5, calm=0.6)
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, calm)
+    h, cx, tx = clim.runway_usability(d, s, 0.0, 5.0, 12.0)
+    m = point_masses(linear_mass, [300.0], [0.0], h[None])
+    m = np.where((cx | tx)[None, :, None], -np.inf, m)
+    r = _levels(m, wt[None], levels=(0.5,))
+    # More than half the days are calm: the median day is the calm design day.
+    assert r.mass_kg[0, 0] == pytest.approx(linear_mass(300.0, 0.0), abs=1.0)
+
+
+def test_levels_fall_as_p_rises_and_match_a_fine_discretisation():
+    c, w, lo, hi, f, calm = _rose16(seed=11)
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, calm)
+    heading = np.array([40.0, 220.0, 130.0])
+    h, cx, tx = clim.runway_usability(d[None], s[None], heading[:, None], 5.0, 10.0)  # (D, J)
+    mean, sd = 301.0, 3.5
+    t = clim.daily_max_temperature_k(Z, mean, sd)
+    # Direction-dependent masses (different runway lengths): scale per direction.
+    scale = np.array([1.0, 0.97, 0.9])[:, None, None]
+    raw = (scale * curved_mass(t[None, None, :], h[:, :, None]))[None]
+    dirs, m, lost = clim.flown_direction(raw, cx[None], tx[None])
+    levels = (0.3, 0.5, 0.7, 0.85, 0.95)
+    r = _levels(m, wt[None], levels=levels, lost_reason=lost)
+    got = r.mass_kg[0]
+    assert np.all(np.diff(got) <= 1e-9)
+    # Independent check: 20 001 equal-probability temperature strata × the wind points,
+    # exact mass function on the same flown direction, weighted lower quantile.
+    zz = stats.norm.ppf((np.arange(20001) + 0.5) / 20001)
+    tt = mean + sd * zz
+    dsel = dirs[0]
+    mass = scale[dsel, 0, 0][:, None] * curved_mass(tt[None, :], h[dsel, np.arange(h.shape[1])][:, None])
+    mass = np.where((lost[0] < 0)[:, None], np.minimum(mass, MTOW), 0.0)
+    ww = np.repeat(wt[:, None] / zz.size, zz.size, axis=1)
+    order = np.argsort(-mass.ravel())
+    cum = np.cumsum(ww.ravel()[order])
+    for p, g in zip(levels, got):
+        ref = mass.ravel()[order][np.searchsorted(cum, p - 1e-12)]
+        # Piecewise-linear interpolation of a curved mass over ~4 K node spacing: the
+        # curvature term 12 kg/K² × (ΔT/2)² ≈ 50 kg bounds the difference.
+        assert g == pytest.approx(ref, abs=60.0)
+
+
+def test_crosswind_limit_removes_exactly_the_share_above_the_limit():
+    # Runway 000/180; cells from 090° and 270° at 12–16 m/s are wholly above a 10 m/s
+    # crosswind limit (12 sin 75° = 11.6); they carry 7 % of days.
+    c = np.array([0.0, 180.0, 90.0, 270.0])
+    w = np.full(4, 30.0)
+    lo = np.array([0.0, 0.0, 12.0, 12.0])
+    hi = np.array([4.0, 4.0, 16.0, 16.0])
+    f = np.array([0.40, 0.43, 0.035, 0.035])
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, 0.10)
+    heading = np.array([0.0, 180.0])
+    h, cx, tx = clim.runway_usability(d[None], s[None], heading[:, None], 10.0, 10.0)
+    raw = point_masses(linear_mass, [[300.0, 300.0]], [[0.0, 0.0]], h[None])  # (1, D, J, G)
+    dirs, m, lost = clim.flown_direction(raw, cx[None], tx[None])
+    r = _levels(m, wt[None], levels=(0.90, 0.95), lost_reason=lost)
+    assert r.possible_share[0] == pytest.approx(0.93, abs=1e-12)
+    assert np.isfinite(r.mass_kg[0, 0])
+    assert np.isnan(r.mass_kg[0, 1]) and r.reason[0, 1] == limits.code("crosswind_limit")
+    # Exactly the points of the 090°/270° cells are lost, each to the crosswind limit.
+    across = (s >= 12.0)
+    np.testing.assert_array_equal(lost[0] == limits.code("crosswind_limit"), across)
+    # Raising the limit to 17 m/s brings those days back.
+    h, cx, tx = clim.runway_usability(d[None], s[None], heading[:, None], 10.0, 17.0)
+    _, m2, lost2 = clim.flown_direction(raw, cx[None], tx[None])
+    assert _levels(m2, wt[None], lost_reason=lost2).possible_share[0] == pytest.approx(1.0)
+
+
+def test_tailwind_only_direction_is_lost_with_tailwind_reason():
+    # One direction (heading 000°), all wind from 180° at 8–10 m/s: tailwind above 5 m/s.
+    d, s, wt = clim.wind_rose_points(np.array([180.0]), np.array([10.0]), np.array([8.0]),
+                                     np.array([10.0]), np.array([1.0]), 0.0)
+    h, cx, tx = clim.runway_usability(d[None], s[None], np.array([[0.0]]), 5.0, 15.0)
+    raw = point_masses(linear_mass, [[300.0]], [[2.0]], h[None])
+    _, m, lost = clim.flown_direction(raw, cx[None], tx[None])
+    r = _levels(m, wt[None], levels=(0.5,), lost_reason=lost)
+    assert np.isnan(r.mass_kg[0, 0]) and r.reason[0, 0] == limits.code("tailwind_limit")
+    assert r.possible_share[0] == 0.0
+
+
+def test_symmetric_rose_gives_the_same_result_for_opposite_directions():
+    c, w, lo, hi, f, calm = _rose16(seed=2)
+    # Make it symmetric under a 180° rotation: average each cell with its opposite.
+    f = f.reshape(16, -1)
+    f = 0.5 * (f + np.roll(f, 8, axis=0))
+    f = f.ravel()
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, calm)
+    out = []
+    for heading in (65.0, 245.0):
+        h, cx, tx = clim.runway_usability(d[None], s[None], np.array([[heading]]), 5.0, 10.0)
+        raw = point_masses(curved_mass, [[299.0]], [[3.0]], h[None])
+        _, m, lost = clim.flown_direction(raw, cx[None], tx[None])
+        r = _levels(m, wt[None], lost_reason=lost)
+        out.append((r.mass_kg[0], r.share_days[0], r.possible_share[0]))
+    np.testing.assert_allclose(out[0][0], out[1][0], atol=1e-6)
+    assert out[0][1] == pytest.approx(out[1][1]) and out[0][2] == pytest.approx(out[1][2])
+
+
+def test_no_takeoff_nodes_count_as_not_possible():
+    # Calm only; mass possible only up to the node z = 1.0 (NaN at the two hottest nodes).
+    m = point_masses(linear_mass, [300.0], [3.0], [[0.0]])
+    m[..., Z > 1.0] = np.nan
+    r = _levels(m, np.ones((1, 1)), levels=(0.5, 0.9))
+    # Days hotter than the last possible node are not possible: Phi(1.0) = 0.8413.
+    assert r.possible_share[0] == pytest.approx(stats.norm.cdf(1.0), abs=1e-6)
+    assert r.mass_kg[0, 0] == pytest.approx(linear_mass(300.0, 0.0), abs=1.0)
+    assert np.isnan(r.mass_kg[0, 1]) and r.reason[0, 1] == limits.code("no_takeoff")
+
+
+def test_structural_cap_and_share_of_days_at_mtow():
+    # Mass 70 t (MTOW) reached at T ≤ 287.5 K: share of days = Phi((287.5 − 290)/5).
+    m = point_masses(linear_mass, [290.0], [5.0], [[0.0]])
+    r = _levels(m, np.ones((1, 1)), levels=(0.2, 0.5))
+    t_mtow = 300.0 - (MTOW - 60_000.0) / 800.0
+    assert r.share_days[0] == pytest.approx(stats.norm.cdf((t_mtow - 290.0) / 5.0), abs=1e-9)
+    assert r.mass_kg[0, 0] == MTOW  # 0.2 < 0.31: at least 20 % of days reach MTOW
+    assert r.mass_kg[0, 1] == pytest.approx(linear_mass(290.0, 0.0), abs=1.0)
+
+
+def test_share_of_days_is_the_inverse_of_the_levels():
+    c, w, lo, hi, f, calm = _rose16(seed=8)
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, calm)
+    h, cx, tx = clim.runway_usability(d, s, 300.0, 5.0, 12.0)
+    m = point_masses(curved_mass, [302.0], [4.0], h[None])
+    m = np.where((cx | tx)[None, :, None], -np.inf, m)
+    r = _levels(m, wt[None], levels=(0.4, 0.6, 0.8))
+    s_at = clim.share_of_days(r.mass_kg, m, Z, wt[None])
+    np.testing.assert_allclose(s_at[0], [0.4, 0.6, 0.8], atol=2e-4)
+
+
+def test_binding_day_reproduces_the_level_mass():
+    c, w, lo, hi, f, calm = _rose16(seed=9)
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, calm)
+    h, cx, tx = clim.runway_usability(d, s, 120.0, 5.0, 12.0)
+    mean, sd = 300.0, 3.0
+    m = point_masses(linear_mass, [mean], [sd], h[None])
+    m = np.where((cx | tx)[None, :, None], -np.inf, m)
+    r = _levels(m, wt[None], levels=(0.3, 0.5, 0.8))
+    assert np.all(np.isfinite(r.mass_kg))
+    j = r.point[0]
+    t_b = mean + sd * r.score[0]
+    # On the binding day (its wind point, its temperature) the mass is the level mass.
+    np.testing.assert_allclose(linear_mass(t_b, h[j]), r.mass_kg[0], atol=2.0)
+
+
+def test_scalar_group_equals_batch_element():
+    c, w, lo, hi, f, calm = _rose16(seed=4)
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, calm)
+    h, cx, tx = clim.runway_usability(d, s, 10.0, 5.0, 12.0)
+    ms = [point_masses(curved_mass, [t], [sd], h[None]) for t, sd in ((296.0, 2.0), (305.0, 5.0))]
+    ms = [np.where((cx | tx)[None, :, None], -np.inf, m) for m in ms]
+    batch = _levels(np.concatenate(ms), np.stack([wt, wt]))
+    single = _levels(ms[1], wt[None])
+    np.testing.assert_allclose(batch.mass_kg[1], single.mass_kg[0], atol=1.0)
