@@ -147,6 +147,6 @@ def read_export(path: str | os.PathLike, text_columns=None) -> pd.DataFrame:
     text = _known_text_columns() if text_columns is None else set(text_columns)
     frame = pd.read_csv(path, skiprows=skip, dtype={c: str for c in names if c in text})
     for col in frame.columns:
-        if frame[col].dtype == object:
+        if frame[col].dtype == object or pd.api.types.is_string_dtype(frame[col]):
             frame[col] = frame[col].map(restore, na_action="ignore")
     return frame

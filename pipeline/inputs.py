@@ -9,24 +9,23 @@ from __future__ import annotations
 
 import hashlib
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import pandas as pd
 
 from pipeline.errors import BadInput
 
-SUFFIXES = (".csv", ".parquet")
-
-
 @dataclass
 class Inputs:
     """The validated input tables of one folder."""
 
     folder: Path
-    tables: dict[str, pd.DataFrame]
+    tables: dict[str, pd.DataFrame]          # SI frames (what the physics gets)
+    user_tables: dict[str, pd.DataFrame]     # user units (what a run stores as its inputs)
     files: dict[str, str | None]
     hashes: dict[str, str]
+    warnings: list = field(default_factory=list)
 
     @property
     def input_hash(self) -> str:
@@ -36,65 +35,40 @@ class Inputs:
         return h.hexdigest()
 
 
-def frame_sha256(frame: pd.DataFrame) -> str:
-    """SHA-256 of a table's content (columns, dtypes and values, row order included)."""
-    try:
-        from schemas import hashing
-
-        func = getattr(hashing, "frame_sha256", None) or getattr(hashing, "table_hash", None)
-        if func is not None:
-            return str(func(frame))
-    except ImportError:
-        pass
-    h = hashlib.sha256()
-    h.update(repr([(str(c), str(t)) for c, t in frame.dtypes.items()]).encode())
-    h.update(pd.util.hash_pandas_object(frame, index=False).to_numpy().tobytes())
-    return h.hexdigest()
-
-
-def _problem_text(problems) -> str:
-    lines = [str(p) for p in problems]
-    head = f"the input has {len(lines)} problem{'s' if len(lines) != 1 else ''} to fix:"
-    return "\n".join([head] + [f"  - {line}" for line in lines])
-
-
-def _errors_only(problems):
-    """Problems that block a run (warnings, if schemas marks them, do not)."""
-    out = []
-    for p in problems:
-        level = getattr(p, "severity", None) or getattr(p, "level", None) or "error"
-        if str(level).lower() not in ("warning", "warn", "info"):
-            out.append(p)
-    return out
+def problem_text(problems) -> str:
+    """All errors (then warnings) of a check, one per line, with a head line."""
+    errors = [p for p in problems if getattr(p, "severity", "error") == "error"]
+    warnings = [p for p in problems if getattr(p, "severity", "error") != "error"]
+    head = (f"{len(errors)} error{'s' if len(errors) != 1 else ''} in the input tables; "
+            "fix them and run again:")
+    return "\n".join([head] + [f"  {p}" for p in errors] + [f"  {p}" for p in warnings])
 
 
 def check_folder(folder: str | os.PathLike) -> list:
     """Every problem in an input folder (errors and warnings), via :mod:`schemas.validate`."""
     from schemas.validate import validate_folder
 
-    path = Path(folder)
-    if not path.is_dir():
-        raise BadInput(f"input folder {path} does not exist or is not a folder")
-    return list(validate_folder(path))
+    return list(validate_folder(Path(folder)))
+
+
+def errors_only(problems) -> list:
+    return [p for p in problems if getattr(p, "severity", "error") == "error"]
 
 
 def load_inputs(folder: str | os.PathLike) -> Inputs:
     """Validate and load an input folder; raise :class:`BadInput` listing every error."""
+    from schemas import hashing
     from schemas.load import load_folder
     from schemas.validate import InputError
 
     path = Path(folder).resolve()
-    problems = _errors_only(check_folder(path))
-    if problems:
-        raise BadInput(_problem_text(problems))
     try:
-        tables = dict(load_folder(path))
+        tables = load_folder(path)
     except InputError as exc:
-        problems = getattr(exc, "problems", None)
-        raise BadInput(_problem_text(problems) if problems else str(exc)) from None
-    files = {}
-    for name in tables:
-        found = [path / f"{name}{s}" for s in SUFFIXES if (path / f"{name}{s}").exists()]
-        files[name] = str(found[0]) if found else None
-    hashes = {name: frame_sha256(frame) for name, frame in tables.items()}
-    return Inputs(folder=path, tables=tables, files=files, hashes=hashes)
+        raise BadInput(problem_text(exc.problems)) from None
+    si = {name: tables[name] for name in tables}
+    user = dict(tables.user) if getattr(tables, "user", None) else si
+    files = {name: str(tables.files[name]) if name in getattr(tables, "files", {}) else None
+             for name in si}
+    return Inputs(folder=path, tables=si, user_tables=user, files=files,
+                  hashes=hashing.table_hashes(tables), warnings=list(getattr(tables, "warnings", [])))

@@ -121,9 +121,36 @@ def default_work_root(db_path: Path) -> Path:
     return db_path.with_name(db_path.name + ".work")
 
 
+_PREPARED: dict = {}
+
+
+def _folder_signature(folder: Path) -> tuple:
+    try:
+        return tuple(sorted((p.name, p.stat().st_size, p.stat().st_mtime_ns)
+                            for p in folder.iterdir() if p.is_file()))
+    except OSError:
+        return ()
+
+
+def _cached_inputs(input_dir) -> Inputs:
+    """Load an input folder once per process while its files are unchanged.
+
+    The command line validates before it starts Prefect (so bad input never waits for the
+    Prefect server); the flow's own validation step then finds the same folder here.
+    """
+    folder = Path(input_dir).resolve()
+    key = (str(folder), _folder_signature(folder))
+    if key[1] and key in _PREPARED:
+        return _PREPARED[key]
+    inputs = load_inputs(folder)
+    _PREPARED.clear()
+    _PREPARED[key] = inputs
+    return inputs
+
+
 def prepare_run(input_dir, db_path, params: RunParams, work_root=None) -> PreparedRun:
     """Validate and load the inputs and plan the chunks; nothing is written."""
-    inputs = load_inputs(input_dir)
+    inputs = _cached_inputs(input_dir)
     plan = case_io.plan_chunks(inputs.tables, params.chunk_size, params.conditions)
     db = Path(db_path).resolve()
     root = Path(work_root).resolve() if work_root else default_work_root(db)
@@ -212,7 +239,7 @@ def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], bes
          route_path: Path | None) -> dict[str, int]:
     """The single writer: all of the run in one DuckDB transaction."""
     inputs = [store.InputTable(name, prepared.inputs.files.get(name), prepared.inputs.hashes[name], frame)
-              for name, frame in prepared.inputs.tables.items()]
+              for name, frame in prepared.inputs.user_tables.items() if name in prepared.inputs.hashes]
     spec = store.LoadSpec(
         run_id=run_id,
         direction_parts=[r.direction_path for r in results],

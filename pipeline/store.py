@@ -65,6 +65,12 @@ def sql_exists(name: str) -> bool:
     return (SQL_DIR / f"{name}.sql").exists()
 
 
+def run_sql(con: duckdb.DuckDBPyConnection, query: str, params=None) -> list:
+    """Execute a statement and consume its result (DuckDB 2 wants every result finished)."""
+    cur = con.execute(query, params) if params is not None else con.execute(query)
+    return cur.fetchall()
+
+
 def utcnow() -> datetime:
     """Current UTC time without tzinfo (DuckDB TIMESTAMP)."""
     return datetime.now(timezone.utc).replace(tzinfo=None)
@@ -123,16 +129,16 @@ def writer(db_path: str | os.PathLike, wait_s: float = WRITER_WAIT_S) -> Iterato
 
 def ensure_schema(con: duckdb.DuckDBPyConnection) -> None:
     """Create the output tables and views if missing (idempotent, one transaction)."""
-    con.execute("BEGIN")
+    run_sql(con, "BEGIN")
     try:
         for name in result_tables.TABLES:
-            con.execute(sql(f"create_{name}"))
+            run_sql(con, sql(f"create_{name}"))
         for view in ("latest_run", "latest_results_direction", "latest_results_airfield",
                      "scenario_results_airfield"):
-            con.execute(sql(f"view_{view}"))
-        con.execute("COMMIT")
+            run_sql(con, sql(f"view_{view}"))
+        run_sql(con, "COMMIT")
     except Exception:
-        con.execute("ROLLBACK")
+        run_sql(con, "ROLLBACK")
         raise
 
 
@@ -173,18 +179,18 @@ def _mark_interrupted(con: duckdb.DuckDBPyConnection) -> list[int]:
         if run_host == host and pid is not None and pid != os.getpid() and not _process_alive(int(pid))
     ]
     for run_id in gone:
-        con.execute(sql("mark_interrupted"), {"run_id": run_id, "finished_at": utcnow()})
+        run_sql(con, sql("mark_interrupted"), {"run_id": run_id, "finished_at": utcnow()})
     return gone
 
 
 def register_run(db_path: str | os.PathLike, record: RunRecord) -> int:
     """Record a new run as ``running`` (short write) and return its run_id."""
     with writer(db_path) as con:
-        con.execute("BEGIN")
+        run_sql(con, "BEGIN")
         try:
             _mark_interrupted(con)
-            run_id = int(con.execute(sql("next_run_id")).fetchone()[0])
-            con.execute(sql("insert_run"), {
+            run_id = int(con.execute(sql("next_run_id")).fetchall()[0][0])
+            run_sql(con, sql("insert_run"), {
                 "run_id": run_id,
                 "started_at": record.started_at,
                 "input_dir": record.input_dir,
@@ -200,9 +206,9 @@ def register_run(db_path: str | os.PathLike, record: RunRecord) -> int:
                 "host": socket.gethostname(),
                 "pid": os.getpid(),
             })
-            con.execute("COMMIT")
+            run_sql(con, "COMMIT")
         except Exception:
-            con.execute("ROLLBACK")
+            run_sql(con, "ROLLBACK")
             raise
     return run_id
 
@@ -210,7 +216,7 @@ def register_run(db_path: str | os.PathLike, record: RunRecord) -> int:
 def fail_run(db_path: str | os.PathLike, run_id: int, error: str) -> None:
     """Record a run as failed, in its own short transaction."""
     with writer(db_path) as con:
-        con.execute(sql("fail_run"), {"run_id": run_id, "finished_at": utcnow(), "error": error[:4000]})
+        run_sql(con, sql("fail_run"), {"run_id": run_id, "finished_at": utcnow(), "error": error[:4000]})
 
 
 # --------------------------------------------------------------------------- the load
@@ -244,7 +250,7 @@ def _check_ident(name: str) -> str:
 def _table_exists(con: duckdb.DuckDBPyConnection, name: str) -> bool:
     return bool(con.execute(
         "SELECT count(*) FROM information_schema.tables WHERE table_name = $name",
-        {"name": name}).fetchone()[0])
+        {"name": name}).fetchall()[0][0])
 
 
 def _add_missing_columns(con, table: str, frame_view: str) -> None:
@@ -253,7 +259,7 @@ def _add_missing_columns(con, table: str, frame_view: str) -> None:
         "SELECT column_name FROM information_schema.columns WHERE table_name = $t", {"t": table}).fetchall()}
     for col, typ, *_ in con.execute(f"DESCRIBE {frame_view}").fetchall():
         if col not in have:
-            con.execute(f'ALTER TABLE {table} ADD COLUMN "{col}" {typ}')
+            run_sql(con, f'ALTER TABLE {table} ADD COLUMN "{col}" {typ}')
 
 
 def _append_frame(con, table: str, frame: pd.DataFrame, create_sql: str | None = None) -> None:
@@ -264,37 +270,50 @@ def _append_frame(con, table: str, frame: pd.DataFrame, create_sql: str | None =
     try:
         if not _table_exists(con, table):
             if create_sql:
-                con.execute(create_sql)
+                run_sql(con, create_sql)
             else:
-                con.execute(f"CREATE TABLE {table} AS SELECT * FROM {view} LIMIT 0")
+                run_sql(con, f"CREATE TABLE {table} AS SELECT * FROM {view} LIMIT 0")
         _add_missing_columns(con, table, view)
-        con.execute(f"INSERT INTO {table} BY NAME SELECT * FROM {view}")
+        run_sql(con, f"INSERT INTO {table} BY NAME SELECT * FROM {view}")
     finally:
         con.unregister(view)
+
+
+def _input_ddl(table: str, sql_name: str) -> str | None:
+    """DDL of a stored input table from :mod:`schemas.ddl` (user units, column comments)."""
+    try:
+        from schemas import ddl
+        from schemas.tables import TABLES
+    except ImportError:
+        return None
+    if table not in TABLES:
+        return None
+    return ddl.create_table_sql(table, sql_name, leading_columns=[
+        ("input_sha256", "VARCHAR NOT NULL", "[sha256] hash of the table content (run_inputs.sha256)")])
 
 
 def _load_inputs(con, run_id: int, inputs: Sequence[InputTable]) -> None:
     for table in inputs:
         name = "input_" + _check_ident(table.name)
         stored = _table_exists(con, name) and con.execute(
-            f"SELECT count(*) FROM {name} WHERE input_sha256 = $h", {"h": table.sha256}).fetchone()[0]
+            f"SELECT count(*) FROM {name} WHERE input_sha256 = $h", {"h": table.sha256}).fetchall()[0][0]
         if not stored:
             frame = table.frame.copy()
             frame.insert(0, "input_sha256", table.sha256)
-            _append_frame(con, name, frame)
-        con.execute(sql("insert_run_input"), {
+            _append_frame(con, name, frame, _input_ddl(table.name, name))
+        run_sql(con, sql("insert_run_input"), {
             "run_id": run_id, "table_name": table.name, "file_name": table.file_name,
             "row_count": len(table.frame), "sha256": table.sha256})
 
 
 def _load_results_direction(con, spec: LoadSpec) -> None:
     if spec.direction_parts:
-        con.execute(sql("load_results_direction"), {"files": [str(p) for p in spec.direction_parts]})
+        run_sql(con, sql("load_results_direction"), {"files": [str(p) for p in spec.direction_parts]})
 
 
 def _load_results_airfield(con, spec: LoadSpec) -> None:
     if spec.airfield_parts:
-        con.execute(sql("load_results_airfield"), {"files": [str(p) for p in spec.airfield_parts]})
+        run_sql(con, sql("load_results_airfield"), {"files": [str(p) for p in spec.airfield_parts]})
 
 
 def _load_route_payload(con, spec: LoadSpec) -> int:
@@ -307,9 +326,7 @@ def _load_route_payload(con, spec: LoadSpec) -> int:
         frame.insert(0, "run_id", spec.run_id)
     create = sql("create_route_payload") if sql_exists("create_route_payload") else None
     _append_frame(con, "route_payload", frame, create)
-    con.execute(
-        "CREATE OR REPLACE VIEW latest_route_payload AS SELECT r.* FROM route_payload AS r "
-        "WHERE r.run_id = (SELECT run_id FROM latest_run)")
+    run_sql(con, sql("view_latest_route_payload"))
     return len(frame)
 
 
@@ -322,19 +339,19 @@ def load_run(db_path: str | os.PathLike, spec: LoadSpec) -> dict[str, int]:
     """
     try:
         with writer(db_path) as con:
-            con.execute("BEGIN")
+            run_sql(con, "BEGIN")
             try:
                 _load_results_direction(con, spec)
                 _load_results_airfield(con, spec)
                 _load_inputs(con, spec.run_id, spec.inputs)
                 rows_route = _load_route_payload(con, spec)
-                rows_dir, rows_af = con.execute(sql("count_run_rows"), {"run_id": spec.run_id}).fetchone()
+                rows_dir, rows_af = con.execute(sql("count_run_rows"), {"run_id": spec.run_id}).fetchall()[0]
                 counts = {"rows_direction": int(rows_dir), "rows_airfield": int(rows_af),
                           "rows_route_payload": int(rows_route)}
-                con.execute(sql("complete_run"), {"run_id": spec.run_id, "finished_at": utcnow(), **counts})
-                con.execute("COMMIT")
+                run_sql(con, sql("complete_run"), {"run_id": spec.run_id, "finished_at": utcnow(), **counts})
+                run_sql(con, "COMMIT")
             except BaseException:
-                con.execute("ROLLBACK")
+                run_sql(con, "ROLLBACK")
                 raise
     except BaseException as exc:
         try:

@@ -11,10 +11,10 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from pipeline.inputs import _errors_only, check_folder, load_inputs
+    from pipeline.inputs import check_folder, errors_only, load_inputs
 
     problems = check_folder(args.input_dir)
-    errors = _errors_only(problems)
+    errors = errors_only(problems)
     for p in problems:
         print(p)
     if errors:

@@ -75,6 +75,9 @@ def run(args) -> int:
     )
     if not args.quiet:
         progress.set_reporter(progress.StderrProgress())
+    from pipeline.steps import prepare_run
+
+    prepare_run(input_dir, args.db, params, args.work_dir)  # bad input: exit 2 before Prefect starts
     if args.no_prefect:
         if args.cluster:
             raise BadInput("--cluster needs Prefect; drop --no-prefect")
@@ -83,7 +86,9 @@ def run(args) -> int:
         summary = run_local(input_dir, args.db, params, workers=args.workers or 2,
                             work_root=args.work_dir)
     else:
-        os.environ.setdefault("PREFECT_LOGGING_LEVEL", "WARNING")
+        # the CLI reports errors itself in one line; Prefect's own log shows with FIELDLIMITS_DEBUG=1
+        os.environ.setdefault("PREFECT_LOGGING_LEVEL",
+                              "WARNING" if os.environ.get("FIELDLIMITS_DEBUG") else "CRITICAL")
         from pipeline.flow import run_with_prefect
 
         summary = run_with_prefect(input_dir, args.db, params, cluster=args.cluster,

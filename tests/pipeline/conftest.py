@@ -1,0 +1,65 @@
+"""Fixtures for the pipeline tests.
+
+One demo-network run without Prefect is shared by the module tests (``demo_run``); the one
+Prefect run of the session lives in ``test_flow.py`` (``prefect_test_harness`` costs ~16 s
+to enter, so it is used once).
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+REPO = Path(__file__).resolve().parents[2]
+
+
+def _physics_ready() -> bool:
+    try:
+        import physics.weightlimit  # noqa: F401
+    except ImportError:
+        return False
+    return True
+
+
+needs_physics = pytest.mark.skipif(not _physics_ready(), reason="physics.weightlimit not available yet")
+
+
+@pytest.fixture(scope="session")
+def demo_dir() -> Path:
+    from demo_network import demo_path
+
+    return Path(demo_path())
+
+
+@pytest.fixture(scope="session")
+def demo_run(tmp_path_factory, demo_dir):
+    """A DuckDB file with one complete demo run (plain functions, no Prefect)."""
+    if not _physics_ready():
+        pytest.skip("physics.weightlimit not available yet")
+    from pipeline.steps import RunParams, run_local
+
+    db = tmp_path_factory.mktemp("demo") / "demo.duckdb"
+    summary = run_local(demo_dir, db, RunParams(), progress=lambda *a: None)
+    return db, summary
+
+
+@pytest.fixture
+def demo_db_copy(tmp_path, demo_run) -> Path:
+    """A private copy of the demo database, for tests that write to it."""
+    db, _ = demo_run
+    copy = tmp_path / "copy.duckdb"
+    shutil.copyfile(db, copy)
+    return copy
+
+
+def cli(*args, cwd=None, env=None, timeout=300) -> subprocess.CompletedProcess:
+    """Run ``python -m pipeline.cli ARGS`` in a subprocess from the repository root."""
+    full_env = {**os.environ, **(env or {})}
+    full_env["PYTHONPATH"] = str(REPO) + os.pathsep + full_env.get("PYTHONPATH", "")
+    return subprocess.run([sys.executable, "-m", "pipeline.cli", *map(str, args)],
+                          cwd=cwd or REPO, env=full_env, capture_output=True, text=True, timeout=timeout)
