@@ -204,99 +204,144 @@ def _names(frame: pd.DataFrame, key: str) -> dict[str, str]:
     return dict(zip(frame[key].astype(str), frame["name"].astype(str)))
 
 
-def draw_airfield(data: ReportData, airfield_id: str, path: Path, colours) -> Path:
-    """Monthly takeoff-weight limit per aircraft type at one airfield, MTOW dotted."""
-    res = data.airfield_results
-    res = res[(res["airfield_id"] == airfield_id) & (res["basis"] == "design_day")]
-    mtow = dict(zip(data.aircraft["aircraft_type_id"].astype(str),
-                    pd.to_numeric(data.aircraft["mtow_kg"], errors="coerce")))
+def _style_legend(ax, entries) -> None:
+    """Second legend (black lines) explaining the line styles."""
+    from matplotlib.lines import Line2D
+
+    handles = [Line2D([], [], color="#333333", linestyle=ls, marker=mk, markersize=4,
+                      linewidth=lw) for ls, mk, lw, _ in entries]
+    legend = ax.legend(handles, [e[3] for e in entries], loc="lower left",
+                       bbox_to_anchor=(1.02, 0.0), fontsize=8, frameon=False)
+    ax.add_artist(legend)
+
+
+def draw_airfield(results: pd.DataFrame, airfield_id: str, path: Path, colours,
+                  mtow_kg: dict, name: str | None = None) -> Path:
+    """Monthly takeoff-weight limit per aircraft type at one airfield, MTOW marked.
+
+    ``results`` holds this airfield's design-day rows (``results_airfield`` columns). Types
+    of very different size share one axis, so the limit is drawn as a percentage of each
+    type's MTOW (MTOW = the 100 % line; the legend gives each MTOW in tonnes). Without
+    MTOW figures the limit is drawn in tonnes.
+    """
+    have_mtow = any(np.isfinite(mtow_kg.get(t, np.nan))
+                    for t in results["aircraft_type_id"].unique())
     fig = _figure(9.0, 4.6)
     ax = fig.add_axes((0.08, 0.13, 0.64, 0.76))
     months = np.arange(1, 13)
-    for t in sorted(res["aircraft_type_id"].astype(str).unique()):
+    handles, no_takeoff, finite = [], [], []
+    for t, by in results.groupby("aircraft_type_id", sort=True):
         c = colours[t]
-        by = res[res["aircraft_type_id"] == t]
-        for cond, style, label in (("dry", "-", "dry"), ("wet", "--", "wet")):
-            y = _monthly(by[by["condition"] == cond], "tow_limit_kg") / 1000.0
+        m = mtow_kg.get(t, np.nan)
+        scale = (100.0 / m) if have_mtow and np.isfinite(m) else 1e-3
+        line = None
+        for cond, style in (("dry", "-"), ("wet", "--")):
+            y = _monthly(by[by["condition"] == cond], "tow_limit_kg") * scale
             if np.isfinite(y).any():
-                ax.plot(months, y, style, color=c, marker="o" if cond == "dry" else None,
-                        markersize=4, linewidth=1.8 if cond == "dry" else 1.3,
-                        label=f"{t} ({label})")
-            none = ~np.isfinite(y)
-            if cond == "dry" and none.any():
-                ax.plot(months[none], np.zeros(none.sum()), "x", color=c, markersize=7,
-                        label=f"{t}: no takeoff")
-        if np.isfinite(mtow.get(t, np.nan)):
-            ax.axhline(mtow[t] / 1000.0, color=c, linestyle=":", linewidth=1.2)
-            ax.annotate(f"MTOW {t}", (12.45, mtow[t] / 1000.0), fontsize=7, color=c,
-                        ha="right", va="bottom")
+                (h,) = ax.plot(months, y, style, color=c, marker="o" if cond == "dry" else None,
+                               markersize=4, linewidth=1.8 if cond == "dry" else 1.2)
+                line = line or h
+                finite.append(y[np.isfinite(y)])
+            if cond == "dry" and (~np.isfinite(y)).any():
+                no_takeoff.append((months[~np.isfinite(y)], c))
+        label = f"{t} (MTOW {m / 1000.0:.1f} t)" if np.isfinite(m) else t
+        handles.append((line, label))
+    values = np.concatenate(finite) if finite else np.array([100.0])
+    if have_mtow:
+        ax.axhline(100.0, color="#333333", linestyle=":", linewidth=1.2)
+        low = max(0.0, min(values.min(), 100.0) - 5.0)
+        ax.set_ylim(low, 104.0)
+        ax.set_ylabel("Takeoff-weight limit [% of MTOW]")
+    else:
+        ax.set_ylim(0, values.max() * 1.06)
+        ax.set_ylabel("Takeoff-weight limit [t]")
+    bottom = ax.get_ylim()[0]
+    for i, (mon, c) in enumerate(no_takeoff):
+        ax.plot(mon, np.full(mon.size, bottom), "x", color=c, markersize=8, clip_on=False,
+                markeredgewidth=1.6)
+    for i, (h, label) in enumerate(handles):
+        if h is None:  # no takeoff in any month: legend entry shows the cross
+            (h,) = ax.plot([], [], "x", color=colours[label.split(" ")[0]])
+            handles[i] = (h, label + ": no takeoff")
     _month_axis(ax)
-    ax.set_ylabel("Takeoff-weight limit [t]")
-    ax.set_ylim(0, ax.get_ylim()[1] * 1.06)
-    name = _names(data.airfields, "airfield_id").get(airfield_id, airfield_id)
-    ax.set_title(f"{name} ({airfield_id}): takeoff-weight limit, design day", fontsize=11)
-    ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
-    fig.text(0.08, 0.015, "Solid: dry runway; dashed: wet; dotted: MTOW; x: no takeoff possible.",
-             fontsize=7.5, color="#555555")
+    ax.set_title(f"{name or airfield_id} ({airfield_id}): takeoff-weight limit, design day",
+                 fontsize=11)
+    _style_legend(ax, (("-", "o", 1.8, "dry runway"), ("--", None, 1.2, "wet runway"),
+                       (":", None, 1.2, "MTOW (100 %)"), ("", "x", 0, "no takeoff")))
+    ax.legend([h for h, _ in handles], [lb for _, lb in handles], loc="upper left",
+              bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
     return _save(fig, path)
 
 
-def draw_route(data: ReportData, route_id: str, path: Path, colours) -> Path:
-    """Monthly payload per aircraft type and level on one route (dry runway)."""
-    rp = data.route_payload
-    rp = rp[(rp["route_id"] == route_id) & (rp["condition"] == "dry")].copy()
-    rp["level"] = [routes.level_label(b, r) for b, r in zip(rp["basis"], rp["reliability"])]
+def draw_route(payload: pd.DataFrame, route_id: str, path: Path, colours) -> Path:
+    """Monthly payload per aircraft type and level on one route (dry runway).
+
+    ``payload`` holds this route's dry-runway rows (``route_payload`` columns).
+    """
+    rp = payload.assign(level=[routes.level_label(b, r)
+                               for b, r in zip(payload["basis"], payload["reliability"])])
     fig = _figure(9.0, 4.6)
-    ax = fig.add_axes((0.08, 0.13, 0.64, 0.76))
+    ax = fig.add_axes((0.08, 0.13, 0.66, 0.76))
     months = np.arange(1, 13)
     levels = sorted(rp["level"].unique(), key=lambda s: (s != "design_day", s))
-    for t in sorted(rp["aircraft_type_id"].astype(str).unique()):
+    handles = []
+    for t, by in rp.groupby("aircraft_type_id", sort=True):
         c = colours[t]
-        by = rp[rp["aircraft_type_id"] == t]
-        for lvl in levels:
-            part = by[by["level"] == lvl]
-            if part.empty:
-                continue
+        first = None
+        for lvl, part in by.groupby("level", sort=False):
             y = _monthly(part, "payload_kg") / 1000.0
-            ax.plot(months, y, LEVEL_STYLES.get(lvl, "--"), color=c,
-                    linewidth=2.0 if lvl == "design_day" else 1.3,
-                    marker="o" if lvl == "design_day" else None, markersize=4,
-                    label=f"{t} {lvl.replace('_', ' ')}")
+            (h,) = ax.plot(months, y, LEVEL_STYLES.get(lvl, "--"), color=c,
+                           linewidth=2.0 if lvl == "design_day" else 1.2,
+                           marker="o" if lvl == "design_day" else None, markersize=4)
+            first = first or h
             if lvl == "design_day":
                 none = ~np.isfinite(y)
                 if none.any():
                     ax.plot(months[none], np.zeros(none.sum()), "x", color=c, markersize=8,
-                            label=f"{t}: not possible")
+                            clip_on=False)
         max_payload = pd.to_numeric(by["max_payload_kg"], errors="coerce").max()
         if np.isfinite(max_payload):
             ax.axhline(max_payload / 1000.0, color=c, linestyle=(0, (6, 3)), linewidth=0.9)
-            ax.annotate(f"max payload {t}", (12.45, max_payload / 1000.0), fontsize=7, color=c,
-                        ha="right", va="bottom")
+        label = (f"{t} (max payload {max_payload / 1000.0:.1f} t)" if np.isfinite(max_payload)
+                 else t)
+        handles.append((first, label))
     _month_axis(ax)
     ax.set_ylabel("Payload available [t]")
-    ax.set_ylim(0, ax.get_ylim()[1] * 1.06)
-    first = rp.iloc[0] if len(rp) else None
-    if first is not None:
-        title = (f"{route_id}: {first['origin_id']} to {first['destination_id']}, "
-                 f"{first['air_distance_km']:,.0f} km flown")
+    ax.set_ylim(0, ax.get_ylim()[1] * 1.04)
+    if len(rp):
+        first_row = rp.iloc[0]
+        title = (f"{route_id}: {first_row['origin_id']} to {first_row['destination_id']}, "
+                 f"{first_row['air_distance_km']:,.0f} km flown, dry runway")
     else:
         title = route_id
     ax.set_title(title, fontsize=11)
-    ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
-    fig.text(0.08, 0.015, "Dry runway. Line style: design day (solid) and reliability levels "
-             "(share of days achieved); x: not possible.", fontsize=7.5, color="#555555")
+    entries = [(LEVEL_STYLES.get(lvl, "--"), "o" if lvl == "design_day" else None,
+                2.0 if lvl == "design_day" else 1.2,
+                "design day" if lvl == "design_day" else f"on {lvl[1:]} % of days")
+               for lvl in levels]
+    entries += [((0, (6, 3)), None, 0.9, "max payload"), ("", "x", 0, "not possible")]
+    _style_legend(ax, entries)
+    ax.legend([h for h, _ in handles], [lb for _, lb in handles], loc="upper left",
+              bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
     return _save(fig, path)
 
 
 def airfield_restriction_matrix(data: ReportData, airfield_ids) -> pd.DataFrame:
     """Airfields × months: worst type's (MTOW − takeoff limit) / max payload, 0 … 1.
 
-    Dry runway, design day. A month with no takeoff counts as 1 (all payload lost).
-    Without aircraft masses the share is of MTOW lost instead (still 0 … 1).
+    Dry runway, design day. When there are routes, only the aircraft types that fly a route
+    from the airfield count (an airfield no route departs from stays empty); otherwise
+    every type counts. A month with no takeoff counts as 1 (all payload lost). Without
+    aircraft masses the share is of the largest limit instead.
     """
     res = data.airfield_results
     res = res[(res["basis"] == "design_day") & (res["condition"] == "dry")
               & res["airfield_id"].isin(airfield_ids)]
+    rp = data.route_payload
+    if len(rp):
+        served = rp[["origin_id", "aircraft_type_id"]].drop_duplicates().rename(
+            columns={"origin_id": "airfield_id"})
+        res = res.merge(served, on=["airfield_id", "aircraft_type_id"], how="inner")
     ac = data.aircraft.copy()
     ac["aircraft_type_id"] = ac["aircraft_type_id"].astype(str)
     df = res.merge(ac[["aircraft_type_id", "mtow_kg", "max_payload_kg"]], on="aircraft_type_id",
@@ -493,7 +538,10 @@ def build_report(data: ReportData, out_dir, airfield_ids=None, route_ids=None,
     charts: list[Path] = []
     links = {"network": [], "routes": [], "airfields": []}
 
-    title = "Takeoff-mass shortfall below MTOW, worst type, % of max payload (dry, design day)"
+    title = ("Takeoff-mass shortfall below MTOW, worst type flown from there, % of max payload"
+             if len(data.route_payload) else
+             "Takeoff-mass shortfall below MTOW, worst type, % of max payload")
+    title += " (dry, design day)"
     p = draw_matrix(airfield_restriction_matrix(data, fields_sel), out / "network-airfields.png",
                     title, "shortfall [% of max payload]")
     charts.append(p)
@@ -504,15 +552,23 @@ def build_report(data: ReportData, out_dir, airfield_ids=None, route_ids=None,
                         title, "payload lost [%]")
         charts.append(p)
         links["network"].append((title, p.name))
+    rp = data.route_payload
+    by_route = dict(tuple(rp[rp["condition"] == "dry"].groupby("route_id"))) if len(rp) else {}
     route_slugs = unique_slugs(routes_sel)
     for i, rid in enumerate(routes_sel, 1):
-        p = draw_route(data, rid, out / f"route-{route_slugs[rid]}.png", colours)
+        p = draw_route(by_route[rid], rid, out / f"route-{route_slugs[rid]}.png", colours)
         charts.append(p)
         links["routes"].append((rid, p.name))
         say(f"route {i}/{len(routes_sel)}")
+    res = data.airfield_results
+    by_field = dict(tuple(res[res["basis"] == "design_day"].groupby("airfield_id")))
+    mtow = dict(zip(data.aircraft["aircraft_type_id"].astype(str),
+                    pd.to_numeric(data.aircraft["mtow_kg"], errors="coerce")))
+    names = _names(data.airfields, "airfield_id")
     field_slugs = unique_slugs(fields_sel)
     for i, aid in enumerate(fields_sel, 1):
-        p = draw_airfield(data, aid, out / f"airfield-{field_slugs[aid]}.png", colours)
+        p = draw_airfield(by_field.get(aid, res.iloc[0:0]), aid,
+                          out / f"airfield-{field_slugs[aid]}.png", colours, mtow, names.get(aid))
         charts.append(p)
         links["airfields"].append((aid, p.name))
         say(f"airfield {i}/{len(fields_sel)}")

@@ -14,15 +14,13 @@ DESCRIPTION = (
     "airfield (monthly takeoff-weight limit per type, MTOW marked), one per route (monthly "
     "payload per type and reliability level), two network views (airfields x months and "
     "routes x months coloured by payload restriction), index.html linking them with summary "
-    "tables, and payload_planning.csv (one row per route x type x month). "
-    f"{CAUTION}"
+    "tables, and payload_planning.csv (one row per route x type x month)."
 )
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     from pipeline.store import DEFAULT_DB
 
-    parser.description = DESCRIPTION
     parser.add_argument("--db", default=DEFAULT_DB,
                         help=f"DuckDB file to read (default: ./{DEFAULT_DB})")
     parser.add_argument("--out", default="fieldlimits-report",
