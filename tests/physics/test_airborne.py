@@ -1,0 +1,82 @@
+"""Airborne segment and all-engines takeoff (Anderson 1999 Example 6.6; Raymer §17.8)."""
+
+import numpy as np
+import pytest
+
+from physics import aerodynamics as aero
+from physics import airborne
+from physics import constants as c
+from physics import fieldlength, thrust
+
+VS_FT = 186.4  # Anderson (1999) Example 6.6: V_stall = 186.4 ft/s
+
+
+def test_anderson_transition_radius_and_airborne_distance():
+    # Anderson (1999) Example 6.6 / Eq. 6.95: n = 1.19, V = 1.15 V_stall → R = 6.96 V_stall²/g
+    # = 7 510 ft; obstacle (35 ft) cleared inside the arc: theta_OB = 5.534°, s_a = 724 ft.
+    # Tolerance 1 %: Anderson uses g = 32.2 ft/s² and rounds R.
+    v_tr = 1.15 * VS_FT * c.FT_M
+    r = airborne.transition_radius_m(v_tr, 1.19)
+    assert r / c.FT_M == pytest.approx(7510.0, rel=0.01)
+    s = airborne.airborne_distance_m(v_transition_mps=v_tr, climb_sine=np.sin(np.radians(12.0)),
+                                     screen_height_m=c.SCREEN_HEIGHT_35FT_M, load_factor=1.19)
+    assert s / c.FT_M == pytest.approx(724.0, rel=0.01)
+    theta = np.degrees(np.arccos(1.0 - c.SCREEN_HEIGHT_35FT_M / r))
+    assert theta == pytest.approx(5.534, rel=0.01)
+
+
+def test_arc_and_climb_forms_meet_and_distance_falls_with_gradient():
+    # Raymer §17.8, Eqs. 17.109–17.112: continuity where the screen is just reached at the
+    # end of the arc (h = h_TR); distance falls as the climb gradient rises.
+    v = 70.0
+    r = airborne.transition_radius_m(v)
+    sg = np.sin(np.radians(4.0))
+    h_tr = r * (1 - np.cos(np.radians(4.0)))
+    s = airborne.airborne_distance_m(v_transition_mps=v, climb_sine=sg, screen_height_m=np.array([h_tr * (1 - 1e-9),
+                                                                                                  h_tr * (1 + 1e-9)]))
+    assert s[0] == pytest.approx(s[1], rel=1e-6)
+    grads = airborne.airborne_distance_m(v_transition_mps=v, climb_sine=np.array([0.02, 0.05, 0.1]))
+    assert np.all(np.diff(grads) < 0)
+    # 50 ft > 35 ft > 15 ft screen heights give decreasing distances.
+    hs = airborne.airborne_distance_m(v_transition_mps=v, climb_sine=0.05, screen_height_m=np.array(
+        [c.SCREEN_HEIGHT_50FT_M, c.SCREEN_HEIGHT_35FT_M, c.SCREEN_HEIGHT_15FT_M]))
+    assert np.all(np.diff(hs) < 0)
+
+
+def test_cannot_climb_is_nan():
+    s = airborne.airborne_distance_m(v_transition_mps=70.0, climb_sine=np.array([-0.01, 0.0, 0.03]))
+    assert np.isnan(s[:2]).all() and np.isfinite(s[2])
+
+
+def test_wind_on_airborne_ground_distance():
+    assert airborne.airborne_ground_distance_m(700.0, 70.0, np.array([7.0, -7.0])).tolist() == pytest.approx(
+        [630.0, 770.0])
+
+
+def test_anderson_example_total_takeoff_distance():
+    # Anderson (1999) Example 6.6 end to end: ground roll 2 857 ft (with N = 3 s) + airborne
+    # 724 ft = 3 581 ft. Inputs as published (US units converted): W 73 000 lb, W/S 76.84,
+    # rho 0.002377, T/W = 0.341, mu 0.04, C_L 0.1, polar C_D0 0.015 + 0.0177, K = 0.02 +
+    # 1/(pi 0.9 5.92), phi 0.588; V_LO = 1.1 V_stall, transition at 1.15 V_stall with n 1.19.
+    # C_Lmax = 2 (W/S)/(rho V_stall²) [computed]. Within 1 %.
+    w_n = 73000.0 * c.LBF_N
+    area = 73000.0 / 76.84 * c.FT_M**2
+    rho = 0.002377 * c.SLUG_FT3_KG_M3
+    k = 0.02 + aero.induced_drag_factor(0.9, 5.92)
+    cd_ground = 0.0327 + aero.ground_effect_factor(5.6, 75.0) * k * 0.01
+    law = thrust.ThrustLaw(np.array([0.341 * w_n]), np.zeros(1), np.zeros(1), np.zeros(1), np.array([False]))
+    res = fieldlength.all_engines_takeoff(
+        thrust_law=law, mass_kg=np.array([w_n / c.G0]), wing_area_m2=area, density_kg_m3=rho, cd_ground=cd_ground,
+        cl_ground=0.1, mu=0.04, cl_max=2 * 76.84 / (0.002377 * VS_FT**2), vr_over_vs=1.05, vlof_over_vs=1.1,
+        v2_over_vs=1.2, cd0_airborne=0.0327, induced_factor=k, load_factor=1.19, rotation_time_s=3.0)
+    assert res.v_lof_mps[0] / c.FT_M == pytest.approx(205.1, rel=1e-3)
+    assert res.ground_run_m[0] / c.FT_M == pytest.approx(2857.0, rel=0.01)
+    assert res.airborne_m[0] / c.FT_M == pytest.approx(724.0, rel=0.01)
+    assert res.takeoff_distance_m[0] / c.FT_M == pytest.approx(3581.0, rel=0.01)
+    assert res.reason[0] == 0
+
+
+def test_takeoff_run_with_and_without_clearway():
+    # 14 CFR 25.113(b)-(c): with a clearway the run ends midway between lift-off and 35 ft.
+    out = fieldlength.takeoff_run_m(1500.0, 400.0, np.array([0.0, 150.0]))
+    assert out.tolist() == [1900.0, 1700.0]
