@@ -544,6 +544,8 @@ def _allowed_hint(v, allowed) -> str | None:
 
 def _number_hint(v) -> str | None:
     s = str(v).strip()
+    if re.match(r"^[+-]?\d{1,3}(,\d{3})+$", s):
+        return "remove the thousands separator (or, if it is a decimal comma, use a point)"
     if _DECIMAL_COMMA.match(s):
         return "use a point as the decimal separator"
     if s.lower() in ("inf", "-inf", "infinity"):
@@ -688,7 +690,8 @@ def _duplicate_keys(df, spec: TableSpec, file, pr) -> None:
         [sub[k] for k in key], dropna=False).transform("min")
     rows = _rows(sub.index)[dup]
     firsts = (first.to_numpy() + 1)[dup]
-    texts = sub[key][dup].head(MAX_ROWS_PER_CHECK).astype(str).agg(", ".join, axis=1).to_numpy()
+    texts = [", ".join(_text(v) or "(blank)" for v in row)
+             for row in sub[key][dup].head(MAX_ROWS_PER_CHECK).itertuples(index=False)]
     for r, fr, t in list(zip(rows, firsts, texts))[:MAX_ROWS_PER_CHECK]:
         pr.append(Problem("error", file, int(r), key[-1], t,
                           f"a unique ({', '.join(key)})",
