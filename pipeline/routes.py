@@ -18,6 +18,7 @@ import pyproj
 
 from physics import routefuel
 from pipeline.errors import BadInput
+from schemas import results as result_tables
 from schemas.tables import ROUTE_DEFAULTS
 
 _GEOD = pyproj.Geod(ellps="WGS84")
@@ -72,22 +73,11 @@ class RouteParams:
         return asdict(self)
 
 
-#: Result columns of ``route_payload`` in order (units in names; DDL in
-#: ``pipeline/sql/create_route_payload.sql``). ``run_id`` leads when the airfield results
-#: carry it.
-ROUTE_PAYLOAD_COLUMNS: tuple[str, ...] = (
-    "route_id", "origin_id", "destination_id", "aircraft_type_id",
-    "month", "condition", "basis", "reliability",
-    "great_circle_km", "route_factor", "air_distance_km",
-    "origin_runway_id", "origin_tow_limit_kg", "origin_limiting_factor",
-    "possible", "payload_kg", "passengers", "payload_limiting_factor", "not_possible_reason",
-    "payload_at_mtow_kg", "payload_restriction_kg",
-    "takeoff_mass_kg", "landing_mass_kg",
-    "trip_fuel_kg", "contingency_fuel_kg", "alternate_fuel_kg", "final_reserve_fuel_kg",
-    "taxi_fuel_kg", "block_fuel_kg",
-    "max_payload_kg", "max_passengers",
-    "contingency_pct", "alternate_distance_km", "final_reserve_min", "passenger_mass_kg",
-)
+#: Result columns of ``route_payload`` in order, defined in ``schemas.results.ROUTE_PAYLOAD``
+#: (DDL generated into ``pipeline/sql/create_route_payload.sql``). ``run_id`` leads when the
+#: airfield results carry it; the store sets it.
+ROUTE_PAYLOAD_COLUMNS: tuple[str, ...] = tuple(
+    c.name for c in result_tables.ROUTE_PAYLOAD if c.name != "run_id")
 
 _REASONS = {
     "takeoff_limit": "empty mass and fuel exceed the origin takeoff-weight limit",

@@ -17,6 +17,9 @@ The tables:
 ``results_airfield``
     The best runway direction per run × airfield × month × type × condition × basis
     (same columns; ``runway_id`` is the best direction).
+``route_payload``
+    Payload available per run × route × aircraft type × month × condition × basis, with the
+    binding limit and the fuel plan (built by :mod:`pipeline.routes`).
 
 No primary keys on the big tables: a key makes bulk inserts about ten times slower in
 DuckDB 2 and the writer guarantees uniqueness by construction (one load per run).
@@ -98,11 +101,51 @@ _RESULT_COMMON = (
     _c("climb_gradient", "DOUBLE", "-", "second-segment climb gradient at the limit mass (rise over run)"),
 )
 
+ROUTE_PAYLOAD = (
+    _c("run_id", "BIGINT", "-", "run number", True),
+    _c("route_id", "VARCHAR", "text", "route id", True),
+    _c("origin_id", "VARCHAR", "text", "departure airfield id", True),
+    _c("destination_id", "VARCHAR", "text", "arrival airfield id", True),
+    _c("aircraft_type_id", "VARCHAR", "text", "aircraft type id", True),
+    _c("month", "TINYINT", "1-12", "calendar month", True),
+    _c("condition", "VARCHAR", "text", "runway condition at the origin: dry or wet", True),
+    _c("basis", "VARCHAR", "text", "design_day or reliability (as results_airfield)", True),
+    _c("reliability", "DOUBLE", "-", "share of days the origin limit is achieved; NULL for the design day"),
+    _c("great_circle_km", "DOUBLE", "km", "geodesic distance origin to destination on the WGS84 ellipsoid"),
+    _c("route_factor", "DOUBLE", "-", "flown distance / great-circle distance"),
+    _c("air_distance_km", "DOUBLE", "km", "still-air distance flown (great circle × route factor)"),
+    _c("origin_runway_id", "VARCHAR", "text", "best runway direction at the origin"),
+    _c("origin_tow_limit_kg", "DOUBLE", "kg", "takeoff-weight limit at the origin (NULL when no takeoff)"),
+    _c("origin_limiting_factor", "VARCHAR", "text", "what sets the origin limit (physics.limits.FACTORS)"),
+    _c("possible", "BOOLEAN", "-", "the route can be flown with zero or more payload", True),
+    _c("payload_kg", "DOUBLE", "kg", "payload available (NULL when not possible)"),
+    _c("passengers", "DOUBLE", "count", "whole passengers at passenger_mass_kg, capped by the seats"),
+    _c("payload_limiting_factor", "VARCHAR", "text", "binding limit: max_payload, takeoff_limit, fuel_capacity, landing_mass (or no_takeoff, no_cruise_data)", True),
+    _c("not_possible_reason", "VARCHAR", "text", "why the route is not possible (NULL when possible)"),
+    _c("payload_at_mtow_kg", "DOUBLE", "kg", "payload available if the origin allowed MTOW"),
+    _c("payload_restriction_kg", "DOUBLE", "kg", "payload lost to the origin takeoff limit (payload_at_mtow_kg − payload_kg)"),
+    _c("takeoff_mass_kg", "DOUBLE", "kg", "planned takeoff (brake-release) mass at the available payload"),
+    _c("landing_mass_kg", "DOUBLE", "kg", "planned landing mass at the destination (reserves on board)"),
+    _c("trip_fuel_kg", "DOUBLE", "kg", "trip fuel (Breguet, still air)"),
+    _c("contingency_fuel_kg", "DOUBLE", "kg", "contingency fuel (contingency_pct of trip fuel)"),
+    _c("alternate_fuel_kg", "DOUBLE", "kg", "fuel to fly alternate_distance_km"),
+    _c("final_reserve_fuel_kg", "DOUBLE", "kg", "final reserve: final_reserve_min of holding"),
+    _c("taxi_fuel_kg", "DOUBLE", "kg", "taxi fuel, burnt before takeoff"),
+    _c("block_fuel_kg", "DOUBLE", "kg", "taxi + trip + contingency + alternate + final reserve"),
+    _c("max_payload_kg", "DOUBLE", "kg", "structural payload limit of the type"),
+    _c("max_passengers", "DOUBLE", "count", "seats of the type"),
+    _c("contingency_pct", "DOUBLE", "%", "contingency fuel as per cent of trip fuel used"),
+    _c("alternate_distance_km", "DOUBLE", "km", "destination-to-alternate distance used"),
+    _c("final_reserve_min", "DOUBLE", "min", "final reserve holding time used"),
+    _c("passenger_mass_kg", "DOUBLE", "kg", "standard mass per passenger with baggage used"),
+)
+
 TABLES: dict[str, tuple[ResultColumn, ...]] = {
     "runs": RUNS,
     "run_inputs": RUN_INPUTS,
     "results_direction": _RESULT_COMMON,
     "results_airfield": _RESULT_COMMON,
+    "route_payload": ROUTE_PAYLOAD,
 }
 
 DESCRIPTIONS: dict[str, str] = {
@@ -110,6 +153,7 @@ DESCRIPTIONS: dict[str, str] = {
     "run_inputs": "one row per run and input table: file, rows, SHA-256",
     "results_direction": "takeoff-weight limit per run, runway direction, month, aircraft type, condition and basis",
     "results_airfield": "best runway direction per run, airfield, month, aircraft type, condition and basis",
+    "route_payload": "payload available per run, route, aircraft type, month, origin condition and basis",
 }
 
 RESULT_COLUMNS: tuple[str, ...] = tuple(c.name for c in _RESULT_COMMON)
