@@ -1,0 +1,472 @@
+"""Takeoff-weight limit: the largest mass between OEW and MTOW that meets every requirement.
+
+How it works
+------------
+A *requirement* is a function ``margin(cases, mass_kg, memo) -> array``: a dimensionless
+margin per case at the trial masses, ≥ 0 where the requirement is met (e.g.
+1 − 1.15 TOD/TODA), NaN where the aircraft cannot do it at all. Each carries the name of its
+limiting factor (``physics.limits``) and optionally a ``report`` function giving result fields
+(``WeightLimit`` names) at the final mass. ``REQUIREMENTS`` is the list used by default; add a
+requirement (accelerate-stop, one-engine-inoperative distances, climb gradient) by appending
+a :class:`Requirement` to it — the solver does not change.
+
+``cases`` (:class:`Cases`) holds the broadcast inputs and everything that does not depend on
+the mass (density, thrust law, drag coefficients); ``cases.cached(key, fn)`` stores more such
+items once per solve. ``memo`` is a dict that lives for one trial mass, so requirements that
+share a computation (the all-engines takeoff feeds both the distance and the run) do it once:
+see :func:`all_engines` (memo key ``"all_engines"``). Reports are merged in list order, so a
+later requirement's report may override a field set by an earlier one (e.g. a
+one-engine-inoperative takeoff distance replacing the all-engines figure with the greater of
+the two). ``ALL_ENGINES_REQUIREMENTS`` keeps the all-engines pair on its own.
+
+The solver (:func:`solve_takeoff_weight`) is a vectorised bisection on the mass between OEW
+and MTOW, to ``tol_kg``: feasible at MTOW → ``structural``; infeasible at OEW → ``no_takeoff``
+(NaN mass); otherwise the returned mass is the feasible end of a bracket narrower than
+``tol_kg`` whose other end fails, and the limiting factor is the requirement most violated at
+that other end. It assumes every margin falls as the mass rises (true of field lengths and
+climb gradients). Quadratic and turbofan cases use the closed-form ground run; propeller cases
+the Gauss–Legendre integration; both in one call.
+
+References
+----------
+.. [1] 14 CFR Part 25, §25.113 (takeoff distance and run), §25.109, §25.121 (later
+   requirements); EASA CS-25 identical in these provisions.
+.. [2] D. P. Raymer, *Aircraft Design: A Conceptual Approach*, AIAA, §17.8.
+.. [3] W. H. Press et al., *Numerical Recipes*, 3rd ed., §9.1 (bisection).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, fields
+from typing import Callable, Optional
+
+import numpy as np
+
+from physics import aerodynamics as aero
+from physics import atmosphere
+from physics import fieldlength
+from physics import limits
+from physics import thrust
+
+# ---------------------------------------------------------------------------------------------
+# The case contract (DEVELOPERS.md): frozen dataclasses of numpy arrays, broadcastable to n.
+
+
+@dataclass(frozen=True)
+class Aircraft:
+    """Aircraft-type parameters per case, SI (see DEVELOPERS.md for each field's unit)."""
+
+    mtow_kg: np.ndarray
+    oew_kg: np.ndarray
+    max_payload_kg: np.ndarray
+    max_fuel_kg: np.ndarray
+    max_landing_mass_kg: np.ndarray
+    wing_area_m2: np.ndarray
+    wing_span_m: np.ndarray
+    wing_height_m: np.ndarray
+    cd0_clean: np.ndarray
+    cd0_gear: np.ndarray
+    cd0_takeoff_flaps: np.ndarray
+    oswald_efficiency: np.ndarray
+    cl_ground_roll: np.ndarray
+    cl_max_takeoff: np.ndarray
+    vr_over_vs: np.ndarray
+    vlof_over_vs: np.ndarray
+    v2_over_vs: np.ndarray
+    engine_count: np.ndarray
+    thrust_model: np.ndarray
+    static_thrust_per_engine_n: np.ndarray
+    thrust_linear_per_engine_n_per_mps: np.ndarray
+    thrust_quadratic_per_engine_n_per_mps2: np.ndarray
+    bypass_ratio: np.ndarray
+    flat_rate_oat_k: np.ndarray
+    shaft_power_per_engine_w: np.ndarray
+    propeller_efficiency: np.ndarray
+    engine_out_drag_cd: np.ndarray
+    vmcg_mps: np.ndarray
+    braking_cl: np.ndarray
+    braking_cd_increment: np.ndarray
+    idle_thrust_fraction: np.ndarray
+    tailwind_limit_mps: np.ndarray
+    crosswind_limit_mps: np.ndarray
+    cruise_tas_mps: np.ndarray
+    cruise_lift_to_drag: np.ndarray
+    cruise_tsfc_kg_per_n_s: np.ndarray
+    cruise_psfc_kg_per_w_s: np.ndarray
+    taxi_fuel_kg: np.ndarray
+
+
+@dataclass(frozen=True)
+class Site:
+    """Runway, day and wind per case, SI (see DEVELOPERS.md)."""
+
+    tora_m: np.ndarray
+    toda_m: np.ndarray
+    asda_m: np.ndarray
+    slope: np.ndarray
+    mu_roll: np.ndarray
+    mu_brake: np.ndarray
+    pressure_pa: np.ndarray
+    temperature_k: np.ndarray
+    headwind_mps: np.ndarray
+    screen_height_m: np.ndarray
+
+
+@dataclass(frozen=True)
+class WeightLimit:
+    """Takeoff-weight limit per case and the figures at that mass.
+
+    Attributes
+    ----------
+    tow_limit_kg : numpy.ndarray
+        Takeoff-weight limit; NaN for ``no_takeoff``. [kg]
+    limiting_factor : numpy.ndarray of int
+        ``physics.limits`` code.
+    takeoff_distance_m : numpy.ndarray
+        Regulatory takeoff distance at the limit mass (all engines: 1.15 × distance to the
+        screen; later the greater of that and the one-engine-inoperative distance). [m]
+    takeoff_run_m : numpy.ndarray
+        Regulatory takeoff run at the limit mass (as the distance). [m]
+    accelerate_stop_m : numpy.ndarray
+        Accelerate-stop distance (NaN until that requirement is added). [m]
+    v1_mps, vr_mps, v2_mps, v_lof_mps : numpy.ndarray
+        Speeds at the limit mass, equivalent airspeed (≈ CAS at takeoff Mach numbers); V1 NaN
+        until the engine-failure requirements are added. [m/s]
+    climb_gradient : numpy.ndarray
+        Second-segment gradient (NaN until that requirement is added). [–]
+    """
+
+    tow_limit_kg: np.ndarray
+    limiting_factor: np.ndarray
+    takeoff_distance_m: np.ndarray
+    takeoff_run_m: np.ndarray
+    accelerate_stop_m: np.ndarray
+    v1_mps: np.ndarray
+    vr_mps: np.ndarray
+    v2_mps: np.ndarray
+    v_lof_mps: np.ndarray
+    climb_gradient: np.ndarray
+
+
+_RESULT_FIELDS = tuple(f.name for f in fields(WeightLimit) if f.name not in ("tow_limit_kg", "limiting_factor"))
+
+
+# ---------------------------------------------------------------------------------------------
+# Mass-independent preparation
+
+
+def _broadcast(obj, n):
+    vals = {f.name: np.broadcast_to(np.asarray(getattr(obj, f.name), dtype=float), (n,)) for f in fields(obj)}
+    return type(obj)(**vals)
+
+
+def case_count(aircraft, site):
+    """Number of cases n that all fields of ``aircraft`` and ``site`` broadcast to."""
+    shapes = [np.shape(getattr(o, f.name)) for o in (aircraft, site) for f in fields(o)]
+    shape = np.broadcast_shapes(*shapes)
+    if len(shape) > 1:
+        raise ValueError(f"case arrays must be one-dimensional (or scalars); got shape {shape}")
+    return int(shape[0]) if shape else 1
+
+
+@dataclass
+class Cases:
+    """Inputs broadcast to n cases plus the mass-independent quantities of the model.
+
+    Attributes
+    ----------
+    aircraft : Aircraft
+        Fields broadcast to shape (n,).
+    site : Site
+        Fields broadcast to shape (n,).
+    density_kg_m3 : numpy.ndarray
+        Air density from station pressure and OAT. [kg/m³]
+    thrust_all_engines : physics.thrust.ThrustLaw
+        Takeoff thrust, all engines, for the day.
+    induced_factor : numpy.ndarray
+        K = 1/(pi e AR). [–]
+    cd0_takeoff : numpy.ndarray
+        C_D0 clean + gear + takeoff flaps. [–]
+    cd_ground_roll : numpy.ndarray
+        Ground-roll drag coefficient with ground effect. [–]
+    clearway_m : numpy.ndarray
+        TODA − TORA. [m]
+    """
+
+    aircraft: Aircraft
+    site: Site
+    density_kg_m3: np.ndarray
+    thrust_all_engines: thrust.ThrustLaw
+    induced_factor: np.ndarray
+    cd0_takeoff: np.ndarray
+    cd_ground_roll: np.ndarray
+    clearway_m: np.ndarray
+    _cache: dict = field(default_factory=dict, repr=False)
+
+    @property
+    def n(self):
+        """Number of cases."""
+        return self.density_kg_m3.shape[0]
+
+    def take(self, index):
+        """The prepared cases at ``index`` (integer array); the cache starts empty."""
+        sub = {f.name: getattr(self.aircraft, f.name)[index] for f in fields(self.aircraft)}
+        sub_site = {f.name: getattr(self.site, f.name)[index] for f in fields(self.site)}
+        return Cases(Aircraft(**sub), Site(**sub_site), self.density_kg_m3[index],
+                     self.thrust_all_engines.take(index), self.induced_factor[index], self.cd0_takeoff[index],
+                     self.cd_ground_roll[index], self.clearway_m[index])
+
+    def cached(self, key, fn):
+        """Mass-independent item ``key``, computed by ``fn(self)`` on first use."""
+        if key not in self._cache:
+            self._cache[key] = fn(self)
+        return self._cache[key]
+
+
+def prepare_cases(aircraft, site):
+    """Broadcast the inputs and compute the mass-independent parts of the model.
+
+    Parameters
+    ----------
+    aircraft : Aircraft
+        Per-case aircraft parameters (SI).
+    site : Site
+        Per-case runway, day and wind (SI).
+
+    Returns
+    -------
+    Cases
+        Prepared cases.
+
+    Notes
+    -----
+    rho = p/(R T); K = 1/(pi e b²/S); C_D,ground = C_D0 + phi(h/b) K C_L,g²; thrust law of all
+    engines at takeoff rating for (p, T).
+
+    References
+    ----------
+    .. [2] Raymer, §17.8. See ``physics.aerodynamics`` and ``physics.thrust``.
+    """
+    n = case_count(aircraft, site)
+    a = _broadcast(aircraft, n)
+    s = _broadcast(site, n)
+    rho = atmosphere.density_kg_m3(s.pressure_pa, s.temperature_k)
+    k = aero.induced_drag_factor(a.oswald_efficiency, aero.aspect_ratio(a.wing_span_m, a.wing_area_m2))
+    cd0 = a.cd0_clean + a.cd0_gear + a.cd0_takeoff_flaps
+    phi = aero.ground_effect_factor(a.wing_height_m, a.wing_span_m)
+    cd_ground = aero.drag_coefficient(cd0, k, a.cl_ground_roll, phi)
+    law = thrust.thrust_law_for_aircraft(a, s.pressure_pa, s.temperature_k)
+    return Cases(a, s, rho, law, k, cd0, cd_ground, s.toda_m - s.tora_m)
+
+
+# ---------------------------------------------------------------------------------------------
+# Requirements
+
+
+@dataclass(frozen=True)
+class Requirement:
+    """One takeoff requirement the limit mass must meet.
+
+    Attributes
+    ----------
+    factor : str
+        Limiting-factor name in ``physics.limits.FACTORS`` reported when this binds.
+    margin : callable
+        ``margin(cases, mass_kg, memo) -> ndarray``: dimensionless margin, ≥ 0 met, NaN
+        impossible; must fall as the mass rises.
+    report : callable, optional
+        ``report(cases, mass_kg, memo) -> dict`` of ``WeightLimit`` field name → array at the
+        final mass.
+    """
+
+    factor: str
+    margin: Callable
+    report: Optional[Callable] = None
+
+
+def all_engines(cases, mass_kg, memo):
+    """All-engines takeoff at the trial masses, computed once per trial mass (memoised).
+
+    Parameters
+    ----------
+    cases : Cases
+        Prepared cases.
+    mass_kg : numpy.ndarray
+        Trial mass per case. [kg]
+    memo : dict
+        Per-trial-mass store.
+
+    Returns
+    -------
+    physics.fieldlength.TakeoffResult
+        Speeds (TAS) and unfactored distances.
+
+    Notes
+    -----
+    See :func:`physics.fieldlength.all_engines_takeoff`.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.113.
+    """
+    if "all_engines" not in memo:
+        a, s = cases.aircraft, cases.site
+        memo["all_engines"] = fieldlength.all_engines_takeoff(
+            thrust_law=cases.thrust_all_engines, mass_kg=mass_kg, wing_area_m2=a.wing_area_m2,
+            density_kg_m3=cases.density_kg_m3, cd_ground=cases.cd_ground_roll, cl_ground=a.cl_ground_roll,
+            mu=s.mu_roll, cl_max=a.cl_max_takeoff, vr_over_vs=a.vr_over_vs, vlof_over_vs=a.vlof_over_vs,
+            v2_over_vs=a.v2_over_vs, cd0_airborne=cases.cd0_takeoff, induced_factor=cases.induced_factor,
+            headwind_mps=s.headwind_mps, slope=s.slope, screen_height_m=s.screen_height_m,
+            clearway_m=cases.clearway_m)
+    return memo["all_engines"]
+
+
+def _takeoff_distance_margin(cases, mass_kg, memo):
+    tod = fieldlength.ALL_ENGINES_FACTOR * all_engines(cases, mass_kg, memo).takeoff_distance_m
+    return 1.0 - tod / cases.site.toda_m
+
+
+def _takeoff_run_margin(cases, mass_kg, memo):
+    tor = fieldlength.ALL_ENGINES_FACTOR * all_engines(cases, mass_kg, memo).takeoff_run_m
+    return 1.0 - tor / cases.site.tora_m
+
+
+def _speeds_eas(cases, tas):
+    return atmosphere.equivalent_airspeed_mps(tas, cases.density_kg_m3)
+
+
+def _takeoff_distance_report(cases, mass_kg, memo):
+    r = all_engines(cases, mass_kg, memo)
+    return {
+        "takeoff_distance_m": fieldlength.ALL_ENGINES_FACTOR * r.takeoff_distance_m,
+        "vr_mps": _speeds_eas(cases, r.vr_mps),
+        "v_lof_mps": _speeds_eas(cases, r.v_lof_mps),
+        "v2_mps": _speeds_eas(cases, r.v2_mps),
+    }
+
+
+def _takeoff_run_report(cases, mass_kg, memo):
+    return {"takeoff_run_m": fieldlength.ALL_ENGINES_FACTOR * all_engines(cases, mass_kg, memo).takeoff_run_m}
+
+
+#: The all-engines requirements of 14 CFR 25.113 (115 % distances against TODA and TORA).
+ALL_ENGINES_REQUIREMENTS = (
+    Requirement("takeoff_distance", _takeoff_distance_margin, _takeoff_distance_report),
+    Requirement("takeoff_run", _takeoff_run_margin, _takeoff_run_report),
+)
+
+#: The requirements checked by default, in reporting order. Append to add one.
+REQUIREMENTS = list(ALL_ENGINES_REQUIREMENTS)
+
+
+# ---------------------------------------------------------------------------------------------
+# Solver
+
+
+def requirement_margins(cases, mass_kg, requirements=None):
+    """Margins of every requirement at trial masses.
+
+    Parameters
+    ----------
+    cases : Cases
+        Prepared cases.
+    mass_kg : array_like
+        Trial mass per case. [kg]
+    requirements : list of Requirement, optional
+        Default ``REQUIREMENTS``.
+
+    Returns
+    -------
+    margins : numpy.ndarray
+        Shape (n_requirements, n); NaN (impossible) replaced by −inf. [–]
+    memo : dict
+        The per-mass store (for reports).
+
+    Notes
+    -----
+    A case meets all requirements where min over requirements ≥ 0.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.113.
+    """
+    reqs = REQUIREMENTS if requirements is None else requirements
+    memo = {}
+    mass = np.broadcast_to(np.asarray(mass_kg, dtype=float), (cases.n,))
+    rows = [np.asarray(r.margin(cases, mass, memo), dtype=float) for r in reqs]
+    margins = np.stack([np.where(np.isnan(x), -np.inf, x) for x in rows])
+    return margins, memo
+
+
+def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None):
+    """Largest takeoff mass between OEW and MTOW meeting every requirement, per case.
+
+    Parameters
+    ----------
+    aircraft : Aircraft
+        Per-case aircraft parameters (SI), broadcastable to n.
+    site : Site
+        Per-case runway, day and (factored) wind (SI), broadcastable to n.
+    tol_kg : float, optional
+        Width of the final bracket: the returned mass meets every requirement and the mass
+        ``tol_kg`` above it fails one. [kg]
+    requirements : list of Requirement, optional
+        Default ``REQUIREMENTS`` (all-engines takeoff distance and run for now).
+
+    Returns
+    -------
+    WeightLimit
+        Arrays of shape (n,).
+
+    Notes
+    -----
+    Bisection on [OEW, MTOW] for every case at once: ceil(log2((MTOW − OEW)/tol)) halvings
+    per case, each one evaluation of all requirements on the cases neither structural nor
+    no_takeoff. Invariant: the lower
+    end meets every requirement, the upper end fails one.
+
+    References
+    ----------
+    .. [3] Numerical Recipes §9.1. .. [1] 14 CFR 25.113.
+    """
+    reqs = REQUIREMENTS if requirements is None else list(requirements)
+    cases = prepare_cases(aircraft, site)
+    a = cases.aircraft
+    lo = a.oew_kg.copy()
+    hi = a.mtow_kg.copy()
+
+    def feasible(mass):
+        return requirement_margins(cases, mass, reqs)[0].min(axis=0) >= 0.0
+
+    structural = feasible(hi)
+    none = ~structural & ~feasible(lo)
+    active = np.nonzero(~structural & ~none)[0]
+    factor = np.where(structural, limits.code("structural"), limits.code("no_takeoff"))
+    limit = np.where(structural, a.mtow_kg, np.nan)
+    if active.size:
+        sub = cases.take(active)
+        lo, hi = lo[active], hi[active]
+        # Each case gets its own number of halvings, so its result does not depend on the
+        # other cases in the batch (a scalar call equals the array element).
+        steps = np.ceil(np.log2(np.maximum(hi - lo, tol_kg) / tol_kg)).astype(int)
+        for k in range(int(steps.max())):
+            mid = 0.5 * (lo + hi)
+            ok = requirement_margins(sub, mid, reqs)[0].min(axis=0) >= 0.0
+            go = k < steps
+            lo = np.where(go & ok, mid, lo)
+            hi = np.where(go & ~ok, mid, hi)
+        # The factor: the requirement most violated just above the limit.
+        margins_hi, _ = requirement_margins(sub, hi, reqs)
+        codes = np.array([limits.code(r.factor) for r in reqs])
+        factor[active] = codes[np.argmin(margins_hi, axis=0)]
+        limit[active] = lo
+
+    # Figures at the limit mass (OEW stands in for no_takeoff cases and is blanked).
+    _, memo = requirement_margins(cases, np.where(none, a.oew_kg, limit), reqs)
+    mass = np.where(none, a.oew_kg, limit)
+    out = {k: np.full(cases.n, np.nan) for k in _RESULT_FIELDS}
+    for r in reqs:
+        if r.report is not None:
+            for key, val in r.report(cases, mass, memo).items():
+                out[key] = np.where(none, np.nan, np.asarray(val, dtype=float))
+    return WeightLimit(tow_limit_kg=limit, limiting_factor=factor.astype(np.int64), **out)

@@ -1,0 +1,142 @@
+"""Takeoff-weight solver: requirement met with equality at the limit, factors, properties,
+and agreement with an independent per-case loop (solve_ivp + brentq)."""
+
+import numpy as np
+import pytest
+
+from physics import constants as c
+from physics import limits
+from physics import weightlimit as wl
+from tests.physics import fleet
+from tests.physics.reference_loop import loop_solve
+
+TD, TR = limits.code("takeoff_distance"), limits.code("takeoff_run")
+# These tests check the all-engines solver; later requirements (engine failure, climb) are
+# tested with their own modules.
+AEO = list(wl.ALL_ENGINES_REQUIREMENTS)
+
+
+def solve(aircraft, site, **kw):
+    return wl.solve_takeoff_weight(aircraft, site, requirements=AEO, **kw)
+
+
+def _solve(kinds, **site):
+    n = len(kinds)
+    return solve(fleet.aircraft(kinds), fleet.site(n, **site))
+
+
+def test_limits_list_and_codes():
+    assert limits.FACTORS[:2] == ("structural", "takeoff_distance")
+    for name in ("takeoff_run", "no_takeoff", "accelerate_stop", "climb_gradient", "tailwind_limit", "crosswind_limit"):
+        assert limits.name(limits.code(name)) == name
+    assert list(limits.name(np.array([0, 7]))) == ["structural", "no_takeoff"]
+    with pytest.raises(ValueError):
+        limits.code("runway")
+
+
+def test_structural_runway_limited_and_no_takeoff():
+    kinds = ["turbofan"] * 3
+    r = _solve(kinds, tora_m=np.array([4000.0, 1500.0, 300.0]), toda_m=np.array([4000.0, 1600.0, 300.0]))
+    assert r.tow_limit_kg[0] == 72000.0 and r.limiting_factor[0] == limits.code("structural")
+    assert 41000.0 < r.tow_limit_kg[1] < 72000.0 and r.limiting_factor[1] in (TD, TR)
+    assert np.isnan(r.tow_limit_kg[2]) and r.limiting_factor[2] == limits.code("no_takeoff")
+    assert np.isnan(r.takeoff_distance_m[2]) and np.isnan(r.v_lof_mps[2])
+    assert np.isnan(r.accelerate_stop_m).all() and np.isnan(r.v1_mps).all()
+
+
+@pytest.mark.parametrize("kind", fleet.KINDS)
+def test_requirement_met_with_equality_at_the_limit(kind):
+    # Within 1 kg: the limit meets every requirement, 1 kg more fails one (tol_kg = 1).
+    a, s = fleet.aircraft([kind] * 4), fleet.site(4, tora_m=np.array([1100.0, 1400.0, 1700.0, 2000.0]),
+                                                  toda_m=np.array([1100.0, 1500.0, 1900.0, 2000.0]),
+                                                  temperature_k=303.0)
+    r = solve(a, s)
+    lim = np.where(r.limiting_factor == 0, np.nan, r.tow_limit_kg)
+    ok = np.isfinite(lim)
+    assert ok.any()
+    cases = wl.prepare_cases(a, s)
+    at, _ = wl.requirement_margins(cases, np.where(ok, lim, a.oew_kg), AEO)
+    above, _ = wl.requirement_margins(cases, np.where(ok, lim + 1.0, a.oew_kg), AEO)
+    assert np.all(at.min(axis=0)[ok] >= 0.0)
+    assert np.all(above.min(axis=0)[ok] < 0.0)
+    # The named factor is the one that binds: its margin at the limit is ~0 (< 1 kg's worth).
+    for j in np.nonzero(ok)[0]:
+        row = [req.factor for req in AEO].index(limits.name(r.limiting_factor[j]))
+        assert at[row, j] < 1e-3
+    # Reported distances at the limit equal the declared distance they are limited by.
+    td = r.limiting_factor == TD
+    assert np.allclose(r.takeoff_distance_m[td], s.toda_m[td], rtol=1e-3)
+
+
+def test_agrees_with_per_case_loop_solve_ivp_brentq():
+    # Independent oracle: time integration (solve_ivp, rtol 1e-9) + brentq per case.
+    a, s = fleet.random_cases(24, seed=3)
+    r = solve(a, s)
+    for i in range(24):
+        m, factor = loop_solve(a, s, i)
+        if np.isnan(m):
+            assert np.isnan(r.tow_limit_kg[i])
+        else:
+            assert r.tow_limit_kg[i] == pytest.approx(m, abs=2.0)  # 1 kg bracket + 0.5 kg xtol
+        if factor != "structural" and not np.isnan(m):
+            assert limits.name(r.limiting_factor[i]) == factor
+
+
+def test_mixed_call_equals_separate_calls_and_scalar_equals_array_element():
+    kinds = ["propeller", "turbofan", "quadratic", "turbofan", "propeller"]
+    tora = np.array([900.0, 1500.0, 1300.0, 1800.0, 1000.0])
+    mixed = solve(fleet.aircraft(kinds), fleet.site(5, tora_m=tora, toda_m=tora + 100))
+    for i, kind in enumerate(kinds):
+        one = solve(fleet.aircraft([kind]), fleet.site(1, tora_m=tora[i], toda_m=tora[i] + 100))
+        assert one.tow_limit_kg[0] == mixed.tow_limit_kg[i]
+        assert one.limiting_factor[0] == mixed.limiting_factor[i]
+        assert one.takeoff_distance_m[0] == mixed.takeoff_distance_m[i]
+
+
+@pytest.mark.parametrize("kind", fleet.KINDS)
+def test_weight_limit_properties(kind):
+    # Falls with temperature, elevation (pressure), uphill slope and tailwind; rises with headwind.
+    runway = {"turbofan": 1500.0, "quadratic": 1000.0, "propeller": 900.0}[kind]
+
+    def limit(**over):
+        n = max(np.size(v) for v in over.values())
+        base = dict(tora_m=runway, toda_m=runway)
+        base.update(over)
+        r = solve(fleet.aircraft([kind] * n), fleet.site(n, **base))
+        assert np.all(np.isin(r.limiting_factor, [TD, TR]))  # runway-limited, so the test can fail
+        return r.tow_limit_kg
+
+    assert np.all(np.diff(limit(temperature_k=np.array([270.0, 285.0, 300.0, 310.0, 320.0]))) < 0)
+    p = c.P0_PA * np.array([1.0, 0.95, 0.9, 0.85])
+    assert np.all(np.diff(limit(pressure_pa=p)) < 0)
+    assert np.all(np.diff(limit(slope=np.array([-0.01, 0.0, 0.01, 0.02]))) < 0)
+    assert np.all(np.diff(limit(headwind_mps=np.array([-5.0, -2.5, 0.0, 5.0]))) > 0)
+
+
+def test_runway_lengths_raise_the_limit_and_wet_screen_height():
+    r = _solve(["quadratic"] * 3, tora_m=np.array([1000.0, 1100.0, 1200.0]), toda_m=np.array([1000.0, 1100.0, 1200.0]))
+    assert np.all(np.diff(r.tow_limit_kg) > 0)
+    dry = _solve(["quadratic"], tora_m=1100.0, toda_m=1100.0, screen_height_m=c.SCREEN_HEIGHT_35FT_M)
+    wet = _solve(["quadratic"], tora_m=1100.0, toda_m=1100.0, screen_height_m=c.SCREEN_HEIGHT_15FT_M)
+    assert wet.tow_limit_kg[0] > dry.tow_limit_kg[0]  # same friction, lower screen
+
+
+def test_extra_requirement_slots_in_without_changing_the_solver():
+    # A made-up requirement (mass ≤ 30 t) tagged with an existing factor name binds below the
+    # runway limit and is reported — how later issues add accelerate-stop or climb limits.
+    extra = wl.Requirement("climb_gradient", lambda cases, m, memo: 1.0 - m / 60000.0,
+                           lambda cases, m, memo: {"climb_gradient": np.full(cases.n, 0.03)})
+    r = wl.solve_takeoff_weight(fleet.aircraft(["turbofan", "turbofan"]),
+                                fleet.site(2, tora_m=np.array([4000.0, 1200.0]), toda_m=np.array([4000.0, 1200.0])),
+                                requirements=AEO + [extra])
+    assert r.tow_limit_kg[0] == pytest.approx(60000.0, abs=1.0)
+    assert limits.name(r.limiting_factor).tolist() == ["climb_gradient", "takeoff_distance"]
+    assert r.tow_limit_kg[1] < 60000.0
+    assert r.climb_gradient.tolist() == [0.03, 0.03]
+
+
+def test_speeds_reported_as_equivalent_airspeed():
+    # At a hot high field the EAS of lift-off is the sea-level one for the same mass (V ∝ 1/sqrt(rho)).
+    r = _solve(["turbofan"] * 2, tora_m=5000.0, toda_m=5000.0, pressure_pa=np.array([c.P0_PA, 80000.0]))
+    assert r.limiting_factor.tolist() == [0, 0]
+    assert r.v_lof_mps[0] == pytest.approx(r.v_lof_mps[1], rel=1e-12)
