@@ -178,6 +178,60 @@ def daily_max_temperature_k(score, mean_k, sd_k, percentile_values_k=None,
     return t + slope * np.maximum(z - prev_z, 0.0)
 
 
+def daily_max_temperature_score(temperature_k, mean_k, sd_k, percentile_values_k=None,
+                                percentile_probabilities=PERCENTILE_PROBABILITIES):
+    """Standard-normal score of a daily maximum temperature (inverse of the quantiles).
+
+    Parameters
+    ----------
+    temperature_k : array_like
+        Temperature. [K]
+    mean_k, sd_k : array_like
+        Monthly mean and standard deviation (> 0) of the daily maximum. [K]
+    percentile_values_k : array_like, optional
+        Given percentiles, as for :func:`daily_max_temperature_k`. [K]
+    percentile_probabilities : sequence of float, optional
+        Their probabilities. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        z with daily_max_temperature_k(z) = temperature (NaN where sd = 0). [–]
+
+    Notes
+    -----
+    Normal: z = (T − mean)/sd. With percentiles, the piecewise-linear T(z) of
+    :func:`daily_max_temperature_k` is inverted segment by segment.
+
+    References
+    ----------
+    .. [4] Wilks (2011), §4.4.2.
+    """
+    t = np.asarray(temperature_k, dtype=float)
+    mean = np.asarray(mean_k, dtype=float)
+    sd = np.asarray(sd_k, dtype=float)
+    sd_safe = np.where(sd > 0, sd, np.nan)
+    if percentile_values_k is None:
+        return (t - mean) / sd_safe
+    # Knots of T(z): evaluate the quantile function at the anchor scores and invert the
+    # piecewise-linear function between them (slopes from the same evaluation).
+    probs = np.asarray(percentile_probabilities, dtype=float)
+    z_knots = np.unique(np.concatenate([[0.0], normal_score(probs[probs > 0.5])]))
+    t_knots = daily_max_temperature_k(z_knots, mean[..., None], sd[..., None],
+                                      np.asarray(percentile_values_k, dtype=float)[..., None, :],
+                                      percentile_probabilities)
+    t_far = daily_max_temperature_k(z_knots[-1] + 1.0, mean, sd, percentile_values_k,
+                                    percentile_probabilities)
+    z = np.where(t <= t_knots[..., 0], (t - t_knots[..., 0]) / sd_safe, 0.0)
+    for k in range(z_knots.size - 1):  # a fixed, small number of anchors
+        t0, t1 = t_knots[..., k], t_knots[..., k + 1]
+        span = np.where(t1 > t0, t1 - t0, np.inf)
+        z = z + (z_knots[k + 1] - z_knots[k]) * np.clip((t - t0) / span, 0.0, 1.0)
+    last_slope = t_far - t_knots[..., -1]
+    beyond = np.maximum(t - t_knots[..., -1], 0.0) / np.where(last_slope > 0, last_slope, np.nan)
+    return z + np.where(t > t_knots[..., -1], beyond, 0.0)
+
+
 # ----------------------------------------------------------------------------------------
 # Wind rose
 # ----------------------------------------------------------------------------------------
@@ -411,6 +465,7 @@ def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps):
 # ----------------------------------------------------------------------------------------
 _NOT_POSSIBLE_KG = -1.0e12  # finite stand-in for "not possible" inside the inversion
 _TIE_KG = 1.0e-6  # masses equal within this count as achieved
+_FAR_SCORE = 40.0  # |z| beyond this is taken as infinite
 
 
 def _segments(f, scores):
@@ -434,14 +489,15 @@ def _crossing_score(seg, mass):
     g = f.shape[-1]
     if g == 1:
         return np.where(f[..., 0] >= m, np.inf, -np.inf)
-    dz = np.diff(z)
-    out = np.full(np.broadcast_shapes(f.shape[:-1], np.shape(m)), z[0])
+    dz = np.diff(z, axis=-1)
+    out = np.broadcast_to(z[..., 0], np.broadcast_shapes(f.shape[:-1], np.shape(m), z.shape[:-1])).copy()
     for k in range(g - 1):  # a fixed, small number of temperature segments
         c = (f[..., k] - m) * inv[..., k]
         lo = -np.inf if k == 0 else 0.0
         hi = np.inf if k == g - 2 else 1.0
-        out = out + dz[k] * np.clip(c, lo, hi)
-    return out
+        out = out + dz[..., k] * np.clip(c, lo, hi)
+    # Beyond ±_FAR_SCORE the extension is flat in effect (Phi is 0 or 1 to 1e-300).
+    return np.where(out > _FAR_SCORE, np.inf, np.where(out < -_FAR_SCORE, -np.inf, out))
 
 
 def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=None,
@@ -548,8 +604,9 @@ def _prepare(point_mass_kg):
 def _share(f, scores, weight, m):
     """S(m) for f (N, J, G) (or its _segments) and m (N,) or (N, L); also z*_j,
     shape m.shape + (J,)."""
-    seg = f if isinstance(f, tuple) else _segments(f, scores)
-    seg = tuple(s[:, None] if s.ndim > 1 else s for s in seg)
+    f, z, inv = f if isinstance(f, tuple) else _segments(f, scores)
+    # A levels axis after the groups; per-group scores (N, G) line up with (N, L, J, G).
+    seg = (f[:, None], z if z.ndim == 1 else z[:, None, None, :], inv[:, None])
     m = np.asarray(m, dtype=float)
     zj = _crossing_score(seg, m.reshape(m.shape[0], -1)[:, :, None])
     s = np.sum(weight[:, None, :] * normal_probability(zj), axis=-1)
@@ -569,7 +626,8 @@ def share_of_days(mass_kg, point_mass_kg, scores, weight):
         Mass of each wind point on its flown direction at each temperature node,
         ``(N, J, G)``; -inf or NaN where not possible. [kg]
     scores : array_like
-        Standard-normal scores of the temperature nodes, increasing, ``(G,)``. [–]
+        Standard-normal scores of the temperature nodes, increasing, ``(G,)`` or per
+        group ``(N, G)``. [–]
     weight : array_like
         Share of days of each wind point, ``(N, J)``. [–]
 
@@ -609,7 +667,8 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
         ``(N, J, G)`` (from :func:`flown_direction`), **not** capped at MTOW; -inf where the
         wind point is usable nowhere, NaN where no takeoff is possible. [kg]
     scores : array_like
-        Standard-normal scores of the temperature nodes, increasing, ``(G,)``. [–]
+        Standard-normal scores of the temperature nodes, increasing, ``(G,)`` or per
+        group ``(N, G)`` (e.g. with a node moved onto a thrust flat-rating corner). [–]
     weight : array_like
         Share of days of each wind point, ``(N, J)``, summing to 1 per group. [–]
     oew_kg, mtow_kg : array_like
@@ -664,21 +723,26 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     s_oew, zj_oew = _share(f, z, w, oew)
     share_target = s_mtow if target_mass_kg is None else _share(
         f, z, w, np.asarray(target_mass_kg, dtype=float))[0]
+    # The search runs on the uncapped masses up to the highest node mass, so that a level
+    # at MTOW still finds a typical binding day (the cap is applied at the end).
+    finite_f = np.where(np.isfinite(f), f, -np.inf)
+    top = np.maximum(mtow, np.max(finite_f, axis=(1, 2), initial=-np.inf))
+    s_top = _share(f, z, w, top)[0]
 
     lo = np.repeat(oew[:, None], p.size, axis=1)
-    hi = np.repeat(mtow[:, None], p.size, axis=1)
-    at_mtow = s_mtow[:, None] >= p[None, :] - eps
-    search = (s_oew[:, None] >= p[None, :] - eps) & ~at_mtow
+    hi = np.repeat(top[:, None], p.size, axis=1)
+    at_top = s_top[:, None] >= p[None, :] - eps
+    search = (s_oew[:, None] >= p[None, :] - eps) & ~at_top
     # Only the groups that need it are iterated. Steps: false position, alternating with
     # bisection (so the bracket at least halves every second step); once the local slope
     # says lo is within tol of the root, a step to lo + tol certifies it (S(lo + tol) < p
     # closes the bracket to tol, also where S is a step function).
     rows = np.nonzero(np.any(search, axis=1))[0]
     if rows.size:
-        f_s = _segments(f[rows], z)
+        f_s = _segments(f[rows], z if z.ndim == 1 else z[rows])
         w_s, lo_s, hi_s = w[rows], lo[rows], hi[rows]
         s_lo = np.repeat(s_oew[rows, None], p.size, axis=1) - p
-        s_hi = np.repeat(s_mtow[rows, None], p.size, axis=1) - p
+        s_hi = np.repeat(s_top[rows, None], p.size, axis=1) - p
         active = search[rows]
         span = float(np.max(hi_s - lo_s))
         max_steps = 2 * int(np.ceil(np.log2(max(span, tol_kg) / tol_kg))) + 2
@@ -697,21 +761,23 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
             lo_s, s_lo = np.where(ok, x, lo_s), np.where(ok, s_x, s_lo)
             hi_s, s_hi = np.where(ok, hi_s, x), np.where(ok, s_hi, s_x)
         lo[rows] = lo_s
-    mass = np.where(at_mtow, mtow[:, None], np.where(search, lo, np.nan))
+    level = np.where(at_top, top[:, None], np.where(search, lo, np.nan))  # uncapped
+    mass = np.minimum(level, mtow[:, None])
 
     # Binding day at each level mass.
-    m_eval = np.where(np.isfinite(mass), mass, oew[:, None])
+    m_eval = np.where(np.isfinite(level), level, oew[:, None])
     zj = _share(f, z, w, m_eval)[1]  # (N, L, J)
     finite = np.isfinite(zj) & (w[:, None, :] > 0)
     dens = np.where(finite, w[:, None, :] * np.exp(-0.5 * np.where(finite, zj, 0.0) ** 2), -1.0)
-    mid_node = int(np.argmin(np.abs(z)))
-    f_mid = f[:, None, :, mid_node]
+    z_grp = np.broadcast_to(z, (n_groups, z.shape[-1]))
+    mid_node = np.argmin(np.abs(z_grp), axis=-1)  # node nearest the median, per group
+    f_mid = np.take_along_axis(f, mid_node[:, None, None], axis=-1)[:, None, :, 0]
     slack = np.where((f_mid >= m_eval[..., None] - tol_kg) & (w[:, None, :] > 0),
                      f_mid - m_eval[..., None], np.inf)
     has_dens = np.max(dens, axis=-1) > 0.0
     point = np.where(has_dens, np.argmax(dens, axis=-1), np.argmin(slack, axis=-1))
     zb = np.take_along_axis(zj, point[..., None], axis=-1)[..., 0]
-    score = np.where(np.isfinite(zb), zb, z[mid_node])
+    score = np.where(has_dens & np.isfinite(zb), zb, z_grp[np.arange(n_groups), mid_node][:, None])
 
     # Why days are lost, for levels that are not possible.
     lost = np.full((n_groups, n_pts), -1) if lost_reason is None else np.asarray(lost_reason)
