@@ -176,38 +176,22 @@ def _log1p_ratio(x, log1p_x):
     return ratio
 
 
-def _quadratic_feasible(a0, a1, a2, vi, vf, dv):
-    """True where sign(vf − vi)·a(V) > 0 on the whole segment (or it has zero length)."""
-    sgn = np.sign(dv)
-    ai = a0 + (a1 + a2 * vi) * vi
-    af = a0 + (a1 + a2 * vf) * vf
-    ok = (sgn * ai > 0.0) & (sgn * af > 0.0)
-    # a vertex of a(V) strictly inside the segment may dip below zero
-    with np.errstate(divide="ignore", invalid="ignore"):
-        vstar = -a1 / (2.0 * a2)
-        astar = a0 + 0.5 * a1 * vstar  # a(v*) = a0 − a1²/(4 a2)
-    inside = (vstar - vi) * (vstar - vf) < 0.0
-    ok &= ~(inside & (sgn * astar <= 0.0))
-    return ok | (dv == 0.0)
-
-
 def _quadratic_integrals(a0, a1, a2, vi, vf, w):
     """Closed-form ∫(V − w)/a dV and ∫dV/a from vi to vf for a = a0 + a1 V + a2 V².
 
     Returns (distance, time), NaN where the segment is infeasible. Arrays broadcast.
+
+    Feasibility: the acceleration must have the sign of (vf − vi) at vi; a root of a(V)
+    inside the segment then makes one of the logarithms' arguments negative (or zero at an
+    end), which gives NaN (or ±inf) — caught by the final finiteness check. With complex
+    roots a(V) keeps its sign.
     """
     a0, a1, a2, vi, vf, w = np.broadcast_arrays(_f(a0), _f(a1), _f(a2), _f(vi), _f(vf), _f(w))
     shape = a0.shape
     a0, a1, a2, vi, vf, w = (np.atleast_1d(x) for x in (a0, a1, a2, vi, vf, w))
     dv = vf - vi
-    ok = _quadratic_feasible(a0, a1, a2, vi, vf, dv)
-    a1sq = a1 * a1
-    four_a0a2 = 4.0 * a0 * a2
-    disc = a1sq - four_a0a2
-    vmax = np.maximum(np.abs(vi), np.abs(vf))
-    const = (np.abs(a1) + np.abs(a2) * vmax) * vmax <= 1e-13 * np.abs(a0)
-    double = (np.abs(disc) <= 1e-12 * (a1sq + np.abs(four_a0a2))) & ~const
-    cplx = (disc < 0.0) & ~double & ~const
+    ai = a0 + (a1 + a2 * vi) * vi
+    disc = a1 * a1 - 4.0 * a0 * a2
 
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         # Real, distinct roots: a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q.
@@ -223,37 +207,46 @@ def _quadratic_integrals(a0, a1, a2, vi, vf, w):
         dist = (term1 - (r2 - w) * log2) / d
         time = (log1 - log2) / d
 
-    if np.any(cplx):
-        i = cplx
-        A0, A1, A2, Vi, Vf, W, DV = a0[i], a1[i], a2[i], vi[i], vf[i], w[i], dv[i]
-        sd = np.sqrt(-disc[i])
-        x = (2.0 * A2 * Vf + A1) / sd
-        y = (2.0 * A2 * Vi + A1) / sd
-        jt = 2.0 / sd * np.arctan2(2.0 * A2 * DV / sd, 1.0 + x * y)
-        ai = A0 + (A1 + A2 * Vi) * Vi
-        with np.errstate(invalid="ignore", divide="ignore"):
-            ln = np.log1p(DV * (A1 + A2 * (Vf + Vi)) / ai)
-        dist[i] = (ln - (2.0 * A2 * W + A1) * jt) / (2.0 * A2)
-        time[i] = jt
-    if np.any(double):
-        i = double
-        A2, Vi, Vf, W = a2[i], vi[i], vf[i], w[i]
-        r = -a1[i] / (2.0 * A2)
-        with np.errstate(invalid="ignore", divide="ignore"):
+    # Other regimes on the (usually few) cases that need them: complex roots, and where the
+    # real-root form is singular or ill-conditioned (double root; constant acceleration).
+    absdisc = np.abs(disc)
+    special = (disc < 0.0) | (absdisc <= 1e-12 * (a1 * a1 + np.abs(4.0 * a0 * a2)))
+    if np.any(special):
+        i = np.nonzero(special)[0]
+        A0, A1, A2, Vi, Vf, W, DV, D = a0[i], a1[i], a2[i], vi[i], vf[i], w[i], dv[i], disc[i]
+        vmax = np.maximum(np.abs(Vi), np.abs(Vf))
+        const = (np.abs(A1) + np.abs(A2) * vmax) * vmax <= 1e-13 * np.abs(A0)
+        double = (np.abs(D) <= 1e-12 * (A1 * A1 + np.abs(4.0 * A0 * A2))) & ~const
+        cplx = (D < 0.0) & ~double & ~const
+        s_sp, t_sp = dist[i], time[i]
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+            # complex roots [3] 2.172 (atan difference written with atan2, exact branch)
+            sd = np.sqrt(np.abs(D))
+            x = (2.0 * A2 * Vf + A1) / sd
+            y = (2.0 * A2 * Vi + A1) / sd
+            jt = 2.0 / sd * np.arctan2(2.0 * A2 * DV / sd, 1.0 + x * y)
+            ln = np.log1p(DV * (A1 + A2 * (Vf + Vi)) / ai[i])
+            s_c = (ln - (2.0 * A2 * W + A1) * jt) / (2.0 * A2)
+            # double root r: a = a2 (V − r)²
+            r = -A1 / (2.0 * A2)
             inv = 1.0 / (Vi - r) - 1.0 / (Vf - r)
-            dist[i] = (np.log((Vf - r) / (Vi - r)) + (r - W) * inv) / A2
-            time[i] = inv / A2
-    if np.any(const):
-        i = const
-        dist[i] = dv[i] * (vf[i] + vi[i] - 2.0 * w[i]) / (2.0 * a0[i])
-        time[i] = dv[i] / a0[i]
+            s_d = (np.log((Vf - r) / (Vi - r)) + (r - W) * inv) / A2
+            t_d = inv / A2
+            # constant acceleration
+            s_k = DV * (Vf + Vi - 2.0 * W) / (2.0 * A0)
+            t_k = DV / A0
+        s_sp = np.where(cplx, s_c, np.where(double, s_d, np.where(const, s_k, s_sp)))
+        t_sp = np.where(cplx, jt, np.where(double, t_d, np.where(const, t_k, t_sp)))
+        dist[i] = s_sp
+        time[i] = t_sp
 
-    bad = ~ok
+    ok = (np.sign(dv) * ai > 0.0) & np.isfinite(dist) & np.isfinite(time)
     zero = dv == 0.0
-    dist[bad] = np.nan
-    time[bad] = np.nan
-    dist[zero] = 0.0
-    time[zero] = 0.0
+    dist = np.where(ok, dist, np.nan)
+    time = np.where(ok, time, np.nan)
+    if np.any(zero):
+        dist[zero] = 0.0
+        time[zero] = 0.0
     return dist.reshape(shape), time.reshape(shape)
 
 
@@ -270,7 +263,6 @@ def _split_at_zero(a0, a1, a2, a2_reverse, va_start, va_end, headwind_mps):
     s, t = _quadratic_integrals(a0, a1, a2, np.maximum(vi, 0.0), np.maximum(vf, 0.0), w)
     rev = (vi < 0.0) | (vf < 0.0)
     if np.any(rev):
-        s, t = np.array(s, copy=True), np.array(t, copy=True)
         sr, tr = _quadratic_integrals(a0[rev], a1[rev], a2r[rev], np.minimum(vi[rev], 0.0),
                                       np.minimum(vf[rev], 0.0), w[rev])
         s[rev] += sr
@@ -756,9 +748,9 @@ def ground_run_for_thrust_law(thrust_law, *, mass_kg, wing_area_m2, density_kg_m
 
         v0 = np.maximum(vk[idx], w[idx])
         s2, t2 = _general_integrals(acc, v0, vlof[idx], w[idx], nodes, None)
-        dist = dist.copy()
-        time = time.copy()
-        reason = reason.copy()
+        dist = np.array(dist)
+        time = np.array(time)
+        reason = np.array(reason)
         dist[idx] += s2
         time[idx] += t2
         reason[idx] = np.where(np.isnan(s2), REASON_NO_ACCELERATION, reason[idx])

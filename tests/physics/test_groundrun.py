@@ -178,3 +178,16 @@ def test_ground_run_properties():
     dens = gr.ground_run_m(**dict(base, density_kg_m3=rho, v_lof_mps=ANDERSON["v_lof_mps"] / np.sqrt(rho / RHO)))
     assert np.all(np.diff(dens) > 0)
     assert winds[2] == pytest.approx(s0)
+
+
+def test_acceleration_dipping_below_zero_inside_a_segment_is_nan():
+    # a = 1 − 0.1 V + 0.002 V² is positive at 0 and 60 m/s but negative between its roots
+    # 13.8 and 36.2 m/s: the aircraft never gets past 13.8 m/s.
+    assert np.isnan(gr.segment_distance_quadratic_m(1.0, -0.1, 0.002, 0.0, 60.0))
+    assert np.isnan(gr.segment_time_quadratic_s(1.0, -0.1, 0.002, 0.0, 60.0))
+    assert np.isfinite(gr.segment_distance_quadratic_m(1.0, -0.1, 0.002, 0.0, 13.0))
+    # Wrong sign at the start: decelerating while asked to speed up, and vice versa.
+    assert np.isnan(gr.segment_distance_quadratic_m(-2.0, 0.0, -1e-4, 0.0, 10.0))
+    assert np.isnan(gr.segment_distance_quadratic_m(2.0, 0.0, -1e-4, 50.0, 10.0))
+    out = gr.segment_distance_general_m(lambda v: 1.0 - 0.1 * v + 0.002 * v * v, np.array([0.0]), np.array([60.0]))
+    assert np.isnan(out[0])

@@ -1,0 +1,154 @@
+"""Physics speed benchmark (not a test): ground runs and weight-limit solves per second.
+
+Run from the repository root::
+
+    python -m tests.benchmarks.bench_physics            # full run (about a minute)
+    python -m tests.benchmarks.bench_physics --quick    # smaller arrays, fewer repeats
+
+Prints
+  * closed-form ground-run evaluations per second on 1 000 000 mixed cases (quadratic thrust,
+    random masses, densities, drag, friction, thrust coefficients, slopes, head- and
+    tailwinds) — :func:`physics.groundrun.ground_run_m`;
+  * ground runs per second for a mix of the three thrust models (closed form for quadratic
+    and turbofan, Gauss–Legendre for propellers) — ``ground_run_for_thrust_law``;
+  * weight-limit solves per second on 100 000 mixed cases (a third each turbofan,
+    quadratic, propeller; varied runways, elevations, temperatures, slopes, winds);
+  * the same per-case solve as a plain Python loop (scipy ``solve_ivp`` for the ground run +
+    ``brentq`` on the mass, tests/physics/reference_loop.py) on a small sample, and the ratio.
+
+Each figure is the best of a few repeats (the machine is shared). By default the script
+re-executes itself once with glibc's malloc told to keep freed memory
+(``MALLOC_MMAP_THRESHOLD_``/``MALLOC_TRIM_THRESHOLD_``): numpy's large temporaries are
+otherwise returned to the system after every operation and page-faulted back in, which costs
+up to half the time of a large-array run. ``--no-malloc-tuning`` measures without it.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import time
+
+import numpy as np
+
+_ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+if _ROOT not in sys.path:  # run as a script: python tests/benchmarks/bench_physics.py
+    sys.path.insert(0, _ROOT)
+
+_MALLOC_ENV = {"MALLOC_MMAP_THRESHOLD_": "4294967296", "MALLOC_TRIM_THRESHOLD_": "4294967296"}
+
+
+def _maybe_reexec(argv):
+    if "--no-malloc-tuning" in argv or os.environ.get("FIELDLIMITS_BENCH_CHILD") == "1":
+        return
+    env = dict(os.environ, FIELDLIMITS_BENCH_CHILD="1", **_MALLOC_ENV)
+    os.chdir(_ROOT)
+    os.execve(sys.executable, [sys.executable, "-m", "tests.benchmarks.bench_physics", *argv], env)
+
+
+def _best(fn, repeats):
+    best = float("inf")
+    out = None
+    for _ in range(repeats):
+        t = time.perf_counter()
+        out = fn()
+        best = min(best, time.perf_counter() - t)
+    return best, out
+
+
+def _ground_run_inputs(n, rng):
+    return dict(
+        mass_kg=rng.uniform(15e3, 80e3, n), wing_area_m2=rng.uniform(55.0, 130.0, n),
+        density_kg_m3=rng.uniform(0.85, 1.30, n), cd=rng.uniform(0.03, 0.09, n), cl=rng.uniform(0.1, 0.5, n),
+        mu=rng.choice([0.03, 0.04, 0.05, 0.08], n), thrust0_n=rng.uniform(1.2e5, 2.8e5, n),
+        thrust1_n_per_mps=rng.uniform(-500.0, 0.0, n), thrust2_n_per_mps2=rng.uniform(0.0, 0.3, n),
+        v_lof_mps=rng.uniform(50.0, 85.0, n), headwind_mps=rng.uniform(-7.5, 12.5, n),
+        slope=rng.uniform(-0.02, 0.02, n))
+
+
+def main(argv=None):
+    argv = sys.argv[1:] if argv is None else argv
+    _maybe_reexec(argv)
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--quick", action="store_true", help="smaller arrays and fewer repeats")
+    parser.add_argument("--no-malloc-tuning", action="store_true", help="measure with default malloc settings")
+    args = parser.parse_args(argv)
+
+    from physics import groundrun, limits, thrust
+    from physics import weightlimit as wl
+    from tests.physics import fleet
+    from tests.physics.reference_loop import loop_solve
+
+    repeats = 2 if args.quick else 4
+    n_gr = 200_000 if args.quick else 1_000_000
+    n_wl = 20_000 if args.quick else 100_000
+    n_loop = 5 if args.quick else 12
+    rng = np.random.default_rng(2024)
+    tuned = os.environ.get("FIELDLIMITS_BENCH_CHILD") == "1"
+    print(f"fieldlimits physics benchmark  (numpy {np.__version__}, malloc tuning {'on' if tuned else 'off'})")
+
+    # 1. Closed-form ground runs, quadratic thrust.
+    kw = _ground_run_inputs(n_gr, rng)
+    dt, s = _best(lambda: groundrun.ground_run_m(**kw), repeats)
+    print(f"ground_run_m (closed form, quadratic thrust), {n_gr:,} mixed cases: "
+          f"{n_gr / dt:,.0f} evaluations/s  ({dt * 1e3:.0f} ms; NaN share {np.isnan(s).mean():.4f})")
+    chunk = 65_536
+
+    def chunked():
+        for j in range(0, n_gr, chunk):
+            groundrun.ground_run_m(**{k: v[j:j + chunk] for k, v in kw.items()})
+
+    dt, _ = _best(chunked, repeats)
+    print(f"  same in chunks of {chunk:,}: {n_gr / dt:,.0f} evaluations/s")
+
+    # 2. Ground runs for a mix of thrust models.
+    a, site = fleet.random_cases(n_gr // 2, seed=7)
+    cases = wl.prepare_cases(a, site)
+    mass = 0.5 * (a.oew_kg + a.mtow_kg)
+
+    def mixed_ground_runs():
+        from physics import aerodynamics as aero
+
+        vs = aero.stall_speed_mps(mass, cases.density_kg_m3, a.wing_area_m2, a.cl_max_takeoff)
+        return groundrun.ground_run_for_thrust_law(
+            cases.thrust_all_engines, mass_kg=mass, wing_area_m2=a.wing_area_m2, density_kg_m3=cases.density_kg_m3,
+            cd=cases.cd_ground_roll, cl=a.cl_ground_roll, mu=site.mu_roll, v_lof_mps=a.vlof_over_vs * vs,
+            headwind_mps=site.headwind_mps, slope=site.slope)
+
+    dt, _ = _best(mixed_ground_runs, repeats)
+    share = float(np.mean(a.thrust_model == thrust.PROPELLER))
+    print(f"ground_run_for_thrust_law, {n_gr // 2:,} cases ({share:.0%} propeller by Gauss-Legendre): "
+          f"{n_gr // 2 / dt:,.0f} evaluations/s")
+
+    # 3. Weight-limit solves.
+    a, site = fleet.random_cases(n_wl, seed=11)
+    aeo = list(wl.ALL_ENGINES_REQUIREMENTS)
+    dt_vec, res = _best(lambda: wl.solve_takeoff_weight(a, site, requirements=aeo), repeats)
+    names, counts = np.unique(limits.name(res.limiting_factor), return_counts=True)
+    mix = ", ".join(f"{k} {v / n_wl:.0%}" for k, v in zip(names, counts))
+    print(f"solve_takeoff_weight (all-engines requirements), {n_wl:,} mixed cases: "
+          f"{n_wl / dt_vec:,.0f} solves/s  ({dt_vec:.3f} s; {mix})")
+    if len(wl.REQUIREMENTS) != len(aeo):
+        dt_all, _ = _best(lambda: wl.solve_takeoff_weight(a, site), max(repeats // 2, 1))
+        print(f"solve_takeoff_weight (default REQUIREMENTS, {len(wl.REQUIREMENTS)} requirements): "
+              f"{n_wl / dt_all:,.0f} solves/s")
+
+    # 4. Plain per-case loop on a sample (same requirements), and the ratio.
+    sample = rng.choice(n_wl, n_loop, replace=False)
+    t = time.perf_counter()
+    worst = 0.0
+    for i in sample:
+        m, _ = loop_solve(a, site, int(i))
+        if np.isfinite(m):
+            worst = max(worst, abs(m - res.tow_limit_kg[i]))
+    per_case_loop = (time.perf_counter() - t) / n_loop
+    per_case_vec = dt_vec / n_wl
+    print(f"plain loop (solve_ivp + brentq), {n_loop} sampled cases: {per_case_loop * 1e3:.1f} ms/case "
+          f"({1 / per_case_loop:,.1f} solves/s); largest difference from the vectorised limit {worst:.2f} kg")
+    print(f"vectorised / loop speed ratio per case: {per_case_loop / per_case_vec:,.0f}x")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
