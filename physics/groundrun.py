@@ -42,6 +42,7 @@ from typing import NamedTuple
 import numpy as np
 
 from physics import constants as c
+from physics.thrust import _trail
 
 #: Reason codes returned beside NaN results.
 REASONS = ("ok", "no_acceleration", "invalid_input")
@@ -373,7 +374,8 @@ def acceleration_function(thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, c
     Returns
     -------
     callable
-        ``accel(v)`` with v of shape (n, k) true airspeeds [m/s] → a [m/s²] of shape (n, k).
+        ``accel(v)`` with v of shape (n,) or (n, k) true airspeeds [m/s] → a [m/s²] of the
+        same shape.
 
     Notes
     -----
@@ -388,11 +390,12 @@ def acceleration_function(thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, c
     aero = 0.5 * _f(density_kg_m3) * _f(wing_area_m2) * (_f(cd) - _f(mu) * _f(cl)) / m
     rest = c.G0 * (_f(mu) * cos_g + sin_g)
     shape = np.broadcast_shapes(np.shape(m), np.shape(aero), np.shape(rest), np.shape(thrust_law.t0_n))
-    m, aero, rest = (np.broadcast_to(x, shape)[..., None] for x in (m, aero, rest))
+    m, aero, rest = (np.broadcast_to(x, shape) for x in (m, aero, rest))
 
     def accel(v):
         v = _f(v)
-        return thrust_law.thrust_n(v) / m - aero * v * np.abs(v) - rest
+        mm, ae, re = (_trail(x, v) for x in (m, aero, rest))
+        return thrust_law.thrust_n(v) / mm - ae * v * np.abs(v) - re
 
     return accel
 
