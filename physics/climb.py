@@ -247,7 +247,7 @@ def climb_limited_mass_kg(aircraft, *, pressure_pa, temperature_k, mass_min_kg, 
     return _margin_bisection(margin, mass_min_kg, mass_max_kg, iterations)
 
 
-def takeoff_climb_gradient(aircraft, *, mass_kg, pressure_pa, temperature_k, v2_mps=None):
+def takeoff_climb_gradient(aircraft, *, mass_kg, pressure_pa, temperature_k, v2_mps=None, thrust_law=None):
     """Gross takeoff climb gradient at V2 (second segment; all engines for a single).
 
     Parameters
@@ -263,6 +263,9 @@ def takeoff_climb_gradient(aircraft, *, mass_kg, pressure_pa, temperature_k, v2_
     v2_mps : array_like, optional
         Climb speed, true airspeed; default the scheduled V2 of
         :func:`physics.enginefailure.scheduled_speeds_mps`. [m/s]
+    thrust_law : physics.thrust.ThrustLaw, optional
+        Thrust of the engines operating in the climb (:func:`climb_thrust_law`); built if
+        omitted.
 
     Returns
     -------
@@ -278,7 +281,7 @@ def takeoff_climb_gradient(aircraft, *, mass_kg, pressure_pa, temperature_k, v2_
     ----------
     .. [1] 14 CFR 25.121(b). .. [2] Raymer, §17.3.
     """
-    from physics import aerodynamics, atmosphere, enginefailure, thrust
+    from physics import aerodynamics, atmosphere, enginefailure
 
     a = aircraft
     m = np.asarray(mass_kg, dtype=float)
@@ -292,7 +295,101 @@ def takeoff_climb_gradient(aircraft, *, mass_kg, pressure_pa, temperature_k, v2_
     cd = climb_drag_coefficient(cd0_clean=a.cd0_clean, cd0_takeoff_flaps=a.cd0_takeoff_flaps,
                                 engine_out_drag_cd=a.engine_out_drag_cd, engine_count=a.engine_count,
                                 lift_coefficient=cl, induced_drag_factor=k)
-    law = thrust.thrust_law_for_aircraft(a, pressure_pa, temperature_k,
-                                         engines_operating=climb_engines_operating(a.engine_count))
+    law = climb_thrust_law(a, pressure_pa, temperature_k) if thrust_law is None else thrust_law
     t = law.thrust_n(np.broadcast_to(v2, np.broadcast_shapes(np.shape(v2), np.shape(law.t0_n))))
     return climb_gradient(thrust_n=t, mass_kg=m, drag_coefficient=cd, lift_coefficient=cl)
+
+
+def climb_thrust_law(aircraft, pressure_pa, temperature_k):
+    """Thrust law of the engines operating in the takeoff climb check (N − 1, or 1).
+
+    Parameters
+    ----------
+    aircraft : physics.weightlimit.Aircraft
+        Type fields.
+    pressure_pa : array_like
+        Station pressure. [Pa]
+    temperature_k : array_like
+        Outside air temperature. [K]
+
+    Returns
+    -------
+    physics.thrust.ThrustLaw
+        Takeoff-rated thrust of ``climb_engines_operating(engine_count)`` engines.
+
+    Notes
+    -----
+    See :func:`physics.thrust.thrust_law`.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.121(b) (one engine inoperative, remaining at takeoff thrust).
+    """
+    from physics import thrust
+
+    return thrust.thrust_law_for_aircraft(aircraft, pressure_pa, temperature_k,
+                                          engines_operating=climb_engines_operating(aircraft.engine_count))
+
+
+def weight_limit_climb_gradient(cases, mass_kg, memo):
+    """Takeoff climb gradient at the solver's trial masses (memoised per mass).
+
+    Parameters
+    ----------
+    cases : physics.weightlimit.Cases
+        Prepared cases (``aircraft``, ``site``, ``cached``).
+    mass_kg : numpy.ndarray
+        Trial mass per case. [kg]
+    memo : dict
+        Per-trial-mass store.
+
+    Returns
+    -------
+    numpy.ndarray
+        Gross gradient at V2. [–]
+
+    Notes
+    -----
+    :func:`takeoff_climb_gradient` with the climb thrust law built once per solve.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.121(b); 14 CFR 23.65(a) (from memory).
+    """
+    if "climb_gradient" not in memo:
+        law = cases.cached("climb_thrust_law",
+                           lambda cs: climb_thrust_law(cs.aircraft, cs.site.pressure_pa, cs.site.temperature_k))
+        memo["climb_gradient"] = takeoff_climb_gradient(
+            cases.aircraft, mass_kg=mass_kg, pressure_pa=cases.site.pressure_pa,
+            temperature_k=cases.site.temperature_k, thrust_law=law)
+    return memo["climb_gradient"]
+
+
+def climb_gradient_margin(cases, mass_kg, memo):
+    """Margin gradient − required gradient at the trial masses (the solver's requirement).
+
+    Parameters
+    ----------
+    cases : physics.weightlimit.Cases
+        Prepared cases.
+    mass_kg : numpy.ndarray
+        Trial mass per case. [kg]
+    memo : dict
+        Per-trial-mass store.
+
+    Returns
+    -------
+    numpy.ndarray
+        Gradient minus :func:`required_climb_gradient`; ≥ 0 where met. Independent of the
+        runway's declared distances. [–]
+
+    Notes
+    -----
+    margin = tan(gamma) − gradient_min.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.121(b). .. [2] 14 CFR 23.65(a) (from memory).
+    """
+    required = cases.cached("climb_required", lambda cs: required_climb_gradient(cs.aircraft.engine_count))
+    return weight_limit_climb_gradient(cases, mass_kg, memo) - required

@@ -65,9 +65,11 @@ from physics import constants as c
 #: Distance allowance of 14 CFR 25.109(a): 2 s at V1 after the stop is begun. [s]
 STOP_DELAY_S = 2.0
 
-#: Newton steps of the V1 search (quadratic convergence; 6 reach 1e-9 m/s from a cold start
-#: in the tests).
-V1_ITERATIONS = 6
+#: Evaluations of the V1 search from a cold start (6 Newton steps; quadratic convergence
+#: reaches 1e-9 m/s in the tests).
+V1_ITERATIONS = 7
+#: Evaluations when started from the V1 of a nearby mass (the weight solver's bisection).
+V1_ITERATIONS_WARM = 3
 
 
 def _accel(coeffs, v):
@@ -345,15 +347,20 @@ def scheduled_speeds_mps(aircraft, *, mass_kg, density_kg_m3):
 
 
 #: Gauss–Legendre nodes per piece for propeller segments of the engine-failure cases.
-PROPELLER_NODES = 12
+PROPELLER_NODES = 8
 
 
 class GroundRegime:
     """One engine and configuration state on the ground: a(V) and segment distances.
 
-    Built once per trial mass; polynomial-thrust cases use the closed form of
-    :func:`physics.groundrun.segment_distance_quadratic_m`, propeller cases Gauss–Legendre
-    (:func:`physics.groundrun.segment_distance_general_m`, split at the power kink and V = 0).
+    Built once per trial mass. Polynomial thrust (quadratic, turbofan): the acceleration is
+    quadratic in V and every segment has the closed form of
+    :func:`physics.groundrun.segment_distance_quadratic_m`. Propeller, T = min(T_s, eta P/V):
+    below the kink V_k = eta P/T_s the thrust is the constant cap, so the closed form holds
+    there too; above it a(V) = eta P/(m V) + a0' + a2 V² is integrated by Gauss–Legendre
+    (:data:`PROPELLER_NODES` nodes; the nearest singularity, V = 0, lies at least three
+    half-lengths from the centre of a piece above V_k, so the error is below ~1e-12 relative,
+    Trefethen 2008, Thm 4.5).
 
     Parameters
     ----------
@@ -380,34 +387,100 @@ class GroundRegime:
         self.coeffs = groundrun.acceleration_coefficients(**kw)
         self.a2_reverse = (groundrun.acceleration_coefficients(**kw, reverse_flow=True).a2
                            if np.any(w < 0.0) else None)
-        self.prop = np.nonzero(np.asarray(thrust_law.is_propeller))[0]
-        self._prop_accel = None
+        is_prop = np.asarray(thrust_law.is_propeller, dtype=bool)
+        self.kink = np.broadcast_to(thrust_law.kink_airspeed_mps, n)
+        self.prop = np.nonzero(is_prop)[0]
+        # tailwind cases whose segments may cross V = 0 (reverse-flow drag below it)
+        self.tail = np.nonzero(w < 0.0)[0]
         if self.prop.size:
             i = self.prop
-            self._prop_accel = groundrun.acceleration_function(
-                thrust_law.take(i), mass_kg=m[i], wing_area_m2=s_area[i], density_kg_m3=rho[i],
-                cd=cd[i], cl=cl[i], mu=mu[i], slope=slope[i])
-            self._kink = thrust_law.kink_airspeed_mps[i]
+            a0, _, a2 = self.coeffs
+            self._p_m = np.asarray(thrust_law.propeller_power_w)[i] / m[i]
+            self._a0n = a0[i] - np.asarray(thrust_law.t0_n)[i] / m[i]
+            self._a2p = a2[i]
 
     def distance_m(self, v_from, v_to):
-        """Ground distance between two true airspeeds (NaN where not reachable). [m]"""
+        """Ground distance between two true airspeeds (NaN where not reachable).
+
+        Parameters
+        ----------
+        v_from, v_to : array_like
+            True airspeeds at the start and end (end below start: deceleration). [m/s]
+
+        Returns
+        -------
+        numpy.ndarray
+            Ground distance, shape (n,). [m]
+
+        Notes
+        -----
+        ∫ (V − w)/a(V) dV: closed form below the propeller kink (everywhere for polynomial
+        thrust; split at V = 0 only for the tailwind cases that cross it), Gauss–Legendre
+        above it.
+
+        References
+        ----------
+        .. [1] Raymer, §17.8; see :mod:`physics.groundrun`. .. [2] Trefethen (2008).
+        """
         from physics import groundrun
 
         a0, a1, a2 = self.coeffs
         v_from = np.broadcast_to(np.asarray(v_from, dtype=float), self.w.shape)
         v_to = np.broadcast_to(np.asarray(v_to, dtype=float), self.w.shape)
+        quad = groundrun.segment_distance_quadratic_m
+        c_from, c_to = np.minimum(v_from, self.kink), np.minimum(v_to, self.kink)
         with np.errstate(invalid="ignore", divide="ignore"):
-            s = groundrun.segment_distance_quadratic_m(a0, a1, a2, v_from, v_to, self.w,
-                                                       a2_reverse=self.a2_reverse)
+            s = np.asarray(quad(a0, a1, a2, c_from, c_to, self.w), dtype=float)
+            if self.tail.size:
+                i = self.tail
+                cross = np.minimum(c_from[i], c_to[i]) < 0.0
+                if np.any(cross):
+                    i = i[cross]
+                    s = np.array(s, copy=True)
+                    s[i] = quad(a0[i], a1[i], a2[i], c_from[i], c_to[i], self.w[i],
+                                a2_reverse=self.a2_reverse[i])
         if self.prop.size:
             i = self.prop
+            g_from, g_to = np.maximum(v_from[i], self.kink[i]), np.maximum(v_to[i], self.kink[i])
+            lo, hi = np.minimum(g_from, g_to), np.maximum(g_from, g_to)
+            x, wts = _gl_nodes(PROPELLER_NODES)
+            half = 0.5 * (hi - lo)
+            v = (0.5 * (hi + lo))[:, None] + half[:, None] * x
+            ends = np.stack([lo, hi], axis=1)
+            pm, a0n, a2p = self._p_m[:, None], self._a0n[:, None], self._a2p[:, None]
+            with np.errstate(invalid="ignore", divide="ignore"):
+                acc = pm / v + a0n + a2p * v * v
+                acc_ends = pm / ends + a0n + a2p * ends * ends
+                sgn = np.sign(g_to - g_from)
+                ok = (np.all(sgn[:, None] * acc > 0.0, axis=1) & np.all(sgn[:, None] * acc_ends > 0.0, axis=1))
+                part = sgn * half * np.sum(wts * (v - self.w[i][:, None]) / acc, axis=1)
+            part = np.where(g_to == g_from, 0.0, np.where(ok, part, np.nan))
             s = np.array(s, dtype=float, copy=True)
-            s[i] = groundrun.segment_distance_general_m(self._prop_accel, v_from[i], v_to[i], self.w[i],
-                                                        nodes=PROPELLER_NODES, breakpoints=self._kink)
+            s[i] = s[i] + part
         return s
 
     def acceleration(self, v):
-        """Acceleration at true airspeeds v of shape (n,). [m/s²]"""
+        """Acceleration at true airspeeds.
+
+        Parameters
+        ----------
+        v : array_like
+            True airspeed per case, shape (n,). [m/s]
+
+        Returns
+        -------
+        numpy.ndarray
+            a(V). [m/s²]
+
+        Notes
+        -----
+        a = a0 + a1 V + a2 V|V| terms (reverse-flow a2 below 0); propeller above the kink:
+        eta P/(m V) + a0' + a2 V².
+
+        References
+        ----------
+        .. [1] Raymer, Eq. 17.100.
+        """
         v = np.broadcast_to(np.asarray(v, dtype=float), self.w.shape)
         a0, a1, a2 = self.coeffs
         if self.a2_reverse is not None:
@@ -415,9 +488,21 @@ class GroundRegime:
         out = a0 + (a1 + a2 * v) * v
         if self.prop.size:
             i = self.prop
+            vi = v[i]
+            with np.errstate(divide="ignore", invalid="ignore"):
+                above = self._p_m / vi + self._a0n + self._a2p * vi * vi
             out = np.array(out, copy=True)
-            out[i] = self._prop_accel(v[i][:, None])[:, 0]
+            out[i] = np.where(vi > self.kink[i], above, out[i])
         return out
+
+
+_GL = {}
+
+
+def _gl_nodes(n):
+    if n not in _GL:
+        _GL[n] = np.polynomial.legendre.leggauss(n)
+    return _GL[n]
 
 
 @dataclass(frozen=True)
@@ -441,7 +526,95 @@ class EngineFailureModel:
     v1_max_mps: np.ndarray
 
 
-def engine_failure_model(aircraft, site, mass_kg):
+@dataclass(frozen=True)
+class EngineFailureSetup:
+    """The mass-independent parts of the engine-failure cases (built once per solve).
+
+    Thrust laws (takeoff and idle, all engines and one out), drag and lift coefficients,
+    friction and the day, broadcast to the n cases.
+    """
+
+    n: tuple
+    density_kg_m3: np.ndarray
+    multi_engine: np.ndarray
+    law_all: object
+    law_one_out: object
+    law_idle_all: object
+    law_idle_one_out: object
+    cd_roll: np.ndarray
+    cd_roll_one_out: np.ndarray
+    cd_brake: np.ndarray
+    cd_brake_one_out: np.ndarray
+    cd0_airborne_one_out: np.ndarray
+    induced_factor: np.ndarray
+    cl_roll: np.ndarray
+    cl_brake: np.ndarray
+    wing_area_m2: np.ndarray
+    slope: np.ndarray
+    mu_roll: np.ndarray
+    mu_brake: np.ndarray
+    headwind_mps: np.ndarray
+
+
+def engine_failure_setup(aircraft, site, shape=()):
+    """Mass-independent thrust laws and coefficients of the engine-failure cases.
+
+    Parameters
+    ----------
+    aircraft : physics.weightlimit.Aircraft
+        Type fields (arrays over cases).
+    site : physics.weightlimit.Site
+        Runway and day fields (arrays over cases).
+    shape : tuple, optional
+        Extra shape to broadcast to (e.g. that of an array of trial masses). [–]
+
+    Returns
+    -------
+    EngineFailureSetup
+        Arrays of the cases' broadcast shape (one dimension; scalars give shape (1,)).
+
+    Notes
+    -----
+    Ground roll: C_D = C_D0 (clean + gear + flaps) + phi K C_L,roll² (Anderson Eq. 6.78);
+    one engine out adds ΔC_D,eo and keeps N − 1 engines at takeoff thrust. Braking: lift
+    dumpers give C_L,brake and ΔC_D,brake; idle thrust (``idle_thrust_fraction`` of takeoff
+    thrust) on N engines (all-engines stop) or N − 1 engines plus ΔC_D,eo (engine-failure
+    stop); friction ``mu_brake``. Airborne with one engine out: C_D0 (clean + gear + flaps)
+    + ΔC_D,eo, no ground effect.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109, 25.111. .. [2] Anderson (1999), Eq. 6.78, §6.8.
+    .. [3] Raymer, §17.8 (braking friction and lift dumpers).
+    """
+    from physics import aerodynamics, atmosphere, thrust
+
+    a, s = aircraft, site
+    rho = atmosphere.density_kg_m3(s.pressure_pa, s.temperature_k)
+    n = np.broadcast_shapes(*(np.shape(x) for x in (rho, a.engine_count, s.tora_m, s.headwind_mps,
+                                                     a.mtow_kg, s.mu_brake)), tuple(shape)) or (1,)
+    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), n)  # noqa: E731
+    n_eng = b(a.engine_count)
+    multi = n_eng > 1
+    k = b(aerodynamics.induced_drag_factor(a.oswald_efficiency,
+                                           aerodynamics.aspect_ratio(a.wing_span_m, a.wing_area_m2)))
+    phi = aerodynamics.ground_effect_factor(a.wing_height_m, a.wing_span_m)
+    cd0 = b(a.cd0_clean) + b(a.cd0_gear) + b(a.cd0_takeoff_flaps)
+    cd_roll = b(aerodynamics.drag_coefficient(cd0, k, a.cl_ground_roll, phi))
+    cd_brake = b(aerodynamics.drag_coefficient(cd0 + b(a.braking_cd_increment), k, a.braking_cl, phi))
+    eo = np.where(multi, b(a.engine_out_drag_cd), 0.0)
+    n_out = np.where(multi, n_eng - 1.0, n_eng)
+    idle = b(a.idle_thrust_fraction)
+    p, t = b(s.pressure_pa), b(s.temperature_k)
+    law = lambda ops, tau=1.0: thrust.thrust_law_for_aircraft(  # noqa: E731
+        a, p, t, engines_operating=ops, throttle=tau)
+    return EngineFailureSetup(
+        n, b(rho), multi, law(n_eng), law(n_out), law(n_eng, idle), law(n_out, idle),
+        cd_roll, cd_roll + eo, cd_brake, cd_brake + eo, cd0 + eo, k, b(a.cl_ground_roll), b(a.braking_cl),
+        b(a.wing_area_m2), b(s.slope), b(s.mu_roll), b(s.mu_brake), b(s.headwind_mps))
+
+
+def engine_failure_model(aircraft, site, mass_kg, setup=None):
     """Build the ground regimes and speeds of the engine-failure cases for a mass.
 
     Parameters
@@ -452,6 +625,8 @@ def engine_failure_model(aircraft, site, mass_kg):
         Runway and day fields (arrays over cases).
     mass_kg : array_like
         Trial mass. [kg]
+    setup : EngineFailureSetup, optional
+        The mass-independent parts (from :func:`engine_failure_setup`; built if omitted).
 
     Returns
     -------
@@ -461,50 +636,30 @@ def engine_failure_model(aircraft, site, mass_kg):
 
     Notes
     -----
-    Ground roll: C_D = C_D0 (clean + gear + flaps) + phi K C_L,roll² (Anderson Eq. 6.78);
-    one engine out adds ΔC_D,eo and keeps N − 1 engines at takeoff thrust. Braking: lift
-    dumpers give C_L,brake and ΔC_D,brake; idle thrust (``idle_thrust_fraction`` of takeoff
-    thrust) on N engines (all-engines stop) or N − 1 engines plus ΔC_D,eo (engine-failure
-    stop); friction ``mu_brake``. V1 range [max(V_MCG, w), VR]; single-engine types: V1 = VR.
+    See :func:`engine_failure_setup` for the configurations. V1 range [max(V_MCG, w), VR];
+    single-engine types: V1 = VR.
 
     References
     ----------
     .. [1] 14 CFR 25.107, 25.109. .. [2] Anderson (1999), Eq. 6.78, §6.8.
-    .. [3] Raymer, §17.8 (braking friction and lift dumpers).
     """
-    from physics import aerodynamics, atmosphere, thrust
-
-    a, s = aircraft, site
-    m = np.asarray(mass_kg, dtype=float)
-    rho = atmosphere.density_kg_m3(s.pressure_pa, s.temperature_k)
-    n = np.broadcast_shapes(*(np.shape(x) for x in (m, rho, a.engine_count, s.tora_m, s.headwind_mps,
-                                                     a.mtow_kg))) or (1,)
-    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), n)  # noqa: E731
-    m, rho, w = b(m), b(rho), b(s.headwind_mps)
-    speeds = scheduled_speeds_mps(a, mass_kg=m, density_kg_m3=rho)
-    n_eng = b(a.engine_count)
-    multi = n_eng > 1
-    k = aerodynamics.induced_drag_factor(a.oswald_efficiency, aerodynamics.aspect_ratio(a.wing_span_m, a.wing_area_m2))
-    phi = aerodynamics.ground_effect_factor(a.wing_height_m, a.wing_span_m)
-    cd0 = b(a.cd0_clean) + b(a.cd0_gear) + b(a.cd0_takeoff_flaps)
-    cd_roll = aerodynamics.drag_coefficient(cd0, k, a.cl_ground_roll, phi)
-    cd_brake = aerodynamics.drag_coefficient(cd0 + b(a.braking_cd_increment), k, a.braking_cl, phi)
-    eo = np.where(multi, b(a.engine_out_drag_cd), 0.0)
-    n_out = np.where(multi, n_eng - 1.0, n_eng)
-    idle = b(a.idle_thrust_fraction)
-    law = lambda ops, tau=1.0: thrust.thrust_law_for_aircraft(  # noqa: E731
-        a, b(s.pressure_pa), b(s.temperature_k), engines_operating=ops, throttle=tau)
-    common = dict(mass_kg=m, wing_area_m2=b(a.wing_area_m2), density_kg_m3=rho, slope=b(s.slope), headwind_mps=w)
-    roll = dict(common, mu=b(s.mu_roll))
-    brake = dict(common, mu=b(s.mu_brake), cl=b(a.braking_cl))
-    all_engines = GroundRegime(law(n_eng), cd=cd_roll, cl=b(a.cl_ground_roll), **roll)
-    one_out = GroundRegime(law(n_out), cd=cd_roll + eo, cl=b(a.cl_ground_roll), **roll)
-    stop_all = GroundRegime(law(n_eng, idle), cd=cd_brake, **brake)
-    stop_one_out = GroundRegime(law(n_out, idle), cd=cd_brake + eo, **brake)
+    su = engine_failure_setup(aircraft, site, np.shape(mass_kg)) if setup is None else setup
+    m = np.broadcast_to(np.asarray(mass_kg, dtype=float), su.n)
+    speeds = scheduled_speeds_mps(aircraft, mass_kg=m, density_kg_m3=su.density_kg_m3)
+    w = su.headwind_mps
+    common = dict(mass_kg=m, wing_area_m2=su.wing_area_m2, density_kg_m3=su.density_kg_m3, slope=su.slope,
+                  headwind_mps=w)
+    roll = dict(common, mu=su.mu_roll, cl=su.cl_roll)
+    brake = dict(common, mu=su.mu_brake, cl=su.cl_brake)
+    all_engines = GroundRegime(su.law_all, cd=su.cd_roll, **roll)
+    one_out = GroundRegime(su.law_one_out, cd=su.cd_roll_one_out, **roll)
+    stop_all = GroundRegime(su.law_idle_all, cd=su.cd_brake, **brake)
+    stop_one_out = GroundRegime(su.law_idle_one_out, cd=su.cd_brake_one_out, **brake)
     lo = np.maximum(speeds.vmcg_mps, w)
     hi = np.maximum(speeds.vr_mps, lo)
-    lo = np.where(multi, lo, hi)  # single engine: V1 = VR
-    return EngineFailureModel(m, rho, speeds, w, multi, all_engines, one_out, stop_all, stop_one_out, lo, hi)
+    lo = np.where(su.multi_engine, lo, hi)  # single engine: V1 = VR
+    return EngineFailureModel(m, su.density_kg_m3, speeds, w, su.multi_engine, all_engines, one_out, stop_all,
+                              stop_one_out, lo, hi)
 
 
 def accelerate_stop_cases_m(model, v1_mps, *, delay_s=STOP_DELAY_S):
@@ -574,6 +729,29 @@ def continued_takeoff_ground_run_m(model, v1_mps):
     return np.where(model.multi_engine, s, np.nan)
 
 
+def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
+    """Newton on h(V1); returns V1 and S_oei(V1 → V_LOF), S_stop(V1 → w) at that V1."""
+    w = model.headwind_mps
+    lo, hi = model.v1_min_mps, model.v1_max_mps
+    vlof = model.speeds.vlof_mps
+    v1 = 0.5 * (lo + hi) if v1_start_mps is None else np.clip(np.asarray(v1_start_mps, dtype=float), lo, hi)
+    v1 = np.broadcast_to(v1, w.shape).astype(float)
+    multi = model.multi_engine
+    for k in range(max(int(iterations), 1)):
+        s_oei = model.one_out.distance_m(v1, vlof)
+        s_stop = model.stop_all.distance_m(v1, w)
+        if k == iterations - 1:
+            break
+        h = base - s_oei + delay_s * (v1 - w) + s_stop
+        vg = v1 - w
+        with np.errstate(divide="ignore", invalid="ignore"):
+            dh = vg / model.one_out.acceleration(v1) + delay_s - vg / model.stop_all.acceleration(v1)
+            step = h / dh
+        step = np.where(np.isfinite(step) & (dh > 0) & multi, step, 0.0)
+        v1 = np.clip(v1 - step, lo, hi)
+    return v1, s_oei, s_stop
+
+
 def best_v1_mps(model, *, go_available_m, asda_m, v1_start_mps=None, iterations=V1_ITERATIONS,
                 delay_s=STOP_DELAY_S):
     """The V1 in [V_MCG, VR] that balances the go and stop margins (model version).
@@ -589,7 +767,7 @@ def best_v1_mps(model, *, go_available_m, asda_m, v1_start_mps=None, iterations=
     v1_start_mps : array_like, optional
         First guess. [m/s]
     iterations : int, optional
-        Newton steps. [–]
+        Evaluations of h (``iterations − 1`` Newton steps). [–]
     delay_s : float, optional
         Time at V1 before braking. [s]
 
@@ -608,19 +786,324 @@ def best_v1_mps(model, *, go_available_m, asda_m, v1_start_mps=None, iterations=
     ----------
     .. [1] 14 CFR 25.109, 25.113. .. [2] Raymer, §17.8.
     """
+    base = np.broadcast_to(np.asarray(go_available_m, dtype=float) - np.asarray(asda_m, dtype=float),
+                           model.headwind_mps.shape)
+    v1, _, _ = _newton_v1(model, base, v1_start_mps, iterations, delay_s)
+    return np.where(model.multi_engine, v1, model.v1_max_mps)
+
+
+def continued_takeoff_airborne_m(model, setup, screen_height_m):
+    """Ground distance from lift-off to the screen height with one engine inoperative.
+
+    Parameters
+    ----------
+    model : EngineFailureModel
+        From :func:`engine_failure_model`.
+    setup : EngineFailureSetup
+        From :func:`engine_failure_setup`.
+    screen_height_m : array_like
+        Screen height: 10.668 (35 ft) dry, 4.572 (15 ft) wet. [m]
+
+    Returns
+    -------
+    numpy.ndarray
+        Ground distance; NaN where the aircraft cannot climb on N − 1 engines (and for
+        single-engine types). [m]
+
+    Notes
+    -----
+    As the all-engines airborne segment (:func:`physics.fieldlength.all_engines_takeoff`) with
+    the thrust of N − 1 engines and the drag increment of the failed engine:
+    V_TR = ½ (V_LOF + V2); C_L = W/(q S); sin gamma = (T_{N−1}(V_TR) − q S (C_D0 + ΔC_D,eo +
+    K C_L²))/W; transition arc and climb (Raymer Eqs. 17.105–17.112); ground distance × (V_TR −
+    w)/V_TR.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.111, 25.113(a)(1). .. [2] Raymer, §17.8.
+    """
+    from physics import aerodynamics, airborne
+
+    sp = model.speeds
+    v_tr = 0.5 * (sp.vlof_mps + sp.v2_mps)
+    weight = model.mass_kg * c.G0
+    q_s = 0.5 * setup.density_kg_m3 * v_tr * v_tr * setup.wing_area_m2
+    cl = weight / q_s
+    drag = q_s * aerodynamics.drag_coefficient(setup.cd0_airborne_one_out, setup.induced_factor, cl)
+    sin_g = airborne.climb_sine(setup.law_one_out.thrust_n(v_tr), drag, weight)
+    air = airborne.airborne_distance_m(v_transition_mps=v_tr, climb_sine=sin_g,
+                                       screen_height_m=np.broadcast_to(screen_height_m, v_tr.shape))
+    out = airborne.airborne_ground_distance_m(air, v_tr, model.headwind_mps)
+    return np.where(model.multi_engine, out, np.nan)
+
+
+@dataclass(frozen=True)
+class EngineFailureTakeoff:
+    """The engine-failure cases at one trial mass with the best V1 (arrays over cases).
+
+    Attributes
+    ----------
+    v1_mps : V1 chosen, true airspeed [m/s].
+    speeds : TakeoffSpeeds (true airspeeds) [m/s].
+    ground_run_m : brake release to lift-off, engine failing at V1 [m].
+    airborne_m : lift-off to the screen, one engine out (ground distance) [m].
+    takeoff_distance_m, takeoff_run_m : one-engine-inoperative distance and run [m]
+        (NaN for single-engine types).
+    accelerate_stop_m : the greater of the two 25.109(a) cases [m].
+    accelerate_stop_engine_failure_m, accelerate_stop_all_engines_m : the two cases [m].
+    """
+
+    v1_mps: np.ndarray
+    speeds: TakeoffSpeeds
+    ground_run_m: np.ndarray
+    airborne_m: np.ndarray
+    takeoff_distance_m: np.ndarray
+    takeoff_run_m: np.ndarray
+    accelerate_stop_m: np.ndarray
+    accelerate_stop_engine_failure_m: np.ndarray
+    accelerate_stop_all_engines_m: np.ndarray
+
+
+def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=None,
+                           iterations=V1_ITERATIONS, both_stops=True):
+    """Continued takeoff and accelerate-stop at a mass, with the V1 that suits the runway.
+
+    Parameters
+    ----------
+    aircraft : physics.weightlimit.Aircraft
+        Type fields (arrays over cases).
+    site : physics.weightlimit.Site
+        Runway, day and factored wind (arrays over cases); ``screen_height_m`` 35 ft dry,
+        15 ft wet; ``mu_brake`` for the condition.
+    mass_kg : array_like
+        Trial mass. [kg]
+    setup : EngineFailureSetup, optional
+        Mass-independent parts (reuse across trial masses).
+    v1_start_mps : array_like, optional
+        First guess for V1 (e.g. the V1 of the previous trial mass). [m/s]
+    iterations : int, optional
+        Evaluations of the V1 search. [–]
+    both_stops : bool, optional
+        Also compute the engine-failure stop (never longer than the all-engines stop with
+        V_EF = V1, see :func:`accelerate_stop_cases_m`); False leaves it NaN (faster). [–]
+
+    Returns
+    -------
+    EngineFailureTakeoff
+        Distances at the chosen V1.
+
+    Notes
+    -----
+    V1 maximises the smaller of the go margin (least of TODA − TOD_oei and TORA − TOR_oei,
+    clearway rule) and the stop margin ASDA − ASD over [V_MCG, VR] (:func:`best_v1_mps`);
+    TOD_oei = S_all(w → V1) + S_oei(V1 → V_LOF) + airborne_oei; TOR_oei = ground + half the
+    airborne part with a clearway, = TOD_oei without; ASD = max of the 25.109(a) cases.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109, 25.113. .. [2] Raymer, §17.8.
+    """
+    su = engine_failure_setup(aircraft, site, np.shape(mass_kg)) if setup is None else setup
+    model = engine_failure_model(aircraft, site, mass_kg, setup=su)
+    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), su.n)  # noqa: E731
+    toda, tora, asda = b(site.toda_m), b(site.tora_m), b(site.asda_m)
+    air = continued_takeoff_airborne_m(model, su, b(site.screen_height_m))
+    go_avail = go_constant_m(toda_m=toda, tora_m=tora, airborne_m=air)
+    base = go_avail - asda
+    v1, s_oei, s_stop = _newton_v1(model, base, v1_start_mps, iterations, STOP_DELAY_S)
     w = model.headwind_mps
-    lo, hi = model.v1_min_mps, model.v1_max_mps
-    vlof = model.speeds.vlof_mps
-    v1 = 0.5 * (lo + hi) if v1_start_mps is None else np.clip(np.asarray(v1_start_mps, dtype=float), lo, hi)
-    v1 = np.broadcast_to(v1, w.shape).astype(float)
-    base = np.broadcast_to(np.asarray(go_available_m, dtype=float) - np.asarray(asda_m, dtype=float), w.shape)
-    for _ in range(iterations):
-        h = (base - model.one_out.distance_m(v1, vlof) + delay_s * (v1 - w)
-             + model.stop_all.distance_m(v1, w))
-        vg = v1 - w
-        with np.errstate(divide="ignore", invalid="ignore"):
-            dh = vg / model.one_out.acceleration(v1) + delay_s - vg / model.stop_all.acceleration(v1)
-            step = h / dh
-        step = np.where(np.isfinite(step) & (dh > 0), step, 0.0)
-        v1 = np.clip(v1 - step, lo, hi)
-    return np.where(model.multi_engine, v1, hi)
+    multi = model.multi_engine
+    to_v1 = model.all_engines.distance_m(w, v1)
+    ground = np.where(multi, to_v1 + s_oei, np.nan)
+    tod = ground + air
+    tor = ground + np.where(toda > tora, 0.5 * air, air)
+    al = to_v1 + STOP_DELAY_S * (v1 - w) + s_stop
+    if both_stops:
+        eo = np.where(multi, to_v1 + STOP_DELAY_S * (v1 - w) + model.stop_one_out.distance_m(v1, w), al)
+    else:
+        eo = np.full(al.shape, np.nan)
+    return EngineFailureTakeoff(v1, model.speeds, ground, air, tod, tor, np.fmax(eo, al), eo, al)
+
+
+def balanced_field_length_m(aircraft, site, mass_kg, *, iterations=12):
+    """Balanced field length: the runway on which go and stop need the same distance.
+
+    Parameters
+    ----------
+    aircraft : physics.weightlimit.Aircraft
+        Type fields.
+    site : physics.weightlimit.Site
+        Day, slope, wind, friction and screen height (declared distances unused).
+    mass_kg : array_like
+        Mass (e.g. MTOW). [kg]
+    iterations : int, optional
+        Newton steps. [–]
+
+    Returns
+    -------
+    length_m : numpy.ndarray
+        max(TOD_oei, ASD) at the balancing V1 (equal where that V1 lies inside
+        [V_MCG, VR]; NaN for single-engine types). [m]
+    v1_mps : numpy.ndarray
+        The balancing V1 (true airspeed), clipped to [V_MCG, VR]. [m/s]
+
+    Notes
+    -----
+    With TODA = ASDA = L and no clearway, h(V1) = (L − air) − L − S_oei + t_d (V1 − w) +
+    S_stop = −air − S_oei(V1 → V_LOF) + t_d (V1 − w) + S_stop(V1 → w), independent of L.
+    The all-engines requirement (1.15 × TOD_all) is separate: the field length an operator
+    needs is the greater of the two.
+
+    References
+    ----------
+    .. [1] Raymer, §17.8 (balanced field length). .. [2] 14 CFR 25.109, 25.113.
+    """
+    su = engine_failure_setup(aircraft, site, np.shape(mass_kg))
+    model = engine_failure_model(aircraft, site, mass_kg, setup=su)
+    air = continued_takeoff_airborne_m(model, su, np.broadcast_to(np.asarray(site.screen_height_m, float), su.n))
+    v1 = best_v1_mps(model, go_available_m=-air, asda_m=0.0, iterations=iterations)
+    tod = continued_takeoff_ground_run_m(model, v1) + air
+    asd = np.maximum(*accelerate_stop_cases_m(model, v1))
+    return np.where(model.multi_engine, np.maximum(tod, asd), np.nan), v1
+
+
+# --- requirements for physics.weightlimit (margin(cases, mass_kg, memo) -> array) ----------
+
+#: Added to the accelerate-stop margin so that on a balanced runway (TODA = ASDA, both
+#: distances binding at the balanced V1) the factor named is ``takeoff_distance``, not a
+#: rounding-noise choice between the two. 1e-9 of ASDA is a few micrometres. [–]
+STOP_TIE_BIAS = 1e-9
+
+
+def weight_limit_engine_failure(cases, mass_kg, memo):
+    """Engine-failure cases at the solver's trial masses (memoised per mass, V1 warm-started).
+
+    Parameters
+    ----------
+    cases : physics.weightlimit.Cases
+        Prepared cases (``aircraft``, ``site``, ``cached``).
+    mass_kg : numpy.ndarray
+        Trial mass per case. [kg]
+    memo : dict
+        Per-trial-mass store.
+
+    Returns
+    -------
+    EngineFailureTakeoff
+        At the V1 that suits each runway.
+
+    Notes
+    -----
+    The mass-independent set-up is built once per solve (``cases.cached``); the V1 of the
+    previous trial mass starts the Newton search of the next.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109, 25.113.
+    """
+    if "engine_failure" not in memo:
+        setup = cases.cached("engine_failure_setup", lambda cs: engine_failure_setup(cs.aircraft, cs.site))
+        state = cases.cached("engine_failure_state", lambda cs: {})
+        guess = state.get("v1")
+        if guess is not None and np.shape(guess) != setup.n:
+            guess = None
+        r = engine_failure_takeoff(cases.aircraft, cases.site, mass_kg, setup=setup, v1_start_mps=guess,
+                                   iterations=V1_ITERATIONS if guess is None else V1_ITERATIONS_WARM,
+                                   both_stops=False)
+        state["v1"] = r.v1_mps
+        memo["engine_failure"] = r
+    return memo["engine_failure"]
+
+
+def _multi_only(cases, margin):
+    multi = np.asarray(cases.aircraft.engine_count) > 1
+    return np.where(multi, margin, np.inf)
+
+
+def engine_out_takeoff_distance_margin(cases, mass_kg, memo):
+    """Margin 1 − TOD_oei/TODA at the best V1 (+inf for single-engine types). [–]
+
+    Parameters
+    ----------
+    cases : physics.weightlimit.Cases
+        Prepared cases.
+    mass_kg : numpy.ndarray
+        Trial mass per case. [kg]
+    memo : dict
+        Per-trial-mass store.
+
+    Returns
+    -------
+    numpy.ndarray
+        Dimensionless margin, ≥ 0 where met; NaN where impossible. [–]
+
+    Notes
+    -----
+    14 CFR 25.113(a)(1) (35 ft dry) and (b)(2) (15 ft wet, via ``screen_height_m``).
+
+    References
+    ----------
+    .. [1] 14 CFR 25.113(a), (b).
+    """
+    r = weight_limit_engine_failure(cases, mass_kg, memo)
+    return _multi_only(cases, 1.0 - r.takeoff_distance_m / cases.site.toda_m)
+
+
+def engine_out_takeoff_run_margin(cases, mass_kg, memo):
+    """Margin 1 − TOR_oei/TORA at the best V1 (clearway rule; +inf for singles). [–]
+
+    Parameters
+    ----------
+    cases : physics.weightlimit.Cases
+        Prepared cases.
+    mass_kg : numpy.ndarray
+        Trial mass per case. [kg]
+    memo : dict
+        Per-trial-mass store.
+
+    Returns
+    -------
+    numpy.ndarray
+        Dimensionless margin, ≥ 0 where met; NaN where impossible. [–]
+
+    Notes
+    -----
+    14 CFR 25.113(c)(1)/(d)(1): ground run + half the airborne part with a clearway, the
+    takeoff distance without one.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.113(c), (d).
+    """
+    r = weight_limit_engine_failure(cases, mass_kg, memo)
+    return _multi_only(cases, 1.0 - r.takeoff_run_m / cases.site.tora_m)
+
+
+def accelerate_stop_margin(cases, mass_kg, memo):
+    """Margin 1 − ASD/ASDA at the best V1 (all-engines stop from VR for singles). [–]
+
+    Parameters
+    ----------
+    cases : physics.weightlimit.Cases
+        Prepared cases.
+    mass_kg : numpy.ndarray
+        Trial mass per case. [kg]
+    memo : dict
+        Per-trial-mass store.
+
+    Returns
+    -------
+    numpy.ndarray
+        Dimensionless margin, ≥ 0 where met; NaN where impossible. [–]
+
+    Notes
+    -----
+    14 CFR 25.109(a): the greater of the engine-failure and all-engines cases, with the 2 s
+    at V1; plus :data:`STOP_TIE_BIAS`.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109(a), (b).
+    """
+    r = weight_limit_engine_failure(cases, mass_kg, memo)
+    return 1.0 - r.accelerate_stop_m / cases.site.asda_m + STOP_TIE_BIAS

@@ -37,6 +37,7 @@ References
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field, fields
 from typing import Callable, Optional
 
@@ -44,6 +45,9 @@ import numpy as np
 
 from physics import aerodynamics as aero
 from physics import atmosphere
+from physics import climb
+from physics import constants as const
+from physics import enginefailure
 from physics import fieldlength
 from physics import limits
 from physics import thrust
@@ -98,7 +102,13 @@ class Aircraft:
 
 @dataclass(frozen=True)
 class Site:
-    """Runway, day and wind per case, SI (see DEVELOPERS.md)."""
+    """Runway, day and wind per case, SI (see DEVELOPERS.md).
+
+    ``mu_roll_dry`` and ``mu_brake_dry`` (optional, NaN when not given) are the *dry*
+    friction of the same runway, for wet cases (``screen_height_m`` below 35 ft): with them the
+    wet limit is never above the dry limit of the same runway and day (14 CFR 25.109(b),
+    25.113(b): the wet distances are the greater of the dry and the wet ones).
+    """
 
     tora_m: np.ndarray
     toda_m: np.ndarray
@@ -110,6 +120,8 @@ class Site:
     temperature_k: np.ndarray
     headwind_mps: np.ndarray
     screen_height_m: np.ndarray
+    mu_roll_dry: np.ndarray = math.nan
+    mu_brake_dry: np.ndarray = math.nan
 
 
 @dataclass(frozen=True)
@@ -191,6 +203,10 @@ class Cases:
         Ground-roll drag coefficient with ground effect. [–]
     clearway_m : numpy.ndarray
         TODA − TORA. [m]
+    vmcg_floor : bool
+        True when the engine-failure requirements are checked: the speeds of the all-engines
+        takeoff then follow the same V_MCG floor as theirs
+        (:func:`physics.enginefailure.scheduled_speeds_mps`).
     """
 
     aircraft: Aircraft
@@ -201,6 +217,7 @@ class Cases:
     cd0_takeoff: np.ndarray
     cd_ground_roll: np.ndarray
     clearway_m: np.ndarray
+    vmcg_floor: bool = False
     _cache: dict = field(default_factory=dict, repr=False)
 
     @property
@@ -214,7 +231,7 @@ class Cases:
         sub_site = {f.name: getattr(self.site, f.name)[index] for f in fields(self.site)}
         return Cases(Aircraft(**sub), Site(**sub_site), self.density_kg_m3[index],
                      self.thrust_all_engines.take(index), self.induced_factor[index], self.cd0_takeoff[index],
-                     self.cd_ground_roll[index], self.clearway_m[index])
+                     self.cd_ground_roll[index], self.clearway_m[index], self.vmcg_floor)
 
     def cached(self, key, fn):
         """Mass-independent item ``key``, computed by ``fn(self)`` on first use."""
@@ -223,7 +240,7 @@ class Cases:
         return self._cache[key]
 
 
-def prepare_cases(aircraft, site):
+def prepare_cases(aircraft, site, *, vmcg_floor=False):
     """Broadcast the inputs and compute the mass-independent parts of the model.
 
     Parameters
@@ -232,6 +249,9 @@ def prepare_cases(aircraft, site):
         Per-case aircraft parameters (SI).
     site : Site
         Per-case runway, day and wind (SI).
+    vmcg_floor : bool, optional
+        Raise the all-engines speeds to the V_MCG floor (set when engine-failure requirements
+        are checked).
 
     Returns
     -------
@@ -256,7 +276,7 @@ def prepare_cases(aircraft, site):
     phi = aero.ground_effect_factor(a.wing_height_m, a.wing_span_m)
     cd_ground = aero.drag_coefficient(cd0, k, a.cl_ground_roll, phi)
     law = thrust.thrust_law_for_aircraft(a, s.pressure_pa, s.temperature_k)
-    return Cases(a, s, rho, law, k, cd0, cd_ground, s.toda_m - s.tora_m)
+    return Cases(a, s, rho, law, k, cd0, cd_ground, s.toda_m - s.tora_m, bool(vmcg_floor))
 
 
 # ---------------------------------------------------------------------------------------------
@@ -303,7 +323,8 @@ def all_engines(cases, mass_kg, memo):
 
     Notes
     -----
-    See :func:`physics.fieldlength.all_engines_takeoff`.
+    See :func:`physics.fieldlength.all_engines_takeoff`. With ``cases.vmcg_floor`` the speed
+    ratios are multiplied by max(1, V_MCG/VR) as in the engine-failure cases.
 
     References
     ----------
@@ -311,11 +332,16 @@ def all_engines(cases, mass_kg, memo):
     """
     if "all_engines" not in memo:
         a, s = cases.aircraft, cases.site
+        raise_by = 1.0
+        if cases.vmcg_floor:
+            sp = enginefailure.scheduled_speeds_mps(a, mass_kg=mass_kg, density_kg_m3=cases.density_kg_m3)
+            raise_by = sp.vr_mps / (sp.vs_mps * a.vr_over_vs)
         memo["all_engines"] = fieldlength.all_engines_takeoff(
             thrust_law=cases.thrust_all_engines, mass_kg=mass_kg, wing_area_m2=a.wing_area_m2,
             density_kg_m3=cases.density_kg_m3, cd_ground=cases.cd_ground_roll, cl_ground=a.cl_ground_roll,
-            mu=s.mu_roll, cl_max=a.cl_max_takeoff, vr_over_vs=a.vr_over_vs, vlof_over_vs=a.vlof_over_vs,
-            v2_over_vs=a.v2_over_vs, cd0_airborne=cases.cd0_takeoff, induced_factor=cases.induced_factor,
+            mu=s.mu_roll, cl_max=a.cl_max_takeoff, vr_over_vs=a.vr_over_vs * raise_by,
+            vlof_over_vs=a.vlof_over_vs * raise_by, v2_over_vs=a.v2_over_vs * raise_by,
+            cd0_airborne=cases.cd0_takeoff, induced_factor=cases.induced_factor,
             headwind_mps=s.headwind_mps, slope=s.slope, screen_height_m=s.screen_height_m,
             clearway_m=cases.clearway_m)
     return memo["all_engines"]
@@ -355,8 +381,56 @@ ALL_ENGINES_REQUIREMENTS = (
     Requirement("takeoff_run", _takeoff_run_margin, _takeoff_run_report),
 )
 
-#: The requirements checked by default, in reporting order. Append to add one.
-REQUIREMENTS = list(ALL_ENGINES_REQUIREMENTS)
+def _engine_out_distance_report(cases, mass_kg, memo):
+    r = enginefailure.weight_limit_engine_failure(cases, mass_kg, memo)
+    aeo = fieldlength.ALL_ENGINES_FACTOR * all_engines(cases, mass_kg, memo).takeoff_distance_m
+    sp = r.speeds
+    return {
+        "takeoff_distance_m": np.fmax(aeo, r.takeoff_distance_m),
+        "vr_mps": _speeds_eas(cases, sp.vr_mps),
+        "v_lof_mps": _speeds_eas(cases, sp.vlof_mps),
+        "v2_mps": _speeds_eas(cases, sp.v2_mps),
+    }
+
+
+def _engine_out_run_report(cases, mass_kg, memo):
+    r = enginefailure.weight_limit_engine_failure(cases, mass_kg, memo)
+    aeo = fieldlength.ALL_ENGINES_FACTOR * all_engines(cases, mass_kg, memo).takeoff_run_m
+    return {"takeoff_run_m": np.fmax(aeo, r.takeoff_run_m)}
+
+
+def _accelerate_stop_report(cases, mass_kg, memo):
+    r = enginefailure.weight_limit_engine_failure(cases, mass_kg, memo)
+    return {"accelerate_stop_m": r.accelerate_stop_m, "v1_mps": _speeds_eas(cases, r.v1_mps)}
+
+
+def _climb_report(cases, mass_kg, memo):
+    return {"climb_gradient": climb.weight_limit_climb_gradient(cases, mass_kg, memo)}
+
+
+#: The engine-failure and climb requirements of a transport-category takeoff (one engine
+#: inoperative: takeoff distance and run at the best V1, 14 CFR 25.113(a)(1), (c)(1);
+#: accelerate-stop, 25.109; second-segment climb, 25.121(b); single-engine types: stop from
+#: VR and the all-engines climb, see physics.enginefailure and physics.climb).
+ENGINE_FAILURE_REQUIREMENTS = (
+    Requirement("takeoff_distance", enginefailure.engine_out_takeoff_distance_margin, _engine_out_distance_report),
+    Requirement("takeoff_run", enginefailure.engine_out_takeoff_run_margin, _engine_out_run_report),
+    Requirement("accelerate_stop", enginefailure.accelerate_stop_margin, _accelerate_stop_report),
+    Requirement("climb_gradient", climb.climb_gradient_margin, _climb_report),
+)
+
+#: All requirements of a transport-category takeoff: all-engines 115 % distances and the
+#: engine-failure and climb requirements.
+TRANSPORT_REQUIREMENTS = ALL_ENGINES_REQUIREMENTS + ENGINE_FAILURE_REQUIREMENTS
+
+#: Requirement sets by the ``rules`` argument of :func:`solve_takeoff_weight`.
+RULES = {"transport": TRANSPORT_REQUIREMENTS, "all_engines": ALL_ENGINES_REQUIREMENTS}
+
+#: The requirements checked by default (``rules="transport"``), in reporting order. Append
+#: to add one.
+REQUIREMENTS = list(TRANSPORT_REQUIREMENTS)
+
+_ENGINE_FAILURE_MARGINS = {r.margin for r in ENGINE_FAILURE_REQUIREMENTS}
 
 
 # ---------------------------------------------------------------------------------------------
@@ -398,7 +472,7 @@ def requirement_margins(cases, mass_kg, requirements=None):
     return margins, memo
 
 
-def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None):
+def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules="transport"):
     """Largest takeoff mass between OEW and MTOW meeting every requirement, per case.
 
     Parameters
@@ -406,31 +480,78 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None):
     aircraft : Aircraft
         Per-case aircraft parameters (SI), broadcastable to n.
     site : Site
-        Per-case runway, day and (factored) wind (SI), broadcastable to n.
+        Per-case runway, day and (factored) wind (SI), broadcastable to n. Wet cases
+        (screen below 35 ft) with ``mu_roll_dry``/``mu_brake_dry`` given are also solved
+        on the dry runway and the lower limit kept.
     tol_kg : float, optional
         Width of the final bracket: the returned mass meets every requirement and the mass
         ``tol_kg`` above it fails one. [kg]
     requirements : list of Requirement, optional
-        Default ``REQUIREMENTS`` (all-engines takeoff distance and run for now).
+        Explicit requirement list (overrides ``rules``).
+    rules : str, optional
+        ``"transport"`` (default: all-engines 115 % distances, one-engine-inoperative
+        distances and accelerate-stop at the best V1, second-segment climb) or
+        ``"all_engines"`` (the all-engines pair only). [–]
 
     Returns
     -------
     WeightLimit
         Arrays of shape (n,).
 
+    Raises
+    ------
+    ValueError
+        For an unknown ``rules`` name.
+
     Notes
     -----
     Bisection on [OEW, MTOW] for every case at once: ceil(log2((MTOW − OEW)/tol)) halvings
     per case, each one evaluation of all requirements on the cases neither structural nor
-    no_takeoff. Invariant: the lower
-    end meets every requirement, the upper end fails one.
+    no_takeoff. Invariant: the lower end meets every requirement, the upper end fails one.
+    Wet never better than dry: limit_wet = min(limit with the wet friction and 15 ft screen,
+    limit on the same runway dry with a 35 ft screen), figures of the lower.
 
     References
     ----------
-    .. [3] Numerical Recipes §9.1. .. [1] 14 CFR 25.113.
+    .. [3] Numerical Recipes §9.1. .. [1] 14 CFR 25.109(b), 25.113.
     """
-    reqs = REQUIREMENTS if requirements is None else list(requirements)
-    cases = prepare_cases(aircraft, site)
+    if requirements is None:
+        if rules not in RULES:
+            raise ValueError(f"unknown rules {rules!r}; expected one of {sorted(RULES)}")
+        requirements = REQUIREMENTS if rules == "transport" else RULES[rules]
+    reqs = list(requirements)
+    result = _solve(aircraft, site, tol_kg, reqs)
+    dry_roll = np.asarray(site.mu_roll_dry if site.mu_roll_dry is not None else np.nan, dtype=float)
+    dry_brake = np.asarray(site.mu_brake_dry if site.mu_brake_dry is not None else np.nan, dtype=float)
+    n = result.tow_limit_kg.shape[0]
+    wet = (np.broadcast_to(np.asarray(site.screen_height_m, dtype=float), (n,)) < const.SCREEN_HEIGHT_35FT_M - 1e-6)
+    wet &= np.isfinite(np.broadcast_to(dry_roll, (n,))) & np.isfinite(np.broadcast_to(dry_brake, (n,)))
+    idx = np.nonzero(wet)[0]
+    if idx.size == 0:
+        return result
+    take = lambda obj, extra=None: type(obj)(**{  # noqa: E731
+        f.name: np.broadcast_to(np.asarray(getattr(obj, f.name), dtype=float), (n,))[idx]
+        for f in fields(obj) if f.name not in ("mu_roll_dry", "mu_brake_dry")}, **(extra or {}))
+    dry_site = take(site, None)
+    dry_site = Site(**{**{f.name: getattr(dry_site, f.name) for f in fields(Site)},
+                       "mu_roll": np.broadcast_to(dry_roll, (n,))[idx],
+                       "mu_brake": np.broadcast_to(dry_brake, (n,))[idx],
+                       "screen_height_m": np.full(idx.size, const.SCREEN_HEIGHT_35FT_M),
+                       "mu_roll_dry": math.nan, "mu_brake_dry": math.nan})
+    dry = _solve(take(aircraft), dry_site, tol_kg, reqs)
+    w_lim = result.tow_limit_kg[idx]
+    lower = ~np.isnan(w_lim) & (np.isnan(dry.tow_limit_kg) | (dry.tow_limit_kg < w_lim))
+    out = {}
+    for f in fields(WeightLimit):
+        val = np.array(getattr(result, f.name), copy=True)
+        sub = val[idx]
+        val[idx] = np.where(lower, getattr(dry, f.name), sub)
+        out[f.name] = val
+    return WeightLimit(**out)
+
+
+def _solve(aircraft, site, tol_kg, reqs):
+    cases = prepare_cases(aircraft, site, vmcg_floor=any(r.margin in _ENGINE_FAILURE_MARGINS for r in reqs))
     a = cases.aircraft
     lo = a.oew_kg.copy()
     hi = a.mtow_kg.copy()
