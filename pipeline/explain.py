@@ -1,0 +1,273 @@
+"""One case explained step by step: atmosphere, speeds, thrust, every distance and gradient.
+
+:func:`explain_case` builds the case exactly as a run does (:func:`pipeline.cases.block_cases`,
+:func:`pipeline.chunks.aircraft_arrays`, :func:`pipeline.chunks.site_arrays`), solves it with
+:func:`physics.weightlimit.solve_takeoff_weight` and then asks the physics modules for every
+intermediate figure at the limit mass, so that an engineer can check the result by hand.
+No formulas here: every number comes from :mod:`physics`; this module only formats them.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+
+import numpy as np
+
+from pipeline.errors import BadInput
+from schemas.caution import CAUTION
+
+
+@dataclass(frozen=True)
+class ExplainedCase:
+    """The text of an explanation and the solver's result it explains."""
+
+    text: str
+    tow_limit_kg: float
+    limiting_factor: str
+    v1_kt: float
+
+
+_MARGIN_LABELS = {
+    "_takeoff_distance_margin": "all engines: 1.15 × takeoff distance vs TODA",
+    "_takeoff_run_margin": "all engines: 1.15 × takeoff run vs TORA",
+    "engine_out_takeoff_distance_margin": "one engine out: takeoff distance vs TODA",
+    "engine_out_takeoff_run_margin": "one engine out: takeoff run vs TORA",
+    "accelerate_stop_margin": "accelerate-stop vs ASDA",
+    "climb_gradient_margin": "climb gradient above the minimum",
+}
+
+
+def _known(values) -> str:
+    vals = sorted({str(v) for v in values})
+    return ", ".join(vals[:12]) + (" …" if len(vals) > 12 else "")
+
+
+def load_tables(input_dir):
+    """Validated SI tables of an input folder; a clear error listing the problems."""
+    from schemas.load import load_folder
+    from schemas.validate import InputError
+
+    try:
+        return load_folder(input_dir)
+    except InputError as exc:
+        lines = [str(p) for p in getattr(exc, "problems", [])]
+        raise BadInput(f"the input tables in {input_dir} have errors; fix them first "
+                       f"(fieldlimits check {input_dir}):\n  " + "\n  ".join(lines[:20])) from exc
+
+
+def build_case(tables, airfield_id, runway_id, month, aircraft_type_id, condition="dry",
+               temperature_offset_k=0.0):
+    """The one case as a run builds it: (cases row frame, Aircraft, Site, aircraft row)."""
+    from pipeline import cases as case_io
+    from pipeline.chunks import aircraft_arrays, site_arrays
+
+    airfields = tables["airfields"]
+    if airfield_id not in set(airfields["airfield_id"].astype(str)):
+        raise BadInput(f"unknown airfield {airfield_id!r}; known: {_known(airfields['airfield_id'])}")
+    runways = tables["runways"]
+    mine = runways[runways["airfield_id"].astype(str) == airfield_id]
+    if str(runway_id) not in set(mine["runway_id"].astype(str)):
+        raise BadInput(f"airfield {airfield_id!r} has no runway {runway_id!r}; "
+                       f"its runways: {_known(mine['runway_id'])}")
+    if not 1 <= int(month) <= 12:
+        raise BadInput(f"month must be 1 to 12, not {month}")
+    types = tables["aircraft_types"].reset_index(drop=True)
+    if aircraft_type_id not in set(types["aircraft_type_id"].astype(str)):
+        raise BadInput(f"unknown aircraft type {aircraft_type_id!r}; known: {_known(types['aircraft_type_id'])}")
+    if condition not in ("dry", "wet"):
+        raise BadInput(f"condition must be dry or wet, not {condition!r}")
+    frame = case_io.block_cases(tables, [airfield_id], temperature_offset_k, conditions=(condition,))
+    pick = frame[(frame["runway_id"].astype(str) == str(runway_id)) & (frame["month"] == int(month))
+                 & (frame["aircraft_type_id"].astype(str) == aircraft_type_id)]
+    if len(pick) != 1:
+        raise BadInput(f"no climate for {airfield_id!r} in month {month} (or the case is ambiguous)")
+    pick = pick.reset_index(drop=True)
+    aircraft = aircraft_arrays(types, pick["aircraft_index"].to_numpy())
+    site = site_arrays(pick)
+    row = types.iloc[int(pick["aircraft_index"].iloc[0])]
+    return pick, aircraft, site, row
+
+
+def _f(x) -> float:
+    return float(np.ravel(np.asarray(x, dtype=float))[0])
+
+
+class _Lines:
+    def __init__(self):
+        self.out = []
+
+    def head(self, title):
+        self.out += ["", title, "-" * len(title)]
+
+    def add(self, label, value, unit="", note=""):
+        text = f"  {label:<46} {value:>12} {unit:<6}"
+        self.out.append((text + ("  " + note if note else "")).rstrip())
+
+    def text(self, s=""):
+        self.out.append(s)
+
+
+def _num(x, digits=0):
+    x = _f(x)
+    return "—" if not np.isfinite(x) else f"{x:,.{digits}f}"
+
+
+def _speed(lines, label, tas, density):
+    from physics import atmosphere, constants
+
+    eas = atmosphere.equivalent_airspeed_mps(tas, density)
+    lines.add(label, _num(eas / constants.KT_MPS, 1), "kt",
+              f"EAS {_num(eas, 2)} m/s, TAS {_num(tas, 2)} m/s")
+
+
+def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft_type_id="", condition="dry",
+                 temperature_offset_k=0.0) -> ExplainedCase:
+    """Solve one case and explain every step (plain function behind ``fieldlimits explain``).
+
+    Parameters
+    ----------
+    input_dir : str or Path, optional
+        Input folder (default: the bundled demo network).
+    airfield_id, runway_id : str
+        Airfield and runway direction (designator).
+    month : int
+        1–12.
+    aircraft_type_id : str
+        Aircraft type.
+    condition : str
+        ``dry`` or ``wet``.
+    temperature_offset_k : float
+        Climate scenario offset added to the month's temperature. [K]
+
+    Returns
+    -------
+    ExplainedCase
+        The text and the headline figures.
+    """
+    from physics import atmosphere, climb, constants, enginefailure, fieldlength, limits, thrust
+    from physics import weightlimit as wl
+
+    if input_dir is None:
+        from demo_network import demo_path
+
+        input_dir = demo_path()
+    if not os.path.isdir(input_dir):
+        raise BadInput(f"input folder {input_dir} does not exist")
+    tables = load_tables(input_dir)
+    case, a, s, row = build_case(tables, airfield_id, str(runway_id), int(month), aircraft_type_id, condition,
+                                 temperature_offset_k)
+    res = wl.solve_takeoff_weight(a, s)
+    factor = str(limits.name(int(res.limiting_factor[0])))
+    limit = _f(res.tow_limit_kg)
+    mass = limit if np.isfinite(limit) else _f(a.oew_kg)
+    kt = constants.KT_MPS
+
+    airfield = tables["airfields"].set_index("airfield_id").loc[airfield_id]
+    climate = tables["climate_monthly"]
+    climate = climate[(climate["airfield_id"] == airfield_id) & (climate["month"] == int(month))].iloc[0]
+    p, t = _f(s.pressure_pa), _f(s.temperature_k)
+    rho = _f(atmosphere.density_kg_m3(p, t))
+
+    L = _Lines()
+    L.text(f"fieldlimits explain — {airfield_id} runway {runway_id}, month {int(month)}, "
+           f"{aircraft_type_id} ({row.get('name', '')}), {condition} runway, design day")
+    L.text(CAUTION)
+
+    L.head("1. Atmosphere (design day: mean daily maximum, calm)")
+    L.add("airfield elevation", _num(airfield["elevation_m"], 0), "m")
+    L.add("QNH (month mean sea-level pressure)", _num(climate["qnh_pa"] / constants.HPA_PA, 1), "hPa")
+    L.add("outside air temperature", _num(t - constants.ZERO_CELSIUS_K, 1), "°C",
+          f"{_num(t, 2)} K" + (f" incl. scenario offset {temperature_offset_k:+.1f} K" if temperature_offset_k else ""))
+    L.add("station pressure", _num(p / constants.HPA_PA, 2), "hPa", f"{_num(p, 0)} Pa")
+    L.add("air density", _num(rho, 4), "kg/m³", f"sigma = rho/rho0 = {_num(rho / constants.RHO0_KG_M3, 4)}")
+    L.add("pressure altitude", _num(atmosphere.pressure_altitude_m(p), 0), "m",
+          f"{_num(atmosphere.pressure_altitude_m(p) / constants.FT_M, 0)} ft")
+    L.add("density altitude", _num(atmosphere.density_altitude_m(rho), 0), "m",
+          f"{_num(atmosphere.density_altitude_m(rho) / constants.FT_M, 0)} ft")
+    L.add("ISA deviation", _num(atmosphere.isa_deviation_k(t, p), 1), "K")
+
+    L.head("2. Runway")
+    L.add("TORA / TODA / ASDA", f"{_num(s.tora_m)} / {_num(s.toda_m)} / {_num(s.asda_m)}", "m",
+          f"clearway {_num(_f(s.toda_m) - _f(s.tora_m))} m, stopway {_num(_f(s.asda_m) - _f(s.tora_m))} m")
+    L.add("effective slope (+ uphill)", _num(_f(s.slope) * 100, 2), "%")
+    L.add("headwind component (factored)", _num(s.headwind_mps, 1), "m/s")
+    L.add("rolling / braking friction", f"{_f(s.mu_roll):.3f} / {_f(s.mu_brake):.3f}", "–")
+    L.add("screen height", _num(_f(s.screen_height_m) / constants.FT_M, 0), "ft",
+          "35 ft dry, 15 ft wet (14 CFR 25.113)")
+
+    L.head(f"3. Speeds at the limit mass {_num(mass)} kg")
+    ef = enginefailure.engine_failure_takeoff(a, s, np.asarray([mass]))
+    sp = ef.speeds
+    _speed(L, "VS (stall, takeoff flaps)", sp.vs_mps, rho)
+    if _f(a.engine_count) > 1:
+        _speed(L, "VMCG (minimum control speed on the ground)", sp.vmcg_mps, rho)
+    _speed(L, "V1 (decision speed chosen)", ef.v1_mps, rho)
+    _speed(L, "VR (rotation)", sp.vr_mps, rho)
+    _speed(L, "VLOF (lift-off)", sp.vlof_mps, rho)
+    _speed(L, "V2 (takeoff safety speed)", sp.v2_mps, rho)
+    if bool(np.ravel(sp.vmcg_limited)[0]):
+        L.text("  VR was below VMCG: VR, VLOF and V2 raised in proportion to VMCG (14 CFR 25.107).")
+
+    L.head("4. Thrust")
+    n_eng = _f(a.engine_count)
+    law_all = thrust.thrust_law_for_aircraft(a, s.pressure_pa, s.temperature_k)
+    law_climb = climb.climb_thrust_law(a, s.pressure_pa, s.temperature_k)
+    L.add(f"all {int(n_eng)} engine(s), static", _num(law_all.thrust_n(np.zeros(1)) / 1000, 1), "kN",
+          f"model {thrust.MODEL_NAMES[int(_f(a.thrust_model))]}, flat rated to "
+          f"{_num(_f(a.flat_rate_oat_k) - constants.ZERO_CELSIUS_K, 0)} °C")
+    L.add("all engines at VLOF", _num(law_all.thrust_n(sp.vlof_mps) / 1000, 1), "kN")
+    L.add(f"{int(climb.climb_engines_operating(n_eng))} engine(s) operating at V2 (climb)",
+          _num(law_climb.thrust_n(sp.v2_mps) / 1000, 1), "kN")
+    L.add("thrust / weight, all engines static", _num(law_all.thrust_n(np.zeros(1)) / (mass * constants.G0), 3), "–")
+
+    L.head("5. Distances against what is available")
+    cases = wl.prepare_cases(a, s, vmcg_floor=True)
+    aeo = wl.all_engines(cases, np.asarray([mass]), {})
+    f15 = fieldlength.ALL_ENGINES_FACTOR
+    L.add("all engines: ground run to VLOF", _num(aeo.ground_run_m), "m")
+    L.add("all engines: lift-off to screen", _num(aeo.airborne_m), "m")
+    L.add("all engines: takeoff distance × 1.15", _num(f15 * aeo.takeoff_distance_m), "m", f"TODA {_num(s.toda_m)} m")
+    L.add("all engines: takeoff run × 1.15", _num(f15 * aeo.takeoff_run_m), "m", f"TORA {_num(s.tora_m)} m")
+    if n_eng > 1:
+        L.add("engine failure at V1: ground run to VLOF", _num(ef.ground_run_m), "m")
+        L.add("engine failure at V1: lift-off to screen", _num(ef.airborne_m), "m")
+        L.add("one engine out: takeoff distance", _num(ef.takeoff_distance_m), "m", f"TODA {_num(s.toda_m)} m")
+        L.add("one engine out: takeoff run", _num(ef.takeoff_run_m), "m", f"TORA {_num(s.tora_m)} m")
+        L.add("accelerate-stop, engine failure at V1", _num(ef.accelerate_stop_engine_failure_m), "m",
+              f"ASDA {_num(s.asda_m)} m")
+    L.add("accelerate-stop, all engines" + ("" if n_eng > 1 else " (stop from VR)"),
+          _num(ef.accelerate_stop_all_engines_m), "m", f"ASDA {_num(s.asda_m)} m")
+    L.text("  accelerate-stop: all engines to V1, 2 s at V1, then braking at idle thrust, no reverse "
+           "(14 CFR 25.109).")
+    if n_eng > 1:
+        bfl, bv1 = enginefailure.balanced_field_length_m(a, s, np.asarray([_f(a.mtow_kg)]))
+        L.add("balanced field length at MTOW", _num(bfl), "m",
+              f"V1 {_num(atmosphere.equivalent_airspeed_mps(bv1, rho) / kt, 1)} kt EAS")
+
+    L.head("6. Takeoff climb (second segment: gear up, takeoff flaps, at V2)")
+    grad = climb.takeoff_climb_gradient(a, mass_kg=mass, pressure_pa=p, temperature_k=t)
+    need = climb.required_climb_gradient(n_eng)
+    rule = ("one engine inoperative, 14 CFR 25.121(b)" if n_eng > 1
+            else "all engines, 14 CFR 23.65(a) before amendment 23-64")
+    L.add("gross gradient", _num(100 * grad, 2), "%", f"required {100 * need:.1f} % ({rule})")
+    m_climb = climb.climb_limited_mass_kg(a, pressure_pa=p, temperature_k=t, mass_min_kg=_f(a.oew_kg),
+                                          mass_max_kg=_f(a.mtow_kg))
+    L.add("climb-limited mass (any runway)", _num(m_climb), "kg",
+          "MTOW reached" if np.isfinite(_f(m_climb)) and _f(m_climb) >= _f(a.mtow_kg) * (1 - 1e-9) else "")
+
+    L.head("7. The limit")
+    L.add("MTOW (structural)", _num(a.mtow_kg), "kg")
+    L.add("takeoff-weight limit", _num(limit), "kg")
+    L.add("limited by", factor, "")
+    if np.isfinite(limit):
+        margins, _ = wl.requirement_margins(wl.prepare_cases(a, s, vmcg_floor=True), np.asarray([limit]))
+        L.text("  margins at the limit (share of the declared distance left; climb: gradient points):")
+        for r, m in zip(wl.REQUIREMENTS, margins[:, 0]):
+            label = _MARGIN_LABELS.get(getattr(r.margin, "__name__", ""), r.factor)
+            shown = "not applicable" if np.isposinf(m) else _num(100 * m, 2)
+            L.add(f"  {label}", shown, "" if np.isposinf(m) else "%")
+    L.text("")
+    L.text(CAUTION)
+    v1_kt = _f(atmosphere.equivalent_airspeed_mps(ef.v1_mps, rho) / kt)
+    return ExplainedCase("\n".join(L.out), limit, factor, v1_kt)
