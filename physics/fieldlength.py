@@ -98,8 +98,7 @@ def takeoff_run_m(ground_run_m, airborne_m, clearway_m):
 def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_ground, cl_ground, mu,
                         cl_max, vr_over_vs, vlof_over_vs, v2_over_vs, cd0_airborne, induced_factor,
                         headwind_mps=0.0, slope=0.0, screen_height_m=c.SCREEN_HEIGHT_35FT_M, clearway_m=0.0,
-                        load_factor=airborne.TRANSITION_LOAD_FACTOR, rotation_time_s=0.0,
-                        nodes=groundrun.DEFAULT_NODES):
+                        load_factor=airborne.TRANSITION_LOAD_FACTOR, rotation_time_s=0.0, nodes=None):
     """All-engines takeoff of n cases at trial masses.
 
     Parameters
@@ -138,7 +137,8 @@ def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_
         Free-roll allowance at V_LOF added to the ground run (Anderson's N; 0 by default,
         since the roll is integrated up to V_LOF itself, rotation from VR included). [s]
     nodes : int, optional
-        Gauss–Legendre nodes for propeller cases. [–]
+        Gauss–Legendre nodes for propeller cases (default: per case, see
+        :func:`physics.groundrun.nodes_for_ratio`). [–]
 
     Returns
     -------

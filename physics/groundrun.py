@@ -192,26 +192,27 @@ def _quadratic_integrals(a0, a1, a2, vi, vf, w):
     a0, a1, a2, vi, vf, w = (np.atleast_1d(x) for x in (a0, a1, a2, vi, vf, w))
     dv = vf - vi
     ai = a0 + (a1 + a2 * vi) * vi
-    disc = a1 * a1 - 4.0 * a0 * a2
+    a1sq = a1 * a1
+    four_a0a2 = 4.0 * a0 * a2
+    disc = a1sq - four_a0a2
 
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        # Real, distinct roots: a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q.
+        # Real, distinct roots: a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q,
+        # and a2 (r1 − r2) = −sq.
         sq = np.copysign(np.sqrt(np.maximum(disc, 0.0)), a1)
         q = -0.5 * (a1 + sq)
         r2 = a0 / q
-        den1 = a2 * vi - q
-        x1 = a2 * dv / den1
+        u = dv / (a2 * vi - q)
+        x1 = a2 * u
         log1 = np.log1p(x1)
-        term1 = (q - a2 * w) * _log1p_ratio(x1, log1) * dv / den1  # (r1 − w) ln((vf − r1)/(vi − r1))
+        term1 = (q - a2 * w) * _log1p_ratio(x1, log1) * u  # (r1 − w) ln((vf − r1)/(vi − r1))
         log2 = np.log1p(dv / (vi - r2))
-        d = -sq  # = a2 (r1 − r2)
-        dist = (term1 - (r2 - w) * log2) / d
-        time = (log1 - log2) / d
+        dist = ((r2 - w) * log2 - term1) / sq
+        time = (log2 - log1) / sq
 
     # Other regimes on the (usually few) cases that need them: complex roots, and where the
     # real-root form is singular or ill-conditioned (double root; constant acceleration).
-    absdisc = np.abs(disc)
-    special = (disc < 0.0) | (absdisc <= 1e-12 * (a1 * a1 + np.abs(4.0 * a0 * a2)))
+    special = (disc < 0.0) | (np.abs(disc) <= 1e-12 * (a1sq + np.abs(four_a0a2)))
     if np.any(special):
         i = np.nonzero(special)[0]
         A0, A1, A2, Vi, Vf, W, DV, D = a0[i], a1[i], a2[i], vi[i], vf[i], w[i], dv[i], disc[i]
@@ -241,7 +242,7 @@ def _quadratic_integrals(a0, a1, a2, vi, vf, w):
         dist[i] = s_sp
         time[i] = t_sp
 
-    ok = (np.sign(dv) * ai > 0.0) & np.isfinite(dist) & np.isfinite(time)
+    ok = (np.sign(dv) * ai > 0.0) & np.isfinite(dist)
     zero = dv == 0.0
     dist = np.where(ok, dist, np.nan)
     time = np.where(ok, time, np.nan)
@@ -262,12 +263,16 @@ def _split_at_zero(a0, a1, a2, a2_reverse, va_start, va_end, headwind_mps):
     a0, a1, a2, a2r, vi, vf, w = np.broadcast_arrays(*(_f(x) for x in (
         a0, a1, a2, a2_reverse, va_start, va_end, headwind_mps)))
     s, t = _quadratic_integrals(a0, a1, a2, np.maximum(vi, 0.0), np.maximum(vf, 0.0), w)
-    rev = (vi < 0.0) | (vf < 0.0)
-    if np.any(rev):
-        sr, tr = _quadratic_integrals(a0[rev], a1[rev], a2r[rev], np.minimum(vi[rev], 0.0),
-                                      np.minimum(vf[rev], 0.0), w[rev])
+    rev = np.flatnonzero(np.minimum(vi, vf) < 0.0)  # integer indices: much faster than a mask
+    if rev.size:
+        shape = np.shape(s)
+        s, t = np.atleast_1d(s).ravel(), np.atleast_1d(t).ravel()
+        a0, a1, a2r, vi, vf, w = (np.atleast_1d(x).ravel() for x in (a0, a1, a2r, vi, vf, w))
+        sr, tr = _quadratic_integrals(a0.take(rev), a1.take(rev), a2r.take(rev), np.minimum(vi.take(rev), 0.0),
+                                      np.minimum(vf.take(rev), 0.0), w.take(rev))
         s[rev] += sr
         t[rev] += tr
+        s, t = s.reshape(shape), t.reshape(shape)
     return s, t
 
 
@@ -421,21 +426,85 @@ def _general_integrals(accel_fn, va_start, va_end, headwind_mps, nodes, breakpoi
     half = 0.5 * np.diff(edges, axis=1)  # (n, pieces)
     mid = 0.5 * (edges[:, 1:] + edges[:, :-1])
     v_nodes = (mid[:, :, None] + half[:, :, None] * x).reshape(len(vi), -1)
-    v_all = np.concatenate([v_nodes, lo[:, None], hi[:, None]], axis=1)
-    a_all = accel_fn(v_all)
-    a_nodes = a_all[:, :-2].reshape(half.shape + (nodes,))
+    a_nodes = accel_fn(v_nodes)
+    a_ends = accel_fn(np.stack([vi, vf], axis=1))
     sgn = np.sign(vf - vi)
-    ok = np.all(sgn[:, None] * a_all > 0.0, axis=1) | (vf == vi)
+    ok = ((sgn[:, None] * a_nodes > 0.0).all(axis=1) & (sgn[:, None] * a_ends > 0.0).all(axis=1)) | (vf == vi)
+    hw = (half[:, :, None] * wts).reshape(v_nodes.shape)  # weight × half-length per node
     with np.errstate(divide="ignore", invalid="ignore"):
-        inv = wts / a_nodes
-        time_up = np.sum(half[:, :, None] * inv, axis=(1, 2))
-        vg = v_nodes.reshape(a_nodes.shape) - w[:, None, None]
-        dist_up = np.sum(half[:, :, None] * vg * inv, axis=(1, 2))
+        inv = hw / a_nodes
+        time_up = inv.sum(axis=1)
+        dist_up = (v_nodes * inv).sum(axis=1) - w * time_up  # ∫ V/a − w ∫ 1/a
     dist = np.where(ok, sgn * dist_up, np.nan)
     time = np.where(ok, sgn * time_up, np.nan)
-    dist = np.where(vf == vi, 0.0, dist)
-    time = np.where(vf == vi, 0.0, time)
+    zero = vf == vi
+    if np.any(zero):
+        dist[zero] = 0.0
+        time[zero] = 0.0
     return dist, time
+
+
+def _propeller_power_piece(pm, c2, c0, v0, v1, w, nodes):
+    """Gauss–Legendre distance and time for a(V) = pm/V − c2 V² − c0 on [v0, v1], V > 0.
+
+    Node-major layout (nodes, cases) so that numpy's inner loops run over the cases.
+    """
+    x, wts = _gauss_legendre(nodes)
+    half = 0.5 * (v1 - v0)
+    v = 0.5 * (v1 + v0) + half * x[:, None]  # (nodes, n)
+    a = pm / v - c2 * v * v - c0
+    a_end = pm / v1 - c2 * v1 * v1 - c0
+    a_start = pm / v0 - c2 * v0 * v0 - c0
+    sgn = np.sign(v1 - v0)
+    ok = ((sgn * a > 0.0).all(axis=0) & (sgn * a_end > 0.0) & (sgn * a_start > 0.0)) | (v1 == v0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        inv = wts[:, None] / a
+        time_up = half * inv.sum(axis=0)
+        dist_up = half * (v * inv).sum(axis=0) - w * time_up
+    dist = np.where(ok, sgn * dist_up, np.nan)
+    time = np.where(ok, sgn * time_up, np.nan)
+    zero = v1 == v0
+    if np.any(zero):
+        dist[zero] = 0.0
+        time[zero] = 0.0
+    return dist, time
+
+
+def nodes_for_ratio(accel_ratio, error=1e-9):
+    """Gauss–Legendre nodes that make the error factor rho^(−2n) at most ``error``.
+
+    Parameters
+    ----------
+    accel_ratio : array_like
+        a(V_end)/a(V_start) on a piece (0 < ratio; ≥ 1 for rising acceleration). [–]
+    error : float, optional
+        Target value of rho^(−2n). [–]
+
+    Returns
+    -------
+    numpy.ndarray of int
+        Nodes per case, rounded up to one of 6, 8, 12, 16, 24, 32, 48, 64 (64 at most). [–]
+
+    Notes
+    -----
+    For a(V) close to linear on the piece, a vanishes at x = 1 + 2 r/(1 − r) half-lengths from
+    the centre (r the ratio), which bounds the Bernstein ellipse of the integrand:
+    rho = x + sqrt(x² − 1); the error of the n-point rule is O(rho^(−2n)) [4]. For r → 0 the
+    64-node cap leaves a larger error (documented in :func:`segment_distance_general_m`).
+
+    References
+    ----------
+    .. [4] Trefethen (2008), Theorem 4.5.
+    """
+    r = np.clip(np.asarray(accel_ratio, dtype=float), 1e-6, 0.999)
+    x = 1.0 + 2.0 * r / (1.0 - r)
+    rho = x + np.sqrt(x * x - 1.0)
+    n = np.ceil(np.log(1.0 / error) / (2.0 * np.log(rho)))
+    buckets = np.array(_NODE_BUCKETS)
+    return buckets[np.minimum(np.searchsorted(buckets, n), len(buckets) - 1)]
+
+
+_NODE_BUCKETS = (6, 8, 12, 16, 24, 32, 48, 64)
 
 
 def segment_distance_general_m(accel_fn, va_start, va_end, headwind_mps=0.0, *, nodes=DEFAULT_NODES,
@@ -688,7 +757,7 @@ def ground_run_m(*, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, thrust0_n,
 
 
 def ground_run_for_thrust_law(thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, v_lof_mps,
-                              headwind_mps=0.0, slope=0.0, nodes=DEFAULT_NODES):
+                              headwind_mps=0.0, slope=0.0, nodes=None):
     """Ground run from rest to lift-off for any mix of thrust models.
 
     Parameters
@@ -704,7 +773,8 @@ def ground_run_for_thrust_law(thrust_law, *, mass_kg, wing_area_m2, density_kg_m
     slope : array_like, optional
         Gradient, + uphill. [–]
     nodes : int, optional
-        Gauss–Legendre nodes for the propeller power-limited piece. [–]
+        Gauss–Legendre nodes for the propeller power-limited piece; default: chosen per case
+        by :func:`nodes_for_ratio` from a(V_LOF)/a(V_k) so that rho^(−2n) ≤ 1e-9. [–]
 
     Returns
     -------
@@ -740,17 +810,27 @@ def ground_run_for_thrust_law(thrust_law, *, mass_kg, wing_area_m2, density_kg_m
         idx = np.nonzero(prop)[0]
         # Above the kink V ≥ V_k > 0: T = P_eta/V exactly and V|V| = V², so
         # a(V) = P_eta/(m V) − c2 V² − c0 (the general acceleration_function, specialised).
-        mi = m[idx]
-        sin_g, cos_g = slope_sin_cos(slope[idx])
-        pm = (law.propeller_power_w[idx] / mi)[:, None]
-        c2 = (0.5 * rho[idx] * s_area[idx] * (cd[idx] - mu[idx] * cl[idx]) / mi)[:, None]
-        c0 = (c.G0 * (mu[idx] * cos_g + sin_g))[:, None]
-
-        def acc(v):
-            return pm / v - c2 * v * v - c0
-
-        v0 = np.maximum(vk[idx], w[idx])
-        s2, t2 = _general_integrals(acc, v0, vlof[idx], w[idx], nodes, None)
+        mi = m.take(idx)
+        sin_g, cos_g = slope_sin_cos(slope.take(idx))
+        mu_i = mu.take(idx)
+        pm = law.propeller_power_w.take(idx) / mi
+        c2 = 0.5 * rho.take(idx) * s_area.take(idx) * (cd.take(idx) - mu_i * cl.take(idx)) / mi
+        c0 = c.G0 * (mu_i * cos_g + sin_g)
+        v0 = np.maximum(vk.take(idx), w.take(idx))
+        v1 = vlof.take(idx)
+        wi = w.take(idx)
+        if nodes is None:  # per case, from the acceleration ratio over the piece
+            a_start = pm / v0 - c2 * v0 * v0 - c0
+            a_end = pm / v1 - c2 * v1 * v1 - c0
+            per_case = nodes_for_ratio(a_end / a_start)
+        else:
+            per_case = np.full(idx.size, int(nodes))
+        s2 = np.empty(idx.size)
+        t2 = np.empty(idx.size)
+        for k in np.unique(per_case):  # a few node counts, not a loop over cases
+            j = np.flatnonzero(per_case == k)
+            s2[j], t2[j] = _propeller_power_piece(pm.take(j), c2.take(j), c0.take(j), v0.take(j), v1.take(j),
+                                                  wi.take(j), int(k))
         dist = np.array(dist)
         time = np.array(time)
         reason = np.array(reason)
