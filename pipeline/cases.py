@@ -119,37 +119,62 @@ def station_frame(tables: dict[str, pd.DataFrame], runways: pd.DataFrame,
     return frame
 
 
+def expand_cases(stations: pd.DataFrame, types: np.ndarray,
+                 conditions: tuple[str, ...] = CONDITIONS) -> pd.DataFrame:
+    """Cases from station rows (runway × 12 months, sorted by airfield, runway, month).
+
+    Order: airfield, runway, aircraft type, month, condition (the :data:`CASE_KEYS` order).
+    """
+    n_st = len(stations)
+    if n_st % 12:
+        raise RuntimeError("every runway needs twelve months of climate")  # validated upstream
+    n_rw, n_t, n_c = n_st // 12, len(types), len(conditions)
+    r, t, m, c = (a.ravel() for a in np.indices((n_rw, n_t, 12, n_c)))
+    st = r * 12 + m
+    surface = stations["surface"].to_numpy(object)[::12]
+    mu = [friction_for(surface, cond) for cond in conditions]
+    mu_roll = np.stack([x[0] for x in mu])  # [condition, runway]
+    mu_brake = np.stack([x[1] for x in mu])
+    cond_names = np.asarray(conditions, dtype=object)
+    screens = np.asarray([SCREEN_HEIGHT_M[cond] for cond in conditions])
+    out = {
+        "airfield_id": stations["airfield_id"].to_numpy(object)[st],
+        "runway_id": stations["runway_id"].to_numpy(object)[st],
+        "aircraft_type_id": np.asarray(types, dtype=object)[t],
+        "aircraft_index": t.astype(np.int32),
+        "month": stations["month"].to_numpy(np.int8)[st],
+        "condition": cond_names[c],
+    }
+    for col in ("tora_m", "toda_m", "asda_m", "slope", "pressure_pa", "temperature_k",
+                "oat_c", "pressure_altitude_m", "density_altitude_m"):
+        out[col] = stations[col].to_numpy(float)[st]
+    out["mu_roll"] = mu_roll[c, r]
+    out["mu_brake"] = mu_brake[c, r]
+    out["headwind_mps"] = np.zeros(len(st))  # design day: calm
+    out["screen_height_m"] = screens[c]
+    return pd.DataFrame(out)
+
+
+def all_stations(tables: dict[str, pd.DataFrame], temperature_offset_k: float) -> pd.DataFrame:
+    """Every runway direction × month with its design-day atmosphere, sorted."""
+    stations = station_frame(tables, tables["runways"], temperature_offset_k)
+    return stations.sort_values(["airfield_id", "runway_id", "month"], kind="stable", ignore_index=True)
+
+
 def block_cases(tables: dict[str, pd.DataFrame], airfield_ids, temperature_offset_k: float,
-                conditions: tuple[str, ...] = CONDITIONS) -> pd.DataFrame:
+                conditions: tuple[str, ...] = CONDITIONS, stations: pd.DataFrame | None = None) -> pd.DataFrame:
     """All cases of some airfields: directions × months × types × conditions."""
-    runways = tables["runways"]
-    runways = runways[runways["airfield_id"].isin(list(airfield_ids))]
-    stations = station_frame(tables, runways, temperature_offset_k)
-    stations = stations.sort_values(["airfield_id", "runway_id", "month"], kind="stable")
+    if stations is None:
+        stations = all_stations(tables, temperature_offset_k)
+    ids = list(airfield_ids)
+    airfield = stations["airfield_id"].to_numpy(object)
+    lo = np.searchsorted(airfield, ids[0], side="left") if len(ids) else 0
+    hi = np.searchsorted(airfield, ids[-1], side="right") if len(ids) else 0
+    block = stations.iloc[lo:hi]
+    if set(block["airfield_id"].unique()) != set(ids):  # ids not a contiguous sorted run
+        block = stations[stations["airfield_id"].isin(ids)]
     types = tables["aircraft_types"]["aircraft_type_id"].astype(str).to_numpy()
-    parts = []
-    for condition in conditions:
-        mu_roll, mu_brake = friction_for(stations["surface"].to_numpy(object), condition)
-        n = len(stations)
-        t = len(types)
-        part = pd.DataFrame({
-            "airfield_id": np.repeat(stations["airfield_id"].to_numpy(object), t),
-            "runway_id": np.repeat(stations["runway_id"].to_numpy(object), t),
-            "aircraft_type_id": np.tile(types, n),
-            "aircraft_index": np.tile(np.arange(t, dtype=np.int32), n),
-            "month": np.repeat(stations["month"].to_numpy(np.int8), t),
-            "condition": condition,
-        })
-        for col in ("tora_m", "toda_m", "asda_m", "slope", "pressure_pa", "temperature_k",
-                    "oat_c", "pressure_altitude_m", "density_altitude_m"):
-            part[col] = np.repeat(stations[col].to_numpy(float), t)
-        part["mu_roll"] = np.repeat(mu_roll, t)
-        part["mu_brake"] = np.repeat(mu_brake, t)
-        part["headwind_mps"] = 0.0  # design day: calm
-        part["screen_height_m"] = SCREEN_HEIGHT_M[condition]
-        parts.append(part)
-    cases = pd.concat(parts, ignore_index=True)
-    return cases.sort_values(list(CASE_KEYS), kind="stable", ignore_index=True)
+    return expand_cases(block, types, conditions)
 
 
 def _atomic_write_table(table: pa.Table, path: Path) -> None:
@@ -177,8 +202,9 @@ def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str 
     tmp = target.with_name(f".{target.name}.{os.getpid()}.tmp")
     writer = None
     try:
+        stations = all_stations(tables, temperature_offset_k)
         for block, expected in zip(plan.airfield_blocks, plan.cases_per_chunk):
-            cases = block_cases(tables, block, temperature_offset_k, conditions)
+            cases = block_cases(tables, block, temperature_offset_k, conditions, stations)
             if len(cases) != expected:  # a broken invariant, not a user error
                 raise RuntimeError(f"chunk of {block[:3]}… has {len(cases)} cases, planned {expected}")
             table = pa.Table.from_pandas(cases, preserve_index=False)

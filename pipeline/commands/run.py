@@ -20,11 +20,51 @@ DESCRIPTION = (
 
 
 def _floats(text: str) -> tuple[float, ...]:
+    if text.strip().lower() in ("", "none"):
+        return ()
     try:
         values = tuple(float(x) for x in text.split(",") if x.strip())
     except ValueError:
         raise BadInput(f"expected comma-separated numbers, got {text!r}") from None
     return values
+
+
+WARM_UP_MIN_BYTES = 5 * 2**20
+"""Inputs at least this big take seconds to validate: start Prefect's server meanwhile."""
+
+
+def _folder_bytes(folder) -> int:
+    try:
+        return sum(p.stat().st_size for p in os.scandir(folder) if p.is_file())
+    except OSError:
+        return 0
+
+
+def _start_prefect_server(input_dir):
+    """Start Prefect's temporary API server in a thread while the inputs are validated.
+
+    The flow would start it anyway on its first call; starting it now overlaps the ~15-25 s
+    start-up with validation. Only when no ``PREFECT_API_URL`` is set. The thread is joined
+    before the flow runs, so the flow finds the server up (or starts it itself if this failed).
+    """
+    import threading
+
+    if os.environ.get("PREFECT_API_URL") or _folder_bytes(input_dir) < WARM_UP_MIN_BYTES:
+        return None
+    os.environ.setdefault("PREFECT_LOGGING_LEVEL",
+                          "WARNING" if os.environ.get("FIELDLIMITS_DEBUG") else "CRITICAL")
+
+    def start():
+        try:
+            from prefect.server.api.server import SubprocessASGIServer
+
+            SubprocessASGIServer().start()
+        except Exception:  # the flow starts it (and reports any problem) itself
+            pass
+
+    thread = threading.Thread(target=start, name="prefect-server-start", daemon=True)
+    thread.start()
+    return thread
 
 
 def add_arguments(parser) -> None:
@@ -37,8 +77,8 @@ def add_arguments(parser) -> None:
     parser.add_argument("--conditions", default="dry,wet",
                         help="runway conditions to compute, comma separated (default dry,wet)")
     parser.add_argument("--reliability", default="0.5,0.85,0.95", metavar="P,P,...",
-                        help="reliability levels (shares of days) for reliability rows when that "
-                             "model is installed (default 0.5,0.85,0.95)")
+                        help="reliability levels (shares of days) for the reliability rows "
+                             "(default 0.5,0.85,0.95; 'none' for design-day rows only)")
     parser.add_argument("--chunk-size", type=int, default=None, metavar="N",
                         help="cases per chunk task (default 8000; whole airfields per chunk)")
     parser.add_argument("--workers", type=int, default=None, metavar="N",
@@ -77,7 +117,12 @@ def run(args) -> int:
         progress.set_reporter(progress.StderrProgress())
     from pipeline.steps import prepare_run
 
-    prepare_run(input_dir, args.db, params, args.work_dir)  # bad input: exit 2 before Prefect starts
+    warm_up = None if args.no_prefect else _start_prefect_server(input_dir)
+    try:
+        prepare_run(input_dir, args.db, params, args.work_dir)  # bad input: exit 2 before the flow
+    finally:
+        if warm_up is not None:
+            warm_up.join()
     if args.no_prefect:
         if args.cluster:
             raise BadInput("--cluster needs Prefect; drop --no-prefect")

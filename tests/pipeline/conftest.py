@@ -38,13 +38,14 @@ def demo_dir() -> Path:
 
 @pytest.fixture(scope="session")
 def demo_run(tmp_path_factory, demo_dir):
-    """A DuckDB file with one complete demo run (plain functions, no Prefect)."""
+    """A DuckDB file with one complete demo run (plain functions, no Prefect, design day)."""
     if not _physics_ready():
         pytest.skip("physics.weightlimit not available yet")
     from pipeline.steps import RunParams, run_local
 
     db = tmp_path_factory.mktemp("demo") / "demo.duckdb"
-    summary = run_local(demo_dir, db, RunParams(), progress=lambda *a: None)
+    # design-day rows only: the reliability producer has its own tests (tests/pipeline/test_reliability*)
+    summary = run_local(demo_dir, db, RunParams(reliability_levels=()), progress=lambda *a: None)
     return db, summary
 
 

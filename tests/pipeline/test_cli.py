@@ -63,7 +63,7 @@ def test_run_on_bad_input_exits_2_and_leaves_the_database_unchanged(tmp_path, de
 @needs_physics
 def test_run_no_prefect_prints_progress_and_summary(tmp_path, demo_dir):
     db = tmp_path / "cli.duckdb"
-    out = cli("run", demo_dir, "--db", db, "--no-prefect", "--chunk-size", "4000")
+    out = cli("run", demo_dir, "--db", db, "--no-prefect", "--chunk-size", "4000", "--reliability", "none")
     assert out.returncode == 0, out.stderr
     assert "chunks" in out.stderr and "/" in out.stderr  # progress: chunks done / total
     assert "run 1 complete" in out.stdout and "airfields" in out.stdout and "cases" in out.stdout

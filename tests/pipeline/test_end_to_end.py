@@ -108,7 +108,7 @@ def test_design_day_atmosphere_is_stored(frames):
 def test_temperature_offset_scenario_is_stored_and_lowers_limits(demo_db_copy, demo_dir):
     from pipeline.steps import RunParams, run_local
 
-    summary = run_local(demo_dir, demo_db_copy, RunParams(temperature_offset_k=2.0), progress=lambda *a: None)
+    summary = run_local(demo_dir, demo_db_copy, RunParams(temperature_offset_k=2.0, reliability_levels=()), progress=lambda *a: None)
     with store.reader(demo_db_copy) as con:
         off = con.execute("SELECT temperature_offset_k FROM runs WHERE run_id = $r",
                           {"r": summary.run_id}).fetchall()[0][0]
@@ -126,7 +126,7 @@ def test_temperature_offset_scenario_is_stored_and_lowers_limits(demo_db_copy, d
 def test_chunk_rerun_is_idempotent(tmp_path, demo_dir):
     from pipeline import chunks, steps
 
-    prepared = steps.prepare_run(demo_dir, tmp_path / "x.duckdb", steps.RunParams(chunk_size=3000))
+    prepared = steps.prepare_run(demo_dir, tmp_path / "x.duckdb", steps.RunParams(chunk_size=3000, reliability_levels=()))
     prepared.work_root = tmp_path / "work"
     work = steps.build_cases(prepared, 1)
     key = prepared.chunk_params()
@@ -153,3 +153,30 @@ def test_chunks_hold_whole_airfields(tmp_path, demo_dir):
         assert not ids & seen
         seen |= ids
     assert prepared.plan.n_chunks > 2
+
+
+def test_row_producers_add_direction_and_airfield_rows(tmp_path, demo_dir, monkeypatch):
+    """The producer hook: extra direction rows, and airfield rows that replace the best pick."""
+    from pipeline import producers
+    from pipeline.steps import RunParams, run_local
+
+    def fake_reliability(context):
+        d = context.design_rows.copy()
+        d["basis"], d["reliability"] = "reliability", 0.5
+        d["tow_limit_kg"] = d["tow_limit_kg"] - 1.0
+        a = d.drop_duplicates(["airfield_id", "aircraft_type_id", "month", "condition"]).copy()
+        a["runway_id"] = None
+        return producers.ProducerRows(direction=d, airfield=a)
+
+    monkeypatch.setattr(producers, "OPTIONAL_PRODUCERS", ())
+    monkeypatch.setattr(producers, "ROW_PRODUCERS", [fake_reliability])
+    db = tmp_path / "p.duckdb"
+    run_local(demo_dir, db, RunParams(reliability_levels=()), progress=lambda *a: None)
+    with store.reader(db) as con:
+        counts = dict(con.sql("SELECT basis, count(*) FROM latest_results_direction GROUP BY 1").fetchall())
+        af = dict(con.sql("SELECT basis, count(*) FROM latest_results_airfield GROUP BY 1").fetchall())
+        nulls = con.sql("SELECT count(*) FROM latest_results_airfield WHERE basis = 'reliability' "
+                        "AND runway_id IS NOT NULL").fetchall()[0][0]
+    assert counts["reliability"] == counts["design_day"]
+    assert af["reliability"] == af["design_day"]  # supplied at airfield level, not re-derived
+    assert nulls == 0

@@ -24,7 +24,7 @@ def prefect_run(tmp_path_factory, demo_dir):
 
     db = tmp_path_factory.mktemp("flow") / "flow.duckdb"
     with prefect_test_harness(server_startup_timeout=120):
-        summary = run_with_prefect(demo_dir, db, RunParams(chunk_size=4000))
+        summary = run_with_prefect(demo_dir, db, RunParams(chunk_size=4000, reliability_levels=()))
     return db, summary
 
 
