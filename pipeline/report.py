@@ -204,15 +204,15 @@ def _names(frame: pd.DataFrame, key: str) -> dict[str, str]:
     return dict(zip(frame[key].astype(str), frame["name"].astype(str)))
 
 
-def _style_legend(ax, entries) -> None:
-    """Second legend (black lines) explaining the line styles."""
+def _style_legend(fig: Figure, entries) -> None:
+    """Legend of the line styles (black), in one row under the plot."""
     from matplotlib.lines import Line2D
 
     handles = [Line2D([], [], color="#333333", linestyle=ls, marker=mk, markersize=4,
                       linewidth=lw) for ls, mk, lw, _ in entries]
-    legend = ax.legend(handles, [e[3] for e in entries], loc="lower left",
-                       bbox_to_anchor=(1.02, 0.0), fontsize=8, frameon=False)
-    ax.add_artist(legend)
+    fig.legend(handles, [e[3] for e in entries], loc="lower left", bbox_to_anchor=(0.07, 0.0),
+               ncol=len(entries), fontsize=8, frameon=False, handlelength=2.4,
+               columnspacing=1.4)
 
 
 def draw_airfield(results: pd.DataFrame, airfield_id: str, path: Path, colours,
@@ -227,7 +227,7 @@ def draw_airfield(results: pd.DataFrame, airfield_id: str, path: Path, colours,
     have_mtow = any(np.isfinite(mtow_kg.get(t, np.nan))
                     for t in results["aircraft_type_id"].unique())
     fig = _figure(9.0, 4.6)
-    ax = fig.add_axes((0.08, 0.13, 0.64, 0.76))
+    ax = fig.add_axes((0.08, 0.2, 0.64, 0.71))
     months = np.arange(1, 13)
     handles, no_takeoff, finite = [], [], []
     for t, by in results.groupby("aircraft_type_id", sort=True):
@@ -244,7 +244,10 @@ def draw_airfield(results: pd.DataFrame, airfield_id: str, path: Path, colours,
                 finite.append(y[np.isfinite(y)])
             if cond == "dry" and (~np.isfinite(y)).any():
                 no_takeoff.append((months[~np.isfinite(y)], c))
-        label = f"{t} (MTOW {m / 1000.0:.1f} t)" if np.isfinite(m) else t
+        label = f"{t}\nMTOW {m / 1000.0:.1f} t" if np.isfinite(m) else t
+        if line is None:  # no takeoff in any month: the legend entry shows the cross
+            (line,) = ax.plot([], [], "x", color=c, markeredgewidth=1.6)
+            label += ", no takeoff"
         handles.append((line, label))
     values = np.concatenate(finite) if finite else np.array([100.0])
     if have_mtow:
@@ -256,17 +259,13 @@ def draw_airfield(results: pd.DataFrame, airfield_id: str, path: Path, colours,
         ax.set_ylim(0, values.max() * 1.06)
         ax.set_ylabel("Takeoff-weight limit [t]")
     bottom = ax.get_ylim()[0]
-    for i, (mon, c) in enumerate(no_takeoff):
+    for mon, c in no_takeoff:
         ax.plot(mon, np.full(mon.size, bottom), "x", color=c, markersize=8, clip_on=False,
                 markeredgewidth=1.6)
-    for i, (h, label) in enumerate(handles):
-        if h is None:  # no takeoff in any month: legend entry shows the cross
-            (h,) = ax.plot([], [], "x", color=colours[label.split(" ")[0]])
-            handles[i] = (h, label + ": no takeoff")
     _month_axis(ax)
     ax.set_title(f"{name or airfield_id} ({airfield_id}): takeoff-weight limit, design day",
                  fontsize=11)
-    _style_legend(ax, (("-", "o", 1.8, "dry runway"), ("--", None, 1.2, "wet runway"),
+    _style_legend(fig, (("-", "o", 1.8, "dry runway"), ("--", None, 1.2, "wet runway"),
                        (":", None, 1.2, "MTOW (100 %)"), ("", "x", 0, "no takeoff")))
     ax.legend([h for h, _ in handles], [lb for _, lb in handles], loc="upper left",
               bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
@@ -281,7 +280,7 @@ def draw_route(payload: pd.DataFrame, route_id: str, path: Path, colours) -> Pat
     rp = payload.assign(level=[routes.level_label(b, r)
                                for b, r in zip(payload["basis"], payload["reliability"])])
     fig = _figure(9.0, 4.6)
-    ax = fig.add_axes((0.08, 0.13, 0.66, 0.76))
+    ax = fig.add_axes((0.08, 0.2, 0.64, 0.71))
     months = np.arange(1, 13)
     levels = sorted(rp["level"].unique(), key=lambda s: (s != "design_day", s))
     handles = []
@@ -294,15 +293,14 @@ def draw_route(payload: pd.DataFrame, route_id: str, path: Path, colours) -> Pat
                            linewidth=2.0 if lvl == "design_day" else 1.2,
                            marker="o" if lvl == "design_day" else None, markersize=4)
             first = first or h
-            if lvl == "design_day":
-                none = ~np.isfinite(y)
-                if none.any():
-                    ax.plot(months[none], np.zeros(none.sum()), "x", color=c, markersize=8,
-                            clip_on=False)
+            none = ~np.isfinite(y)
+            if none.any():  # not possible at this level: a cross on the axis
+                ax.plot(months[none], np.zeros(none.sum()), "x", color=c, clip_on=False,
+                        markersize=8 if lvl == "design_day" else 5, markeredgewidth=1.5)
         max_payload = pd.to_numeric(by["max_payload_kg"], errors="coerce").max()
         if np.isfinite(max_payload):
             ax.axhline(max_payload / 1000.0, color=c, linestyle=(0, (6, 3)), linewidth=0.9)
-        label = (f"{t} (max payload {max_payload / 1000.0:.1f} t)" if np.isfinite(max_payload)
+        label = (f"{t}\nmax payload {max_payload / 1000.0:.1f} t" if np.isfinite(max_payload)
                  else t)
         handles.append((first, label))
     _month_axis(ax)
@@ -319,8 +317,9 @@ def draw_route(payload: pd.DataFrame, route_id: str, path: Path, colours) -> Pat
                 2.0 if lvl == "design_day" else 1.2,
                 "design day" if lvl == "design_day" else f"on {lvl[1:]} % of days")
                for lvl in levels]
-    entries += [((0, (6, 3)), None, 0.9, "max payload"), ("", "x", 0, "not possible")]
-    _style_legend(ax, entries)
+    entries += [((0, (6, 3)), None, 0.9, "max payload"),
+                ("", "x", 0, "not possible")]
+    _style_legend(fig, entries)
     ax.legend([h for h, _ in handles], [lb for _, lb in handles], loc="upper left",
               bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
     return _save(fig, path)
@@ -366,33 +365,43 @@ def route_restriction_matrix(data: ReportData, route_ids) -> pd.DataFrame:
     lost = pd.to_numeric(rp["payload_restriction_kg"], errors="coerce")
     share = (lost / at.where(at > 0)).clip(0.0, 1.0)
     rp["share"] = share.where(rp["possible"].astype(bool), 1.0)
-    rp["row"] = rp["route_id"].astype(str) + " · " + rp["aircraft_type_id"].astype(str)
+    rp["row"] = rp["route_id"].astype(str) + " (" + rp["aircraft_type_id"].astype(str) + ")"
     m = rp.pivot_table(index="row", columns="month", values="share", aggfunc="max")
     return m.reindex(columns=range(1, 13)).sort_index()
 
 
-def draw_matrix(matrix: pd.DataFrame, path: Path, title: str, colour_label: str) -> Path:
-    """Heat map rows × months with the share written in each cell."""
+def draw_matrix(matrix: pd.DataFrame, path: Path, title: str, subtitle: str,
+                colour_label: str, empty_note: str | None = None) -> Path:
+    """Heat map rows × months (share 0 … 1, written in each cell as a percentage)."""
     rows = max(len(matrix), 1)
-    height = min(2.0 + 0.26 * rows, 40.0)
-    fig = _figure(10.0, height)
-    ax = fig.add_axes((0.26, 0.9 / height, 0.62, 1.0 - 1.7 / height))
+    labels = [str(i) for i in matrix.index]
+    label_in = 0.35 + 0.062 * max((len(x) for x in labels), default=8)  # 8 pt characters
+    plot_in, bar_in = 6.6, 1.1
+    width = label_in + plot_in + bar_in
+    height = min(1.9 + 0.26 * rows, 40.0)
+    bottom, top = 0.75 / height, 1.0 - 0.95 / height
+    fig = _figure(width, height)
+    ax = fig.add_axes((label_in / width, bottom, plot_in / width, top - bottom))
     values = matrix.to_numpy(dtype=float) if len(matrix) else np.full((1, 12), np.nan)
     image = ax.imshow(np.ma.masked_invalid(values), cmap=RESTRICTION_CMAP, vmin=0.0, vmax=1.0,
                       aspect="auto", interpolation="nearest")
-    ax.set_facecolor("#e8e8e8")
+    ax.set_facecolor("#e4e4e4")
     ax.set_xticks(range(12))
     ax.set_xticklabels(MONTHS)
     ax.set_yticks(range(len(matrix)))
-    ax.set_yticklabels(list(matrix.index), fontsize=8)
+    ax.set_yticklabels(labels, fontsize=8)
     ax.set_xlabel("Month")
-    ax.set_title(title, fontsize=11)
-    if rows <= 60:
+    fig.text(0.5, 1.0 - 0.25 / height, title, ha="center", va="center", fontsize=11.5)
+    fig.text(0.5, 1.0 - 0.55 / height, subtitle, ha="center", va="center", fontsize=8.5,
+             color="#444444")
+    if rows <= 80:
         for (i, j), v in np.ndenumerate(values):
             if np.isfinite(v) and v > 0.005:
                 ax.text(j, i, f"{v * 100:.0f}", ha="center", va="center", fontsize=6.5,
                         color="white" if v > 0.55 else "#222222")
-    cax = fig.add_axes((0.90, 0.9 / height, 0.02, 1.0 - 1.7 / height))
+    if empty_note and np.isnan(values).all(axis=1).any():
+        fig.text(label_in / width, 0.15 / height, empty_note, fontsize=7.5, color="#555555")
+    cax = fig.add_axes(((label_in + plot_in + 0.25) / width, bottom, 0.18 / width, top - bottom))
     bar = fig.colorbar(image, cax=cax)
     bar.set_label(colour_label)
     bar.set_ticks([0, 0.25, 0.5, 0.75, 1.0])
@@ -538,20 +547,26 @@ def build_report(data: ReportData, out_dir, airfield_ids=None, route_ids=None,
     charts: list[Path] = []
     links = {"network": [], "routes": [], "airfields": []}
 
-    title = ("Takeoff-mass shortfall below MTOW, worst type flown from there, % of max payload"
-             if len(data.route_payload) else
-             "Takeoff-mass shortfall below MTOW, worst type, % of max payload")
-    title += " (dry, design day)"
+    flown = len(data.route_payload) > 0
+    title = "Payload restriction by airfield and month"
+    subtitle = ("Takeoff-mass shortfall below MTOW of the worst aircraft type flown from the "
+                "airfield, % of its max payload; dry runway, design day"
+                if flown else
+                "Takeoff-mass shortfall below MTOW of the worst aircraft type, % of its max "
+                "payload; dry runway, design day")
     p = draw_matrix(airfield_restriction_matrix(data, fields_sel), out / "network-airfields.png",
-                    title, "shortfall [% of max payload]")
+                    title, subtitle, "shortfall [% of max payload]",
+                    "Grey: no route departs from the airfield." if flown else None)
     charts.append(p)
-    links["network"].append((title, p.name))
+    links["network"].append((f"{title}: {subtitle}", p.name))
     if routes_sel:
-        title = "Payload lost to the origin takeoff limit, % of payload at MTOW (dry, design day)"
+        title = "Payload restriction by route and month"
+        subtitle = ("Payload lost to the origin takeoff-weight limit, % of the payload at MTOW; "
+                    "dry runway, design day; 100 = not possible")
         p = draw_matrix(route_restriction_matrix(data, routes_sel), out / "network-routes.png",
-                        title, "payload lost [%]")
+                        title, subtitle, "payload lost [%]")
         charts.append(p)
-        links["network"].append((title, p.name))
+        links["network"].append((f"{title}: {subtitle}", p.name))
     rp = data.route_payload
     by_route = dict(tuple(rp[rp["condition"] == "dry"].groupby("route_id"))) if len(rp) else {}
     route_slugs = unique_slugs(routes_sel)

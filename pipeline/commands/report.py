@@ -37,15 +37,18 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     from pipeline import report
 
+    live = not args.quiet and sys.stderr.isatty()
+
     def progress(message: str) -> None:
-        if not args.quiet:
+        if live:  # one overwritten line on a terminal; nothing in logs
             print(f"\r  drawing {message}   ", end="", file=sys.stderr, flush=True)
 
     result = report.write_report(args.db, args.out, run_id=args.run,
                                  airfield_ids=args.airfield, route_ids=args.route,
                                  progress=progress)
-    if not args.quiet:
+    if live:
         print("", file=sys.stderr)
+    if not args.quiet:
         print(f"report: {result.index}")
         print(f"charts: {len(result.charts)} PNG files in {result.out_dir}")
         if result.planning_csv is not None:
