@@ -78,7 +78,26 @@ PASSENGER_MASS_KG_DEFAULT = 100.0       # per passenger with baggage (common pra
 
 
 def route_limit_code(name: str) -> int:
-    """Integer code of a route limit name in :data:`ROUTE_LIMITS` (``ValueError`` if unknown)."""
+    """Integer code of a route limit name.
+
+    Parameters
+    ----------
+    name : str
+        One of :data:`ROUTE_LIMITS`. [text]
+
+    Returns
+    -------
+    int
+        Its index in :data:`ROUTE_LIMITS`. [-]
+
+    Notes
+    -----
+    Bookkeeping only (no equation); ``ValueError`` names the known limits.
+
+    References
+    ----------
+    .. [1] This module's docstring (the four payload limits).
+    """
     try:
         return ROUTE_LIMITS.index(name)
     except ValueError:
@@ -86,7 +105,26 @@ def route_limit_code(name: str) -> int:
 
 
 def route_limit_name(codes):
-    """Names of route limit codes: a ``str`` for a scalar, an object array otherwise."""
+    """Names of route limit codes.
+
+    Parameters
+    ----------
+    codes : array_like of int
+        Codes from :func:`payload_available`. [-]
+
+    Returns
+    -------
+    numpy.ndarray
+        Object array of names from :data:`ROUTE_LIMITS` (a 0-d array for a scalar). [text]
+
+    Notes
+    -----
+    Bookkeeping only (no equation).
+
+    References
+    ----------
+    .. [1] This module's docstring (the four payload limits).
+    """
     table = np.array(ROUTE_LIMITS, dtype=object)
     return table[np.asarray(codes, dtype=int)]
 
@@ -392,7 +430,7 @@ def mass_growth_factor(range_coefficient_per_m, distance_m, cruise_tas_mps,
     cruise_tas_mps : array_like
         Cruise true airspeed (for the holding reserve). [m/s]
     policy : ReservePolicy
-        Contingency share, alternate distance and final reserve time.
+        Contingency share [-], alternate distance [m] and final reserve time [s].
 
     Returns
     -------
@@ -431,12 +469,12 @@ def fuel_plan(zero_fuel_mass_kg, range_coefficient_per_m, distance_m, cruise_tas
     taxi_fuel_kg : array_like
         Fuel burnt before brake release. [kg]
     policy : ReservePolicy
-        Reserve policy.
+        Reserve policy: contingency share [-], alternate distance [m], final reserve [s].
 
     Returns
     -------
     FuelPlan
-        Trip, contingency, alternate, final reserve, taxi, takeoff and block fuel; takeoff,
+        [kg] Trip, contingency, alternate, final reserve, taxi, takeoff and block fuel; takeoff,
         landing (destination, reserves on board) and ramp mass. [kg]
 
     Notes
@@ -551,14 +589,15 @@ def payload_available(tow_limit_kg, oew_kg, max_payload_kg, max_fuel_kg, max_lan
     cruise_tas_mps : array_like
         Cruise true airspeed. [m/s]
     policy : ReservePolicy
-        Reserve policy.
+        Reserve policy: contingency share [-], alternate distance [m], final reserve [s].
     mtow_kg : array_like, optional
         Maximum takeoff mass, for ``payload_at_mtow_kg``. [kg]
 
     Returns
     -------
     RoutePayload
-        Payload, binding limit code, possible flag, each limit's payload, the fuel plan.
+        Payload [kg], binding limit code [-], possible flag, each limit's payload [kg] and the
+        fuel plan [kg].
 
     Notes
     -----

@@ -487,7 +487,7 @@ def _page(data: ReportData, result_links, tables) -> str:
     if data.run_id is not None:
         facts.append(f"run {data.run_id}")
     if data.finished_at is not None:
-        facts.append(f"finished {e(str(data.finished_at))} UTC")
+        facts.append(f"finished {e(str(data.finished_at)[:19])} UTC")
     if data.input_dir:
         facts.append(f"inputs {e(str(data.input_dir))}")
     parts = [

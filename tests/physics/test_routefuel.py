@@ -272,3 +272,10 @@ def test_route_limit_names_and_codes():
 
 def test_air_distance_applies_route_factor():
     assert_allclose(rf.air_distance_m(np.array([1000.0, 2000.0]), 1.05), [1050.0, 2100.0])
+
+
+def test_docstrings_follow_the_house_style():
+    # the same numpydoc / units check the core modules pass (tests/physics/test_docstrings.py)
+    from tests.physics.test_docstrings import test_numpydoc_sections_and_units
+
+    test_numpydoc_sections_and_units("routefuel")
