@@ -310,7 +310,8 @@ def payload_planning_frame(route_payload: pd.DataFrame) -> pd.DataFrame:
     ref = ref.drop_duplicates(keys).set_index(keys)
     tag = f"{ref_condition}_{ref['level'].iloc[0]}" if len(ref) else "reference"
     facts = rp.drop_duplicates(keys).set_index(keys)[
-        ["great_circle_km", "air_distance_km", "max_payload_kg"]]
+        ["great_circle_km", "air_distance_km", "max_payload_kg", "contingency_pct",
+         "alternate_distance_km", "final_reserve_min", "passenger_mass_kg"]]
     extra = pd.DataFrame({
         f"passengers_{tag}": ref["passengers"],
         f"payload_limiting_factor_{tag}": ref["payload_limiting_factor"],
@@ -321,4 +322,10 @@ def payload_planning_frame(route_payload: pd.DataFrame) -> pd.DataFrame:
         f"block_fuel_{tag}_kg": ref["block_fuel_kg"],
     })
     out = facts.join(wide).join(extra).reset_index()
+    # planners read whole kilograms and tenths of a kilometre
+    for col in out.columns:
+        if col.endswith("_kg"):
+            out[col] = pd.to_numeric(out[col], errors="coerce").round(0)
+        elif col.endswith("_km"):
+            out[col] = pd.to_numeric(out[col], errors="coerce").round(1)
     return out.sort_values(keys, kind="mergesort").reset_index(drop=True)

@@ -223,7 +223,7 @@ def test_payload_planning_frame_one_row_per_route_type_month():
              & (df["condition"] == "wet") & (df["reliability"] == 0.95)]["payload_kg"].iloc[0]
     got = plan[(plan["route_id"] == "saltmere-farcliff-jet")
                & (plan["month"] == 7)]["payload_wet_p95_kg"].iloc[0]
-    assert_allclose(got, src)
+    assert_allclose(got, src, atol=0.5)  # whole kilograms in the planning frame
 
 
 def test_si_policy_columns_of_the_loaded_routes_table_are_read():
