@@ -159,9 +159,9 @@ def _select(data: ReportData, airfield_ids, route_ids) -> tuple[list[str], list[
                            + (" ..." if len(all_routes) > 20 else ""))
     fields_sel = sorted(set(airfield_ids)) if airfield_ids else all_fields
     routes_sel = sorted(set(route_ids)) if route_ids else all_routes
-    if airfield_ids and not route_ids:
+    if airfield_ids and not route_ids and len(rp):
         touch = rp[rp["origin_id"].isin(fields_sel) | rp["destination_id"].isin(fields_sel)]
-        routes_sel = sorted(touch["route_id"].astype(str).unique()) if len(rp) else []
+        routes_sel = sorted(touch["route_id"].astype(str).unique())
     if route_ids and not airfield_ids:
         fields_sel = sorted(rp.loc[rp["route_id"].isin(routes_sel), "origin_id"].astype(str)
                             .unique())

@@ -180,3 +180,12 @@ def test_report_help_carries_the_caution():
     done = cli("report", "--help")
     assert done.returncode == 0
     assert "Planning estimates only" in " ".join(done.stdout.split())
+
+
+def test_report_without_routes_draws_airfields_only(tmp_path):
+    data = _data()
+    data.route_payload = pd.DataFrame()
+    r = report.build_report(data, tmp_path, airfield_ids=["saltmere"])
+    assert sorted(p.name for p in r.charts) == ["airfield-saltmere.png", "network-airfields.png"]
+    assert r.planning_csv is None
+    assert "payload_planning.csv" not in r.index.read_text(encoding="utf-8")
