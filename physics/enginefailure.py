@@ -68,8 +68,14 @@ STOP_DELAY_S = 2.0
 #: Evaluations of the V1 search from a cold start (6 Newton steps; quadratic convergence
 #: reaches 1e-9 m/s in the tests).
 V1_ITERATIONS = 7
-#: Evaluations when started from the V1 of a nearby mass (the weight solver's bisection).
+#: Evaluations when started from the V1 of a nearby mass (the weight solver's iterations).
 V1_ITERATIONS_WARM = 3
+#: Largest relative mass change since the previous trial (any case) for the warm count. [–]
+WARM_MASS_CHANGE = 0.02
+#: Evaluations (one Newton step) when every case's mass moved by at most
+#: ``CLOSE_MASS_CHANGE`` (the last iterations of the weight solver). [–]
+V1_ITERATIONS_CLOSE = 2
+CLOSE_MASS_CHANGE = 0.001
 
 
 def _accel(coeffs, v):
@@ -737,17 +743,20 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
     v1 = 0.5 * (lo + hi) if v1_start_mps is None else np.clip(np.asarray(v1_start_mps, dtype=float), lo, hi)
     v1 = np.broadcast_to(v1, w.shape).astype(float)
     multi = model.multi_engine
-    for k in range(max(int(iterations), 1)):
+    count = np.broadcast_to(np.asarray(iterations), w.shape)
+    total = max(int(np.max(count)), 1)
+    for k in range(total):
         s_oei = model.one_out.distance_m(v1, vlof)
         s_stop = model.stop_all.distance_m(v1, w)
-        if k == iterations - 1:
+        if k == total - 1:
             break
         h = base - s_oei + delay_s * (v1 - w) + s_stop
         vg = v1 - w
         with np.errstate(divide="ignore", invalid="ignore"):
             dh = vg / model.one_out.acceleration(v1) + delay_s - vg / model.stop_all.acceleration(v1)
             step = h / dh
-        step = np.where(np.isfinite(step) & (dh > 0) & multi, step, 0.0)
+        # a case stops stepping after its own number of evaluations (its last step is k = count − 2)
+        step = np.where(np.isfinite(step) & (dh > 0) & multi & (k < count - 1), step, 0.0)
         v1 = np.clip(v1 - step, lo, hi)
     return v1, s_oei, s_stop
 
@@ -881,8 +890,8 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
         Mass-independent parts (reuse across trial masses).
     v1_start_mps : array_like, optional
         First guess for V1 (e.g. the V1 of the previous trial mass). [m/s]
-    iterations : int, optional
-        Evaluations of the V1 search. [–]
+    iterations : int or array_like of int, optional
+        Evaluations of the V1 search (per case allowed). [–]
     both_stops : bool, optional
         Also compute the engine-failure stop (never longer than the all-engines stop with
         V_EF = V1, see :func:`accelerate_stop_cases_m`); False leaves it NaN (faster). [–]
@@ -1004,15 +1013,25 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
     if "engine_failure" not in memo:
         setup = cases.cached("engine_failure_setup", lambda cs: engine_failure_setup(cs.aircraft, cs.site))
         state = cases.cached("engine_failure_state", lambda cs: {})
-        guess = state.get("v1")
-        if guess is not None and np.shape(guess) != setup.n:
-            guess = None
+        guess, last = state.get("v1"), state.get("mass")
+        if guess is not None and last is not None and np.shape(guess) == setup.n == np.shape(last):
+            # per case, so that a case's result does not depend on the rest of the batch
+            change = np.abs(mass_kg - last) / last
+            iterations = np.where(change <= CLOSE_MASS_CHANGE, V1_ITERATIONS_CLOSE,
+                                  np.where(change <= WARM_MASS_CHANGE, V1_ITERATIONS_WARM, V1_ITERATIONS))
+        else:
+            guess, iterations = None, V1_ITERATIONS
         r = engine_failure_takeoff(cases.aircraft, cases.site, mass_kg, setup=setup, v1_start_mps=guess,
-                                   iterations=V1_ITERATIONS if guess is None else V1_ITERATIONS_WARM,
-                                   both_stops=False)
-        state["v1"] = r.v1_mps
+                                   iterations=iterations, both_stops=False)
+        state["v1"], state["mass"] = r.v1_mps, np.array(mass_kg, dtype=float, copy=True)
         memo["engine_failure"] = r
     return memo["engine_failure"]
+
+
+def _distance_margin(available_m, required_m):
+    with np.errstate(divide="ignore", invalid="ignore"):
+        m = np.asarray(available_m, dtype=float) / np.asarray(required_m, dtype=float) - 1.0
+    return np.where(np.isnan(m), -1.0, m)  # as physics.weightlimit.distance_margin
 
 
 def _multi_only(cases, margin):
@@ -1021,7 +1040,7 @@ def _multi_only(cases, margin):
 
 
 def engine_out_takeoff_distance_margin(cases, mass_kg, memo):
-    """Margin 1 − TOD_oei/TODA at the best V1 (+inf for single-engine types). [–]
+    """Margin TODA/TOD_oei − 1 at the best V1 (+inf for single-engine types). [–]
 
     Parameters
     ----------
@@ -1035,7 +1054,7 @@ def engine_out_takeoff_distance_margin(cases, mass_kg, memo):
     Returns
     -------
     numpy.ndarray
-        Dimensionless margin, ≥ 0 where met; NaN where impossible. [–]
+        Dimensionless margin, ≥ 0 where met; −1 where impossible. [–]
 
     Notes
     -----
@@ -1046,11 +1065,11 @@ def engine_out_takeoff_distance_margin(cases, mass_kg, memo):
     .. [1] 14 CFR 25.113(a), (b).
     """
     r = weight_limit_engine_failure(cases, mass_kg, memo)
-    return _multi_only(cases, 1.0 - r.takeoff_distance_m / cases.site.toda_m)
+    return _multi_only(cases, _distance_margin(cases.site.toda_m, r.takeoff_distance_m))
 
 
 def engine_out_takeoff_run_margin(cases, mass_kg, memo):
-    """Margin 1 − TOR_oei/TORA at the best V1 (clearway rule; +inf for singles). [–]
+    """Margin TORA/TOR_oei − 1 at the best V1 (clearway rule; +inf for singles). [–]
 
     Parameters
     ----------
@@ -1064,7 +1083,7 @@ def engine_out_takeoff_run_margin(cases, mass_kg, memo):
     Returns
     -------
     numpy.ndarray
-        Dimensionless margin, ≥ 0 where met; NaN where impossible. [–]
+        Dimensionless margin, ≥ 0 where met; −1 where impossible. [–]
 
     Notes
     -----
@@ -1076,11 +1095,11 @@ def engine_out_takeoff_run_margin(cases, mass_kg, memo):
     .. [1] 14 CFR 25.113(c), (d).
     """
     r = weight_limit_engine_failure(cases, mass_kg, memo)
-    return _multi_only(cases, 1.0 - r.takeoff_run_m / cases.site.tora_m)
+    return _multi_only(cases, _distance_margin(cases.site.tora_m, r.takeoff_run_m))
 
 
 def accelerate_stop_margin(cases, mass_kg, memo):
-    """Margin 1 − ASD/ASDA at the best V1 (all-engines stop from VR for singles). [–]
+    """Margin ASDA/ASD − 1 at the best V1 (all-engines stop from VR for singles). [–]
 
     Parameters
     ----------
@@ -1094,7 +1113,7 @@ def accelerate_stop_margin(cases, mass_kg, memo):
     Returns
     -------
     numpy.ndarray
-        Dimensionless margin, ≥ 0 where met; NaN where impossible. [–]
+        Dimensionless margin, ≥ 0 where met; −1 where impossible. [–]
 
     Notes
     -----
@@ -1106,4 +1125,4 @@ def accelerate_stop_margin(cases, mass_kg, memo):
     .. [1] 14 CFR 25.109(a), (b).
     """
     r = weight_limit_engine_failure(cases, mass_kg, memo)
-    return 1.0 - r.accelerate_stop_m / cases.site.asda_m + STOP_TIE_BIAS
+    return _distance_margin(cases.site.asda_m, r.accelerate_stop_m) + STOP_TIE_BIAS

@@ -226,12 +226,17 @@ class Cases:
         return self.density_kg_m3.shape[0]
 
     def take(self, index):
-        """The prepared cases at ``index`` (integer array); the cache starts empty."""
+        """The prepared cases at ``index`` (integer array); the cache starts empty except for
+        the per-case V1 warm start of the engine-failure search."""
         sub = {f.name: getattr(self.aircraft, f.name)[index] for f in fields(self.aircraft)}
         sub_site = {f.name: getattr(self.site, f.name)[index] for f in fields(self.site)}
-        return Cases(Aircraft(**sub), Site(**sub_site), self.density_kg_m3[index],
-                     self.thrust_all_engines.take(index), self.induced_factor[index], self.cd0_takeoff[index],
-                     self.cd_ground_roll[index], self.clearway_m[index], self.vmcg_floor)
+        out = Cases(Aircraft(**sub), Site(**sub_site), self.density_kg_m3[index],
+                    self.thrust_all_engines.take(index), self.induced_factor[index], self.cd0_takeoff[index],
+                    self.cd_ground_roll[index], self.clearway_m[index], self.vmcg_floor)
+        state = self._cache.get("engine_failure_state")
+        if state and state.get("v1") is not None and np.shape(state["v1"]) == (self.n,):
+            out._cache["engine_failure_state"] = {k: np.asarray(v)[index] for k, v in state.items()}
+        return out
 
     def cached(self, key, fn):
         """Mass-independent item ``key``, computed by ``fn(self)`` on first use."""
@@ -347,14 +352,44 @@ def all_engines(cases, mass_kg, memo):
     return memo["all_engines"]
 
 
+def distance_margin(available_m, required_m):
+    """Margin of a distance requirement: available/required − 1, −1 where impossible.
+
+    Parameters
+    ----------
+    available_m : array_like
+        Declared distance available (TODA, TORA, ASDA). [m]
+    required_m : array_like
+        Distance required; NaN where the aircraft cannot do it at all. [m]
+
+    Returns
+    -------
+    numpy.ndarray
+        ≥ 0 where met; −1 where the distance is NaN (the limit of available/required − 1 as the
+        distance grows without bound, so the margin stays continuous for the solver). [–]
+
+    Notes
+    -----
+    margin = A/d − 1: zero where d = A, the same feasibility as 1 − d/A, equal to it to first
+    order near zero, and bounded below by −1.
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109, 25.113 (distance required ≤ distance available).
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        m = np.asarray(available_m, dtype=float) / np.asarray(required_m, dtype=float) - 1.0
+    return np.where(np.isnan(m), -1.0, m)
+
+
 def _takeoff_distance_margin(cases, mass_kg, memo):
     tod = fieldlength.ALL_ENGINES_FACTOR * all_engines(cases, mass_kg, memo).takeoff_distance_m
-    return 1.0 - tod / cases.site.toda_m
+    return distance_margin(cases.site.toda_m, tod)
 
 
 def _takeoff_run_margin(cases, mass_kg, memo):
     tor = fieldlength.ALL_ENGINES_FACTOR * all_engines(cases, mass_kg, memo).takeoff_run_m
-    return 1.0 - tor / cases.site.tora_m
+    return distance_margin(cases.site.tora_m, tor)
 
 
 def _speeds_eas(cases, tas):
@@ -550,39 +585,160 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
     return WeightLimit(**out)
 
 
+#: ITP parameters (Oliveira & Takahashi 2020): kappa1 = ITP_KAPPA1/(b0 − a0), kappa2, n0.
+ITP_KAPPA1 = 0.2
+ITP_KAPPA2 = 2.0
+ITP_N0 = 6
+
+
+def _itp_value(margin):
+    """Function the ITP search interpolates: g = −log(1 + margin) (−margin to first order).
+
+    For the distance margins A/d − 1 this is log(d/A), close to linear in the mass (d grows
+    roughly as m²); its sign is that of −margin, so feasibility is unchanged. Margins ≤ −1
+    (impossible) give +inf, i.e. a bisection step.
+    """
+    m = np.asarray(margin, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(m > -1.0, -np.log1p(np.maximum(m, -1.0)), np.inf)
+
+
+def _itp_search(cases, margins_fn, lo, hi, m_lo, m_hi, tol_kg):
+    """Vectorised ITP bracket search for the largest mass with least margin ≥ 0.
+
+    Parameters
+    ----------
+    cases : Cases
+        Prepared cases (one per element of ``lo``).
+    margins_fn : callable
+        ``margins_fn(cases, mass) -> array (n_requirements, n)``: every requirement's margin
+        (−inf where impossible). [–]
+    lo, hi : numpy.ndarray
+        Bracket: feasible at ``lo``, infeasible at ``hi``. [kg]
+    m_lo, m_hi : numpy.ndarray
+        Margins at the ends, shape (n_requirements, n). [–]
+    tol_kg : float
+        Final bracket width. [kg]
+
+    Returns
+    -------
+    lo, hi : numpy.ndarray
+        Bracket narrower than ``tol_kg``, feasible at ``lo``, infeasible at ``hi``. [kg]
+    margins_hi : numpy.ndarray
+        Every requirement's margin at ``hi`` (names the limiting factor). [–]
+    iterations : int
+        Evaluations made. [–]
+
+    Notes
+    -----
+    Interpolate (regula falsi on g = −log(1 + margin), :func:`_itp_value`, with the Illinois halving of an end's value
+    when the other end has moved twice in a row), truncate towards the midpoint by
+    max(kappa1 (b − a)^kappa2, eps/2) (the floor of eps/2 makes the step land across the root
+    once the interpolation is that accurate, so the bracket closes from both sides), project
+    into the ball of radius eps 2^(n_max − j) − (b − a)/2
+    around the midpoint (eps = tol/2, n_max = ceil(log2((b0 − a0)/tol)) + n0): never more
+    than n0 evaluations beyond bisection, superlinear where the margin is smooth. A margin of
+    −inf (impossible) makes that step a bisection. Each case follows its own sequence, so a
+    scalar call equals the array element. Cases whose bracket has closed are dropped from
+    the evaluations once they are at least half of those still evaluated.
+
+    References
+    ----------
+    .. [4] I. F. D. Oliveira, R. H. C. Takahashi, "An enhancement of the bisection method
+       average performance preserving minmax optimality", *ACM Trans. Math. Software* 47(1),
+       2020, Algorithm 1.
+    .. [3] Numerical Recipes §9.1–9.2 (bisection, false position).
+    .. [5] M. Dowell, P. Jarratt, "A modified regula falsi method for computing the root of an
+       equation", *BIT* 11, 1971 (the Illinois method).
+    """
+    lo, hi = lo.astype(float).copy(), hi.astype(float).copy()
+    m_hi = np.array(m_hi, dtype=float, copy=True)
+    ga, gb = _itp_value(m_lo.min(axis=0)), _itp_value(m_hi.min(axis=0))
+    eps = 0.5 * tol_kg
+    width0 = np.maximum(hi - lo, tol_kg)
+    n_max = np.ceil(np.log2(width0 / tol_kg)) + ITP_N0
+    k1 = ITP_KAPPA1 / width0
+    lo0 = lo.copy()
+    grid = tol_kg / 64.0
+    cur = np.arange(lo.size)
+    side = np.zeros(lo.size, dtype=int)  # +1: the low end moved last, −1: the high end
+    sub = cases
+    j = 0
+    limit_iter = int(n_max.max()) + 2 if lo.size else 0
+    while j < limit_iter:
+        live_all = (hi - lo) > tol_kg
+        if not live_all.any():
+            break
+        live_cur = live_all[cur]
+        if live_cur.sum() <= 0.5 * cur.size:
+            keep = np.nonzero(live_cur)[0]
+            sub = sub.take(keep)
+            cur = cur[keep]
+        A, B, GA, GB = lo[cur], hi[cur], ga[cur], gb[cur]
+        w = B - A
+        xh = 0.5 * (A + B)
+        r = np.maximum(eps * 2.0 ** (n_max[cur] - j) - 0.5 * w, 0.0)
+        delta = np.maximum(k1[cur] * w ** ITP_KAPPA2, 0.5 * eps)  # at least half a tolerance: straddle the root
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+            xf = (GB * A - GA * B) / (GB - GA)
+        xf = np.where(np.isfinite(xf), xf, xh)
+        sigma = np.sign(xh - xf)
+        xt = np.where(delta <= np.abs(xh - xf), xf + sigma * delta, xh)
+        x = np.where(np.abs(xt - xh) <= r, xt, xh - sigma * r)
+        # on a grid of tol/64 from the starting end: rounding noise of the margins (SIMD paths
+        # differ with the batch) then cannot move the result, so a scalar call equals the
+        # array element exactly
+        x = np.clip(lo0[cur] + np.round((x - lo0[cur]) / grid) * grid, A, B)
+        mg = margins_fn(sub, x)
+        g = _itp_value(mg.min(axis=0))
+        live = (B - A) > tol_kg
+        feas = live & (g <= 0.0)
+        infeas = live & ~(g <= 0.0)
+        # Illinois: an end kept twice in a row has its value halved for the interpolation
+        prev = side[cur]
+        lo[cur] = np.where(feas, x, A)
+        ga[cur] = np.where(feas, g, np.where(infeas & (prev == -1), 0.5 * GA, GA))
+        hi[cur] = np.where(infeas, x, B)
+        m_hi[:, cur] = np.where(infeas, mg, m_hi[:, cur])
+        gb[cur] = np.where(infeas, g, np.where(feas & (prev == 1), 0.5 * GB, GB))
+        side[cur] = np.where(feas, 1, np.where(infeas, -1, prev))
+        j += 1
+    return lo, hi, m_hi, j
+
+
 def _solve(aircraft, site, tol_kg, reqs):
     cases = prepare_cases(aircraft, site, vmcg_floor=any(r.margin in _ENGINE_FAILURE_MARGINS for r in reqs))
     a = cases.aircraft
     lo = a.oew_kg.copy()
     hi = a.mtow_kg.copy()
 
-    def feasible(mass):
-        return requirement_margins(cases, mass, reqs)[0].min(axis=0) >= 0.0
+    def margins_fn(cs, mass):
+        return requirement_margins(cs, mass, reqs)[0]
 
-    structural = feasible(hi)
-    none = ~structural & ~feasible(lo)
+    m_hi = margins_fn(cases, hi)
+    structural = m_hi.min(axis=0) >= 0.0
+    m_lo = margins_fn(cases, lo)
+    none = ~structural & ~(m_lo.min(axis=0) >= 0.0)
     active = np.nonzero(~structural & ~none)[0]
     factor = np.where(structural, limits.code("structural"), limits.code("no_takeoff"))
     limit = np.where(structural, a.mtow_kg, np.nan)
     if active.size:
         sub = cases.take(active)
-        lo, hi = lo[active], hi[active]
-        # Each case gets its own number of halvings, so its result does not depend on the
-        # other cases in the batch (a scalar call equals the array element).
-        steps = np.ceil(np.log2(np.maximum(hi - lo, tol_kg) / tol_kg)).astype(int)
-        for k in range(int(steps.max())):
-            mid = 0.5 * (lo + hi)
-            ok = requirement_margins(sub, mid, reqs)[0].min(axis=0) >= 0.0
-            go = k < steps
-            lo = np.where(go & ok, mid, lo)
-            hi = np.where(go & ~ok, mid, hi)
-        # The factor: the requirement most violated just above the limit.
+        lo, hi, _, _ = _itp_search(sub, margins_fn, lo[active], hi[active], m_lo[:, active],
+                                   m_hi[:, active], tol_kg)
+        # The factor: the requirement most violated just above the limit, evaluated with a
+        # fully converged V1 (no warm start): at a balanced V1 the go and stop margins tie
+        # and only a converged V1 names the binding one reproducibly.
+        sub = cases.take(active)
+        sub._cache.pop("engine_failure_state", None)
         margins_hi, _ = requirement_margins(sub, hi, reqs)
         codes = np.array([limits.code(r.factor) for r in reqs])
         factor[active] = codes[np.argmin(margins_hi, axis=0)]
         limit[active] = lo
 
-    # Figures at the limit mass (OEW stands in for no_takeoff cases and is blanked).
+    # Figures at the limit mass (OEW stands in for no_takeoff cases and is blanked), with a
+    # fully converged V1.
+    cases._cache.pop("engine_failure_state", None)
     _, memo = requirement_margins(cases, np.where(none, a.oew_kg, limit), reqs)
     mass = np.where(none, a.oew_kg, limit)
     out = {k: np.full(cases.n, np.nan) for k in _RESULT_FIELDS}
