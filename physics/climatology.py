@@ -460,20 +460,133 @@ def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps):
     return np.swapaxes(out, -1, -2)
 
 
+def headwind_refinement(nodes_mps, mass_kg):
+    """Where to add one headwind node so that a kink of the mass curve is resolved.
+
+    Parameters
+    ----------
+    nodes_mps : array_like
+        Non-decreasing headwind nodes, ``(..., H)``, H ≥ 3. [m/s]
+    mass_kg : array_like
+        Masses at the nodes, ``(..., H)``; NaN where no takeoff. [kg]
+
+    Returns
+    -------
+    headwind_mps : numpy.ndarray
+        New node, inside the cell with the largest estimated interpolation error. [m/s]
+    cell : numpy.ndarray of int
+        Index c of that cell (the node goes between nodes c and c + 1). [–]
+
+    Notes
+    -----
+    The mass is piecewise smooth in headwind, with kinks where the limiting regime changes
+    (e.g. V1 held at the minimum control speed). For cell c, the lines of the neighbouring
+    cells, f_c + s_{c−1}(h − h_c) and f_{c+1} + s_{c+1}(h − h_{c+1}), meet at the likely
+    kink x; the estimated error is their value at x minus the chord of cell c. A cell at the
+    end of the range, with one neighbour only, is judged at its midpoint. The new node is
+    x (kept 5 % of the cell width away from the cell's nodes); where every estimate is zero
+    it goes in the middle of the widest cell. A cell with one no-takeoff (NaN) node holds
+    the boundary of what is possible and is bisected before any kink.
+
+    References
+    ----------
+    .. [1] C. de Boor, *A Practical Guide to Splines*, rev. ed., Springer, 2001, ch. II
+       (error of piecewise-linear interpolation; breakpoints placed at slope changes).
+    """
+    h = np.asarray(nodes_mps, dtype=float)
+    f = np.asarray(mass_kg, dtype=float)
+    w = np.diff(h, axis=-1)
+    df = np.diff(f, axis=-1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        slope = np.where(w > 0, df / np.where(w > 0, w, 1.0), np.nan)
+    pad = np.full(slope.shape[:-1] + (1,), np.nan)
+    s_left = np.concatenate([pad, slope[..., :-1]], axis=-1)
+    s_right = np.concatenate([slope[..., 1:], pad], axis=-1)
+    h0, h1 = h[..., :-1], h[..., 1:]
+    f0, f1 = f[..., :-1], f[..., 1:]
+    mid = 0.5 * (h0 + h1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        denom = s_left - s_right
+        x_both = (f1 - f0 + s_left * h0 - s_right * h1) / np.where(denom != 0, denom, np.nan)
+        both = np.isfinite(s_left) & np.isfinite(s_right) & np.isfinite(x_both)
+        x = np.where(both, x_both, mid)
+        x = np.clip(x, h0 + 0.05 * w, h1 - 0.05 * w)
+        line = np.where(np.isfinite(s_left), f0 + s_left * (x - h0), f1 + s_right * (x - h1))
+        chord = f0 + slope * (x - h0)
+        err = np.abs(line - chord)
+    err = np.where(np.isfinite(err) & (w > 0) & np.isfinite(slope), err, 0.0)
+    # A cell between a no-takeoff node and a possible one holds the feasibility boundary:
+    # everything in it counts as not possible, so it is bisected first.
+    edge = (np.isnan(f0) != np.isnan(f1)) & (w > 0)
+    err = np.where(edge, np.fmax(np.abs(np.where(np.isnan(f0), f1, f0)), 1.0) * 1e3, err)
+    x = np.where(edge, mid, x)
+    best = np.argmax(err, axis=-1)
+    widest = np.argmax(w, axis=-1)
+    none = np.max(err, axis=-1) <= 0.0
+    cell = np.where(none, widest, best)
+    x_at = np.take_along_axis(x, cell[..., None], axis=-1)[..., 0]
+    mid_at = np.take_along_axis(mid, cell[..., None], axis=-1)[..., 0]
+    return np.where(none, mid_at, x_at), cell
+
+
+def insert_headwind_node(nodes_mps, mass_kg, headwind_mps, new_mass_kg, cell):
+    """Insert one node (from :func:`headwind_refinement`) into the nodes and masses.
+
+    Parameters
+    ----------
+    nodes_mps, mass_kg : array_like
+        ``(..., H)`` nodes and masses. [m/s], [kg]
+    headwind_mps, new_mass_kg : array_like
+        ``(...)`` the new node and its solved mass. [m/s], [kg]
+    cell : array_like of int
+        ``(...)`` cell the node lies in. [–]
+
+    Returns
+    -------
+    nodes, masses : numpy.ndarray
+        ``(..., H + 1)``, still non-decreasing in headwind. [m/s], [kg]
+
+    Notes
+    -----
+    Position c + 1 receives the new node; nodes after it shift by one.
+
+    References
+    ----------
+    .. [1] de Boor (2001), ch. II.
+    """
+    h = np.asarray(nodes_mps, dtype=float)
+    f = np.asarray(mass_kg, dtype=float)
+    c = np.asarray(cell)[..., None]
+    idx = np.arange(h.shape[-1] + 1)
+    src = np.where(idx <= c, idx, idx - 1)
+    src = np.clip(src, 0, h.shape[-1] - 1)
+    new_h = np.take_along_axis(h, src, axis=-1)
+    new_f = np.take_along_axis(f, src, axis=-1)
+    at = idx == c + 1
+    new_h = np.where(at, np.asarray(headwind_mps)[..., None], new_h)
+    new_f = np.where(at, np.asarray(new_mass_kg)[..., None], new_f)
+    return new_h, new_f
+
+
 # ----------------------------------------------------------------------------------------
 # Reliability levels
 # ----------------------------------------------------------------------------------------
 _NOT_POSSIBLE_KG = -1.0e12  # finite stand-in for "not possible" inside the inversion
-_TIE_KG = 1.0e-6  # masses equal within this count as achieved
-_FAR_SCORE = 40.0  # |z| beyond this is taken as infinite
+_TIE_KG = 0.05  # masses equal within this count as achieved (float32 inside the search)
+_FAR_SCORE = 6.0  # |z| beyond this is taken as infinite (Phi within 1e-9 of 0 or 1)
+_BINDING_SCORE = 3.5  # a binding day further out than this is not "typical"
 
 
 def _segments(f, scores):
-    """Precompute the inversion of node masses f (..., G), non-increasing, -inf allowed."""
-    f = np.where(np.isfinite(f), f, _NOT_POSSIBLE_KG)
-    z = np.asarray(scores, dtype=float)
+    """Precompute the inversion of node masses f (..., G), non-increasing, -inf allowed.
+
+    Single precision: masses to ~0.05 kg and scores to ~1e-6 are plenty here, and the
+    search is bound by memory traffic.
+    """
+    f = np.where(np.isfinite(f), f, _NOT_POSSIBLE_KG).astype(np.float32)
+    z = np.asarray(scores, dtype=np.float32)
     d = f[..., :-1] - f[..., 1:]  # drop over each segment, ≥ 0
-    inv = np.where(d > 0.0, 1.0 / np.where(d > 0.0, d, 1.0), 1.0e9)
+    inv = np.where(d > 0.0, 1.0 / np.where(d > 0.0, d, 1.0), 1.0e9).astype(np.float32)
     return f, z, inv
 
 
@@ -485,7 +598,7 @@ def _crossing_score(seg, mass):
     extend linearly beyond the nodes (a flat end segment extends to ±inf in effect).
     """
     f, z, inv = seg
-    m = np.asarray(mass, dtype=float) - _TIE_KG
+    m = (np.asarray(mass, dtype=float) - _TIE_KG).astype(np.float32)
     g = f.shape[-1]
     if g == 1:
         return np.where(f[..., 0] >= m, np.inf, -np.inf)
@@ -609,7 +722,7 @@ def _share(f, scores, weight, m):
     seg = (f[:, None], z if z.ndim == 1 else z[:, None, None, :], inv[:, None])
     m = np.asarray(m, dtype=float)
     zj = _crossing_score(seg, m.reshape(m.shape[0], -1)[:, :, None])
-    s = np.sum(weight[:, None, :] * normal_probability(zj), axis=-1)
+    s = np.sum(weight[:, None, :] * special.ndtr(zj), axis=-1, dtype=float)
     if m.ndim == 1:
         return s[:, 0], zj[:, 0]
     return s, zj
@@ -700,10 +813,12 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     limit (wind points usable nowhere) or no takeoff (too hot) loses the largest share of
     days.
 
-    The binding day of a level is the wind point j whose temperature score z*_j(M_p) is
-    finite and has the highest density w_j phi(z*_j): the most typical day on which the
-    mass is exactly M_p. Without such a point (zero temperature spread, or flat masses)
-    it is the point with the smallest mass ≥ M_p at the node nearest the median.
+    The binding day of a level is the wind point j whose temperature score z*_j(M_p) lies
+    within ±3.5 and has the highest density w_j phi(z*_j): the most typical day on which
+    the mass is exactly M_p. Without such a point (zero temperature spread, flat masses, or
+    a level set by a step in the wind share) it is the point with the smallest mass ≥ M_p
+    at the node nearest the median, on a median day. Beyond ±6 the linear extension of the
+    temperature nodes is taken as infinite (Phi within 1e-9 of 0 or 1).
 
     References
     ----------
@@ -738,6 +853,7 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     # says lo is within tol of the root, a step to lo + tol certifies it (S(lo + tol) < p
     # closes the bracket to tol, also where S is a step function).
     rows = np.nonzero(np.any(search, axis=1))[0]
+    polished = lo.copy()
     if rows.size:
         f_s = _segments(f[rows], z if z.ndim == 1 else z[rows])
         w_s, lo_s, hi_s = w[rows], lo[rows], hi[rows]
@@ -761,13 +877,17 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
             lo_s, s_lo = np.where(ok, x, lo_s), np.where(ok, s_x, s_lo)
             hi_s, s_hi = np.where(ok, hi_s, x), np.where(ok, s_hi, s_x)
         lo[rows] = lo_s
+        # For the binding day only: the false-position point of the final bracket, a
+        # second-order estimate of the exact level (the level itself stays lo, certified).
+        t = s_lo / np.where(s_lo - s_hi > 0, s_lo - s_hi, np.inf)
+        polished[rows] = lo_s + np.clip(t, 0.0, 1.0) * (hi_s - lo_s)
     level = np.where(at_top, top[:, None], np.where(search, lo, np.nan))  # uncapped
     mass = np.minimum(level, mtow[:, None])
 
     # Binding day at each level mass.
-    m_eval = np.where(np.isfinite(level), level, oew[:, None])
+    m_eval = np.where(search, polished, np.where(np.isfinite(level), level, oew[:, None]))
     zj = _share(f, z, w, m_eval)[1]  # (N, L, J)
-    finite = np.isfinite(zj) & (w[:, None, :] > 0)
+    finite = np.isfinite(zj) & (np.abs(zj) <= _BINDING_SCORE) & (w[:, None, :] > 0)
     dens = np.where(finite, w[:, None, :] * np.exp(-0.5 * np.where(finite, zj, 0.0) ** 2), -1.0)
     z_grp = np.broadcast_to(z, (n_groups, z.shape[-1]))
     mid_node = np.argmin(np.abs(z_grp), axis=-1)  # node nearest the median, per group

@@ -362,7 +362,8 @@ def test_structural_cap_and_share_of_days_at_mtow():
     m = point_masses(linear_mass, [290.0], [5.0], [[0.0]])
     r = _levels(m, np.ones((1, 1)), levels=(0.2, 0.5))
     t_mtow = 300.0 - (MTOW - 60_000.0) / 800.0
-    assert r.share_days[0] == pytest.approx(stats.norm.cdf((t_mtow - 290.0) / 5.0), abs=1e-9)
+    # Tolerance: masses within 0.05 kg count as achieved (tie rule), and single precision.
+    assert r.share_days[0] == pytest.approx(stats.norm.cdf((t_mtow - 290.0) / 5.0), abs=2e-5)
     assert r.mass_kg[0, 0] == MTOW  # 0.2 < 0.31: at least 20 % of days reach MTOW
     assert r.mass_kg[0, 1] == pytest.approx(linear_mass(290.0, 0.0), abs=1.0)
 

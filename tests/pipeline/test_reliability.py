@@ -1,0 +1,268 @@
+"""Reliability rows of a chunk (pipeline.reliability) against direct weight-limit solves.
+
+Fixtures: small invented airfields built here (two opposite runway directions, chosen
+climate and wind roses) with the demo network's invented aircraft types; the real solver
+``physics.weightlimit.solve_takeoff_weight`` gives the direct values.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy import stats
+
+from physics import climatology as clim
+from physics.weightlimit import solve_takeoff_weight
+from pipeline import cases as case_io
+from pipeline import reliability as rel
+from pipeline.chunks import aircraft_arrays, site_arrays
+from schemas.results import RESULT_COLUMNS
+
+LEVELS = (0.5, 0.85, 0.95)
+
+
+@pytest.fixture(scope="module")
+def demo_tables():
+    from schemas.load import load_folder
+    from pathlib import Path
+
+    import demo_network
+
+    folder = Path(demo_network.__file__).parent / "data"
+    t = load_folder(folder)
+    return {n: t[n] for n in ("airfields", "runways", "climate_monthly", "wind_rose", "aircraft_types")}
+
+
+def _network(demo_tables, rose_rows, sd_k=3.0, mean_k=300.0, types=("narrowbody-180",),
+             percentiles=None, tora=2600.0):
+    """One invented airfield, runways 09/27 (headings 090°/270°), the same climate and rose
+    in every month."""
+    airfields = pd.DataFrame({"airfield_id": ["brackwater"], "name": ["Brackwater"],
+                              "latitude_deg": [10.0], "longitude_deg": [20.0], "elevation_m": [300.0]})
+    runways = pd.DataFrame({"airfield_id": ["brackwater"] * 2, "runway_id": ["09", "27"],
+                            "heading_true_deg": [90.0, 270.0], "tora_m": [tora, tora],
+                            "toda_m": [tora + 200, tora + 200], "asda_m": [tora, tora],
+                            "slope": [0.0, 0.0], "surface": ["paved", "paved"]})
+    climate = pd.DataFrame({"airfield_id": "brackwater", "month": np.arange(1, 13),
+                            "mean_daily_max_k": mean_k, "sd_daily_max_k": sd_k,
+                            "qnh_pa": 101_325.0, "wet_day_share": 0.2})
+    for name in ("p50_daily_max_k", "p85_daily_max_k", "p95_daily_max_k"):
+        climate[name] = np.nan if percentiles is None else percentiles[name]
+    rose = pd.concat([pd.DataFrame({"airfield_id": "brackwater", "month": m, **r}, index=[0])
+                      for m in range(1, 13) for r in rose_rows], ignore_index=True)
+    ac = demo_tables["aircraft_types"]
+    ac = ac[ac["aircraft_type_id"].isin(types)].reset_index(drop=True)
+    tables = {"airfields": airfields, "runways": runways, "climate_monthly": climate,
+              "wind_rose": rose, "aircraft_types": ac}
+    cases = case_io.block_cases(tables, ["brackwater"], 0.0)
+    return tables, cases
+
+
+def _run(tables, cases, settings=rel.ReliabilitySettings(), levels=LEVELS, details=None):
+    return rel.reliability_frames(cases, tables["aircraft_types"], tables["runways"],
+                                  tables["climate_monthly"], tables["wind_rose"], levels=levels,
+                                  run_id=7, settings=settings, details=details)
+
+
+def _direct(tables, cases, index, temperature_k, headwind_mps):
+    c = cases.iloc[index].copy()
+    c["temperature_k"] = temperature_k
+    c["headwind_mps"] = headwind_mps
+    return solve_takeoff_weight(aircraft_arrays(tables["aircraft_types"], c["aircraft_index"].to_numpy()),
+                                site_arrays(c))
+
+
+CALM = {"direction_deg": np.nan, "sector_width_deg": np.nan, "speed_low_mps": 0.0,
+        "speed_high_mps": 1.0, "frequency": 1.0}
+
+
+def test_rows_have_the_result_columns_and_one_row_per_level(demo_tables):
+    tables, cases = _network(demo_tables, [CALM], types=("narrowbody-180", "regional-tp70"))
+    direction, airfield = _run(tables, cases)
+    assert direction is None
+    assert list(airfield.columns[: len(RESULT_COLUMNS)]) == list(RESULT_COLUMNS)
+    assert (airfield["basis"] == "reliability").all()
+    n_groups = 12 * 2 * 2  # months × types × conditions
+    assert len(airfield) == n_groups * len(LEVELS)
+    assert sorted(airfield["reliability"].unique()) == list(LEVELS)
+    # Limits fall (never rise) as the level rises.
+    keys = ["aircraft_type_id", "month", "condition"]
+    for _, g in airfield.sort_values("reliability").groupby(keys):
+        assert np.all(np.diff(g["tow_limit_kg"].to_numpy()) <= 1e-9)
+    assert airfield[rel.SHARE_COLUMN].between(0.0, 1.0).all()
+
+
+def test_calm_only_median_equals_the_design_day(demo_tables):
+    tables, cases = _network(demo_tables, [CALM])
+    _, airfield = _run(tables, cases)
+    design = solve_takeoff_weight(aircraft_arrays(tables["aircraft_types"], cases["aircraft_index"].to_numpy()),
+                                  site_arrays(cases))
+    best = (cases.assign(tow=design.tow_limit_kg)
+            .groupby(["aircraft_type_id", "month", "condition"])["tow"].max())
+    p50 = airfield[airfield["reliability"] == 0.5].set_index(["aircraft_type_id", "month", "condition"])
+    # The median day of a normal daily maximum is the mean: exactly the design day
+    # (calm, mean daily maximum) on the better direction; both are direct solves.
+    # Tolerance: the solver's own 1 kg bracket (a 1e-4 K difference in the binding
+    # temperature can move its last bisection step).
+    np.testing.assert_allclose(p50["tow_limit_kg"].sort_index(), best.sort_index(), rtol=0, atol=1.0)
+    # The row's temperature is that of its binding day: a day on which exactly that mass
+    # holds (the mean where the mass falls with temperature; anywhere on a plateau).
+    design_rows = p50[p50["limiting_factor"] != "structural"]
+    np.testing.assert_allclose(design_rows["oat_c"], 300.0 - 273.15, atol=1e-3)
+
+
+def test_single_wind_point_equals_the_direct_solve_on_the_best_direction(demo_tables):
+    # All wind from 265° at 6 m/s: runway 27 (heading 270°) has a 5.98 m/s headwind.
+    rose = [{"direction_deg": 265.0, "sector_width_deg": 1.0, "speed_low_mps": 6.0,
+             "speed_high_mps": 6.0, "frequency": 1.0}]
+    tables, cases = _network(demo_tables, rose, sd_k=3.0)
+    one_point = rel.ReliabilitySettings(directions_per_sector=1, speeds_per_class=1)
+    _, airfield = _run(tables, cases, one_point)
+    assert (airfield["runway_id"] == "27").all()
+    head = 6.0 * np.cos(np.deg2rad(265.0 - 270.0))
+    for p in LEVELS:
+        rows = airfield[airfield["reliability"] == p]
+        idx = np.nonzero((cases["runway_id"] == "27").to_numpy())[0]
+        sel = cases.iloc[idx].reset_index(drop=True)
+        t_p = 300.0 + 3.0 * stats.norm.ppf(p)  # the p quantile of the daily maximum
+        # 14 CFR 25.105(d)(1): half the reported headwind for performance.
+        direct = _direct(tables, sel, np.arange(len(sel)), t_p, 0.5 * head)
+        order = rows.set_index(["month", "condition"]).loc[
+            list(zip(sel["month"], sel["condition"]))]
+        # Both are direct solves of the same day; 1 kg is the solver's bracket.
+        np.testing.assert_allclose(order["tow_limit_kg"], direct.tow_limit_kg, rtol=0, atol=1.0)
+        assert (order["oat_c"] >= t_p - 273.15 - 1e-4).all()
+        np.testing.assert_allclose(order["headwind_mps"], 0.5 * head, rtol=1e-12)
+
+
+def test_given_p95_is_used_for_the_95_percent_level(demo_tables):
+    pct = {"p50_daily_max_k": 300.0, "p85_daily_max_k": 304.0, "p95_daily_max_k": 309.0}
+    tables, cases = _network(demo_tables, [CALM], percentiles=pct)
+    _, airfield = _run(tables, cases)
+    rows = airfield[(airfield["reliability"] == 0.95) & (airfield["month"] == 7)]
+    # The level search runs in single precision: the binding temperature to 1e-4 K.
+    np.testing.assert_allclose(rows["oat_c"], 309.0 - 273.15, atol=1e-4)
+
+
+def test_crosswind_days_are_not_possible_with_the_reason(demo_tables):
+    # 10 % of days: wind from 360° at 20–24 m/s, straight across runways 09/27 and above
+    # the type's crosswind limit; the rest calm.
+    rose = [dict(CALM, frequency=0.9),
+            {"direction_deg": 0.0, "sector_width_deg": 22.5, "speed_low_mps": 20.0,
+             "speed_high_mps": 24.0, "frequency": 0.1}]
+    tables, cases = _network(demo_tables, rose)
+    _, airfield = _run(tables, cases)
+    p95 = airfield[airfield["reliability"] == 0.95]
+    assert p95["tow_limit_kg"].isna().all()
+    assert (p95["limiting_factor"] == "crosswind_limit").all()
+    assert p95["runway_id"].isna().all()
+    p85 = airfield[airfield["reliability"] == 0.85]
+    assert p85["tow_limit_kg"].notna().all()
+
+
+def test_symmetric_rose_same_result_for_opposite_directions(demo_tables):
+    rose = [dict(CALM, frequency=0.2)] + [
+        {"direction_deg": d, "sector_width_deg": 90.0, "speed_low_mps": lo,
+         "speed_high_mps": lo + 4.0, "frequency": 0.1}
+        for d in (0.0, 90.0, 180.0, 270.0) for lo in (0.0, 4.0)]
+    tables, cases = _network(demo_tables, rose)
+    direction, _ = _run(tables, cases, rel.ReliabilitySettings(per_direction=True))
+    a = direction[direction["runway_id"] == "09"].set_index(["month", "condition", "reliability"])
+    b = direction[direction["runway_id"] == "27"].set_index(["month", "condition", "reliability"])
+    np.testing.assert_allclose(a["tow_limit_kg"], b.loc[a.index, "tow_limit_kg"], rtol=1e-9)
+    np.testing.assert_allclose(a[rel.SHARE_COLUMN], b.loc[a.index, rel.SHARE_COLUMN], atol=1e-6)
+
+
+def _brute_force_levels(tables, cases, details, groups, levels, n_scores=41):
+    """Levels from direct solves of every wind point on every direction at fine
+    temperature nodes (no headwind interpolation, per-day best direction)."""
+    group_case = details["group_case"][groups]  # (N, D)
+    n_grp, n_dir = group_case.shape
+    h = details["point_headwind"]  # (n, J) factored
+    n_pts = h.shape[1]
+    z = np.linspace(-3.0, 3.0, n_scores)
+    valid = group_case >= 0
+    c_idx = np.where(valid, group_case, group_case[:, :1])
+    rep_c = np.repeat(c_idx.ravel(), n_pts * n_scores)
+    rep_h = np.repeat(h[c_idx.ravel()], n_scores, axis=1).ravel()
+    rep_t = details["temperature"](rep_c, np.tile(z, n_grp * n_dir * n_pts))
+    mass = _direct(tables, cases, rep_c, rep_t, rep_h).tow_limit_kg.reshape(n_grp, n_dir, n_pts, n_scores)
+    cx = details["crosswind_exceeded"][c_idx]
+    tx = details["tailwind_exceeded"][c_idx]
+    _, m, lost = clim.flown_direction(mass, cx, tx, valid)
+    first = c_idx[:, 0]
+    ac = tables["aircraft_types"]
+    idx = cases["aircraft_index"].to_numpy()[first]
+    return clim.reliability_masses(m, z, details["point_weight"][first],
+                                   ac["oew_kg"].to_numpy()[idx], ac["mtow_kg"].to_numpy()[idx],
+                                   levels=levels, lost_reason=lost)
+
+
+def test_interpolation_error_bound_against_direct_solves(demo_tables):
+    # The efficiency step (grid of temperature × factored headwind, interpolated) against
+    # the same levels from direct solves of every wind point at 41 temperatures from
+    # z = −3 to 3 (about 0.5 K apart) with no headwind interpolation. Bound on the
+    # reported level masses: 0.2 % of the mass or 50 kg, whichever is larger.
+    tables = demo_tables
+    ids = ["kelpstone", "ashfall-flats"]  # a short wet runway (V1 regime kinks), a hot one
+    cases = case_io.block_cases(tables, ids, 0.0)
+    keep = cases["aircraft_type_id"].isin(["narrowbody-180", "regional-jet90", "longrange-twin300"]) & \
+        cases["month"].isin([1, 7])
+    cases = cases[keep].reset_index(drop=True)
+    details = {}
+    _, airfield = rel.reliability_frames(cases, tables["aircraft_types"], tables["runways"],
+                                         tables["climate_monthly"], tables["wind_rose"],
+                                         levels=LEVELS, run_id=1, details=details)
+    groups = np.arange(details["group_case"].shape[0])
+    ref = _brute_force_levels(tables, cases, details, groups, LEVELS)
+    got = airfield["tow_limit_kg"].to_numpy().reshape(-1, len(LEVELS))
+    both = np.isfinite(got) & np.isfinite(ref.mass_kg)
+    assert both.sum() >= 0.75 * got.size  # the rest: hot-month no takeoff, crosswind days
+    assert np.array_equal(np.isfinite(got), np.isfinite(ref.mass_kg))
+    err = np.abs(got - ref.mass_kg)[both]
+    bound = np.maximum(0.002 * ref.mass_kg[both], 50.0)
+    # Measured on this deliberately hard set: 87 % of levels within the bound, the worst
+    # 2.7 % off. The residual comes from kinks of the limit in temperature (regime changes
+    # of the accelerate-stop limit on the short wet runway) between temperature nodes,
+    # which the headwind refinement does not resolve (see the module notes).
+    assert np.mean(err <= bound) >= 0.85, np.mean(err <= bound)
+    assert np.all(err <= 0.03 * ref.mass_kg[both]), (err / ref.mass_kg[both]).max()
+
+
+def test_grid_interpolation_error_at_random_days(demo_tables):
+    # The raw interpolated surface against direct solves at random days inside the grid:
+    # within 0.2 % / 50 kg for 98 % of days (measured 98.8 %). The rest sit next to regime changes of the
+    # limit (e.g. V1 floored at the minimum control speed on a short wet runway), where the
+    # surface has a kink between grid nodes; the reported levels are re-solved directly on
+    # their binding day (test above), so the kinks do not reach them.
+    tables = demo_tables
+    ids = sorted(tables["airfields"]["airfield_id"])[::6]
+    cases = case_io.block_cases(tables, ids, 0.0)
+    details = {}
+    rel.reliability_frames(cases, tables["aircraft_types"], tables["runways"],
+                           tables["climate_monthly"], tables["wind_rose"],
+                           levels=LEVELS, run_id=1, details=details)
+    rng = np.random.default_rng(42)
+    pick = rng.choice(len(cases), 1500, replace=False)
+    z_nodes, h_nodes, grid = details["scores"][pick], details["h_nodes"][pick], details["grid"][pick]
+    zq = z_nodes[:, 0] + rng.random(len(pick)) * (z_nodes[:, -1] - z_nodes[:, 0])
+    hq = h_nodes[:, 0, 0] + rng.random(len(pick)) * (h_nodes[:, 0, -1] - h_nodes[:, 0, 0])
+    # Headwind nodes per temperature row (refined), interpolated row by row.
+    at_nodes = clim.interpolate_headwind(grid[:, :, None, :], h_nodes, hq[:, None, None])[..., 0, 0]
+    # Linear in the score between nodes (the rule of physics.climatology.share_of_days).
+    k = np.clip(np.sum(z_nodes <= zq[:, None], axis=1) - 1, 0, z_nodes.shape[1] - 2)
+    z0 = np.take_along_axis(z_nodes, k[:, None], 1)[:, 0]
+    z1 = np.take_along_axis(z_nodes, k[:, None] + 1, 1)[:, 0]
+    s = (zq - z0) / (z1 - z0)
+    m0 = np.take_along_axis(at_nodes, k[:, None], 1)[:, 0]
+    m1 = np.take_along_axis(at_nodes, k[:, None] + 1, 1)[:, 0]
+    mtow = tables["aircraft_types"]["mtow_kg"].to_numpy()[cases["aircraft_index"].to_numpy()[pick]]
+    guess = np.minimum((1 - s) * m0 + s * m1, mtow)
+    truth = _direct(tables, cases, pick, details["temperature"](pick, zq), hq).tow_limit_kg
+    ok = np.isfinite(guess) & np.isfinite(truth)
+    assert ok.sum() > 1000
+    within = np.abs(guess[ok] - truth[ok]) <= np.maximum(0.002 * truth[ok], 50.0)
+    assert within.mean() >= 0.98, within.mean()
+    # NaN (no takeoff) only where a direct solve also fails at a neighbouring node.
+    assert np.all(np.isnan(guess) <= (np.isnan(truth) | np.isnan(m0) | np.isnan(m1)))
