@@ -68,6 +68,9 @@ STOP_DELAY_S = 2.0
 #: Evaluations of the V1 search from a cold start (6 Newton steps; quadratic convergence
 #: reaches 1e-9 m/s in the tests).
 V1_ITERATIONS = 7
+#: Evaluations from a cold start inside the weight solver's search (its factor and reported
+#: figures use :data:`V1_ITERATIONS`).
+V1_ITERATIONS_SEARCH = 4
 #: Evaluations when started from the V1 of a nearby mass (the weight solver's iterations).
 V1_ITERATIONS_WARM = 3
 #: Largest relative mass change since the previous trial (any case) for the warm count. [–]
@@ -465,6 +468,25 @@ class GroundRegime:
             s[i] = s[i] + part
         return s
 
+    def take(self, index):
+        """The regime for a subset of the cases (``index``: integer array)."""
+        new = object.__new__(GroundRegime)
+        n = self.w.shape[0]
+        new.law = None
+        new.w = self.w[index]
+        new.coeffs = tuple(np.asarray(c)[index] for c in self.coeffs)
+        new.a2_reverse = None if self.a2_reverse is None else self.a2_reverse[index]
+        new.kink = self.kink[index]
+        is_prop = np.zeros(n, dtype=bool)
+        is_prop[self.prop] = True
+        sub_prop = is_prop[index]
+        new.prop = np.nonzero(sub_prop)[0]
+        new.tail = np.nonzero(new.w < 0.0)[0]
+        if new.prop.size:
+            local = (np.cumsum(is_prop) - 1)[np.asarray(index)[sub_prop]]
+            new._p_m, new._a0n, new._a2p = self._p_m[local], self._a0n[local], self._a2p[local]
+        return new
+
     def acceleration(self, v):
         """Acceleration at true airspeeds.
 
@@ -740,24 +762,39 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
     w = model.headwind_mps
     lo, hi = model.v1_min_mps, model.v1_max_mps
     vlof = model.speeds.vlof_mps
-    v1 = 0.5 * (lo + hi) if v1_start_mps is None else np.clip(np.asarray(v1_start_mps, dtype=float), lo, hi)
+    v1 = 0.5 * (lo + hi)
+    if v1_start_mps is not None:
+        start = np.asarray(v1_start_mps, dtype=float)
+        v1 = np.where(np.isfinite(start), np.clip(start, lo, hi), v1)
     v1 = np.broadcast_to(v1, w.shape).astype(float)
     multi = model.multi_engine
     count = np.broadcast_to(np.asarray(iterations), w.shape)
     total = max(int(np.max(count)), 1)
+    s_oei = np.full(w.shape, np.nan)
+    s_stop = np.full(w.shape, np.nan)
+    idx, oo, sa = None, model.one_out, model.stop_all
     for k in range(total):
-        s_oei = model.one_out.distance_m(v1, vlof)
-        s_stop = model.stop_all.distance_m(v1, w)
+        need = count > k
+        if k == 0 or not np.all(need[idx] if idx is not None else need):
+            # evaluate only the cases still iterating (each has its own count)
+            idx = np.nonzero(need | (k == 0))[0]
+            full = idx.size == w.size
+            oo = model.one_out if full else model.one_out.take(idx)
+            sa = model.stop_all if full else model.stop_all.take(idx)
+        vi, wi = v1[idx], w[idx]
+        so = oo.distance_m(vi, vlof[idx])
+        ss = sa.distance_m(vi, wi)
+        s_oei[idx], s_stop[idx] = so, ss
         if k == total - 1:
             break
-        h = base - s_oei + delay_s * (v1 - w) + s_stop
-        vg = v1 - w
+        h = base[idx] - so + delay_s * (vi - wi) + ss
+        vg = vi - wi
         with np.errstate(divide="ignore", invalid="ignore"):
-            dh = vg / model.one_out.acceleration(v1) + delay_s - vg / model.stop_all.acceleration(v1)
+            dh = vg / oo.acceleration(vi) + delay_s - vg / sa.acceleration(vi)
             step = h / dh
-        # a case stops stepping after its own number of evaluations (its last step is k = count − 2)
-        step = np.where(np.isfinite(step) & (dh > 0) & multi & (k < count - 1), step, 0.0)
-        v1 = np.clip(v1 - step, lo, hi)
+        # a case stops stepping after its own number of evaluations (last step at k = count − 2)
+        step = np.where(np.isfinite(step) & (dh > 0) & multi[idx] & (k < count[idx] - 1), step, 0.0)
+        v1[idx] = np.clip(vi - step, lo[idx], hi[idx])
     return v1, s_oei, s_stop
 
 
@@ -1016,11 +1053,15 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
         guess, last = state.get("v1"), state.get("mass")
         if guess is not None and last is not None and np.shape(guess) == setup.n == np.shape(last):
             # per case, so that a case's result does not depend on the rest of the batch
-            change = np.abs(mass_kg - last) / last
-            iterations = np.where(change <= CLOSE_MASS_CHANGE, V1_ITERATIONS_CLOSE,
-                                  np.where(change <= WARM_MASS_CHANGE, V1_ITERATIONS_WARM, V1_ITERATIONS))
+            with np.errstate(invalid="ignore"):
+                change = np.abs(mass_kg - last) / last
+            cold = V1_ITERATIONS if cases._cache.get("engine_failure_final") else V1_ITERATIONS_SEARCH
+            close = V1_ITERATIONS_WARM if cases._cache.get("engine_failure_final") else V1_ITERATIONS_CLOSE
+            iterations = np.where(change <= CLOSE_MASS_CHANGE, close,
+                                  np.where(change <= WARM_MASS_CHANGE, V1_ITERATIONS_WARM, cold))
         else:
-            guess, iterations = None, V1_ITERATIONS
+            guess = None
+            iterations = V1_ITERATIONS if cases._cache.get("engine_failure_final") else V1_ITERATIONS_SEARCH
         r = engine_failure_takeoff(cases.aircraft, cases.site, mass_kg, setup=setup, v1_start_mps=guess,
                                    iterations=iterations, both_stops=False)
         state["v1"], state["mass"] = r.v1_mps, np.array(mass_kg, dtype=float, copy=True)

@@ -625,9 +625,12 @@ def _itp_search(cases, margins_fn, lo, hi, m_lo, m_hi, tol_kg):
     lo, hi : numpy.ndarray
         Bracket narrower than ``tol_kg``, feasible at ``lo``, infeasible at ``hi``. [kg]
     margins_hi : numpy.ndarray
-        Every requirement's margin at ``hi`` (names the limiting factor). [–]
+        Every requirement's margin at ``hi``. [–]
     iterations : int
         Evaluations made. [–]
+    v1_state : dict or None
+        The last V1 of each case and the mass it was found for (warm start for the final
+        evaluations). [m/s], [kg]
 
     Notes
     -----
@@ -660,6 +663,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_lo, m_hi, tol_kg):
     k1 = ITP_KAPPA1 / width0
     lo0 = lo.copy()
     grid = tol_kg / 64.0
+    v1_state = None  # last V1 of each case (engine-failure search), handed back for reuse
     cur = np.arange(lo.size)
     side = np.zeros(lo.size, dtype=int)  # +1: the low end moved last, −1: the high end
     sub = cases
@@ -691,6 +695,11 @@ def _itp_search(cases, margins_fn, lo, hi, m_lo, m_hi, tol_kg):
         x = np.clip(lo0[cur] + np.round((x - lo0[cur]) / grid) * grid, A, B)
         mg = margins_fn(sub, x)
         g = _itp_value(mg.min(axis=0))
+        st = sub._cache.get("engine_failure_state")
+        if st and st.get("v1") is not None:
+            if v1_state is None:
+                v1_state = {"v1": np.full(lo.size, np.nan), "mass": np.full(lo.size, np.nan)}
+            v1_state["v1"][cur], v1_state["mass"][cur] = st["v1"], st["mass"]
         live = (B - A) > tol_kg
         feas = live & (g <= 0.0)
         infeas = live & ~(g <= 0.0)
@@ -703,7 +712,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_lo, m_hi, tol_kg):
         gb[cur] = np.where(infeas, g, np.where(feas & (prev == 1), 0.5 * GB, GB))
         side[cur] = np.where(feas, 1, np.where(infeas, -1, prev))
         j += 1
-    return lo, hi, m_hi, j
+    return lo, hi, m_hi, j, v1_state
 
 
 def _solve(aircraft, site, tol_kg, reqs):
@@ -724,13 +733,21 @@ def _solve(aircraft, site, tol_kg, reqs):
     limit = np.where(structural, a.mtow_kg, np.nan)
     if active.size:
         sub = cases.take(active)
-        lo, hi, _, _ = _itp_search(sub, margins_fn, lo[active], hi[active], m_lo[:, active],
-                                   m_hi[:, active], tol_kg)
-        # The factor: the requirement most violated just above the limit, evaluated with a
-        # fully converged V1 (no warm start): at a balanced V1 the go and stop margins tie
-        # and only a converged V1 names the binding one reproducibly.
+        lo, hi, _, _, v1_state = _itp_search(sub, margins_fn, lo[active], hi[active], m_lo[:, active],
+                                             m_hi[:, active], tol_kg)
+        # The factor: the requirement most violated just above the limit, with V1 converged
+        # (the search's last V1, within a kilogram, and further Newton steps): at a balanced
+        # V1 the go and stop margins tie and only a converged V1 names the binding one
+        # reproducibly.
         sub = cases.take(active)
-        sub._cache.pop("engine_failure_state", None)
+        sub._cache["engine_failure_final"] = True
+        if v1_state is not None:
+            sub._cache["engine_failure_state"] = {k: v.copy() for k, v in v1_state.items()}
+            st = cases._cache.get("engine_failure_state")
+            if st is not None:
+                st["v1"][active], st["mass"][active] = v1_state["v1"], v1_state["mass"]
+        else:
+            sub._cache.pop("engine_failure_state", None)
         margins_hi, _ = requirement_margins(sub, hi, reqs)
         codes = np.array([limits.code(r.factor) for r in reqs])
         factor[active] = codes[np.argmin(margins_hi, axis=0)]
@@ -738,7 +755,7 @@ def _solve(aircraft, site, tol_kg, reqs):
 
     # Figures at the limit mass (OEW stands in for no_takeoff cases and is blanked), with a
     # fully converged V1.
-    cases._cache.pop("engine_failure_state", None)
+    cases._cache["engine_failure_final"] = True
     _, memo = requirement_margins(cases, np.where(none, a.oew_kg, limit), reqs)
     mass = np.where(none, a.oew_kg, limit)
     out = {k: np.full(cases.n, np.nan) for k in _RESULT_FIELDS}
