@@ -74,22 +74,38 @@ def friction_for(surface: np.ndarray, condition: str) -> tuple[np.ndarray, np.nd
             np.asarray(friction.braking_friction(surface_codes, condition_codes), dtype=float))
 
 
+@dataclass(frozen=True)
+class Skip:
+    """Airfield × type pairs not to compute (reused): unchanged airfields × unchanged types."""
+
+    airfields: frozenset = frozenset()
+    types: frozenset = frozenset()
+
+    def __bool__(self) -> bool:
+        return bool(self.airfields) and bool(self.types)
+
+
 def plan_chunks(tables: dict[str, pd.DataFrame], chunk_size: int,
-                conditions: tuple[str, ...] = CONDITIONS) -> ChunkPlan:
+                conditions: tuple[str, ...] = CONDITIONS, skip: Skip = Skip()) -> ChunkPlan:
     """Group airfields (in id order) into chunks of about ``chunk_size`` cases.
 
     An airfield is never split; a chunk closes once it reaches ``chunk_size`` cases, so a
-    chunk holds at most ``chunk_size`` plus one airfield's cases.
+    chunk holds at most ``chunk_size`` plus one airfield's cases. Pairs in ``skip`` are not
+    counted (an airfield whose every type is skipped is left out).
     """
     if chunk_size < 1:
         raise ValueError("chunk_size must be at least 1")
-    n_types = len(tables["aircraft_types"])
-    per_direction = 12 * n_types * len(conditions)
+    types = set(tables["aircraft_types"]["aircraft_type_id"].astype(str))
+    n_types = len(types)
+    n_skip_types = len(types & set(skip.types))
     counts = tables["runways"].groupby("airfield_id", sort=True).size()
     blocks, sizes, current, size = [], [], [], 0
     for airfield_id, n_dirs in counts.items():
+        n_compute = n_types - (n_skip_types if str(airfield_id) in skip.airfields else 0)
+        if n_compute == 0:
+            continue
         current.append(str(airfield_id))
-        size += int(n_dirs) * per_direction
+        size += int(n_dirs) * 12 * n_compute * len(conditions)
         if size >= chunk_size:
             blocks.append(tuple(current))
             sizes.append(size)
@@ -162,8 +178,9 @@ def all_stations(tables: dict[str, pd.DataFrame], temperature_offset_k: float) -
 
 
 def block_cases(tables: dict[str, pd.DataFrame], airfield_ids, temperature_offset_k: float,
-                conditions: tuple[str, ...] = CONDITIONS, stations: pd.DataFrame | None = None) -> pd.DataFrame:
-    """All cases of some airfields: directions × months × types × conditions."""
+                conditions: tuple[str, ...] = CONDITIONS, stations: pd.DataFrame | None = None,
+                skip: Skip = Skip()) -> pd.DataFrame:
+    """All cases of some airfields: directions × months × types × conditions (minus ``skip``)."""
     if stations is None:
         stations = all_stations(tables, temperature_offset_k)
     ids = list(airfield_ids)
@@ -174,7 +191,12 @@ def block_cases(tables: dict[str, pd.DataFrame], airfield_ids, temperature_offse
     if set(block["airfield_id"].unique()) != set(ids):  # ids not a contiguous sorted run
         block = stations[stations["airfield_id"].isin(ids)]
     types = tables["aircraft_types"]["aircraft_type_id"].astype(str).to_numpy()
-    return expand_cases(block, types, conditions)
+    cases = expand_cases(block, types, conditions)
+    if skip:
+        reused = (cases["airfield_id"].isin(list(skip.airfields))
+                  & cases["aircraft_type_id"].isin(list(skip.types))).to_numpy()
+        cases = cases[~reused].reset_index(drop=True)
+    return cases
 
 
 def _atomic_write_table(table: pa.Table, path: Path) -> None:
@@ -184,7 +206,8 @@ def _atomic_write_table(table: pa.Table, path: Path) -> None:
 
 
 def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str | os.PathLike,
-                temperature_offset_k: float, conditions: tuple[str, ...] = CONDITIONS) -> Path:
+                temperature_offset_k: float, conditions: tuple[str, ...] = CONDITIONS,
+                skip: Skip = Skip()) -> Path:
     """Write the run's inputs for the chunk tasks into ``work_dir``; return its path.
 
     ``cases.parquet`` gets one row group per chunk of ``plan`` (built one block at a time,
@@ -204,7 +227,7 @@ def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str 
     try:
         stations = all_stations(tables, temperature_offset_k)
         for block, expected in zip(plan.airfield_blocks, plan.cases_per_chunk):
-            cases = block_cases(tables, block, temperature_offset_k, conditions, stations)
+            cases = block_cases(tables, block, temperature_offset_k, conditions, stations, skip)
             if len(cases) != expected:  # a broken invariant, not a user error
                 raise RuntimeError(f"chunk of {block[:3]}… has {len(cases)} cases, planned {expected}")
             table = pa.Table.from_pandas(cases, preserve_index=False)

@@ -47,6 +47,11 @@ def compute_chunk_task(work: str, chunk: int, run_id: int, key_params: dict):
     return chunks.compute_chunk(work, chunk, run_id, key_params)
 
 
+@task(name="copy-reused-results", cache_policy=NO_CACHE)
+def copy_reused_task(prepared, run_id: int, work: str):
+    return steps.copy_reused(prepared, run_id, work)
+
+
 @task(name="best-directions", cache_policy=NO_CACHE)
 def best_directions_task(work: str, results):
     return str(steps.best_directions(work, results))
@@ -59,8 +64,8 @@ def route_payloads_task(prepared, work: str, best_path: str):
 
 
 @task(name="write-duckdb", cache_policy=NO_CACHE)
-def load_task(prepared, run_id: int, results, best_path: str, route_path: str | None):
-    return steps.load(prepared, run_id, results, best_path, route_path)
+def load_task(prepared, run_id: int, results, best_path: str, route_path: str | None, reused=None):
+    return steps.load(prepared, run_id, results, best_path, route_path, reused)
 
 
 def _task_runner(cluster: str | None, workers: int):
@@ -99,9 +104,10 @@ def fieldlimits_run(input_dir: str, db_path: str = "fieldlimits.duckdb",
             results.append(fut.result())
             progress.report(done, n, time.monotonic() - t0)
         results.sort(key=lambda r: r.chunk)
+        reused = copy_reused_task(prepared, run_id, work)
         best = best_directions_task(work, results)
         route = route_payloads_task(prepared, work, best)
-        rows = load_task(prepared, run_id, results, best, route)
+        rows = load_task(prepared, run_id, results, best, route, reused)
     except BaseException as exc:
         steps.fail(prepared, run_id, exc)
         steps.cleanup(prepared, run_id)

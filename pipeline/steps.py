@@ -20,6 +20,7 @@ from __future__ import annotations
 import dataclasses
 import hashlib
 import importlib
+import json
 import os
 import shutil
 import time
@@ -54,6 +55,7 @@ class RunParams:
     chunk_size: int = DEFAULT_CHUNK_SIZE
     conditions: tuple[str, ...] = CONDITIONS
     reliability_levels: tuple[float, ...] = DEFAULT_RELIABILITY_LEVELS
+    reuse: bool = True  # reuse unchanged airfield × type results of an earlier run
 
     def __post_init__(self):
         bad = [c for c in self.conditions if c not in CONDITIONS]
@@ -94,11 +96,71 @@ class PreparedRun:
     code_version: str
     db_path: Path
     work_root: Path
+    reuse_key: str = ""
+    hashes: pd.DataFrame | None = None  # kind, key, sha256
+    reuse: "ReusePlan | None" = None
+    n_airfields: int = 0
+
+    @property
+    def skip(self) -> case_io.Skip:
+        return self.reuse.skip if self.reuse else case_io.Skip()
+
+    @property
+    def reused_cases(self) -> int:
+        return self.reuse.cases if self.reuse else 0
 
     def chunk_params(self) -> dict:
         """What identifies the computed numbers (chunk key): parameters, inputs, code."""
         return {**self.params.as_dict(), "input_hash": self.inputs.input_hash,
                 "code_version": self.code_version}
+
+
+@dataclass(frozen=True)
+class ReusePlan:
+    """Which results of an earlier run a rerun copies instead of computing (issue 8)."""
+
+    from_run_id: int
+    skip: case_io.Skip
+    cases: int  # design-day direction cases reused
+
+    def pairs(self) -> pd.DataFrame:
+        return pd.DataFrame([(a, t) for a in sorted(self.skip.airfields) for t in sorted(self.skip.types)],
+                            columns=["airfield_id", "aircraft_type_id"])
+
+
+def reuse_key(code: str, params: RunParams) -> str:
+    """Hash of what changes the numbers: code version and the result-changing parameters."""
+    d = params.as_dict()
+    for k in ("chunk_size", "reuse"):
+        d.pop(k, None)
+    return hashlib.sha256(json.dumps({"code": code, "params": d}, sort_keys=True).encode()).hexdigest()
+
+
+def content_hashes(inputs: Inputs) -> pd.DataFrame:
+    """Per-airfield and per-aircraft-type content hashes (:mod:`schemas.hashing`)."""
+    from schemas import hashing
+
+    rows = [("airfield", k, v) for k, v in hashing.airfield_hashes(inputs.user_tables).items()]
+    rows += [("aircraft_type", k, v) for k, v in hashing.aircraft_type_hashes(inputs.user_tables).items()]
+    return pd.DataFrame(rows, columns=["kind", "key", "sha256"])
+
+
+def plan_reuse(inputs: Inputs, hashes: pd.DataFrame, db_path: Path, key: str,
+               conditions: tuple[str, ...]) -> ReusePlan | None:
+    """Unchanged airfields × unchanged types of the last complete run with the same key."""
+    found = store.find_reusable(db_path, key)
+    if found is None:
+        return None
+    prev_id, prev = found
+    merged = hashes.merge(prev, on=["kind", "key"], suffixes=("", "_prev"))
+    same = merged[merged["sha256"] == merged["sha256_prev"]]
+    skip = case_io.Skip(frozenset(same.loc[same.kind == "airfield", "key"]),
+                        frozenset(same.loc[same.kind == "aircraft_type", "key"]))
+    if not skip:
+        return None
+    dirs = inputs.tables["runways"].groupby("airfield_id").size()
+    n_dirs = int(dirs[dirs.index.isin(list(skip.airfields))].sum())
+    return ReusePlan(prev_id, skip, n_dirs * 12 * len(skip.types) * len(conditions))
 
 
 def code_version() -> str:
@@ -151,10 +213,16 @@ def _cached_inputs(input_dir) -> Inputs:
 def prepare_run(input_dir, db_path, params: RunParams, work_root=None) -> PreparedRun:
     """Validate and load the inputs and plan the chunks; nothing is written."""
     inputs = _cached_inputs(input_dir)
-    plan = case_io.plan_chunks(inputs.tables, params.chunk_size, params.conditions)
     db = Path(db_path).resolve()
     root = Path(work_root).resolve() if work_root else default_work_root(db)
-    return PreparedRun(inputs, params, plan, code_version(), db, root)
+    code = code_version()
+    key = reuse_key(code, params)
+    hashes = content_hashes(inputs)
+    reuse = plan_reuse(inputs, hashes, db, key, params.conditions) if params.reuse else None
+    skip = reuse.skip if reuse else case_io.Skip()
+    plan = case_io.plan_chunks(inputs.tables, params.chunk_size, params.conditions, skip)
+    n_airfields = int(inputs.tables["runways"]["airfield_id"].nunique())
+    return PreparedRun(inputs, params, plan, code, db, root, key, hashes, reuse, n_airfields)
 
 
 def register(prepared: PreparedRun) -> int:
@@ -166,9 +234,12 @@ def register(prepared: PreparedRun) -> int:
         input_hash=prepared.inputs.input_hash,
         input_hashes=prepared.inputs.hashes,
         code_version=prepared.code_version,
-        airfields=prepared.plan.n_airfields,
-        cases=prepared.plan.n_cases,
+        airfields=prepared.n_airfields,
+        cases=prepared.plan.n_cases + prepared.reused_cases,
         chunks=prepared.plan.n_chunks,
+        reused_cases=prepared.reused_cases,
+        reused_from_run_id=prepared.reuse.from_run_id if prepared.reuse else None,
+        reuse_key=prepared.reuse_key,
     )
     return store.register_run(prepared.db_path, record)
 
@@ -180,7 +251,27 @@ def work_dir(prepared: PreparedRun, run_id: int) -> Path:
 def build_cases(prepared: PreparedRun, run_id: int) -> Path:
     """Write the run's case arrays and tables into its work folder; return the folder."""
     return case_io.write_cases(prepared.inputs.tables, prepared.plan, work_dir(prepared, run_id),
-                               prepared.params.temperature_offset_k, prepared.params.conditions)
+                               prepared.params.temperature_offset_k, prepared.params.conditions,
+                               prepared.skip)
+
+
+REUSED_DIRECTION = "reused.direction.parquet"
+REUSED_AIRFIELD = "reused.airfield.parquet"
+
+
+def copy_reused(prepared: PreparedRun, run_id: int, work: Path) -> tuple[str, str] | None:
+    """Write the reused rows of the earlier run (relabelled) as part files; return their paths."""
+    if not prepared.reuse:
+        return None
+    parts = Path(work) / chunks.PARTS_DIR
+    parts.mkdir(parents=True, exist_ok=True)
+    d, a = parts / REUSED_DIRECTION, parts / REUSED_AIRFIELD
+    copied = store.export_reused(prepared.db_path, prepared.reuse.from_run_id, run_id,
+                                 prepared.reuse.pairs(), d, a, chunks.RESULT_SCHEMA)
+    if copied != prepared.reuse.cases:
+        raise RuntimeError(f"run {prepared.reuse.from_run_id} has {copied} reusable cases, "
+                           f"expected {prepared.reuse.cases}; rerun with --no-reuse")
+    return str(d), str(a)
 
 
 def best_directions(work: Path, results: Sequence[ChunkResult]) -> Path:
@@ -192,6 +283,12 @@ def best_directions(work: Path, results: Sequence[ChunkResult]) -> Path:
     out = Path(work) / BEST_FILE
     tmp = out.with_name(f".{out.name}.tmp")
     bases = sorted({b for r in results for b in r.airfield_bases})
+    import pyarrow.parquet as pq
+
+    if not results:
+        pq.write_table(chunks.RESULT_SCHEMA.empty_table(), tmp)
+        os.replace(tmp, out)
+        return out
     con = duckdb.connect()
     try:
         con.execute("SET threads = 2")
@@ -236,16 +333,18 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
 
 
 def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], best_path: Path,
-         route_path: Path | None) -> dict[str, int]:
+         route_path: Path | None, reused: Sequence[str] | None = None) -> dict[str, int]:
     """The single writer: all of the run in one DuckDB transaction."""
     inputs = [store.InputTable(name, prepared.inputs.files.get(name), prepared.inputs.hashes[name], frame)
               for name, frame in prepared.inputs.user_tables.items() if name in prepared.inputs.hashes]
     spec = store.LoadSpec(
         run_id=run_id,
-        direction_parts=[r.direction_path for r in results],
-        airfield_parts=[str(best_path)] + [r.airfield_path for r in results if r.airfield_path],
+        direction_parts=[r.direction_path for r in results] + ([reused[0]] if reused else []),
+        airfield_parts=([str(best_path)] + [r.airfield_path for r in results if r.airfield_path]
+                        + ([reused[1]] if reused else [])),
         inputs=inputs,
         route_payload=pd.read_parquet(route_path) if route_path else None,
+        hashes=prepared.hashes,
     )
     return store.load_run(prepared.db_path, spec)
 
@@ -279,10 +378,14 @@ class RunSummary:
     seconds: float
     rows: dict[str, int]
     restrictions: pd.DataFrame = field(default_factory=pd.DataFrame)
+    reused_cases: int = 0
+    reused_from_run_id: int | None = None
 
     def text(self) -> str:
+        reused = (f" ({self.reused_cases} reused from run {self.reused_from_run_id})"
+                  if self.reused_cases else "")
         lines = [
-            f"run {self.run_id} complete: {self.airfields} airfields, {self.cases} cases "
+            f"run {self.run_id} complete: {self.airfields} airfields, {self.cases} cases{reused} "
             f"in {self.chunks} chunks, {self.seconds:.1f} s",
             f"rows: results_direction {self.rows.get('rows_direction', 0)}, "
             f"results_airfield {self.rows.get('rows_airfield', 0)}, "
@@ -299,8 +402,9 @@ class RunSummary:
 
 
 def summarise(prepared: PreparedRun, run_id: int, seconds: float, rows: dict[str, int]) -> RunSummary:
-    return RunSummary(run_id, prepared.plan.n_airfields, prepared.plan.n_cases, prepared.plan.n_chunks,
-                      seconds, rows, store.run_summary(prepared.db_path, run_id))
+    return RunSummary(run_id, prepared.n_airfields, prepared.plan.n_cases + prepared.reused_cases,
+                      prepared.plan.n_chunks, seconds, rows, store.run_summary(prepared.db_path, run_id),
+                      prepared.reused_cases, prepared.reuse.from_run_id if prepared.reuse else None)
 
 
 # --------------------------------------------------------------------------- local driver
@@ -324,9 +428,10 @@ def run_local(input_dir, db_path, params: RunParams = RunParams(), progress: Pro
                 results.append(fut.result())
                 (progress or progress_mod.report)(len(results), n, time.monotonic() - t0)
         results.sort(key=lambda r: r.chunk)
+        reused = copy_reused(prepared, run_id, work)
         best = best_directions(work, results)
         route = route_payloads(prepared, work, best)
-        rows = load(prepared, run_id, results, best, route)
+        rows = load(prepared, run_id, results, best, route, reused)
     except BaseException as exc:
         fail(prepared, run_id, exc)
         cleanup(prepared, run_id)

@@ -133,6 +133,7 @@ def ensure_schema(con: duckdb.DuckDBPyConnection) -> None:
     try:
         for name in result_tables.TABLES:
             run_sql(con, sql(f"create_{name}"))
+            _add_defined_columns(con, name)
         for view in ("latest_run", "latest_results_direction", "latest_results_airfield",
                      "scenario_results_airfield"):
             run_sql(con, sql(f"view_{view}"))
@@ -140,6 +141,15 @@ def ensure_schema(con: duckdb.DuckDBPyConnection) -> None:
     except Exception:
         run_sql(con, "ROLLBACK")
         raise
+
+
+def _add_defined_columns(con, table: str) -> None:
+    """A file written by an older version gains the columns defined since (never loses any)."""
+    have = {r[0] for r in con.execute(
+        "SELECT column_name FROM information_schema.columns WHERE table_name = $t", {"t": table}).fetchall()}
+    for column in result_tables.columns(table):
+        if column.name not in have:
+            run_sql(con, f'ALTER TABLE {_check_ident(table)} ADD COLUMN "{column.name}" {column.sql_type}')
 
 
 # --------------------------------------------------------------------------- run records
@@ -157,6 +167,8 @@ class RunRecord:
     cases: int
     chunks: int
     reused_cases: int = 0
+    reused_from_run_id: int | None = None
+    reuse_key: str | None = None
     started_at: datetime = field(default_factory=utcnow)
 
 
@@ -203,6 +215,8 @@ def register_run(db_path: str | os.PathLike, record: RunRecord) -> int:
                 "cases": int(record.cases),
                 "chunks": int(record.chunks),
                 "reused_cases": int(record.reused_cases),
+                "reused_from_run_id": record.reused_from_run_id,
+                "reuse_key": record.reuse_key,
                 "host": socket.gethostname(),
                 "pid": os.getpid(),
             })
@@ -239,6 +253,7 @@ class LoadSpec:
     airfield_parts: Sequence[str] = ()
     inputs: Sequence[InputTable] = ()
     route_payload: pd.DataFrame | None = None
+    hashes: pd.DataFrame | None = None  # columns kind, key, sha256 (run_hashes)
 
 
 def _check_ident(name: str) -> str:
@@ -306,6 +321,14 @@ def _load_inputs(con, run_id: int, inputs: Sequence[InputTable]) -> None:
             "row_count": len(table.frame), "sha256": table.sha256})
 
 
+def _load_hashes(con, spec: LoadSpec) -> None:
+    if spec.hashes is None or not len(spec.hashes):
+        return
+    frame = spec.hashes[["kind", "key", "sha256"]].copy()
+    frame.insert(0, "run_id", spec.run_id)
+    _append_frame(con, "run_hashes", frame)
+
+
 def _load_results_direction(con, spec: LoadSpec) -> None:
     if spec.direction_parts:
         run_sql(con, sql("load_results_direction"), {"files": [str(p) for p in spec.direction_parts]})
@@ -344,6 +367,7 @@ def load_run(db_path: str | os.PathLike, spec: LoadSpec) -> dict[str, int]:
                 _load_results_direction(con, spec)
                 _load_results_airfield(con, spec)
                 _load_inputs(con, spec.run_id, spec.inputs)
+                _load_hashes(con, spec)
                 rows_route = _load_route_payload(con, spec)
                 rows_dir, rows_af = con.execute(sql("count_run_rows"), {"run_id": spec.run_id}).fetchall()[0]
                 counts = {"rows_direction": int(rows_dir), "rows_airfield": int(rows_af),
@@ -360,6 +384,63 @@ def load_run(db_path: str | os.PathLike, spec: LoadSpec) -> dict[str, int]:
             pass
         raise
     return counts
+
+
+# --------------------------------------------------------------------------- reuse
+def find_reusable(db_path, reuse_key: str) -> tuple[int, pd.DataFrame] | None:
+    """The last complete run with the same reuse key and its per-airfield/type hashes."""
+    if not Path(db_path).exists():
+        return None
+    with reader(db_path, wait_s=WRITER_WAIT_S) as con:
+        if not _table_exists(con, "run_hashes"):
+            return None
+        cols = {r[0] for r in con.execute(
+            "SELECT column_name FROM information_schema.columns WHERE table_name = 'runs'").fetchall()}
+        if "reuse_key" not in cols:
+            return None
+        found = con.execute(sql("reusable_run"), {"reuse_key": reuse_key}).fetchall()
+        if not found:
+            return None
+        run_id = int(found[0][0])
+        hashes = con.sql(sql("run_hashes_of"), params={"run_id": run_id}).df()
+    return run_id, hashes
+
+
+def export_reused(db_path, prev_run_id: int, new_run_id: int, pairs: pd.DataFrame,
+                  direction_path: Path, airfield_path: Path, schema) -> int:
+    """Copy a previous run's rows for the (airfield_id, aircraft_type_id) ``pairs`` to Parquet.
+
+    The rows get the new run_id. Streamed in batches; returns the design-day direction rows.
+    """
+    import pyarrow.parquet as pq
+
+    design = 0
+    with reader(db_path, wait_s=WRITER_WAIT_S) as con:
+        con.register("reuse_pairs", pairs[["airfield_id", "aircraft_type_id"]])
+        for name, path in (("reuse_results_direction", direction_path), ("reuse_results_airfield", airfield_path)):
+            rel = con.sql(sql(name), params={"prev_run_id": prev_run_id, "new_run_id": new_run_id})
+            tmp = Path(path).with_name(f".{Path(path).name}.tmp")
+            with pq.ParquetWriter(tmp, schema) as out:
+                for batch in rel.to_arrow_reader(200_000):
+                    table = pa_table_from_batch(batch, schema)
+                    out.write_table(table)
+                    if name == "reuse_results_direction":
+                        design += int(pa_count_design(table))
+            os.replace(tmp, path)
+    return design
+
+
+def pa_table_from_batch(batch, schema):
+    import pyarrow as pa
+
+    table = pa.Table.from_batches([batch])
+    return table.select(schema.names).cast(schema)
+
+
+def pa_count_design(table) -> int:
+    import pyarrow.compute as pc
+
+    return pc.sum(pc.equal(table.column("basis"), "design_day")).as_py() or 0
 
 
 def run_summary(db_path: str | os.PathLike, run_id: int) -> pd.DataFrame:

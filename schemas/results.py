@@ -12,6 +12,9 @@ The tables:
     ``temperature_offset_k``), input hashes, code version, row counts.
 ``run_inputs``
     One row per run × input table: the file read, its row count and SHA-256.
+``run_hashes``
+    Per run, a hash of each airfield's and each aircraft type's input rows: a rerun reuses
+    the results of every airfield × type whose two hashes are unchanged.
 ``results_direction``
     One row per run × runway direction × month × aircraft type × condition × basis.
 ``results_airfield``
@@ -59,13 +62,22 @@ RUNS = (
     _c("airfields", "BIGINT", "count", "airfields computed"),
     _c("cases", "BIGINT", "count", "design-day cases computed (directions × months × types × conditions)"),
     _c("chunks", "BIGINT", "count", "chunk tasks the cases were split into"),
-    _c("reused_cases", "BIGINT", "count", "cases reused from an earlier run instead of recomputed"),
+    _c("reused_cases", "BIGINT", "count", "design-day cases reused from an earlier run instead of recomputed"),
+    _c("reused_from_run_id", "BIGINT", "-", "the run whose results were reused (NULL: all computed)"),
+    _c("reuse_key", "VARCHAR", "sha256", "code version + result-changing parameters; runs with equal keys can share results"),
     _c("rows_direction", "BIGINT", "count", "rows written to results_direction"),
     _c("rows_airfield", "BIGINT", "count", "rows written to results_airfield"),
     _c("rows_route_payload", "BIGINT", "count", "rows written to route_payload"),
     _c("error", "VARCHAR", "text", "why the run failed (NULL when complete)"),
     _c("host", "VARCHAR", "text", "machine that ran it"),
     _c("pid", "BIGINT", "-", "process id of the run (detects interrupted runs)"),
+)
+
+RUN_HASHES = (
+    _c("run_id", "BIGINT", "-", "run number", True),
+    _c("kind", "VARCHAR", "text", "airfield or aircraft_type", True),
+    _c("key", "VARCHAR", "text", "airfield_id or aircraft_type_id", True),
+    _c("sha256", "VARCHAR", "sha256", "hash of that airfield's rows (airfield, runways, climate, wind rose) or that type's row", True),
 )
 
 RUN_INPUTS = (
@@ -143,6 +155,7 @@ ROUTE_PAYLOAD = (
 TABLES: dict[str, tuple[ResultColumn, ...]] = {
     "runs": RUNS,
     "run_inputs": RUN_INPUTS,
+    "run_hashes": RUN_HASHES,
     "results_direction": _RESULT_COMMON,
     "results_airfield": _RESULT_COMMON,
     "route_payload": ROUTE_PAYLOAD,
@@ -151,6 +164,7 @@ TABLES: dict[str, tuple[ResultColumn, ...]] = {
 DESCRIPTIONS: dict[str, str] = {
     "runs": "one row per run: status, times, parameters, input hashes, code version, row counts",
     "run_inputs": "one row per run and input table: file, rows, SHA-256",
+    "run_hashes": "per run, the content hash of each airfield and aircraft type (incremental reruns)",
     "results_direction": "takeoff-weight limit per run, runway direction, month, aircraft type, condition and basis",
     "results_airfield": "best runway direction per run, airfield, month, aircraft type, condition and basis",
     "route_payload": "payload available per run, route, aircraft type, month, origin condition and basis",

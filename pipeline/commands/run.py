@@ -91,6 +91,10 @@ def add_arguments(parser) -> None:
                              "(default: next to the database; must be shared with Dask workers)")
     parser.add_argument("--no-prefect", action="store_true",
                         help="run the same steps in this process without Prefect (quick checks)")
+    parser.add_argument("--no-reuse", action="store_true",
+                        help="recompute everything (by default an airfield x type whose inputs and "
+                             "the code are unchanged since the last complete run with the same "
+                             "parameters is copied from it)")
     parser.add_argument("--quiet", action="store_true", help="no progress lines")
 
 
@@ -112,6 +116,7 @@ def run(args) -> int:
         chunk_size=chunk_size,
         conditions=tuple(c.strip() for c in args.conditions.split(",") if c.strip()),
         reliability_levels=_floats(args.reliability),
+        reuse=not args.no_reuse,
     )
     if not args.quiet:
         progress.set_reporter(progress.StderrProgress())

@@ -14,7 +14,9 @@ CREATE TABLE IF NOT EXISTS runs (
     airfields            BIGINT,  -- [count] airfields computed
     cases                BIGINT,  -- [count] design-day cases computed (directions × months × types × conditions)
     chunks               BIGINT,  -- [count] chunk tasks the cases were split into
-    reused_cases         BIGINT,  -- [count] cases reused from an earlier run instead of recomputed
+    reused_cases         BIGINT,  -- [count] design-day cases reused from an earlier run instead of recomputed
+    reused_from_run_id   BIGINT,  -- [-] the run whose results were reused (NULL: all computed)
+    reuse_key            VARCHAR,  -- [sha256] code version + result-changing parameters; runs with equal keys can share results
     rows_direction       BIGINT,  -- [count] rows written to results_direction
     rows_airfield        BIGINT,  -- [count] rows written to results_airfield
     rows_route_payload   BIGINT,  -- [count] rows written to route_payload

@@ -1,0 +1,8 @@
+-- reusable_run: the last complete run computed with the same code and result-changing
+-- parameters (reuse_key), whose per-airfield and per-type hashes are stored.
+SELECT run_id
+FROM runs
+WHERE status = 'complete' AND reuse_key = $reuse_key
+  AND run_id IN (SELECT run_id FROM run_hashes)
+ORDER BY finished_at DESC, run_id DESC
+LIMIT 1;
