@@ -397,7 +397,8 @@ class RunSummary:
                 lines.append(
                     f"  {r.aircraft_type_id:<20} {r.condition:<4} {r.restricted_months:>5} of "
                     f"{r.airfield_months} months at {r.restricted_airfields} airfields"
-                    + (f" ({r.no_takeoff_months} with no takeoff possible)" if r.no_takeoff_months else ""))
+                    + (f" ({r.no_takeoff_months} with no takeoff possible)" if r.no_takeoff_months else "")
+                    + (f"; most: {r.worst_airfields}" if isinstance(r.worst_airfields, str) else ""))
         return "\n".join(lines)
 
 
