@@ -3,12 +3,17 @@
 How it works
 ------------
 A *requirement* is a function ``margin(cases, mass_kg, memo) -> array``: a dimensionless
-margin per case at the trial masses, ≥ 0 where the requirement is met (e.g.
-1 − 1.15 TOD/TODA), NaN where the aircraft cannot do it at all. Each carries the name of its
+margin per case at the trial masses, ≥ 0 where the requirement is met (the distance
+requirements use :func:`distance_margin`, available/required − 1, e.g. TODA/(1.15 TOD) − 1,
+and −1 where the aircraft cannot do it at all; NaN from any requirement counts as
+impossible). Each carries the name of its
 limiting factor (``physics.limits``) and optionally a ``report`` function giving result fields
-(``WeightLimit`` names) at the final mass. ``REQUIREMENTS`` is the list used by default; add a
-requirement (accelerate-stop, one-engine-inoperative distances, climb gradient) by appending
-a :class:`Requirement` to it — the solver does not change.
+(``WeightLimit`` names) at the final mass. ``REQUIREMENTS`` is the list used by default
+(``rules="transport"``: the all-engines pair plus ``ENGINE_FAILURE_REQUIREMENTS`` — one
+engine inoperative takeoff distance and run and the accelerate-stop distance at the best V1
+(:mod:`physics.enginefailure`) and the takeoff climb gradient (:mod:`physics.climb`));
+``rules="all_engines"`` checks the all-engines pair only. Add a requirement by appending a
+:class:`Requirement` — the solver does not change.
 
 ``cases`` (:class:`Cases`) holds the broadcast inputs and everything that does not depend on
 the mass (density, thrust law, drag coefficients); ``cases.cached(key, fn)`` stores more such
@@ -19,13 +24,15 @@ later requirement's report may override a field set by an earlier one (e.g. a
 one-engine-inoperative takeoff distance replacing the all-engines figure with the greater of
 the two). ``ALL_ENGINES_REQUIREMENTS`` keeps the all-engines pair on its own.
 
-The solver (:func:`solve_takeoff_weight`) is a vectorised bisection on the mass between OEW
-and MTOW, to ``tol_kg``: feasible at MTOW → ``structural``; infeasible at OEW → ``no_takeoff``
+The solver (:func:`solve_takeoff_weight`) is a vectorised bracket search on the mass between
+OEW and MTOW, to ``tol_kg`` (ITP: interpolation, truncation and projection, never more than a
+few evaluations beyond bisection, :func:`_itp_search`): feasible at MTOW → ``structural``; infeasible at OEW → ``no_takeoff``
 (NaN mass); otherwise the returned mass is the feasible end of a bracket narrower than
 ``tol_kg`` whose other end fails, and the limiting factor is the requirement most violated at
 that other end. It assumes every margin falls as the mass rises (true of field lengths and
 climb gradients). Quadratic and turbofan cases use the closed-form ground run; propeller cases
-the Gauss–Legendre integration; both in one call.
+the Gauss–Legendre integration; both in one call. Wet cases given the dry friction of the
+same runway are also solved dry and keep the lower limit (wet never better than dry).
 
 References
 ----------
@@ -33,6 +40,7 @@ References
    requirements); EASA CS-25 identical in these provisions.
 .. [2] D. P. Raymer, *Aircraft Design: A Conceptual Approach*, AIAA, §17.8.
 .. [3] W. H. Press et al., *Numerical Recipes*, 3rd ed., §9.1 (bisection).
+.. [4] I. F. D. Oliveira, R. H. C. Takahashi, *ACM Trans. Math. Software* 47(1), 2020 (ITP).
 """
 
 from __future__ import annotations
@@ -135,17 +143,20 @@ class WeightLimit:
     limiting_factor : numpy.ndarray of int
         ``physics.limits`` code.
     takeoff_distance_m : numpy.ndarray
-        Regulatory takeoff distance at the limit mass (all engines: 1.15 × distance to the
-        screen; later the greater of that and the one-engine-inoperative distance). [m]
+        Regulatory takeoff distance at the limit mass: the greater of 1.15 × the all-engines
+        distance and the one-engine-inoperative distance at the chosen V1 (all-engines only
+        with ``rules="all_engines"``). [m]
     takeoff_run_m : numpy.ndarray
-        Regulatory takeoff run at the limit mass (as the distance). [m]
+        Regulatory takeoff run at the limit mass (as the distance, clearway rule). [m]
     accelerate_stop_m : numpy.ndarray
-        Accelerate-stop distance (NaN until that requirement is added). [m]
+        Accelerate-stop distance at the chosen V1 (NaN with ``rules="all_engines"``). [m]
     v1_mps, vr_mps, v2_mps, v_lof_mps : numpy.ndarray
-        Speeds at the limit mass, equivalent airspeed (≈ CAS at takeoff Mach numbers); V1 NaN
-        until the engine-failure requirements are added. [m/s]
+        Speeds at the limit mass, equivalent airspeed (≈ CAS at takeoff Mach numbers); V1 the
+        one chosen for the runway (VR for single-engine types; NaN with
+        ``rules="all_engines"``). [m/s]
     climb_gradient : numpy.ndarray
-        Second-segment gradient (NaN until that requirement is added). [–]
+        Takeoff climb gradient at V2 (second segment; all engines for single-engine types;
+        NaN with ``rules="all_engines"``). [–]
     """
 
     tow_limit_kg: np.ndarray

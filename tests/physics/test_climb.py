@@ -115,3 +115,26 @@ def test_scalar_equals_array_element():
     arr = climb.takeoff_climb_gradient(a, mass_kg=50_000.0, pressure_pa=95_000.0, temperature_k=temps)
     one = climb.takeoff_climb_gradient(a, mass_kg=50_000.0, pressure_pa=95_000.0, temperature_k=300.0)
     assert_allclose(one, arr[1], rtol=1e-14)
+
+
+@pytest.mark.parametrize("modname", ["enginefailure", "climb"])
+def test_numpydoc_sections_and_units(modname):
+    # House style (STYLE.md §4), with the checker of tests/physics/test_docstrings.py; the
+    # model objects of these modules carry no unit.
+    import importlib
+    import inspect
+    import re
+
+    from tests.physics import test_docstrings as td
+
+    objects = ("EngineFailureSetup", "EngineFailureModel", "EngineFailureTakeoff", "TakeoffSpeeds")
+    mod = importlib.import_module(f"physics.{modname}")
+    assert mod.__doc__ and "References" in mod.__doc__
+    for name, fn in td._public_functions(mod):
+        doc = inspect.getdoc(fn) or ""
+        for section in ("Parameters", "Returns", "Notes", "References"):
+            assert f"\n{section}\n" in doc, f"{modname}.{name}: no {section} section"
+        for header, body in td._blocks(doc, "Parameters") + td._blocks(doc, "Returns"):
+            if any(k in header for k in td.NOT_PHYSICAL + objects):
+                continue
+            assert re.search(r"\[[^\]]+\]", body), f"{modname}.{name}: no [unit] for '{header}'"
