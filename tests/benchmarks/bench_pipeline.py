@@ -4,6 +4,7 @@
     python tests/benchmarks/bench_pipeline.py --airfields 200 --skip-demo
     python tests/benchmarks/bench_pipeline.py --no-prefect     # the same steps without Prefect
     python tests/benchmarks/bench_pipeline.py --reliability 0.5,0.85,0.95   # with reliability rows
+    python tests/benchmarks/bench_pipeline.py --skip-demo --rerun --dask     # reuse and Dask figures
 
 Each measured run is ``fieldlimits run`` in a fresh subprocess (Prefect's temporary server
 start included) writing a fresh DuckDB file. Wall time and the peak resident memory of the
@@ -51,6 +52,10 @@ def main() -> int:
     ap.add_argument("--reliability", default="none",
                     help="reliability levels for the runs (default none: design day, as issue 4 "
                          "specifies; e.g. 0.5,0.85,0.95 for the issue-6 figure)")
+    ap.add_argument("--rerun", action="store_true",
+                    help="also time an unchanged rerun of the synthetic network (results reused)")
+    ap.add_argument("--dask", action="store_true",
+                    help="also run the synthetic network on a temporary local Dask cluster (2 workers)")
     ap.add_argument("--keep", action="store_true", help="keep the temporary folder")
     a = ap.parse_args()
 
@@ -65,7 +70,7 @@ def main() -> int:
         r = measure(base + ["--db", str(tmp / "demo.duckdb"), "--quiet"] + extra, env)
         results["demo"] = r
         # second demo run: Prefect's database already migrated (the usual case)
-        r2 = measure(base + ["--db", str(tmp / "demo.duckdb"), "--quiet"] + extra, env)
+        r2 = measure(base + ["--db", str(tmp / "demo.duckdb"), "--quiet", "--no-reuse"] + extra, env)
         results["demo_warm"] = r2
 
     if a.airfields:
@@ -78,6 +83,13 @@ def main() -> int:
         r = measure(base + [str(net), "--db", str(tmp / "syn.duckdb"), "--quiet"] + extra, env)
         r["generate_seconds"] = gen_s
         results[f"synthetic_{a.airfields}"] = r
+        if a.rerun:
+            results[f"rerun_{a.airfields}"] = measure(
+                base + [str(net), "--db", str(tmp / "syn.duckdb"), "--quiet"] + extra, env)
+        if a.dask and not a.no_prefect:
+            results[f"dask_{a.airfields}"] = measure(
+                base + [str(net), "--db", str(tmp / "dask.duckdb"), "--quiet", "--cluster", "local",
+                        "--workers", "2"] + extra, env)
 
     for name, r in results.items():
         first = r["stdout"].splitlines()[0] if r["stdout"] else r["stderr"][-300:]
