@@ -196,7 +196,8 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
     L.add("screen height", _num(_f(s.screen_height_m) / constants.FT_M, 0), "ft",
           "35 ft dry, 15 ft wet (14 CFR 25.113)")
 
-    L.head(f"3. Speeds at the limit mass {_num(mass)} kg")
+    at = "the limit mass" if np.isfinite(limit) else "OEW (no mass meets every requirement)"
+    L.head(f"3. Speeds at {at}: {_num(mass)} kg")
     ef = enginefailure.engine_failure_takeoff(a, s, np.asarray([mass]))
     sp = ef.speeds
     _speed(L, "VS (stall, takeoff flaps)", sp.vs_mps, rho)
@@ -260,13 +261,15 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
     L.add("MTOW (structural)", _num(a.mtow_kg), "kg")
     L.add("takeoff-weight limit", _num(limit), "kg")
     L.add("limited by", factor, "")
-    if np.isfinite(limit):
-        margins, _ = wl.requirement_margins(wl.prepare_cases(a, s, vmcg_floor=True), np.asarray([limit]))
-        L.text("  margins at the limit (share of the declared distance left; climb: gradient points):")
-        for r, m in zip(wl.REQUIREMENTS, margins[:, 0]):
-            label = _MARGIN_LABELS.get(getattr(r.margin, "__name__", ""), r.factor)
-            shown = "not applicable" if np.isposinf(m) else _num(100 * m, 2)
-            L.add(f"  {label}", shown, "" if np.isposinf(m) else "%")
+    # margins also for no_takeoff: they show which requirement fails at OEW
+    margins, _ = wl.requirement_margins(wl.prepare_cases(a, s, vmcg_floor=True), np.asarray([mass]))
+    L.text(f"  margins at {at} (distances: available/required − 1; climb: gradient points; "
+           "negative = not met):")
+    for r, m in zip(wl.REQUIREMENTS, margins[:, 0]):
+        label = _MARGIN_LABELS.get(getattr(r.margin, "__name__", ""), r.factor)
+        shown = ("not applicable" if np.isposinf(m) else "impossible" if np.isneginf(m) or m <= -1
+                 else _num(100 * m, 2))
+        L.add(f"  {label}", shown, "" if np.isposinf(m) else "%")
     L.text("")
     L.text(CAUTION)
     v1_kt = _f(atmosphere.equivalent_airspeed_mps(ef.v1_mps, rho) / kt)
