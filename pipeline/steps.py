@@ -292,6 +292,10 @@ def best_directions(work: Path, results: Sequence[ChunkResult]) -> Path:
     con = duckdb.connect()
     try:
         con.execute("SET threads = 2")
+        # big networks: let the window sort spill to the work folder instead of holding it all
+        spill = Path(work) / "duckdb-spill"
+        store.run_sql(con, "SET temp_directory = $d", {"d": str(spill)})
+        store.run_sql(con, "SET memory_limit = '1GB'")
         table = con.sql(store.sql("best_direction"), params={
             "files": [r.direction_path for r in results],
             "airfield_level_bases": bases}).to_arrow_table()
