@@ -151,6 +151,9 @@ def expand_cases(stations: pd.DataFrame, types: np.ndarray,
     mu = [friction_for(surface, cond) for cond in conditions]
     mu_roll = np.stack([x[0] for x in mu])  # [condition, runway]
     mu_brake = np.stack([x[1] for x in mu])
+    # Dry friction of the same runway: a wet case is also solved dry and keeps the lower
+    # limit (physics.weightlimit.Site.mu_roll_dry), so wet is never better than dry.
+    mu_roll_dry, mu_brake_dry = friction_for(surface, "dry")
     cond_names = np.asarray(conditions, dtype=object)
     screens = np.asarray([SCREEN_HEIGHT_M[cond] for cond in conditions])
     out = {
@@ -166,6 +169,8 @@ def expand_cases(stations: pd.DataFrame, types: np.ndarray,
         out[col] = stations[col].to_numpy(float)[st]
     out["mu_roll"] = mu_roll[c, r]
     out["mu_brake"] = mu_brake[c, r]
+    out["mu_roll_dry"] = mu_roll_dry[r]
+    out["mu_brake_dry"] = mu_brake_dry[r]
     out["headwind_mps"] = np.zeros(len(st))  # design day: calm
     out["screen_height_m"] = screens[c]
     return pd.DataFrame(out)

@@ -35,7 +35,7 @@ _KEY_META = b"fieldlimits_chunk_key"
 _BASES_META = b"fieldlimits_airfield_bases"
 
 _SITE_COLUMNS = ("tora_m", "toda_m", "asda_m", "slope", "mu_roll", "mu_brake", "pressure_pa",
-                 "temperature_k", "headwind_mps", "screen_height_m")
+                 "temperature_k", "headwind_mps", "screen_height_m", "mu_roll_dry", "mu_brake_dry")
 
 # results column <- WeightLimit field, converted from m/s to knots where the name says so
 _SPEED_FIELDS = {"v1_kt": "v1_mps", "vr_kt": "vr_mps", "v2_kt": "v2_mps", "v_lof_kt": "v_lof_mps"}

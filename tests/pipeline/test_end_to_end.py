@@ -55,6 +55,19 @@ def test_limits_never_exceed_mtow(frames):
             ["aircraft_type_id"].map(mtow) + 1e-6).all()
 
 
+def test_wet_runway_is_never_better_than_dry(frames):
+    # 14 CFR 25.109(b) and 25.113(b): the wet-runway figures may not be better than the dry
+    # ones for the same runway and day (no_takeoff counts as 0 kg; the solver tolerance is 1 kg).
+    _, direction, *_ = frames
+    d = direction[direction["basis"] == "design_day"].copy()
+    d["tow"] = d["tow_limit_kg"].fillna(0.0)
+    keys = ["airfield_id", "runway_id", "aircraft_type_id", "month"]
+    pair = d[d.condition == "dry"].merge(d[d.condition == "wet"], on=keys, suffixes=("_dry", "_wet"))
+    assert len(pair) == len(d) // 2
+    assert (pair["tow_wet"] <= pair["tow_dry"] + 1.0).all()
+    assert (pair["tow_wet"] < pair["tow_dry"] - 1.0).any()  # wet does cost mass somewhere
+
+
 def test_hotter_and_higher_month_gives_no_higher_limit(frames):
     # physics: at the same runway, type and condition, a month that is both hotter and at a
     # higher pressure altitude has less thrust and less lift, so the limit cannot rise
