@@ -111,6 +111,7 @@ _RESULT_COMMON = (
     _c("v2_kt", "DOUBLE", "kt", "takeoff safety speed V2 at the limit mass"),
     _c("v_lof_kt", "DOUBLE", "kt", "lift-off speed at the limit mass"),
     _c("climb_gradient", "DOUBLE", "-", "second-segment climb gradient at the limit mass (rise over run)"),
+    _c("share_days_full_mass", "DOUBLE", "-", "reliability rows: share of the month's days on which MTOW is achievable (NULL for the design day)"),
 )
 
 ROUTE_PAYLOAD = (
