@@ -11,13 +11,23 @@ Each part is written to a temporary name and renamed into place, so a part file 
 complete or absent. Parts are named by chunk number, and a part carrying the same chunk key
 (code version + run parameters + chunk) is reused rather than recomputed: running a chunk
 twice (a retry, a lost Dask worker) is safe and gives the same file.
+
+Large runs (at least :data:`PROCESS_MIN_CASES` cases) solve their chunks in a small pool of
+worker processes owned by the calling process: the solver is many short numpy calls that
+hold the GIL, so threads alone use about one core. The calling thread (a local thread, a
+Prefect task) waits for its chunk; results and files are the same. Not used inside a Dask
+worker or a child process, nor while :data:`pipeline.producers.ROW_PRODUCERS` holds
+in-process producers. ``FIELDLIMITS_CHUNK_PROCESSES=N`` sets the pool size (0: off).
 """
 
 from __future__ import annotations
 
+import atexit
 import dataclasses
 import json
+import multiprocessing
 import os
+import threading
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -31,6 +41,8 @@ from pipeline import producers
 from schemas.results import RESULT_COLUMNS, columns
 
 PARTS_DIR = "parts"
+PROCESS_MIN_CASES = 200_000
+"""Runs with at least this many cases solve their chunks in worker processes."""
 _KEY_META = b"fieldlimits_chunk_key"
 _BASES_META = b"fieldlimits_airfield_bases"
 
@@ -196,11 +208,74 @@ def part_paths(work_dir: Path, chunk: int) -> tuple[Path, Path]:
             parts / f"part-{chunk:05d}.airfield.parquet")
 
 
+_POOL = None
+_POOL_LOCK = threading.Lock()
+
+
+def _pool_size() -> int:
+    env = os.environ.get("FIELDLIMITS_CHUNK_PROCESSES", "").strip()
+    if env:
+        return max(0, int(env))
+    return min(os.cpu_count() or 1, 8) if (os.cpu_count() or 1) > 1 else 0
+
+
+def _in_worker_process() -> bool:
+    if multiprocessing.parent_process() is not None:
+        return True
+    try:
+        from distributed import get_worker
+
+        get_worker()
+        return True
+    except Exception:
+        return False
+
+
+def _process_pool(work: Path):
+    """The shared process pool when this run is big enough to use one, else None."""
+    global _POOL
+    size = _pool_size()
+    if size < 2 or producers.ROW_PRODUCERS or _in_worker_process():
+        return None
+    try:
+        n_cases = pq.ParquetFile(work / case_io.CASES_FILE).metadata.num_rows
+    except Exception:
+        return None
+    if n_cases < PROCESS_MIN_CASES:
+        return None
+    with _POOL_LOCK:
+        if _POOL is None:
+            from concurrent.futures import ProcessPoolExecutor
+
+            # spawn: the parent has threads (Prefect, the task runner), so no fork
+            _POOL = ProcessPoolExecutor(max_workers=size, mp_context=multiprocessing.get_context("spawn"))
+            atexit.register(shutdown_pool)
+        return _POOL
+
+
+def shutdown_pool() -> None:
+    """Stop the worker processes (also done at exit)."""
+    global _POOL
+    with _POOL_LOCK:
+        pool, _POOL = _POOL, None
+    if pool is not None:
+        pool.shutdown(wait=True, cancel_futures=True)
+
+
 def compute_chunk(work_dir: str | os.PathLike, chunk: int, run_id: int, params: dict) -> ChunkResult:
     """Compute chunk ``chunk`` of the run in ``work_dir`` and write its part files.
 
     Safe to call more than once: an existing part with the same chunk key is reused.
+    Large runs hand the work to the process pool (see the module notes) and wait for it.
     """
+    pool = _process_pool(Path(work_dir))
+    if pool is not None:
+        return pool.submit(_compute_chunk_here, str(work_dir), chunk, run_id, params).result()
+    return _compute_chunk_here(work_dir, chunk, run_id, params)
+
+
+def _compute_chunk_here(work_dir: str | os.PathLike, chunk: int, run_id: int, params: dict) -> ChunkResult:
+    """:func:`compute_chunk` in this process."""
     from physics.weightlimit import solve_takeoff_weight
 
     work = Path(work_dir)

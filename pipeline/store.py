@@ -294,6 +294,23 @@ def _append_frame(con, table: str, frame: pd.DataFrame, create_sql: str | None =
         con.unregister(view)
 
 
+def _append_input(con, table: str, frame: pd.DataFrame, sha256: str, create_sql: str | None) -> None:
+    """Insert an input table with its ``input_sha256`` (no copy of the frame: large wind roses)."""
+    _check_ident(table)
+    view = f"_frame_{table}"
+    con.register(view, frame)
+    try:
+        if not _table_exists(con, table):
+            run_sql(con, create_sql or
+                    f"CREATE TABLE {table} AS SELECT CAST(NULL AS VARCHAR) AS input_sha256, * "
+                    f"FROM {view} LIMIT 0")
+        _add_missing_columns(con, table, view)
+        run_sql(con, f"INSERT INTO {table} BY NAME SELECT CAST($h AS VARCHAR) AS input_sha256, * "
+                     f"FROM {view}", {"h": sha256})
+    finally:
+        con.unregister(view)
+
+
 def _input_ddl(table: str, sql_name: str) -> str | None:
     """DDL of a stored input table from :mod:`schemas.ddl` (user units, column comments)."""
     try:
@@ -313,9 +330,7 @@ def _load_inputs(con, run_id: int, inputs: Sequence[InputTable]) -> None:
         stored = _table_exists(con, name) and con.execute(
             f"SELECT count(*) FROM {name} WHERE input_sha256 = $h", {"h": table.sha256}).fetchall()[0][0]
         if not stored:
-            frame = table.frame.copy()
-            frame.insert(0, "input_sha256", table.sha256)
-            _append_frame(con, name, frame, _input_ddl(table.name, name))
+            _append_input(con, name, table.frame, table.sha256, _input_ddl(table.name, name))
         run_sql(con, sql("insert_run_input"), {
             "run_id": run_id, "table_name": table.name, "file_name": table.file_name,
             "row_count": len(table.frame), "sha256": table.sha256})

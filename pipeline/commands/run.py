@@ -80,7 +80,7 @@ def add_arguments(parser) -> None:
                         help="reliability levels (shares of days) for the reliability rows "
                              "(default 0.5,0.85,0.95; 'none' for design-day rows only)")
     parser.add_argument("--chunk-size", type=int, default=None, metavar="N",
-                        help="cases per chunk task (default 8000; whole airfields per chunk)")
+                        help="cases per chunk task (default 32000; whole airfields per chunk)")
     parser.add_argument("--workers", type=int, default=None, metavar="N",
                         help="parallel chunk tasks (default PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS, 2)")
     parser.add_argument("--cluster", default=None, metavar="ADDRESS",
