@@ -6,11 +6,19 @@
     python tests/benchmarks/bench_pipeline.py --reliability 0.5,0.85,0.95   # with reliability rows
     python tests/benchmarks/bench_pipeline.py --skip-demo --rerun --dask     # reuse and Dask figures
 
+    # issue 8: scaling from 200 to 20 000 airfields, design day, with the step breakdown
+    python tests/benchmarks/bench_pipeline.py --skip-demo --scaling 200,2000,20000 --breakdown
+
 Each measured run is ``fieldlimits run`` in a fresh subprocess (Prefect's temporary server
-start included) writing a fresh DuckDB file. Wall time and the peak resident memory of the
-run process and its children (``resource.getrusage(RUSAGE_CHILDREN)``; each run in its own
-wrapper process so one run's peak does not hide another's). Targets (issue 4): demo < 30 s,
-2 000 airfields < 90 s and < 2 GiB.
+start included) writing a fresh DuckDB file. Wall time; peak memory as the largest sum of
+the resident memory of the run process and all its children (worker processes, the Prefect
+server), sampled every 0.2 s with psutil, and the kernel's peak of the largest single
+process (``ru_maxrss``); the 1-minute load average before and after (the machine may be
+shared). ``--breakdown`` adds one run per size of the same steps in one process without
+Prefect, timing each step (load inputs, plan, build cases, chunks, best direction, routes,
+load into DuckDB). Networks come from ``python -m demo_network.synthetic`` (seed ``--seed``;
+``--networks DIR`` keeps them between invocations). Targets: demo < 30 s, 2 000 airfields
+< 90 s and < 2 GiB (issue 4); 20 000 airfields < 10 min and < 3 GiB (issue 8).
 """
 
 from __future__ import annotations
@@ -18,6 +26,7 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import re
 import subprocess
 import sys
 import tempfile
@@ -28,19 +37,144 @@ REPO = Path(__file__).resolve().parents[2]
 
 _WRAPPER = r"""
 import json, resource, subprocess, sys, time
+import psutil
 t0 = time.monotonic()
-p = subprocess.run(sys.argv[1:], capture_output=True, text=True)
+p = subprocess.Popen(sys.argv[1:], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+root = psutil.Process(p.pid)
+peak_tree = 0
+import threading
+out = {}
+def drain(name, stream):
+    out[name] = stream.read()
+threads = [threading.Thread(target=drain, args=(n, s)) for n, s in (("stdout", p.stdout), ("stderr", p.stderr))]
+for t in threads: t.start()
+while p.poll() is None:
+    try:
+        procs = [root] + root.children(recursive=True)
+        total = 0
+        for q in procs:
+            try:
+                total += q.memory_info().rss
+            except psutil.Error:
+                pass
+        peak_tree = max(peak_tree, total)
+    except psutil.Error:
+        pass
+    time.sleep(0.2)
+for t in threads: t.join()
 dt = time.monotonic() - t0
 rss = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss * 1024  # Linux: KiB
 print(json.dumps({"rc": p.returncode, "seconds": dt, "peak_rss_bytes": rss,
-                  "stdout": p.stdout[-3000:], "stderr": p.stderr[-3000:]}))
+                  "peak_tree_bytes": peak_tree,
+                  "stdout": out.get("stdout", "")[-3000:], "stderr": out.get("stderr", "")[-3000:]}))
 """
+
+_STEPS = r"""
+import json, sys, time
+from concurrent.futures import ThreadPoolExecutor, as_completed
+from pipeline import chunks, steps
+from pipeline.steps import RunParams
+net, db, levels = sys.argv[1], sys.argv[2], sys.argv[3]
+levels = () if levels == "none" else tuple(float(x) for x in levels.split(","))
+t = {}
+def step(name, fn):
+    t0 = time.monotonic(); out = fn(); t[name] = time.monotonic() - t0; return out
+t_all = time.monotonic()
+step("load_inputs", lambda: steps._cached_inputs(net))
+prepared = step("plan", lambda: steps.prepare_run(net, db, RunParams(reliability_levels=levels)))
+run_id = steps.register(prepared)
+work = step("build_cases", lambda: steps.build_cases(prepared, run_id))
+def run_chunks():
+    kp = prepared.chunk_params()
+    with ThreadPoolExecutor(2) as pool:
+        futs = [pool.submit(chunks.compute_chunk, work, i, run_id, kp) for i in range(prepared.plan.n_chunks)]
+        return sorted((f.result() for f in as_completed(futs)), key=lambda r: r.chunk)
+results = step("chunks", run_chunks)
+best = step("best_direction", lambda: steps.best_directions(work, results))
+route = step("routes", lambda: steps.route_payloads(prepared, work, best))
+rows = step("load_duckdb", lambda: steps.load(prepared, run_id, results, best, route, None))
+steps.cleanup(prepared, run_id)
+t["total"] = time.monotonic() - t_all
+print(json.dumps({"steps": t, "cases": prepared.plan.n_cases, "chunks": prepared.plan.n_chunks, "rows": rows}))
+"""
+
+_RUN_LINE = re.compile(r"complete: (\d+) airfields, (\d+) cases")
 
 
 def measure(args: list[str], env: dict) -> dict:
+    before = os.getloadavg()[0]
     out = subprocess.run([sys.executable, "-c", _WRAPPER, *args], capture_output=True, text=True,
                          env=env, cwd=REPO)
-    return json.loads(out.stdout)
+    try:
+        r = json.loads(out.stdout)
+    except json.JSONDecodeError:
+        r = {"rc": 1, "seconds": 0.0, "peak_rss_bytes": 0, "peak_tree_bytes": 0,
+             "stdout": out.stdout[-3000:], "stderr": out.stderr[-3000:]}
+    r["load_before"], r["load_after"] = before, os.getloadavg()[0]
+    m = _RUN_LINE.search(r["stdout"])
+    if m:
+        r["airfields"], r["cases"] = int(m.group(1)), int(m.group(2))
+    return r
+
+
+def network(n: int, seed: int, folder: Path, env: dict) -> tuple[Path, float]:
+    """A synthetic network of ``n`` airfields (generated unless already in ``folder``)."""
+    net = folder / f"net{n}-seed{seed}"
+    if (net / "airfields.csv").exists():
+        return net, 0.0
+    t0 = time.monotonic()
+    subprocess.run([sys.executable, "-m", "demo_network.synthetic", "--airfields", str(n), "--seed",
+                    str(seed), "--out", str(net)], check=True, env=env, cwd=REPO, capture_output=True)
+    return net, time.monotonic() - t0
+
+
+def _mib(x) -> str:
+    return f"{x / 2**20:7.0f}"
+
+
+def scaling(sizes: list[int], a, tmp: Path, env: dict, base: list[str], extra: list[str]) -> dict:
+    nets = Path(a.networks) if a.networks else tmp
+    nets.mkdir(parents=True, exist_ok=True)
+    out = {}
+    for n in sizes:
+        net, gen_s = network(n, a.seed, nets, env)
+        db = tmp / f"scale{n}.duckdb"
+        r = measure(base + [str(net), "--db", str(db), "--quiet", "--no-reuse"] + extra, env)
+        r["generate_seconds"] = gen_s
+        db.unlink(missing_ok=True)
+        if a.breakdown:
+            b = measure([sys.executable, "-c", _STEPS, str(net), str(tmp / f"steps{n}.duckdb"), a.reliability], env)
+            try:
+                r["breakdown"] = json.loads(b["stdout"].strip().splitlines()[-1])
+                r["breakdown"]["peak_tree_bytes"] = b["peak_tree_bytes"]
+                r["breakdown"]["load"] = (b["load_before"], b["load_after"])
+            except (json.JSONDecodeError, IndexError):
+                r["breakdown"] = {"error": b["stderr"][-1500:]}
+            (tmp / f"steps{n}.duckdb").unlink(missing_ok=True)
+        out[n] = r
+    print(f"\nscaling (design day{'' if a.reliability == 'none' else ', reliability ' + a.reliability}; "
+          f"{'no Prefect' if a.no_prefect else 'Prefect flow'}; {os.cpu_count()} CPUs)")
+    print(f"{'airfields':>9} {'cases':>10} {'wall s':>8} {'us/case':>8} {'peak tree MiB':>13} "
+          f"{'max proc MiB':>12}  load avg before/after")
+    for n, r in out.items():
+        cases = r.get("cases", 0)
+        per = r["seconds"] / cases * 1e6 if cases else float("nan")
+        print(f"{n:>9} {cases:>10} {r['seconds']:8.1f} {per:8.1f} {_mib(r['peak_tree_bytes']):>13} "
+              f"{_mib(r['peak_rss_bytes']):>12}  {r['load_before']:.2f} / {r['load_after']:.2f}"
+              + ("" if r["rc"] == 0 else f"  FAILED: {r['stderr'][-300:]}"))
+    if a.breakdown:
+        print("\nstep breakdown (same steps in one process, no Prefect), seconds")
+        names = ("load_inputs", "plan", "build_cases", "chunks", "best_direction", "routes",
+                 "load_duckdb", "total")
+        print(f"{'airfields':>9} " + " ".join(f"{s:>14}" for s in names) + f" {'peak MiB':>9}")
+        for n, r in out.items():
+            b = r.get("breakdown", {})
+            if "steps" not in b:
+                print(f"{n:>9} failed: {b.get('error', '')[-300:]}")
+                continue
+            print(f"{n:>9} " + " ".join(f"{b['steps'].get(s, float('nan')):14.1f}" for s in names)
+                  + f" {_mib(b['peak_tree_bytes']):>9}")
+    return out
 
 
 def main() -> int:
@@ -56,6 +190,14 @@ def main() -> int:
                     help="also time an unchanged rerun of the synthetic network (results reused)")
     ap.add_argument("--dask", action="store_true",
                     help="also run the synthetic network on a temporary local Dask cluster (2 workers)")
+    ap.add_argument("--scaling", default=None, metavar="N,N,...",
+                    help="instead of --airfields: one run per network size (e.g. 200,2000,20000), "
+                         "time per case table")
+    ap.add_argument("--breakdown", action="store_true",
+                    help="with --scaling: also time each step (in one process, no Prefect)")
+    ap.add_argument("--networks", default=None, metavar="DIR",
+                    help="folder for the generated networks (kept; reused when present)")
+    ap.add_argument("--json", default=None, metavar="FILE", help="write all figures as JSON")
     ap.add_argument("--keep", action="store_true", help="keep the temporary folder")
     a = ap.parse_args()
 
@@ -73,7 +215,11 @@ def main() -> int:
         r2 = measure(base + ["--db", str(tmp / "demo.duckdb"), "--quiet", "--no-reuse"] + extra, env)
         results["demo_warm"] = r2
 
-    if a.airfields:
+    if a.scaling:
+        sizes = [int(x) for x in a.scaling.split(",") if x.strip()]
+        for n, r in scaling(sizes, a, tmp, env, base, extra).items():
+            results[f"scaling_{n}"] = r
+    elif a.airfields:
         net = tmp / f"syn{a.airfields}"
         t0 = time.monotonic()
         subprocess.run([sys.executable, "-m", "pipeline.cli", "generate", str(net), "--airfields",
@@ -91,12 +237,16 @@ def main() -> int:
                 base + [str(net), "--db", str(tmp / "dask.duckdb"), "--quiet", "--cluster", "local",
                         "--workers", "2"] + extra, env)
 
+    print()
     for name, r in results.items():
         first = r["stdout"].splitlines()[0] if r["stdout"] else r["stderr"][-300:]
-        print(f"{name:<16} exit {r['rc']}  {r['seconds']:7.1f} s  peak RSS "
-              f"{r['peak_rss_bytes'] / 2**20:7.0f} MiB   {first}")
+        print(f"{name:<16} exit {r['rc']}  {r['seconds']:7.1f} s  peak RSS (tree) "
+              f"{_mib(r['peak_tree_bytes'])} MiB (largest process {_mib(r['peak_rss_bytes'])} MiB)  "
+              f"load {r['load_before']:.2f}/{r['load_after']:.2f}   {first}")
         if r["rc"] != 0:
             print(r["stderr"])
+    if a.json:
+        Path(a.json).write_text(json.dumps(results, indent=1, default=str))
     if not a.keep:
         import shutil
 
