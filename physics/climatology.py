@@ -22,10 +22,15 @@ departures of this month?* A day is a pair (daily maximum temperature, wind). Th
    the mass achievable on at least p of days is M_p = max{M : S(M) ≥ p}
    (:func:`reliability_masses`).
 6. **Efficiency.** The weight limit is not solved for every day: the caller solves it on a
-   small grid of temperature (at fixed standard-normal scores) × factored headwind per
-   runway direction, and this module interpolates (:func:`grid_masses_at_points`) and
-   inverts the interpolant in temperature exactly, so the temperature distribution is
-   treated as continuous, not binned.
+   grid of temperature × factored headwind (× two station-pressure layers) shared by the
+   twelve months of a runway direction (:func:`temperature_nodes`, :func:`headwind_nodes`,
+   :func:`interpolate_pressure`, :func:`fill_no_takeoff_nodes`), takes each month's window
+   of temperature nodes (:func:`node_window`) at their standard-normal scores, and this
+   module interpolates (:func:`interpolate_headwind`) and inverts the interpolant in
+   temperature exactly, so the temperature distribution is treated as continuous, not
+   binned. With given percentiles the mass is linear in temperature between nodes but the
+   score is piecewise linear in temperature, so the interpolant is linear in score only
+   between the percentile anchors (a second-order difference).
 
 Conventions (all arrays, no loops over cases):
 
@@ -377,7 +382,7 @@ def wind_coverage(weight, usable):
 # ----------------------------------------------------------------------------------------
 # The solving grid
 # ----------------------------------------------------------------------------------------
-def headwind_nodes(min_factored_mps, max_factored_mps, *, tail_nodes=2, head_nodes=4):
+def headwind_nodes(min_factored_mps, max_factored_mps, *, tail_nodes=2, head_nodes=4, power=1.0):
     """Factored-headwind nodes of the solving grid, always including calm (0).
 
     Parameters
@@ -388,6 +393,8 @@ def headwind_nodes(min_factored_mps, max_factored_mps, *, tail_nodes=2, head_nod
         Highest factored headwind needed (≥ 0). [m/s]
     tail_nodes, head_nodes : int, optional
         Nodes strictly below and strictly above zero. [–]
+    power : float, optional
+        Spacing exponent q ≥ 1: nodes crowd towards calm, where most days are. [–]
 
     Returns
     -------
@@ -396,8 +403,9 @@ def headwind_nodes(min_factored_mps, max_factored_mps, *, tail_nodes=2, head_nod
 
     Notes
     -----
-    Equal spacing on each side of zero: h = h_min (1 − i/n_t) and h = h_max k/n_h. A zero
-    range gives repeated nodes, which the interpolation handles (zero-width cells).
+    On each side of zero: h = h_min (1 − i/n_t)^q and h = h_max (k/n_h)^q (q = 1: equal
+    spacing). A zero range gives repeated nodes, which the interpolation handles
+    (zero-width cells).
 
     References
     ----------
@@ -405,8 +413,9 @@ def headwind_nodes(min_factored_mps, max_factored_mps, *, tail_nodes=2, head_nod
     """
     lo = np.minimum(np.asarray(min_factored_mps, dtype=float), 0.0)
     hi = np.maximum(np.asarray(max_factored_mps, dtype=float), 0.0)
-    t = 1.0 - np.arange(tail_nodes) / tail_nodes if tail_nodes else np.zeros(0)
-    h = np.arange(head_nodes + 1) / head_nodes if head_nodes else np.zeros(1)
+    q = float(power)
+    t = (1.0 - np.arange(tail_nodes) / tail_nodes) ** q if tail_nodes else np.zeros(0)
+    h = (np.arange(head_nodes + 1) / head_nodes) ** q if head_nodes else np.zeros(1)
     return np.concatenate([lo[..., None] * t, hi[..., None] * h], axis=-1)
 
 
@@ -443,21 +452,195 @@ def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps):
     grid = np.asarray(grid_mass_kg, dtype=float)
     nodes = np.asarray(nodes_mps, dtype=float)
     h = np.asarray(headwind_mps, dtype=float)
-    n_h = nodes.shape[-1]
-    hc = np.clip(h, nodes[..., :1], nodes[..., -1:])
-    k = np.sum(nodes[..., None, :] <= hc[..., :, None], axis=-1) - 1
-    k = np.clip(k, 0, max(n_h - 2, 0))
+    n_g, n_h = grid.shape[-2:]
+    n_j = h.shape[-1]
+    lead = np.broadcast_shapes(grid.shape[:-2], nodes.shape[:-1], h.shape[:-1])
+    rows = int(np.prod(lead, dtype=np.int64))
+    nodes = np.broadcast_to(nodes, lead + (n_h,)).reshape(rows, n_h)
+    h = np.broadcast_to(h, lead + (n_j,)).reshape(rows, n_j)
+    # Grid as (row, H, G): gathering a headwind node fetches all temperature nodes at once.
+    grid_t = np.ascontiguousarray(np.swapaxes(np.broadcast_to(grid, lead + (n_g, n_h)), -1, -2)
+                                  ).reshape(rows * n_h, n_g)
+    hc = np.clip(h, nodes[:, :1], nodes[:, -1:])
+    k = np.zeros((rows, n_j), dtype=np.int64)
+    for i in range(1, n_h - 1):  # a fixed, small number of headwind nodes
+        k += nodes[:, i:i + 1] <= hc
     k1 = np.minimum(k + 1, n_h - 1)
     h0 = np.take_along_axis(nodes, k, axis=-1)
     h1 = np.take_along_axis(nodes, k1, axis=-1)
     width = h1 - h0
     s = np.where(width > 0.0, (hc - h0) / np.where(width > 0.0, width, 1.0), 0.0)
-    # Gather along H for every temperature node: grid (..., G, H) -> (..., G, J).
-    m0 = np.take_along_axis(grid, np.broadcast_to(k[..., None, :], grid.shape[:-1] + k.shape[-1:]), axis=-1)
-    m1 = np.take_along_axis(grid, np.broadcast_to(k1[..., None, :], grid.shape[:-1] + k.shape[-1:]), axis=-1)
-    out = (1.0 - s[..., None, :]) * m0 + s[..., None, :] * m1
-    out = np.where(np.isnan(m0) | np.isnan(m1), np.nan, out)
-    return np.swapaxes(out, -1, -2)
+    base = (np.arange(rows) * n_h)[:, None]
+    m0 = grid_t[base + k]  # (rows, J, G)
+    m1 = grid_t[base + k1]
+    # NaN propagates from either neighbour (0 × NaN is NaN): the no-takeoff rule.
+    out = m0 + s[..., None] * (m1 - m0)
+    return out.reshape(lead + (n_j, n_g))
+
+
+def temperature_nodes(low_k, high_k, count, corner_k=None):
+    """Temperature nodes of a solving grid shared by the months, one on the flat-rating corner.
+
+    Parameters
+    ----------
+    low_k, high_k : array_like
+        Lowest and highest temperature needed (over all months of the family). [K]
+    count : int
+        Number of nodes G ≥ 2. [–]
+    corner_k : array_like, optional
+        Thrust flat-rating corner temperature; the interior node nearest to it is moved onto
+        it when it lies strictly inside (low, high). [K]
+
+    Returns
+    -------
+    numpy.ndarray
+        Non-decreasing nodes, shape ``(..., G)``. [K]
+
+    Notes
+    -----
+    T_g = low + (high − low) g/(G − 1). The mass is piecewise smooth in temperature with a
+    kink where the thrust stops being flat-rated; piecewise-linear interpolation is exact
+    to first order across a kink only when a node sits on it [1]. The nearest interior node
+    is within half a spacing of the corner, so the nodes stay ordered.
+
+    References
+    ----------
+    .. [1] de Boor (2001), ch. II (breakpoints at slope changes).
+    """
+    lo = np.asarray(low_k, dtype=float)
+    hi = np.maximum(np.asarray(high_k, dtype=float), lo)
+    g = int(count)
+    nodes = lo[..., None] + (hi - lo)[..., None] * (np.arange(g) / (g - 1))
+    if corner_k is None or g < 3:
+        return nodes
+    corner = np.broadcast_to(np.asarray(corner_k, dtype=float), lo.shape)
+    inside = (corner > lo) & (corner < hi)
+    k = 1 + np.argmin(np.abs(nodes[..., 1:-1] - corner[..., None]), axis=-1)
+    at = (np.arange(g) == k[..., None]) & inside[..., None]
+    return np.where(at, corner[..., None], nodes)
+
+
+def node_window(nodes_k, low_k, high_k, size):
+    """First index of ``size`` consecutive nodes that cover [low, high] (a month's range).
+
+    Parameters
+    ----------
+    nodes_k : array_like
+        Non-decreasing nodes, ``(..., G)``. [K]
+    low_k, high_k : array_like
+        Range to cover, ``(...)``. [K]
+    size : int
+        Window length K ≤ G. [–]
+
+    Returns
+    -------
+    start : numpy.ndarray of int
+        First node of the window, ``(...)``. [–]
+    needed : numpy.ndarray of int
+        Nodes from the last one at or below ``low`` to the first at or above ``high``. [–]
+
+    Notes
+    -----
+    i0 = max{g : T_g ≤ low} (0 if none), i1 = min{g : T_g ≥ high} (G − 1 if none); the
+    window starts at clip(i0, 0, G − K), so it covers [i0, i1] whenever K ≥ i1 − i0 + 1.
+
+    References
+    ----------
+    .. [1] Press et al. (2007), §3.1 (bracketing a value in a table).
+    """
+    t = np.asarray(nodes_k, dtype=float)
+    g = t.shape[-1]
+    i0 = np.clip(np.sum(t <= np.asarray(low_k, dtype=float)[..., None], axis=-1) - 1, 0, g - 1)
+    i1 = np.clip(g - np.sum(t >= np.asarray(high_k, dtype=float)[..., None], axis=-1), 0, g - 1)
+    return np.clip(i0, 0, g - int(size)), i1 - i0 + 1
+
+
+def interpolate_pressure(mass_low_kg, mass_high_kg, pressure_low_pa, pressure_high_pa, pressure_pa):
+    """Linear interpolation of grid masses between two station-pressure layers.
+
+    Parameters
+    ----------
+    mass_low_kg, mass_high_kg : array_like
+        Masses at the lower and the higher pressure, broadcastable; NaN where no takeoff. [kg]
+    pressure_low_pa, pressure_high_pa : array_like
+        The two layer pressures (equal: no pressure spread, the lower layer is used). [Pa]
+    pressure_pa : array_like
+        Station pressure of the month. [Pa]
+
+    Returns
+    -------
+    numpy.ndarray
+        m = m_lo + s (m_hi − m_lo), s = (p − p_lo)/(p_hi − p_lo) in [0, 1]; NaN when the
+        layer used is NaN. [kg]
+
+    Notes
+    -----
+    Within one airfield the monthly station pressure varies by about 1 % (QNH); the mass is
+    smooth in pressure there, so two layers and linear interpolation suffice.
+
+    References
+    ----------
+    .. [1] Press et al. (2007), §3.1 (linear interpolation).
+    """
+    lo = np.asarray(mass_low_kg, dtype=float)
+    hi = np.asarray(mass_high_kg, dtype=float)
+    p_lo = np.asarray(pressure_low_pa, dtype=float)
+    span = np.asarray(pressure_high_pa, dtype=float) - p_lo
+    s = np.where(span > 0, (np.asarray(pressure_pa, dtype=float) - p_lo) / np.where(span > 0, span, 1.0), 0.0)
+    s = np.clip(s, 0.0, 1.0)
+    return np.where(s > 0, lo + s * (hi - lo), lo)
+
+
+def fill_no_takeoff_nodes(nodes, mass_kg, floor_kg, *, reverse=False):
+    """Give the first no-takeoff node after a possible one a mass just below the floor.
+
+    Parameters
+    ----------
+    nodes : array_like
+        Increasing nodes along the last axis, ``(..., G)`` (temperature [K] or factored
+        headwind [m/s]).
+    mass_kg : array_like
+        Masses at the nodes, ``(..., G)``; NaN where no takeoff is possible at the floor. [kg]
+    floor_kg : array_like
+        Lowest mass solved for (OEW), ``(...)``. [kg]
+    reverse : bool, optional
+        False: no-takeoff nodes follow the possible ones (hot end of a temperature row);
+        True: they precede them (tailwind end of a headwind row). [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        Masses with that node set to min(linear extrapolation of the two possible nodes
+        before it, floor − 1 kg); nodes further on stay NaN. [kg]
+
+    Notes
+    -----
+    The mass falls monotonically towards the no-takeoff side, so between the last possible
+    node and the first no-takeoff node it crosses the floor once. With NaN at that node the
+    whole cell would count as not possible; the extrapolated value below the floor puts the
+    crossing near where the trend of the last possible cell puts it, and a day beyond the
+    crossing (mass below the floor) still counts as not possible.
+
+    References
+    ----------
+    .. [1] Press et al. (2007), §3.0–3.1 (extrapolation from a table, its risks).
+    """
+    x = np.asarray(nodes, dtype=float)
+    f = np.array(mass_kg, dtype=float)
+    if reverse:
+        x, f = -x[..., ::-1], f[..., ::-1]
+    floor = np.asarray(floor_kg, dtype=float)[..., None] + np.zeros(f.shape[:-1] + (1,))
+    g = f.shape[-1]
+    out = f.copy()
+    for k in range(1, g):  # a fixed, small number of nodes
+        prev = f[..., k - 1]
+        before = f[..., k - 2] if k >= 2 else np.full_like(prev, np.nan)
+        dx0 = x[..., k - 1] - (x[..., k - 2] if k >= 2 else x[..., k - 1])
+        slope = np.where(np.isfinite(before) & (dx0 > 0), (prev - before) / np.where(dx0 > 0, dx0, 1.0), 0.0)
+        guess = prev + np.minimum(slope, 0.0) * (x[..., k] - x[..., k - 1])
+        first = np.isnan(f[..., k]) & np.isfinite(prev)
+        out[..., k] = np.where(first, np.minimum(guess, floor[..., 0] - 1.0), out[..., k])
+    return out[..., ::-1] if reverse else out
 
 
 def headwind_refinement(nodes_mps, mass_kg):
@@ -805,9 +988,11 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     S(M) is the share of days with mass M achievable (:func:`share_of_days`). The level-p
     mass is M_p = max{M ∈ [OEW, MTOW] : S(M) ≥ p}; ties count as achieved (S is compared
     with p − 1e-9 to absorb rounding). It is MTOW if S(MTOW) ≥ p, not possible if
-    S(OEW) < p, and otherwise found by bisection on the bracket [OEW, MTOW] until it is
-    narrower than ``tol_kg``. Equivalently M_p is the lower (1 − p) quantile of the
-    day-to-day mass, days that are not possible counting as mass 0.
+    S(OEW) < p, and otherwise found on the bracket [OEW, MTOW] by false position with the
+    Illinois modification and a bisection every third step [5] until the bracket is
+    narrower than ``tol_kg``; only the (group, level) pairs still open are evaluated.
+    Equivalently M_p is the lower (1 − p) quantile of the day-to-day mass, days that are
+    not possible counting as mass 0.
 
     When a level is not possible its reason is whichever of crosswind limit, tailwind
     limit (wind points usable nowhere) or no takeoff (too hot) loses the largest share of
@@ -815,7 +1000,8 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
 
     The binding day of a level is the wind point j whose temperature score z*_j(M_p) lies
     within ±3.5 and has the highest density w_j phi(z*_j): the most typical day on which
-    the mass is exactly M_p. Without such a point (zero temperature spread, flat masses, or
+    the mass is exactly M_p (for a level at MTOW: a typical day on which MTOW is just
+    achievable). Without such a point (zero temperature spread, flat masses, or
     a level set by a step in the wind share) it is the point with the smallest mass ≥ M_p
     at the node nearest the median, on a median day. Beyond ±6 the linear extension of the
     temperature nodes is taken as infinite (Phi within 1e-9 of 0 or 1).
@@ -824,6 +1010,8 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     ----------
     .. [2] ICAO Annex 14, Vol. I, §3.1.1 (usability over the days of the record).
     .. [4] Wilks (2011), §3.1 (quantiles), §4.4.2.
+    .. [5] M. Dowell and P. Jarratt, "A modified regula falsi method for computing the
+       root of an equation", *BIT* 11 (1971) 168–174 (the Illinois method).
     """
     f = _prepare(point_mass_kg)
     z = np.asarray(scores, dtype=float)
@@ -834,55 +1022,64 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     n_groups, n_pts, _ = f.shape
     eps = 1e-9
 
-    s_mtow = _share(f, z, w, mtow)[0]
-    s_oew, zj_oew = _share(f, z, w, oew)
+    seg = _segments(f, z)
+    s_mtow = _share(seg, z, w, mtow)[0]
+    s_oew, zj_oew = _share(seg, z, w, oew)
     share_target = s_mtow if target_mass_kg is None else _share(
-        f, z, w, np.asarray(target_mass_kg, dtype=float))[0]
-    # The search runs on the uncapped masses up to the highest node mass, so that a level
-    # at MTOW still finds a typical binding day (the cap is applied at the end).
-    finite_f = np.where(np.isfinite(f), f, -np.inf)
-    top = np.maximum(mtow, np.max(finite_f, axis=(1, 2), initial=-np.inf))
-    s_top = _share(f, z, w, top)[0]
-
-    lo = np.repeat(oew[:, None], p.size, axis=1)
-    hi = np.repeat(top[:, None], p.size, axis=1)
-    at_top = s_top[:, None] >= p[None, :] - eps
+        seg, z, w, np.asarray(target_mass_kg, dtype=float))[0]
+    at_top = s_mtow[:, None] >= p[None, :] - eps
     search = (s_oew[:, None] >= p[None, :] - eps) & ~at_top
-    # Only the groups that need it are iterated. Steps: false position, alternating with
-    # bisection (so the bracket at least halves every second step); once the local slope
-    # says lo is within tol of the root, a step to lo + tol certifies it (S(lo + tol) < p
-    # closes the bracket to tol, also where S is a step function).
-    rows = np.nonzero(np.any(search, axis=1))[0]
+    # Each (group, level) pair still searching is iterated on its own, on the bracket
+    # [OEW, MTOW] (S(lo) ≥ p > S(hi)). Steps: false position with the Illinois halving of
+    # a retained end, a bisection every third step (the bracket at least halves every
+    # third step); once the local slope says lo is within tol of the root, a step to
+    # lo + tol certifies it (S(lo + tol) < p closes the bracket, also where S is a step).
+    lo = np.repeat(oew[:, None], p.size, axis=1)
     polished = lo.copy()
-    if rows.size:
-        f_s = _segments(f[rows], z if z.ndim == 1 else z[rows])
-        w_s, lo_s, hi_s = w[rows], lo[rows], hi[rows]
-        s_lo = np.repeat(s_oew[rows, None], p.size, axis=1) - p
-        s_hi = np.repeat(s_top[rows, None], p.size, axis=1) - p
-        active = search[rows]
-        span = float(np.max(hi_s - lo_s))
-        max_steps = 2 * int(np.ceil(np.log2(max(span, tol_kg) / tol_kg))) + 2
+    g_idx, l_idx = np.nonzero(search)
+    if g_idx.size:
+        f_s, z_s, inv_s = seg
+        z_p = z if z.ndim == 1 else z_s[g_idx]
+        f_p, inv_p, w_p = f_s[g_idx], inv_s[g_idx], w[g_idx]
+        pp = p[l_idx]
+        lo_p = oew[g_idx].copy()
+        hi_p = mtow[g_idx].copy()
+        s_lo = s_oew[g_idx] - pp
+        s_hi = s_mtow[g_idx] - pp
+        side = np.zeros(g_idx.size, dtype=np.int8)  # end retained last step: +1 lo, -1 hi
+        span = float(np.max(hi_p - lo_p))
+        max_steps = 3 * int(np.ceil(np.log2(max(span, tol_kg) / tol_kg))) + 3
+        act = np.arange(g_idx.size)
         for step in range(max_steps):
-            width = hi_s - lo_s
-            if not np.any(active & (width > tol_kg)):
+            act = act[hi_p[act] - lo_p[act] > tol_kg]
+            if act.size == 0:
                 break
-            drop = s_lo - s_hi
-            t = s_lo / np.where(drop > 0, drop, 1.0)
-            est = t * width
-            x = np.where(step % 2, 0.5 * (lo_s + hi_s), lo_s + np.clip(t, 0.01, 0.99) * width)
-            x = np.where(est <= 0.5 * tol_kg, lo_s + tol_kg, x)
-            x = np.minimum(x, hi_s)
-            s_x = _share(f_s, z, w_s, x)[0] - p
+            lo_a, hi_a, sl, sh = lo_p[act], hi_p[act], s_lo[act], s_hi[act]
+            width = hi_a - lo_a
+            drop = sl - sh
+            t = sl / np.where(drop > 0, drop, 1.0)
+            x = np.where(step % 3 == 2, 0.5 * (lo_a + hi_a), lo_a + np.clip(t, 0.01, 0.99) * width)
+            x = np.where(t * width <= 0.5 * tol_kg, lo_a + tol_kg, x)
+            x = np.minimum(x, hi_a)
+            zz = z_p if z_p.ndim == 1 else z_p[act][:, None, :]
+            zj = _crossing_score((f_p[act], zz, inv_p[act]), x[:, None])
+            s_x = np.sum(w_p[act] * special.ndtr(zj), axis=-1, dtype=float) - pp[act]
             ok = s_x >= -eps
-            lo_s, s_lo = np.where(ok, x, lo_s), np.where(ok, s_x, s_lo)
-            hi_s, s_hi = np.where(ok, hi_s, x), np.where(ok, s_hi, s_x)
-        lo[rows] = lo_s
+            # Illinois: halve the function value at an end retained twice in a row.
+            sd = side[act]
+            new_sl = np.where(ok, s_x, np.where(sd == 1, 0.5 * sl, sl))
+            new_sh = np.where(ok, np.where(sd == -1, 0.5 * sh, sh), s_x)
+            lo_p[act] = np.where(ok, x, lo_a)
+            hi_p[act] = np.where(ok, hi_a, x)
+            s_lo[act], s_hi[act] = new_sl, new_sh
+            side[act] = np.where(ok, -1, 1)
+        lo[g_idx, l_idx] = lo_p
         # For the binding day only: the false-position point of the final bracket, a
         # second-order estimate of the exact level (the level itself stays lo, certified).
         t = s_lo / np.where(s_lo - s_hi > 0, s_lo - s_hi, np.inf)
-        polished[rows] = lo_s + np.clip(t, 0.0, 1.0) * (hi_s - lo_s)
-    level = np.where(at_top, top[:, None], np.where(search, lo, np.nan))  # uncapped
-    mass = np.minimum(level, mtow[:, None])
+        polished[g_idx, l_idx] = lo_p + np.clip(t, 0.0, 1.0) * (hi_p - lo_p)
+    level = np.where(at_top, mtow[:, None], np.where(search, lo, np.nan))
+    mass = level
 
     # Binding day at each level mass.
     m_eval = np.where(search, polished, np.where(np.isfinite(level), level, oew[:, None]))

@@ -2,42 +2,56 @@
 month, with the temperature spread and the wind rose, on the best usable runway direction.
 
 This module only wires tables to :mod:`physics.climatology` and the weight-limit solver; it
-holds no formulas. For the chunk's cases (complete airfields, see :mod:`pipeline.cases`):
+holds no formulas. It is the row producer ``reliability_rows`` (picked up by
+:mod:`pipeline.producers`), on by default for the **dry** runway; the run parameter
+``reliability_conditions`` (or ``ReliabilitySettings.conditions``) adds ``wet``. For the
+chunk's cases (complete airfields, see :mod:`pipeline.cases`):
 
 1. the month's wind rose becomes wind points (:func:`physics.climatology.wind_rose_points`)
    and each point's factored headwind and usability on every runway direction for each
    aircraft type (:func:`physics.climatology.runway_usability`);
-2. the weight limit is solved on a small grid per direction × month × type × condition:
-   temperatures at fixed standard-normal scores of the month's daily-maximum distribution
-   × factored headwinds spanning the usable points (``physics.weightlimit``). The grid is
-   solved with the structural cap raised to 1.5 MTOW so the mass surface stays smooth
-   through MTOW; the cap is applied after interpolation
-   (:func:`physics.climatology.reliability_masses`). The floor stays at OEW: a grid node
-   with no takeoff at OEW (NaN) makes every interpolated value that uses it not possible
-   (conservative near the boundary). Lowering the floor is not offered as a default: below
-   OEW the speed schedule is set by the minimum control speeds and the requirements need
-   not be monotone in mass. The headwind nodes of each temperature row are then refined
-   (``settings.refinements`` rounds, one node each) where the mass curve bends most
-   (:func:`physics.climatology.headwind_refinement`): limit regimes change with headwind
-   (V1 held at the minimum control speed, say) and leave kinks between nodes;
-3. the points are interpolated on the grid, flown on their best usable direction
-   (:func:`physics.climatology.flown_direction`) and the level masses found
-   (:func:`physics.climatology.reliability_masses`);
+2. the weight limit is solved on ONE grid per runway direction × type × condition that
+   serves all twelve months, in one vectorised call per chunk: months differ only in
+   temperature and station pressure. Temperature nodes span every month's daily-maximum
+   range from score −2.5 to +2.5 (``temperature_nodes``, one moved onto the thrust
+   flat-rating corner, :func:`physics.climatology.temperature_nodes`); factored-headwind
+   nodes span every month's usable points with a node at calm
+   (:func:`physics.climatology.headwind_nodes`); where the months' station pressures differ
+   (QNH), a second layer at the highest pressure on every other headwind node, the change
+   interpolated in headwind and then linearly to each month's pressure
+   (:func:`physics.climatology.interpolate_pressure`). The grid is solved with the
+   structural cap raised to 1.25 MTOW so the surface stays smooth through MTOW (the cap is
+   applied in the level search). A direction whose worst corner (hottest node, strongest
+   tailwind, lowest pressure) is structural at MTOW is structural everywhere and gets one
+   solve instead of a grid. A no-takeoff node next to a possible one gets a mass just below
+   OEW on the trend (:func:`physics.climatology.fill_no_takeoff_nodes`), so only the part
+   of the cell beyond the boundary is lost;
+3. each month takes the window of consecutive temperature nodes covering its range
+   (:func:`physics.climatology.node_window`); its wind points are interpolated on the grid,
+   flown on their best usable direction (:func:`physics.climatology.flown_direction`) and
+   the level masses found (:func:`physics.climatology.reliability_masses`), with the share
+   of days on which MTOW is achievable (``share_days_full_mass``);
 4. each level's binding day (its runway direction, temperature and wind point) is solved
-   directly once more, so a row's mass, limiting factor, distances and speeds are those of
-   one consistent solve.
+   directly once more (all in one call), so a row's mass, limiting factor, distances and
+   speeds are those of one consistent solve.
 
-Status: accuracy against direct solves is within 0.2 % / 50 kg for about 99 % of days
-on the demo network; the residual sits at kinks of the limit (accelerate-stop regime
-changes, V1 held at the minimum control speed on short wet runways), where level masses can
-be off by up to about 3 %. Cost: about 60 weight-limit solves per design-day case plus the
-level search; hence the producer is not switched on by default (see
-:func:`chunk_reliability_rows`).
+Cost (2-core machine, 2 000-airfield synthetic network): about 5–7 solves per design-day
+case on the grid plus about one per level row, ~0.35 ms of CPU per dry case in all.
+
+Accuracy. Against direct solves at random days of the demo network the interpolated
+surface is within 0.2 % of the mass or 50 kg on about 98 % of days
+(tests/pipeline/test_reliability.py); the rest lie next to regime changes of the limit
+between nodes — chiefly the accelerate-stop limit, whose slope in tailwind changes
+several-fold where V1 meets a bound (the minimum control speed on short wet runways) —
+worst about 2.5 %. Where a level falls near such a kink, the reported mass is still an
+exact solve of a real day (the binding day); what can be off is which day binds, and the
+level masses on the deliberately hard test set (a short wet runway, a hot airfield) are
+within the bound for about 90 % of levels, worst about 1 %. Temperature and wind are taken
+as independent; days are flown at the daily maximum temperature.
 
 Rows go to ``results_airfield`` (basis ``reliability``, level in ``reliability``); with
 ``ReliabilitySettings.per_direction`` also one set per runway direction flown alone to
-``results_direction``. The share of days on which MTOW is achievable is in
-``share_days_full_mass`` (when the result schema carries that column).
+``results_direction``.
 """
 
 from __future__ import annotations
@@ -62,26 +76,41 @@ _SITE_FIELDS = ("tora_m", "toda_m", "asda_m", "slope", "mu_roll", "mu_brake", "p
 
 @dataclass(frozen=True)
 class ReliabilitySettings:
-    """Resolution of the reliability computation (defaults balance speed and accuracy)."""
+    """Resolution of the reliability computation (defaults balance speed and accuracy).
 
-    score_nodes: tuple[float, ...] = climatology.DEFAULT_SCORE_NODES
-    tail_nodes: int = 2
-    head_nodes: int = 3
+    ``conditions``: runway conditions that get reliability rows (default dry only; the run
+    parameter ``reliability_conditions`` overrides it). ``score_range``: standard-normal
+    scores of the coldest and hottest day each month's grid must cover (beyond, the mass is
+    extended linearly). ``temperature_nodes``: nodes shared by the twelve months of an
+    airfield × type × condition. ``tail_nodes``/``head_nodes``: factored-headwind nodes below
+    and above calm per runway direction. ``pressure_tol_pa``: months whose station pressures
+    differ by more get a second pressure layer. ``bracket_low``/``bracket_high``: grid mass
+    bracket as multiples of OEW/MTOW. ``grid_tol_kg``: solver bracket on the grid.
+    """
+
+    conditions: tuple[str, ...] = ("dry",)
+    score_range: tuple[float, float] = (-2.5, 2.5)
+    temperature_nodes: int = 6
+    tail_nodes: int = 4
+    head_nodes: int = 6
+    headwind_power: float = 1.0
+    pressure_tol_pa: float = 20.0
+    pressure_headwind_step: int = 2
     directions_per_sector: int = 3
     speeds_per_class: int = 1
     bracket_low: float = 1.0
-    bracket_high: float = 1.5
-    refinements: int = 4
+    bracket_high: float = 1.25
+    grid_tol_kg: float = 5.0
     per_direction: bool = False
+    block_elements: int = 2_000_000
 
 
-def chunk_reliability_rows(context):
+def reliability_rows(context):
     """Row producer (see :mod:`pipeline.producers`): reliability rows of one chunk.
 
-    Not yet active: :mod:`pipeline.producers` picks up a function named
-    ``reliability_rows`` in this module. Activate with
-    ``reliability_rows = chunk_reliability_rows`` below once the run time is acceptable
-    (about 4–5 ms per design-day case on the 2-core machine, see the module notes).
+    The run's levels are ``context.params["reliability_levels"]`` (none: no rows). Rows
+    are made for the runway conditions in ``context.params["reliability_conditions"]``
+    when the run has that parameter, else for ``ReliabilitySettings.conditions`` (dry).
     """
     from pipeline import cases as case_io
     from pipeline.chunks import aircraft_arrays
@@ -90,14 +119,24 @@ def chunk_reliability_rows(context):
     levels = tuple(float(p) for p in (context.params.get("reliability_levels") or ()))
     if not levels:
         return None
+    settings = ReliabilitySettings()
+    wanted = context.params.get("reliability_conditions")
+    if wanted is not None:
+        settings = dataclasses.replace(settings, conditions=tuple(wanted))
     aircraft_table = pd.read_parquet(context.work_dir / case_io.AIRCRAFT_FILE)
     direction, airfield = reliability_frames(
         context.cases, aircraft_table, context.table("runways"),
         context.table("climate_monthly"), context.table("wind_rose"), levels=levels,
         run_id=context.run_id,
         temperature_offset_k=float(context.params.get("temperature_offset_k", 0.0) or 0.0),
-        aircraft_arrays=aircraft_arrays)
+        settings=settings, aircraft_arrays=aircraft_arrays)
+    if airfield is None:
+        return None
     return ProducerRows(direction=direction, airfield=airfield)
+
+
+#: Former name of :func:`reliability_rows`.
+chunk_reliability_rows = reliability_rows
 
 
 def _default_solver():
@@ -203,6 +242,17 @@ def _weight_limit_fields(result, n):
     return out
 
 
+def _family_ids(cases: pd.DataFrame, keys) -> tuple[np.ndarray, int]:
+    ids = cases.groupby(list(keys), sort=False).ngroup().to_numpy()
+    return ids, int(ids.max()) + 1 if len(ids) else 0
+
+
+def _reduce(ids, n_ids, values, how):
+    out = np.full(n_ids, np.inf if how is np.minimum else -np.inf)
+    how.at(out, ids, values)
+    return out
+
+
 def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runways: pd.DataFrame,
                        climate: pd.DataFrame, wind_rose: pd.DataFrame, *, levels, run_id: int,
                        temperature_offset_k: float = 0.0,
@@ -214,7 +264,8 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     Parameters
     ----------
     cases : DataFrame
-        Design-day cases (columns of :func:`pipeline.cases.block_cases`).
+        Design-day cases (columns of :func:`pipeline.cases.block_cases`); cases whose
+        condition is not in ``settings.conditions`` are left out.
     aircraft_table : DataFrame
         The aircraft_types table in SI (row ``aircraft_index`` of each case).
     runways, climate, wind_rose : DataFrame
@@ -226,23 +277,27 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     temperature_offset_k : float
         Climate scenario offset added to every temperature (as for the design day).
     settings : ReliabilitySettings
-        Grid and wind-point resolution.
+        Grid and wind-point resolution, conditions.
     details : dict, optional
-        Filled with the intermediate arrays (grid, point masses, levels) for tests.
+        Filled with the intermediate arrays (grid, point masses, levels, solve count) for
+        tests and benchmarks.
     solve, aircraft_arrays, site_cls
         The weight-limit solver, the ``Aircraft`` builder and the ``Site`` class (defaults:
         ``physics.weightlimit``); tests pass stand-ins.
 
     Returns
     -------
-    (DataFrame | None, DataFrame)
-        Per-direction rows (only with ``settings.per_direction``) and airfield rows.
+    (DataFrame | None, DataFrame | None)
+        Per-direction rows (only with ``settings.per_direction``) and airfield rows (None
+        when no case has a condition in ``settings.conditions``).
     """
     solve = solve or _default_solver()
     aircraft_arrays = aircraft_arrays or _default_aircraft_arrays
     levels = np.asarray(levels, dtype=float)
-    cases = cases.reset_index(drop=True)
+    cases = cases[cases["condition"].isin(settings.conditions)].reset_index(drop=True)
     n = len(cases)
+    if n == 0:
+        return None, None
     heading = (cases[["airfield_id", "runway_id"]]
                .merge(runways[["airfield_id", "runway_id", "heading_true_deg"]],
                       on=["airfield_id", "runway_id"], how="left")["heading_true_deg"]
@@ -252,6 +307,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     cross_limit = aircraft_table["crosswind_limit_mps"].to_numpy(float)[ac_index]
     oew = aircraft_table["oew_kg"].to_numpy(float)[ac_index]
     mtow = aircraft_table["mtow_kg"].to_numpy(float)[ac_index]
+    flat_k = aircraft_table["flat_rate_oat_k"].to_numpy(float)[ac_index]
 
     # Airfield-months of the chunk, and each case's.
     am = cases[["airfield_id", "month"]].drop_duplicates().reset_index(drop=True)
@@ -266,46 +322,131 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         directions_per_sector=settings.directions_per_sector,
         speeds_per_class=settings.speeds_per_class)
     t_mean, t_sd, t_pv = _temperatures(climate, am, temperature_offset_k)
+    c_mean, c_sd = t_mean[am_pos], t_sd[am_pos]
+    c_pv = None if t_pv is None else t_pv[am_pos]
 
     # Wind points on every case's runway direction.
     h_f, cross_ex, tail_ex = climatology.runway_usability(
         p_dir[am_pos], p_speed[am_pos], heading[:, None], tail_limit[:, None], cross_limit[:, None])
     weight_case = p_weight[am_pos]
     usable = ~cross_ex & ~tail_ex & (weight_case > 0)
-    h_min = np.min(np.where(usable, h_f, 0.0), axis=1)
-    h_max = np.max(np.where(usable, h_f, 0.0), axis=1)
-    h_nodes = climatology.headwind_nodes(h_min, h_max, tail_nodes=settings.tail_nodes,
-                                         head_nodes=settings.head_nodes)  # (n, H)
-    flat_k = aircraft_table["flat_rate_oat_k"].to_numpy(float)[ac_index]
-    case_pv = None if t_pv is None else t_pv[am_pos]
-    scores = _node_scores(settings.score_nodes, t_mean[am_pos], t_sd[am_pos], case_pv, flat_k)
-    t_nodes = climatology.daily_max_temperature_k(
-        scores, t_mean[am_pos][:, None], t_sd[am_pos][:, None],
-        None if case_pv is None else case_pv[:, None, :])  # (n, G)
-    n_g, n_h = scores.shape[1], h_nodes.shape[1]
 
-    # Grid solve, mass bracket widened so cap and floor come after interpolation.
-    rep = np.repeat(np.arange(n), n_g * n_h)
-    ac_grid = aircraft_arrays(aircraft_table, ac_index[rep])
-    ac_grid = _replace(ac_grid, oew_kg=np.asarray(ac_grid.oew_kg) * settings.bracket_low,
-                       mtow_kg=np.asarray(ac_grid.mtow_kg) * settings.bracket_high)
-    site_grid = _site(cases, rep, site_cls,
-                      temperature_k=np.broadcast_to(t_nodes[:, :, None], (n, n_g, n_h)).ravel(),
-                      headwind_mps=np.broadcast_to(h_nodes[:, None, :], (n, n_g, n_h)).ravel())
-    grid = np.asarray(solve(ac_grid, site_grid).tow_limit_kg, dtype=float).reshape(n, n_g, n_h)
-    # Headwind nodes per temperature row, refined where the mass curve has a kink.
-    h_rows = np.broadcast_to(h_nodes[:, None, :], (n, n_g, n_h)).copy()
-    rep_rows = np.repeat(np.arange(n), n_g)
-    ac_rows = aircraft_arrays(aircraft_table, ac_index[rep_rows])
-    ac_rows = _replace(ac_rows, mtow_kg=np.asarray(ac_rows.mtow_kg) * settings.bracket_high)
-    for _ in range(settings.refinements):  # a fixed, small number of refinement rounds
-        x, cell = climatology.headwind_refinement(h_rows, grid)
-        m_new = solve(ac_rows, _site(cases, rep_rows, site_cls, temperature_k=t_nodes.ravel(),
-                                     headwind_mps=x.ravel())).tow_limit_kg
-        h_rows, grid = climatology.insert_headwind_node(
-            h_rows, grid, x, np.asarray(m_new, dtype=float).reshape(n, n_g), cell)
-    point_mass = climatology.interpolate_headwind(
-        grid[:, :, None, :], h_rows, h_f[:, None, :])[..., 0].transpose(0, 2, 1)  # (n, J, G)
+    # Families (airfield × type × condition: the same temperatures and pressures for every
+    # runway direction) share temperature nodes over all their months; tracks (a family's
+    # runway direction) share headwind nodes. One grid per track serves all its months.
+    fam, n_fam = _family_ids(cases, ("airfield_id", "aircraft_type_id", "condition"))
+    trk, n_trk = _family_ids(cases, ("airfield_id", "runway_id", "aircraft_type_id", "condition"))
+    z_lo, z_hi = settings.score_range
+    t_lo_case = climatology.daily_max_temperature_k(z_lo, c_mean, c_sd, c_pv)
+    t_hi_case = climatology.daily_max_temperature_k(z_hi, c_mean, c_sd, c_pv)
+    fam_first = np.zeros(n_fam, dtype=np.int64)
+    fam_first[fam[::-1]] = np.arange(n)[::-1]
+    t_nodes_fam = climatology.temperature_nodes(
+        _reduce(fam, n_fam, t_lo_case, np.minimum), _reduce(fam, n_fam, t_hi_case, np.maximum),
+        settings.temperature_nodes, flat_k[fam_first])  # (F, G)
+    n_g = t_nodes_fam.shape[1]
+    h_lo = _reduce(trk, n_trk, np.min(np.where(usable, h_f, 0.0), axis=1), np.minimum)
+    h_hi = _reduce(trk, n_trk, np.max(np.where(usable, h_f, 0.0), axis=1), np.maximum)
+    h_nodes_trk = climatology.headwind_nodes(h_lo, h_hi, tail_nodes=settings.tail_nodes,
+                                             head_nodes=settings.head_nodes,
+                                             power=settings.headwind_power)  # (R, H)
+    n_h = h_nodes_trk.shape[1]
+    pressure = cases["pressure_pa"].to_numpy(float)
+    p_lo = _reduce(trk, n_trk, pressure, np.minimum)
+    p_hi = _reduce(trk, n_trk, pressure, np.maximum)
+    spread = p_hi - p_lo > settings.pressure_tol_pa
+    p_hi = np.where(spread, p_hi, p_lo)
+    trk_first = np.zeros(n_trk, dtype=np.int64)
+    trk_first[trk[::-1]] = np.arange(n)[::-1]
+    trk_fam = fam[trk_first]
+
+    # Tracks that are structural at MTOW at their worst corner (hottest node, strongest
+    # tailwind, lowest pressure) are structural everywhere (the mass falls with temperature
+    # and tailwind and rises with pressure): one cheap solve instead of a grid.
+    ac_corner = aircraft_arrays(aircraft_table, ac_index[trk_first])
+    corner = solve(ac_corner, _site(cases, trk_first, site_cls,
+                                    temperature_k=t_nodes_fam[trk_fam, -1],
+                                    headwind_mps=h_nodes_trk[:, 0], pressure_pa=p_lo))
+    structural = np.asarray(corner.limiting_factor) == limits.code("structural")
+    n_solves = int(n_trk)
+
+    # The grid, in ONE solve: (R, G, H) at the lower pressure, and (R', G, Hp) at the higher
+    # pressure for the tracks whose months differ in pressure (Hp headwind nodes: every
+    # ``pressure_headwind_step``-th, the ends and calm; the pressure effect is smooth in
+    # headwind). Mass bracket widened so the cap and the floor come after interpolation.
+    step = max(1, int(settings.pressure_headwind_step))
+    sub_h = np.unique(np.concatenate([np.arange(0, n_h, step), [min(settings.tail_nodes, n_h - 1), n_h - 1]]))
+    lo_trk = np.nonzero(~structural)[0]
+    hi_trk = np.nonzero(~structural & spread)[0]
+    t_lo_pts = np.broadcast_to(t_nodes_fam[trk_fam[lo_trk]][:, :, None], (lo_trk.size, n_g, n_h))
+    h_lo_pts = np.broadcast_to(h_nodes_trk[lo_trk][:, None, :], (lo_trk.size, n_g, n_h))
+    t_hi_pts = np.broadcast_to(t_nodes_fam[trk_fam[hi_trk]][:, :, None], (hi_trk.size, n_g, sub_h.size))
+    h_hi_pts = np.broadcast_to(h_nodes_trk[hi_trk][:, None, sub_h], (hi_trk.size, n_g, sub_h.size))
+    rep = np.concatenate([np.repeat(trk_first[lo_trk], n_g * n_h),
+                          np.repeat(trk_first[hi_trk], n_g * sub_h.size)])
+    grid_lo = np.broadcast_to((mtow[trk_first] * settings.bracket_high)[:, None, None],
+                              (n_trk, n_g, n_h)).copy()
+    grid_hi = grid_lo.copy()
+    if rep.size:
+        ac_grid = aircraft_arrays(aircraft_table, ac_index[rep])
+        ac_grid = _replace(ac_grid, oew_kg=np.asarray(ac_grid.oew_kg) * settings.bracket_low,
+                           mtow_kg=np.asarray(ac_grid.mtow_kg) * settings.bracket_high)
+        site_grid = _site(cases, rep, site_cls,
+                          temperature_k=np.concatenate([t_lo_pts.ravel(), t_hi_pts.ravel()]),
+                          headwind_mps=np.concatenate([h_lo_pts.ravel(), h_hi_pts.ravel()]),
+                          pressure_pa=np.concatenate([np.repeat(p_lo[lo_trk], n_g * n_h),
+                                                      np.repeat(p_hi[hi_trk], n_g * sub_h.size)]))
+        solved = np.asarray(solve(ac_grid, site_grid, tol_kg=settings.grid_tol_kg).tow_limit_kg,
+                            dtype=float)
+        n_solves += int(rep.size)
+        n_lo = lo_trk.size * n_g * n_h
+        grid_lo[lo_trk] = solved[:n_lo].reshape(lo_trk.size, n_g, n_h)
+        grid_hi[lo_trk] = grid_lo[lo_trk]
+        if hi_trk.size:
+            sub = solved[n_lo:].reshape(hi_trk.size, n_g, sub_h.size)
+            delta = sub - grid_lo[hi_trk][:, :, sub_h]
+            # A no-takeoff node on either layer: no pressure change (the lower, conservative
+            # layer's value, or no takeoff where that is not possible).
+            delta = np.where(np.isfinite(delta), delta, 0.0)
+            # The pressure change interpolated in headwind onto every headwind node.
+            delta_full = climatology.interpolate_headwind(
+                delta, h_nodes_trk[hi_trk][:, sub_h], h_nodes_trk[hi_trk]).transpose(0, 2, 1)
+            grid_hi[hi_trk] = grid_lo[hi_trk] + delta_full
+
+    # No-takeoff nodes next to possible ones: a mass just below OEW on the trend, so the
+    # possible part of such a cell is not lost (first along temperature, then headwind).
+    floor = (oew[trk_first] * settings.bracket_low)[:, None]
+    for g in (grid_lo, grid_hi):
+        g[:] = climatology.fill_no_takeoff_nodes(
+            np.swapaxes(np.broadcast_to(t_nodes_fam[trk_fam][:, :, None], g.shape), 1, 2),
+            np.swapaxes(g, 1, 2), floor).swapaxes(1, 2)
+        g[:] = climatology.fill_no_takeoff_nodes(
+            np.broadcast_to(h_nodes_trk[:, None, :], g.shape), g, floor, reverse=True)
+
+    # Each month: a window of K consecutive temperature nodes covering its score range,
+    # the grid interpolated to its station pressure, then to its wind points.
+    t_case_nodes = t_nodes_fam[fam]  # (n, G)
+    _, needed = climatology.node_window(t_case_nodes, t_lo_case, t_hi_case, n_g)
+    k_win = int(min(n_g, max(2, needed.max())))
+    start, _ = climatology.node_window(t_case_nodes, t_lo_case, t_hi_case, k_win)
+    win = start[:, None] + np.arange(k_win)  # (n, K)
+    t_nodes = np.take_along_axis(t_case_nodes, win, axis=1)
+    case_grid = climatology.interpolate_pressure(
+        np.take_along_axis(grid_lo[trk], win[:, :, None], axis=1),
+        np.take_along_axis(grid_hi[trk], win[:, :, None], axis=1),
+        p_lo[trk][:, None, None], p_hi[trk][:, None, None], pressure[:, None, None])  # (n, K, H)
+    flat = ~(c_sd > 0)  # zero spread: every day at the mean
+    with np.errstate(invalid="ignore", divide="ignore"):
+        scores = climatology.daily_max_temperature_score(
+            t_nodes, c_mean[:, None], c_sd[:, None], None if c_pv is None else c_pv[:, None, :])
+    if np.any(flat):
+        at_mean = climatology.interpolate_headwind(
+            np.swapaxes(case_grid[flat], 1, 2), t_nodes[flat], c_mean[flat, None])  # (m, 1, H)
+        case_grid[flat] = np.repeat(at_mean, k_win, axis=1)
+        scores[flat] = np.arange(k_win) - 0.5 * (k_win - 1)
+        t_nodes[flat] = c_mean[flat, None]
+    h_nodes = h_nodes_trk[trk]  # (n, H)
+    counts = {"grid": n_solves, "binding": 0}
 
     def binding_rows(case_of, res, point_h):
         """Direct solve of each level's binding day; rows for groups (case_of: (N, L))."""
@@ -320,6 +461,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
             t_b = climatology.daily_max_temperature_k(sc, t_mean[am_idx], t_sd[am_idx], t_pv[am_idx])
         hb = point_h[ok]
         ac = aircraft_arrays(aircraft_table, ac_index[c_idx])
+        counts["binding"] += int(c_idx.size)
         sol = _weight_limit_fields(solve(ac, _site(cases, c_idx, site_cls, temperature_k=t_b,
                                                     headwind_mps=hb)), int(ok.sum()))
         cols = {k: np.full((n_grp, n_lev), np.nan) for k in sol if k != "limiting_factor"}
@@ -372,24 +514,34 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         ordered = [c for c in RESULT_COLUMNS if c in frame.columns]
         return frame[ordered + [c for c in frame.columns if c not in ordered]]
 
-    # Airfield level: groups of directions.
+    # Airfield level: groups of directions, in blocks of groups (bounded memory).
     grp = cases.groupby(list(GROUP_KEYS), sort=False)
     g_id = grp.ngroup().to_numpy()
     d_id = grp.cumcount().to_numpy()
     n_grp, n_dir = int(g_id.max()) + 1, int(d_id.max()) + 1
-    n_pts = point_mass.shape[1]
+    n_pts = h_f.shape[1]
     case_at = np.full((n_grp, n_dir), -1, dtype=np.int64)
     case_at[g_id, d_id] = np.arange(n)
     valid = case_at >= 0
     safe = np.where(valid, case_at, 0)
-    raw = np.where(valid[:, :, None, None], point_mass[safe], np.nan)
-    cx = np.where(valid[:, :, None], cross_ex[safe], True)
-    tx = np.where(valid[:, :, None], tail_ex[safe], True)
     first = safe[:, 0]
-    w_grp = weight_case[first]
-    flown, m_grp, lost = climatology.flown_direction(raw, cx, tx, valid)
-    res = climatology.reliability_masses(m_grp, scores[first], w_grp, oew[first], mtow[first],
-                                         levels=levels, lost_reason=lost)
+    block = max(1, int(settings.block_elements // max(1, n_dir * n_pts * k_win)))
+    parts, flown_parts = [], []
+    for b0 in range(0, n_grp, block):  # blocks of groups: memory, not a loop over cases
+        sb, vb = safe[b0:b0 + block], valid[b0:b0 + block]
+        pm = climatology.interpolate_headwind(case_grid[sb], h_nodes[sb], h_f[sb])  # (B, D, J, K)
+        raw = np.where(vb[:, :, None, None], pm, np.nan)
+        cx = np.where(vb[:, :, None], cross_ex[sb], True)
+        tx = np.where(vb[:, :, None], tail_ex[sb], True)
+        fb = sb[:, 0]
+        flown_b, m_grp, lost = climatology.flown_direction(raw, cx, tx, vb)
+        parts.append(climatology.reliability_masses(
+            m_grp, scores[fb], weight_case[fb], oew[fb], mtow[fb], levels=levels, lost_reason=lost))
+        flown_parts.append(flown_b)
+    res = climatology.ReliabilityLevels(**{
+        f.name: np.concatenate([getattr(r, f.name) for r in parts])
+        for f in dataclasses.fields(climatology.ReliabilityLevels)})
+    flown = np.concatenate(flown_parts)
     d_bind = np.take_along_axis(flown, res.point, axis=1)  # (N, L)
     case_bind = np.take_along_axis(safe, d_bind, axis=1)
     h_bind = h_f[case_bind, res.point]
@@ -400,7 +552,8 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
             pv = None if t_pv is None else t_pv[am_idx]
             return climatology.daily_max_temperature_k(score, t_mean[am_idx], t_sd[am_idx], pv)
 
-        details.update(grid=grid, h_nodes=h_rows, t_nodes=t_nodes, point_mass=point_mass,
+        details.update(grid_low=grid_lo, grid_high=grid_hi, case_grid=case_grid, cases=cases,
+                       h_nodes=h_nodes, t_nodes=t_nodes, solves=counts,
                        scores=scores, temperature=temperature, crosswind_exceeded=cross_ex,
                        tailwind_exceeded=tail_ex,
                        point_headwind=h_f, point_weight=weight_case, levels=res,
@@ -408,6 +561,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
 
     direction = None
     if settings.per_direction:
+        point_mass = climatology.interpolate_headwind(case_grid, h_nodes, h_f)  # (n, J, K)
         _, m_one, lost_one = climatology.flown_direction(point_mass[:, None], cross_ex[:, None],
                                                          tail_ex[:, None])
         res1 = climatology.reliability_masses(m_one, scores, weight_case, oew, mtow,

@@ -403,3 +403,57 @@ def test_scalar_group_equals_batch_element():
     batch = _levels(np.concatenate(ms), np.stack([wt, wt]))
     single = _levels(ms[1], wt[None])
     np.testing.assert_allclose(batch.mass_kg[1], single.mass_kg[0], atol=1.0)
+
+
+# --------------------------------------------------------------------------------------
+# The shared solving grid
+# --------------------------------------------------------------------------------------
+def test_temperature_nodes_span_the_range_with_a_node_on_the_flat_rating_corner():
+    nodes = clim.temperature_nodes(280.0, 310.0, 6, corner_k=303.15)
+    # Equal spacing 6 K, the node nearest 303.15 K (304 K) moved onto it.
+    np.testing.assert_allclose(nodes, [280.0, 286.0, 292.0, 298.0, 303.15, 310.0])
+    # A corner outside the range moves nothing.
+    np.testing.assert_allclose(clim.temperature_nodes(280.0, 310.0, 6, corner_k=320.0),
+                               np.linspace(280.0, 310.0, 6))
+    # A piecewise-linear mass with its kink at the corner is reproduced exactly by linear
+    # interpolation between these nodes (de Boor 2001, ch. II: breakpoints at the kinks).
+    kinked = lambda t: 70_000.0 - 100.0 * (t - 280.0) - 900.0 * np.maximum(t - 303.15, 0.0)  # noqa: E731
+    t = np.linspace(280.0, 310.0, 301)
+    np.testing.assert_allclose(np.interp(t, nodes, kinked(nodes)), kinked(t), rtol=1e-12)
+
+
+def test_node_window_covers_each_months_range():
+    nodes = np.linspace(270.0, 320.0, 11)  # 5 K apart
+    lo = np.array([271.0, 290.0, 300.0, 318.0])
+    hi = np.array([283.0, 301.0, 309.0, 319.0])
+    start, needed = clim.node_window(nodes, lo, hi, 5)
+    np.testing.assert_array_equal(needed, [4, 4, 3, 2])  # e.g. 290..305 K: nodes 290, 295, 300, 305
+    win = nodes[start[:, None] + np.arange(5)]
+    assert np.all(win[:, 0] <= lo) and np.all(win[:, -1] >= hi)
+
+
+def test_pressure_interpolation_is_linear_between_the_layers():
+    m = clim.interpolate_pressure(60_000.0, 60_600.0, 99_000.0, 100_000.0,
+                                  np.array([99_000.0, 99_250.0, 100_000.0, 101_000.0]))
+    # Linear in pressure, held at the end layers outside them.
+    np.testing.assert_allclose(m, [60_000.0, 60_150.0, 60_600.0, 60_600.0])
+    # One layer (no pressure spread): its value; a no-takeoff upper layer is NaN only
+    # where it is used.
+    assert clim.interpolate_pressure(60_000.0, np.nan, 99_000.0, 99_000.0, 99_000.0) == 60_000.0
+    assert np.isnan(clim.interpolate_pressure(60_000.0, np.nan, 99_000.0, 100_000.0, 99_500.0))
+
+
+def test_no_takeoff_node_gets_the_trend_below_the_floor():
+    t = np.array([290.0, 295.0, 300.0, 305.0, 310.0])
+    mass = 50_000.0 - 1_000.0 * (t - 290.0)  # 40 000 kg at 300 K, 35 000 at 305 K
+    floor = 37_000.0  # OEW: no takeoff from 303 K
+    grid = np.where(mass >= floor, mass, np.nan)
+    filled = clim.fill_no_takeoff_nodes(t, grid, floor)
+    # The first no-takeoff node takes the linear trend (35 000 kg, below the floor), so the
+    # interpolant crosses the floor exactly at 303 K; the next node stays NaN.
+    assert filled[3] == pytest.approx(35_000.0)
+    assert np.isnan(filled[4])
+    assert np.interp(303.0, t[:4], filled[:4]) == pytest.approx(floor)
+    # Mirrored (headwind rows: no takeoff at the strongest tailwinds first).
+    back = clim.fill_no_takeoff_nodes(-t[::-1], grid[::-1], floor, reverse=True)
+    np.testing.assert_allclose(back, filled[::-1])
