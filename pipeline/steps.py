@@ -55,6 +55,7 @@ class RunParams:
     chunk_size: int = DEFAULT_CHUNK_SIZE
     conditions: tuple[str, ...] = CONDITIONS
     reliability_levels: tuple[float, ...] = DEFAULT_RELIABILITY_LEVELS
+    reliability_conditions: tuple[str, ...] = ("dry",)  # runway conditions with reliability rows
     reuse: bool = True  # reuse unchanged airfield × type results of an earlier run
 
     def __post_init__(self):
@@ -63,6 +64,12 @@ class RunParams:
             from pipeline.errors import BadInput
 
             raise BadInput(f"conditions must be some of {', '.join(CONDITIONS)}; got {', '.join(self.conditions) or 'none'}")
+        extra = [c for c in self.reliability_conditions if c not in self.conditions]
+        if extra:
+            from pipeline.errors import BadInput
+
+            raise BadInput(f"reliability conditions must be among the run's conditions "
+                           f"({', '.join(self.conditions)}); got {', '.join(extra)}")
 
     @classmethod
     def from_dict(cls, values: dict) -> "RunParams":
@@ -74,7 +81,7 @@ class RunParams:
 
             raise BadInput(f"unknown run parameters: {', '.join(unknown)}")
         values = dict(values)
-        for key in ("conditions", "reliability_levels"):
+        for key in ("conditions", "reliability_levels", "reliability_conditions"):
             if key in values:
                 values[key] = tuple(values[key])
         return cls(**values)
@@ -83,6 +90,7 @@ class RunParams:
         d = asdict(self)
         d["conditions"] = list(self.conditions)
         d["reliability_levels"] = list(self.reliability_levels)
+        d["reliability_conditions"] = list(self.reliability_conditions)
         return d
 
 

@@ -79,6 +79,9 @@ def add_arguments(parser) -> None:
     parser.add_argument("--reliability", default="0.5,0.85,0.95", metavar="P,P,...",
                         help="reliability levels (shares of days) for the reliability rows "
                              "(default 0.5,0.85,0.95; 'none' for design-day rows only)")
+    parser.add_argument("--reliability-conditions", default=None, metavar="CONDITIONS",
+                        help="runway conditions that get reliability rows, comma separated "
+                             "(default dry; dry,wet doubles the cost of the reliability step)")
     parser.add_argument("--chunk-size", type=int, default=None, metavar="N",
                         help="cases per chunk task (default 32000; whole airfields per chunk)")
     parser.add_argument("--workers", type=int, default=None, metavar="N",
@@ -111,11 +114,17 @@ def run(args) -> int:
     chunk_size = args.chunk_size or DEFAULT_CHUNK_SIZE
     if chunk_size < 1:
         raise BadInput("--chunk-size must be at least 1")
+    conditions = tuple(c.strip() for c in args.conditions.split(",") if c.strip())
+    if args.reliability_conditions is None:  # default: the dry runway, when the run has it
+        reliability_conditions = tuple(c for c in ("dry",) if c in conditions)
+    else:
+        reliability_conditions = tuple(c.strip() for c in args.reliability_conditions.split(",") if c.strip())
     params = RunParams(
         temperature_offset_k=args.temperature_offset,
         chunk_size=chunk_size,
-        conditions=tuple(c.strip() for c in args.conditions.split(",") if c.strip()),
+        conditions=conditions,
         reliability_levels=_floats(args.reliability),
+        reliability_conditions=reliability_conditions,
         reuse=not args.no_reuse,
     )
     if not args.quiet:
