@@ -25,17 +25,60 @@ from schemas.tables import TABLES
 VERSION = "v1"
 
 
+_BLOCK_ROWS = 262_144
+"""Rows hashed per block: the digest is fed block by block, never the whole table at once."""
+
+
 def _canonical(df: pd.DataFrame, table: str) -> pd.DataFrame:
+    """The whole table in canonical form (rounded, sorted by the key); small tables, tests."""
     spec = TABLES[table]
-    cols = [c.name for c in spec.columns]
-    out = df[cols].copy()
+    order = _canonical_order(df, table)
+    return _canonical_rows(df, table, order)
+
+
+def _rounded(values) -> np.ndarray:
+    v = np.asarray(values).astype(float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(np.isnan(v), np.nan, _round_sig(v, 12)) + 0.0
+
+
+def _canonical_rows(df: pd.DataFrame, table: str, rows: np.ndarray) -> pd.DataFrame:
+    """Rows ``rows`` (positions) of ``df`` in canonical form, in that order."""
+    spec = TABLES[table]
+    out = {}
     for c in spec.columns:
-        if c.dtype != "str":
-            v = out[c.name].astype(float).to_numpy()
-            with np.errstate(invalid="ignore", divide="ignore"):
-                out[c.name] = np.where(np.isnan(v), np.nan, _round_sig(v, 12)) + 0.0
-    return out.sort_values(list(spec.key), kind="mergesort", na_position="first",
-                           ignore_index=True)
+        col = df[c.name].to_numpy()[rows]
+        out[c.name] = col if c.dtype == "str" else _rounded(col)
+    return pd.DataFrame(out)
+
+
+def _canonical_order(df: pd.DataFrame, table: str) -> np.ndarray:
+    """Row positions sorting the table by its key (rounded numbers, blanks first, stable).
+
+    The same order as a stable multi-column sort of the rounded table with blanks first,
+    computed from one integer code per key column instead of a sorted copy of the table.
+    """
+    spec = TABLES[table]
+    n = len(df)
+    code = np.zeros(n, dtype=np.int64)
+    span = 1
+    codes = []
+    for k in spec.key:
+        col = df[k].to_numpy()
+        if spec.column(k).dtype != "str":
+            col = _rounded(col)
+        else:
+            col = col.astype(object)
+        f, uniq = pd.factorize(col, sort=True, use_na_sentinel=True)
+        codes.append((f.astype(np.int64) + 1, len(uniq) + 1))  # blanks (-1) first
+    for f, m in codes:
+        span *= m
+    if span >= 2 ** 62:  # pragma: no cover - only for absurdly many distinct keys
+        return np.lexsort([f for f, _ in reversed(codes)]) if codes else np.arange(n)
+    for f, m in codes:
+        code *= m
+        code += f
+    return np.argsort(code, kind="stable")
 
 
 def _round_sig(v: np.ndarray, digits: int) -> np.ndarray:
@@ -45,54 +88,73 @@ def _round_sig(v: np.ndarray, digits: int) -> np.ndarray:
     return np.where(v == 0, 0.0, np.round(v * scale) / scale)
 
 
-def _digest_block(df: pd.DataFrame, table: str) -> bytes:
-    """Bytes of a canonical block (already sorted) for hashing."""
-    spec = TABLES[table]
-    num = [c.name for c in spec.columns if c.dtype != "str"]
-    txt = [c.name for c in spec.columns if c.dtype == "str"]
-    parts = [",".join(c.name for c in spec.columns).encode()]
-    if num:
-        parts.append(np.ascontiguousarray(df[num].to_numpy(dtype=np.float64)).tobytes())
-    for c in txt:
-        parts.append(_text_bytes(df[c].to_numpy(dtype=object)))
-    return b"\x1e".join(parts)
-
-
 def _text_bytes(values) -> bytes:
     return "\x1f".join("\x00" if v is None or (isinstance(v, float) and np.isnan(v))
                         else str(v) for v in values).encode("utf-8")
 
 
+def _num_block(df: pd.DataFrame, num: list[str], rows: np.ndarray) -> bytes:
+    mat = np.empty((rows.size, len(num)), dtype=np.float64)
+    for j, c in enumerate(num):
+        mat[:, j] = _rounded(df[c].to_numpy()[rows])
+    return mat.tobytes()
+
+
 def frame_hash(df: pd.DataFrame, table: str) -> str:
     """Hash of one table (user units, validated)."""
+    spec = TABLES[table]
     h = hashlib.sha256(f"{VERSION}:{table}:".encode())
-    h.update(_digest_block(_canonical(df, table), table))
+    order = _canonical_order(df, table)
+    num = [c.name for c in spec.columns if c.dtype != "str"]
+    txt = [c.name for c in spec.columns if c.dtype == "str"]
+    h.update(",".join(c.name for c in spec.columns).encode())
+    blocks = [order[s:s + _BLOCK_ROWS] for s in range(0, order.size, _BLOCK_ROWS)]
+    if num:
+        h.update(b"\x1e")
+        for rows in blocks:
+            h.update(_num_block(df, num, rows))
+    for c in txt:
+        h.update(b"\x1e")
+        values = df[c].to_numpy()
+        for i, rows in enumerate(blocks):
+            if i:
+                h.update(b"\x1f")
+            h.update(_text_bytes(values[rows]))
     return f"{VERSION}:{h.hexdigest()}"
 
 
 def _group_hashes(df: pd.DataFrame, table: str, by: str) -> dict[str, bytes]:
     """Digest per value of ``by`` over that value's rows (sorted by the table key)."""
     spec = TABLES[table]
-    can = _canonical(df, table)  # sorted by the key, whose first column is ``by``
     assert spec.key[0] == by
-    keys = can[by].to_numpy(dtype=object)
-    if keys.size == 0:
+    order = _canonical_order(df, table)  # sorted by the key, whose first column is ``by``
+    if order.size == 0:
         return {}
+    keys = df[by].to_numpy()[order]
     num = [c.name for c in spec.columns if c.dtype != "str"]
     txt = [c.name for c in spec.columns if c.dtype == "str" and c.name != by]
-    mat = np.ascontiguousarray(can[num].to_numpy(dtype=np.float64))
-    texts = [can[c].to_numpy(dtype=object) for c in txt]
     header = ",".join(c.name for c in spec.columns).encode()
     starts = np.flatnonzero(np.r_[True, keys[1:] != keys[:-1]])
     ends = np.r_[starts[1:], keys.size]
     out = {}
-    for s, e in zip(starts, ends):
-        h = hashlib.sha256(header)
-        h.update(str(keys[s]).encode("utf-8"))
-        h.update(mat[s:e].tobytes())
-        for t in texts:
-            h.update(b"\x1e" + _text_bytes(t[s:e]))
-        out[keys[s]] = h.digest()
+    g = 0
+    while g < starts.size:
+        # a block of whole groups of about _BLOCK_ROWS rows
+        last = int(np.searchsorted(starts, starts[g] + _BLOCK_ROWS, side="left"))
+        last = max(last, g + 1)
+        b0, b1 = int(starts[g]), int(ends[last - 1])
+        rows = order[b0:b1]
+        mat = np.frombuffer(_num_block(df, num, rows), dtype=np.float64).reshape(
+            rows.size, len(num)) if num else np.empty((rows.size, 0))
+        texts = [df[c].to_numpy()[rows] for c in txt]
+        for s, e in zip(starts[g:last] - b0, ends[g:last] - b0):
+            h = hashlib.sha256(header)
+            h.update(str(keys[b0 + s]).encode("utf-8"))
+            h.update(mat[s:e].tobytes())
+            for t in texts:
+                h.update(b"\x1e" + _text_bytes(t[s:e]))
+            out[keys[b0 + s]] = h.digest()
+        g = last
     return out
 
 

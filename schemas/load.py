@@ -149,18 +149,18 @@ def user_frame(frame: pd.DataFrame, spec: TableSpec) -> pd.DataFrame:
         else:
             s = s.astype(object)
         out[c.name] = s.to_numpy()
-    return pd.DataFrame(out)
+    return pd.DataFrame(out, copy=False)
 
 
 def si_frame(user: pd.DataFrame, spec: TableSpec) -> pd.DataFrame:
     """Convert a user-unit frame to SI with the conversions of the table definition."""
-    out = {}
+    # columns without a conversion share the user frame's data (copy-on-write: a change to
+    # either frame copies the column then), so a large wind rose is held once
+    df = user[[c.name for c in spec.columns]].rename(
+        columns={c.name: c.target for c in spec.columns})
     for c in spec.columns:
-        s = user[c.name]
         if c.dtype == "float" and (c.si_scale != 1.0 or c.si_offset != 0.0):
-            s = s.astype(float) * c.si_scale + c.si_offset
-        out[c.target] = s.to_numpy()
-    df = pd.DataFrame(out)
+            df[c.target] = user[c.name].to_numpy(dtype=float) * c.si_scale + c.si_offset
     if spec.name == "aircraft_types":
         df["thrust_model"] = df["thrust_model"].map(THRUST_MODELS).astype("int64")
         df["engine_count"] = df["engine_count"].astype(float)
