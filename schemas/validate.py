@@ -165,6 +165,7 @@ def check_folder(path) -> FolderCheck:
         if raw is None:
             continue
         frame = _typed_frame(raw, spec, located.name, out.problems)
+        del raw
         if frame is None:
             continue
         out.frames[name] = frame
@@ -273,7 +274,11 @@ def _read_csv(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
     spec = TABLES.get(path.stem)
     df = None
     if spec is not None and len(set(names)) == len(names):
+        text = None  # the decoded copy is not needed on the fast path; decoded again if so
         df = _read_csv_typed(data, names, spec)  # the bytes: no 4-byte-per-character copy
+        if df is None:
+            text = data.decode("utf-8-sig")
+    del data
     try:
         if df is None:
             df = pd.read_csv(io.StringIO(text), dtype=str, keep_default_na=False,
@@ -365,7 +370,7 @@ def _report(problems, severity, file, frame_index, mask, column, values, expecte
     if not mask.any():
         return
     rows = _rows(frame_index)[mask]
-    vals = np.asarray(values, dtype=object)[mask]
+    vals = np.asarray(values)[mask].astype(object)
     for r, v in zip(rows[:MAX_ROWS_PER_CHECK], vals[:MAX_ROWS_PER_CHECK]):
         msg = message
         if hint is not None:
@@ -462,7 +467,8 @@ def _convert_column(series: pd.Series, col, file, problems) -> pd.Series:
     idx = series.index
     if col.dtype == "str":
         # work on the distinct values (an id column repeats a few thousand values)
-        codes, uniq = pd.factorize(series.astype(object), use_na_sentinel=False)
+        codes, uniq = pd.factorize(series if pd.api.types.is_string_dtype(series)
+                                   else series.astype(object), use_na_sentinel=False)
         utext = _as_text(pd.Series(uniq, dtype=object))
         ublank = utext.str.lower().isin(_MISSING).to_numpy()
         text = pd.Series(utext.to_numpy()[codes], index=idx, dtype=object)
@@ -682,7 +688,7 @@ def _suggest(v, candidates) -> str | None:
 def _duplicate_keys(df, spec: TableSpec, file, pr) -> None:
     key = list(spec.key)
     valid = df[[k for k in key if spec.column(k).required]].notna().all(axis=1)
-    sub = df[valid]
+    sub = df if valid.all() else df[valid]
     if sub.empty:
         return
     dup = sub.duplicated(key, keep="first").to_numpy()
@@ -785,11 +791,12 @@ def _months_complete(af, df, table, file, af_file, pr) -> None:
 
 
 def _wind_rose_checks(df, file, pr) -> pd.DataFrame:
-    df = df.copy()
+    # works on column arrays and integer group codes: no copy of the (large) frame
     d, w = df["direction_deg"].to_numpy(), df["sector_width_deg"].to_numpy()
     lo, hi = df["speed_low_mps"].to_numpy(), df["speed_high_mps"].to_numpy()
     calm = np.isnan(d)
     idx = df.index
+    n = len(df)
     _report(pr, "error", file, idx, calm & ~np.isnan(w), "direction_deg", d,
             "a sector centre (the row has a sector width)",
             "direction blank but sector width given (a calm row leaves both blank)")
@@ -805,36 +812,52 @@ def _wind_rose_checks(df, file, pr) -> pd.DataFrame:
         _report(pr, "error", file, idx, ~np.isnan(w) & (np.abs(n_sect - np.round(n_sect)) > 1e-6),
                 "sector_width_deg", w, "a width that divides 360° (e.g. 10, 22.5, 30, 45)",
                 "sector width does not divide the circle")
+        del n_sect
     # frequency sums per airfield-month (percent detection); groups as one integer code
     am = _group_code(df["airfield_id"], df["month"])
-    df["_am"] = am
-    grp = am
-    sums = df["frequency"].groupby(grp).transform("sum").to_numpy()
-    first = pd.Series(idx, index=idx).groupby(grp).transform("min").to_numpy()
+    sums = df["frequency"].groupby(am).transform("sum").to_numpy()
+    pos = np.arange(n, dtype=np.int64)
+    first = _first_position(am, pos)  # position of each row's group's first row
     valid_grp = df["airfield_id"].notna().to_numpy() & df["month"].notna().to_numpy()
     share_ok = np.abs(sums - 1.0) <= 0.01
     pct = np.abs(sums - 100.0) <= 1.0
     freq = df["frequency"].to_numpy().copy()
     freq[pct] = freq[pct] / 100.0
-    df["frequency"] = freq
     if (pct & valid_grp).any():
         n_pct = len(set(zip(df["airfield_id"][pct], df["month"][pct])))
         pr.append(Problem("warning", file, None, "frequency", None, "shares summing to 1",
                           f"frequencies of {n_pct} airfield-month(s) sum to 100: read as "
                           "percentages and converted to shares"))
     with np.errstate(invalid="ignore"):
-        _report(pr, "error", file, idx, (freq > 1.0) & ~pct, "frequency", df["frequency"],
+        _report(pr, "error", file, idx, (freq > 1.0) & ~pct, "frequency", freq,
                 "a share 0 … 1 (or percentages summing to 100)", "frequency above 1")
-    bad_sum = valid_grp & ~share_ok & ~pct & (idx.to_numpy() + 0 == first)
-    af, mo = df["airfield_id"].to_numpy(), df["month"].to_numpy()
-    _report(pr, "error", file, idx, bad_sum, "frequency",
-            np.array([f"{s:.4g}" for s in sums]) if bad_sum.any() else sums,
+    bad_sum = valid_grp & ~share_ok & ~pct & (pos == first)
+    del share_ok, first
+    if bad_sum.any():
+        sum_text = np.empty(n, dtype=object)
+        sum_text[bad_sum] = [f"{v:.4g}" for v in sums[bad_sum]]
+    else:
+        sum_text = sums
+    _report(pr, "error", file, idx, bad_sum, "frequency", sum_text,
             "1 ± 0.01 (or 100 ± 1 %)",
             "frequencies of this airfield and month do not sum to 1 (the row is the "
             "first of the airfield-month)")
-    _sector_coverage(df[~calm & valid_grp], file, pr)
-    _speed_classes(df[valid_grp], file, pr)
-    return df.drop(columns="_am")
+    del sums, sum_text, bad_sum, pct
+    _sector_coverage(df, np.flatnonzero(~calm & valid_grp), am, file, pr)
+    _speed_classes(df, np.flatnonzero(valid_grp), am, file, pr)
+    del am, pos
+    out = df.copy(deep=False)  # the other columns stay shared (copy-on-write)
+    out["frequency"] = freq
+    return out
+
+
+def _first_position(code: np.ndarray, pos: np.ndarray) -> np.ndarray:
+    """For each element, the smallest ``pos`` among the elements with the same ``code``."""
+    if code.size == 0:
+        return pos.copy()
+    fp = np.full(int(code.max()) + 1, np.iinfo(np.int64).max, dtype=np.int64)
+    np.minimum.at(fp, code, pos)
+    return fp[code]
 
 
 def _group_code(*cols) -> np.ndarray:
@@ -846,41 +869,57 @@ def _group_code(*cols) -> np.ndarray:
     return pd.factorize(code)[0].astype(np.int64)
 
 
-def _sector_coverage(nc, file, pr) -> None:
-    nc = nc[nc["sector_width_deg"].notna() & nc["direction_deg"].notna()
-            & nc["speed_low_mps"].notna() & nc["speed_high_mps"].notna()]
-    if nc.empty:
+def _sector_coverage(df, p, am_all, file, pr) -> None:
+    """Sector checks on rows ``p`` (positions in ``df``) of the non-calm, keyed rows."""
+    cols = {c: df[c].to_numpy() for c in ("sector_width_deg", "direction_deg",
+                                           "speed_low_mps", "speed_high_mps")}
+    keep = np.ones(p.size, dtype=bool)
+    for v in cols.values():
+        keep &= ~np.isnan(v[p])
+    p = p[keep]
+    del keep
+    if p.size == 0:
         return
-    am = nc["_am"].to_numpy()
-    width = nc["sector_width_deg"]
-    w = width.to_numpy()
-    wser = pd.Series(w)
-    wmin = wser.groupby(am).transform("min").to_numpy()
-    wmax = wser.groupby(am).transform("max").to_numpy()
-    firstw = wser.groupby(am).transform("first").to_numpy()
-    mixed = wmin != wmax
-    _report(pr, "error", file, nc.index, mixed & (w != firstw),
-            "sector_width_deg", width, "one sector width per airfield and month",
+    nidx = df.index[p]
+    am = pd.factorize(am_all[p])[0].astype(np.int64)
+    w = cols["sector_width_deg"][p]
+    ng = int(am.max()) + 1
+    wmin = np.full(ng, np.inf)
+    wmax = np.full(ng, -np.inf)
+    np.minimum.at(wmin, am, w)
+    np.maximum.at(wmax, am, w)
+    local = np.arange(p.size, dtype=np.int64)
+    firstw = w[_first_position(am, local)]
+    mixed = (wmin != wmax)[am]
+    _report(pr, "error", file, nidx, mixed & (w != firstw),
+            "sector_width_deg", w, "one sector width per airfield and month",
             "sector width differs from the first row of the same airfield and month")
-    d = nc["direction_deg"].to_numpy() % 360.0
-    d0 = pd.Series(d).groupby(am).transform("min").to_numpy()
-    k = (d - d0) / w
+    del mixed, firstw, wmin, wmax
+    dir_ = cols["direction_deg"][p]
+    d = dir_ % 360.0
+    d0 = np.full(ng, np.inf)
+    np.minimum.at(d0, am, d)
+    k = (d - d0[am]) / w
+    del d, d0
     off_grid = np.abs(k - np.round(k)) > 1e-6
-    _report(pr, "error", file, nc.index, off_grid, "direction_deg", nc["direction_deg"],
+    _report(pr, "error", file, nidx, off_grid, "direction_deg", dir_,
             "sector centres a whole number of sector widths apart",
             "direction is not on the sector grid of its airfield and month: sectors overlap")
     kk = np.round(k).astype(np.int64)
-    cls = _group_code(am, nc["speed_low_mps"].to_numpy(), nc["speed_high_mps"].to_numpy())
-    key = pd.DataFrame({"c": cls, "k": kk})
-    dup = key.duplicated(keep="first").to_numpy() & ~off_grid
-    _report(pr, "error", file, nc.index, dup, "direction_deg", nc["direction_deg"],
+    del k
+    cls = _group_code(am, cols["speed_low_mps"][p], cols["speed_high_mps"][p])
+    ck = _group_code(cls, kk)
+    del kk
+    dup = (_first_position(ck, local) != local) & ~off_grid
+    del ck
+    _report(pr, "error", file, nidx, dup, "direction_deg", dir_,
             "each sector once per speed class",
             "sector appears twice in the same speed class: sectors overlap")
     count = np.bincount(cls)[cls]
     need = np.round(360.0 / w)
     short = count < need
     if short.any():
-        sub = nc[short]
+        sub = df.iloc[p[short]]
         groups = sub.groupby(["airfield_id", "month", "speed_low_mps", "speed_high_mps"],
                              sort=False)
         n = 0
@@ -905,15 +944,21 @@ def _sector_coverage(nc, file, pr) -> None:
                               "missing sectors"))
 
 
-def _speed_classes(df, file, pr) -> None:
-    ok = df["speed_low_mps"].notna() & df["speed_high_mps"].notna()
-    sub = df[ok]
-    calm = sub["direction_deg"].isna()
-    classes = (sub[~calm].drop_duplicates(["airfield_id", "month", "speed_low_mps",
-                                           "speed_high_mps"])
-               .sort_values(["airfield_id", "month", "speed_low_mps", "speed_high_mps"]))
-    if classes.empty:
+def _speed_classes(df, p, am_all, file, pr) -> None:
+    """Speed-class checks on rows ``p`` (positions in ``df``) with an airfield and month."""
+    lo_all, hi_all = df["speed_low_mps"].to_numpy(), df["speed_high_mps"].to_numpy()
+    p = p[~np.isnan(lo_all[p]) & ~np.isnan(hi_all[p])]
+    calm = np.isnan(df["direction_deg"].to_numpy()[p])
+    # first row of each (airfield, month, speed class) among the non-calm rows
+    q = p[~calm]
+    if q.size == 0:
         return
+    cls = _group_code(am_all[q], lo_all[q], hi_all[q])
+    local = np.arange(q.size, dtype=np.int64)
+    firsts = q[_first_position(cls, local) == local]
+    del cls, local
+    classes = (df.iloc[firsts][["airfield_id", "month", "speed_low_mps", "speed_high_mps"]]
+               .sort_values(["airfield_id", "month", "speed_low_mps", "speed_high_mps"]))
     prev_hi = classes.groupby(["airfield_id", "month"])["speed_high_mps"].shift()
     lo = classes["speed_low_mps"].to_numpy()
     with np.errstate(invalid="ignore"):
@@ -926,7 +971,7 @@ def _speed_classes(df, file, pr) -> None:
             "contiguous speed classes",
             "gap between this speed class and the one below it")
     lowest = classes.groupby(["airfield_id", "month"])["speed_low_mps"].min()
-    calms = sub[calm]
+    calms = df.iloc[p[calm]]
     if not calms.empty:
         keyidx = pd.MultiIndex.from_arrays([calms["airfield_id"], calms["month"]])
         low_cls = lowest.reindex(keyidx).to_numpy()
