@@ -869,6 +869,37 @@ def _group_code(*cols) -> np.ndarray:
     return pd.factorize(code)[0].astype(np.int64)
 
 
+_BLOCK_ROWS = 1 << 20
+"""Rows of whole airfield-months checked together: the temporaries stay this size."""
+
+
+def _group_blocks(p: np.ndarray, am_all: np.ndarray):
+    """Blocks of whole groups of rows ``p`` (ascending positions) by the group code.
+
+    Yields ``(rows, local, where)``: the block's positions (grouped by code, ascending
+    within a group), a dense 0-based group code per row, and the rows' places in ``p``.
+    """
+    a = am_all[p]
+    if a.size and np.all(a[1:] >= a[:-1]):
+        order = None  # already grouped (the usual file layout): no sort needed
+        rows_all, a_sorted = p, a
+    else:
+        order = np.argsort(a, kind="stable")
+        rows_all, a_sorted = p[order], a[order]
+    del a
+    b0 = 0
+    n = rows_all.size
+    while b0 < n:
+        b1 = min(b0 + _BLOCK_ROWS, n)
+        if b1 < n:  # extend to the end of the group
+            b1 = int(np.searchsorted(a_sorted, a_sorted[b1 - 1], side="right"))
+        seg = a_sorted[b0:b1]
+        local = np.cumsum(np.r_[0, seg[1:] != seg[:-1]]).astype(np.int64)
+        where = np.arange(b0, b1) if order is None else order[b0:b1]
+        yield rows_all[b0:b1], local, where
+        b0 = b1
+
+
 def _sector_coverage(df, p, am_all, file, pr) -> None:
     """Sector checks on rows ``p`` (positions in ``df``) of the non-calm, keyed rows."""
     cols = {c: df[c].to_numpy() for c in ("sector_width_deg", "direction_deg",
@@ -881,43 +912,42 @@ def _sector_coverage(df, p, am_all, file, pr) -> None:
     if p.size == 0:
         return
     nidx = df.index[p]
-    am = pd.factorize(am_all[p])[0].astype(np.int64)
-    w = cols["sector_width_deg"][p]
-    ng = int(am.max()) + 1
-    wmin = np.full(ng, np.inf)
-    wmax = np.full(ng, -np.inf)
-    np.minimum.at(wmin, am, w)
-    np.maximum.at(wmax, am, w)
-    local = np.arange(p.size, dtype=np.int64)
-    firstw = w[_first_position(am, local)]
-    mixed = (wmin != wmax)[am]
-    _report(pr, "error", file, nidx, mixed & (w != firstw),
-            "sector_width_deg", w, "one sector width per airfield and month",
+    w_all, d_all = cols["sector_width_deg"], cols["direction_deg"]
+    lo_all, hi_all = cols["speed_low_mps"], cols["speed_high_mps"]
+    width_bad = np.zeros(p.size, dtype=bool)
+    off_grid = np.zeros(p.size, dtype=bool)
+    dup = np.zeros(p.size, dtype=bool)
+    short = np.zeros(p.size, dtype=bool)
+    for rows, am, where in _group_blocks(p, am_all):
+        w = w_all[rows]
+        ng = int(am[-1]) + 1
+        wmin = np.full(ng, np.inf)
+        wmax = np.full(ng, -np.inf)
+        np.minimum.at(wmin, am, w)
+        np.maximum.at(wmax, am, w)
+        firstw = w[_first_position(am, np.arange(rows.size, dtype=np.int64))]
+        width_bad[where] = (wmin != wmax)[am] & (w != firstw)
+        d = d_all[rows] % 360.0
+        d0 = np.full(ng, np.inf)
+        np.minimum.at(d0, am, d)
+        k = (d - d0[am]) / w
+        og = np.abs(k - np.round(k)) > 1e-6
+        off_grid[where] = og
+        kk = np.round(k).astype(np.int64)
+        cls = _group_code(am, lo_all[rows], hi_all[rows])
+        ck = _group_code(cls, kk)
+        dup[where] = (_first_position(ck, rows) != rows) & ~og
+        count = np.bincount(cls)[cls]
+        short[where] = count < np.round(360.0 / w)
+    _report(pr, "error", file, nidx, width_bad,
+            "sector_width_deg", w_all[p], "one sector width per airfield and month",
             "sector width differs from the first row of the same airfield and month")
-    del mixed, firstw, wmin, wmax
-    dir_ = cols["direction_deg"][p]
-    d = dir_ % 360.0
-    d0 = np.full(ng, np.inf)
-    np.minimum.at(d0, am, d)
-    k = (d - d0[am]) / w
-    del d, d0
-    off_grid = np.abs(k - np.round(k)) > 1e-6
-    _report(pr, "error", file, nidx, off_grid, "direction_deg", dir_,
+    _report(pr, "error", file, nidx, off_grid, "direction_deg", d_all[p],
             "sector centres a whole number of sector widths apart",
             "direction is not on the sector grid of its airfield and month: sectors overlap")
-    kk = np.round(k).astype(np.int64)
-    del k
-    cls = _group_code(am, cols["speed_low_mps"][p], cols["speed_high_mps"][p])
-    ck = _group_code(cls, kk)
-    del kk
-    dup = (_first_position(ck, local) != local) & ~off_grid
-    del ck
-    _report(pr, "error", file, nidx, dup, "direction_deg", dir_,
+    _report(pr, "error", file, nidx, dup, "direction_deg", d_all[p],
             "each sector once per speed class",
             "sector appears twice in the same speed class: sectors overlap")
-    count = np.bincount(cls)[cls]
-    need = np.round(360.0 / w)
-    short = count < need
     if short.any():
         sub = df.iloc[p[short]]
         groups = sub.groupby(["airfield_id", "month", "speed_low_mps", "speed_high_mps"],
@@ -953,10 +983,12 @@ def _speed_classes(df, p, am_all, file, pr) -> None:
     q = p[~calm]
     if q.size == 0:
         return
-    cls = _group_code(am_all[q], lo_all[q], hi_all[q])
-    local = np.arange(q.size, dtype=np.int64)
-    firsts = q[_first_position(cls, local) == local]
-    del cls, local
+    parts = []
+    for rows, am, _ in _group_blocks(q, am_all):
+        cls = _group_code(am, lo_all[rows], hi_all[rows])
+        parts.append(rows[_first_position(cls, rows) == rows])
+    firsts = np.sort(np.concatenate(parts))
+    del parts
     classes = (df.iloc[firsts][["airfield_id", "month", "speed_low_mps", "speed_high_mps"]]
                .sort_values(["airfield_id", "month", "speed_low_mps", "speed_high_mps"]))
     prev_hi = classes.groupby(["airfield_id", "month"])["speed_high_mps"].shift()
