@@ -64,13 +64,7 @@ def _canonical_order(df: pd.DataFrame, table: str) -> np.ndarray:
     span = 1
     codes = []
     for k in spec.key:
-        col = df[k].to_numpy()
-        if spec.column(k).dtype != "str":
-            col = _rounded(col)
-        else:
-            col = col.astype(object)
-        f, uniq = pd.factorize(col, sort=True, use_na_sentinel=True)
-        codes.append((f.astype(np.int64) + 1, len(uniq) + 1))  # blanks (-1) first
+        codes.append(_key_codes(df[k], spec.column(k).dtype == "str"))
     for f, m in codes:
         span *= m
     if span >= 2 ** 62:  # pragma: no cover - only for absurdly many distinct keys
@@ -79,6 +73,33 @@ def _canonical_order(df: pd.DataFrame, table: str) -> np.ndarray:
         code *= m
         code += f
     return np.argsort(code, kind="stable")
+
+
+def _key_codes(series: pd.Series, text: bool) -> tuple[np.ndarray, int]:
+    """Codes 1 … m in ascending order of the (rounded) values, 0 for blanks; and m + 1."""
+    if text:
+        # the series' own factorize: no Python string per row for Arrow-backed text
+        f, uniq = pd.factorize(series if pd.api.types.is_string_dtype(series)
+                               else series.astype(object), sort=True, use_na_sentinel=True)
+        return f.astype(np.int64) + 1, len(uniq) + 1
+    v = series.to_numpy()
+    n = v.size
+    uniq = np.empty(0)
+    for s in range(0, n, _BLOCK_ROWS):
+        r = _rounded(v[s:s + _BLOCK_ROWS])
+        uniq = np.union1d(uniq, np.unique(r[~np.isnan(r)]))
+    out = np.empty(n, dtype=np.int64)
+    for s in range(0, n, _BLOCK_ROWS):
+        r = _rounded(v[s:s + _BLOCK_ROWS])
+        c = np.searchsorted(uniq, r) + 1
+        c[np.isnan(r)] = 0
+        out[s:s + _BLOCK_ROWS] = c
+    return out, uniq.size + 1
+
+
+def _take(series: pd.Series, rows: np.ndarray) -> np.ndarray:
+    """Values of ``series`` at positions ``rows`` as an object array (only those rows)."""
+    return np.asarray(series.array.take(rows), dtype=object)
 
 
 def _round_sig(v: np.ndarray, digits: int) -> np.ndarray:
@@ -115,11 +136,10 @@ def frame_hash(df: pd.DataFrame, table: str) -> str:
             h.update(_num_block(df, num, rows))
     for c in txt:
         h.update(b"\x1e")
-        values = df[c].to_numpy()
         for i, rows in enumerate(blocks):
             if i:
                 h.update(b"\x1f")
-            h.update(_text_bytes(values[rows]))
+            h.update(_text_bytes(_take(df[c], rows)))
     return f"{VERSION}:{h.hexdigest()}"
 
 
@@ -130,7 +150,10 @@ def _group_hashes(df: pd.DataFrame, table: str, by: str) -> dict[str, bytes]:
     order = _canonical_order(df, table)  # sorted by the key, whose first column is ``by``
     if order.size == 0:
         return {}
-    keys = df[by].to_numpy()[order]
+    kcode, kuniq = pd.factorize(df[by], use_na_sentinel=False)
+    kuniq = np.asarray(kuniq, dtype=object)
+    keys = kcode[order]
+    del kcode
     num = [c.name for c in spec.columns if c.dtype != "str"]
     txt = [c.name for c in spec.columns if c.dtype == "str" and c.name != by]
     header = ",".join(c.name for c in spec.columns).encode()
@@ -146,14 +169,15 @@ def _group_hashes(df: pd.DataFrame, table: str, by: str) -> dict[str, bytes]:
         rows = order[b0:b1]
         mat = np.frombuffer(_num_block(df, num, rows), dtype=np.float64).reshape(
             rows.size, len(num)) if num else np.empty((rows.size, 0))
-        texts = [df[c].to_numpy()[rows] for c in txt]
+        texts = [_take(df[c], rows) for c in txt]
         for s, e in zip(starts[g:last] - b0, ends[g:last] - b0):
             h = hashlib.sha256(header)
-            h.update(str(keys[b0 + s]).encode("utf-8"))
+            key = kuniq[keys[b0 + s]]
+            h.update(str(key).encode("utf-8"))
             h.update(mat[s:e].tobytes())
             for t in texts:
                 h.update(b"\x1e" + _text_bytes(t[s:e]))
-            out[keys[b0 + s]] = h.digest()
+            out[key] = h.digest()
         g = last
     return out
 
