@@ -274,10 +274,12 @@ def _read_csv(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
     spec = TABLES.get(path.stem)
     df = None
     if spec is not None and len(set(names)) == len(names):
-        text = None  # the decoded copy is not needed on the fast path; decoded again if so
-        df = _read_csv_typed(data, names, spec)  # the bytes: no 4-byte-per-character copy
+        # neither the decoded text nor the bytes are held while parsing (the file is read
+        # again by the parser); decoded again only when the slow path needs them
+        text = data = None
+        df = _read_csv_typed(path, names, spec)
         if df is None:
-            text = data.decode("utf-8-sig")
+            text = path.read_bytes().decode("utf-8-sig")
     del data
     try:
         if df is None:
@@ -307,7 +309,7 @@ _NA_VALUES = sorted({v for m in _MISSING for v in (m, m.upper(), m.capitalize())
                     | {"NaN", "N/A", "#N/A"})
 
 
-def _read_csv_typed(text: str | bytes, names: list[str], spec: TableSpec) -> pd.DataFrame | None:
+def _read_csv_typed(text: str | bytes | Path, names: list[str], spec: TableSpec) -> pd.DataFrame | None:
     """Fast path: parse numeric columns as numbers directly; None when any cell is not one.
 
     The slower text path then finds and reports each bad cell. ``text`` may be the file's
@@ -317,8 +319,11 @@ def _read_csv_typed(text: str | bytes, names: list[str], spec: TableSpec) -> pd.
     dtypes = {i: (float if n in known and known[n].dtype != "str" else str)
               for i, n in enumerate(names)}
     try:
-        raw = text if isinstance(text, bytes) else text.encode("utf-8")
-        df = pd.read_csv(io.BytesIO(raw), header=0, names=list(range(len(names))),
+        if isinstance(text, Path):
+            source = text
+        else:
+            source = io.BytesIO(text if isinstance(text, bytes) else text.encode("utf-8"))
+        df = pd.read_csv(source, header=0, names=list(range(len(names))),
                          dtype=dtypes, keep_default_na=False, na_values=_NA_VALUES,
                          skip_blank_lines=False, engine="c", encoding="utf-8-sig")
     except (ValueError, pd.errors.ParserError, csv.Error):
