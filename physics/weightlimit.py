@@ -597,9 +597,15 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
 
 
 #: ITP parameters (Oliveira & Takahashi 2020): kappa1 = ITP_KAPPA1/(b0 − a0), kappa2, n0.
-ITP_KAPPA1 = 0.2
+#: A small kappa1 keeps the first steps close to the interpolated root (the margins are
+#: smooth in the mass); n0 = 3 allows at most three evaluations beyond bisection.
+ITP_KAPPA1 = 1e-4
 ITP_KAPPA2 = 2.0
-ITP_N0 = 6
+ITP_N0 = 3
+
+#: Exponent p of the estimate d ∝ m^p used for the value at OEW before it is evaluated
+#: (ground run ∝ V_LOF²/a with V_LOF² ∝ m and a falling with m: p ≈ 2). [–]
+DISTANCE_MASS_EXPONENT = 2.0
 
 
 def _itp_value(margin):
@@ -614,7 +620,7 @@ def _itp_value(margin):
         return np.where(m > -1.0, -np.log1p(np.maximum(m, -1.0)), np.inf)
 
 
-def _itp_search(cases, margins_fn, lo, hi, m_lo, m_hi, tol_kg):
+def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     """Vectorised ITP bracket search for the largest mass with least margin ≥ 0.
 
     Parameters
@@ -622,21 +628,28 @@ def _itp_search(cases, margins_fn, lo, hi, m_lo, m_hi, tol_kg):
     cases : Cases
         Prepared cases (one per element of ``lo``).
     margins_fn : callable
-        ``margins_fn(cases, mass) -> array (n_requirements, n)``: every requirement's margin
-        (−inf where impossible). [–]
+        ``margins_fn(cases, mass) -> (margins, memo)``: every requirement's margin, shape
+        (n_requirements, n) (−inf where impossible), and the trial mass's memo. [–]
     lo, hi : numpy.ndarray
-        Bracket: feasible at ``lo``, infeasible at ``hi``. [kg]
-    m_lo, m_hi : numpy.ndarray
-        Margins at the ends, shape (n_requirements, n). [–]
+        Bracket: OEW (not yet evaluated) and a mass that fails (MTOW). [kg]
+    m_hi : numpy.ndarray
+        Margins at ``hi``, shape (n_requirements, n). [–]
     tol_kg : float
         Final bracket width. [kg]
+    capture : callable, optional
+        ``capture(cases, mass, memo, local, index)``, called after each evaluation with the
+        positions ``local`` (into ``cases``) and ``index`` (into the full arrays) of the
+        cases found feasible at ``mass``: the last call for a case is at its final mass.
 
     Returns
     -------
     lo, hi : numpy.ndarray
-        Bracket narrower than ``tol_kg``, feasible at ``lo``, infeasible at ``hi``. [kg]
+        Bracket narrower than ``tol_kg``, feasible at ``lo``, infeasible at ``hi``; where
+        ``none``, lo = hi = OEW. [kg]
     margins_hi : numpy.ndarray
         Every requirement's margin at ``hi``. [–]
+    none : numpy.ndarray of bool
+        Cases that fail at OEW (``no_takeoff``).
     iterations : int
         Evaluations made. [–]
     v1_state : dict or None
@@ -645,16 +658,22 @@ def _itp_search(cases, margins_fn, lo, hi, m_lo, m_hi, tol_kg):
 
     Notes
     -----
-    Interpolate (regula falsi on g = −log(1 + margin), :func:`_itp_value`, with the Illinois halving of an end's value
-    when the other end has moved twice in a row), truncate towards the midpoint by
-    max(kappa1 (b − a)^kappa2, eps/2) (the floor of eps/2 makes the step land across the root
-    once the interpolation is that accurate, so the bracket closes from both sides), project
-    into the ball of radius eps 2^(n_max − j) − (b − a)/2
-    around the midpoint (eps = tol/2, n_max = ceil(log2((b0 − a0)/tol)) + n0): never more
-    than n0 evaluations beyond bisection, superlinear where the margin is smooth. A margin of
-    −inf (impossible) makes that step a bisection. Each case follows its own sequence, so a
-    scalar call equals the array element. Cases whose bracket has closed are dropped from
-    the evaluations once they are at least half of those still evaluated.
+    Interpolate (regula falsi on g = −log(1 + margin), :func:`_itp_value`, with the Illinois
+    halving of an end's value when the other end has moved twice in a row), truncate towards
+    the midpoint by max(kappa1 (b − a)^kappa2, eps/2) (the floor of eps/2 makes the step land
+    across the root once the interpolation is that accurate, so the bracket closes from both
+    sides), project into the ball of radius eps 2^(n_max − j) − (b − a)/2 around the midpoint
+    (eps = tol/2, n_max = ceil(log2((b0 − a0)/tol)) + n0): never more than n0 evaluations
+    beyond bisection, superlinear where the margin is smooth. A margin of −inf (impossible)
+    makes that step a bisection.
+
+    OEW is evaluated only when needed: until then its value is estimated from the value at
+    MTOW as g(MTOW) + p ln(OEW/MTOW) (:data:`DISTANCE_MASS_EXPONENT`, d ∝ m^p); a case
+    found feasible at a trial mass is feasible at OEW (margins fall with the mass), and a
+    case whose first trial fails has OEW evaluated next, where failing ends its search as
+    ``no_takeoff``. Each case follows its own sequence, so a scalar call equals the array
+    element. Cases whose bracket has closed are dropped from the evaluations once they are
+    at least half of those still evaluated.
 
     References
     ----------
@@ -665,113 +684,193 @@ def _itp_search(cases, margins_fn, lo, hi, m_lo, m_hi, tol_kg):
     .. [5] M. Dowell, P. Jarratt, "A modified regula falsi method for computing the root of an
        equation", *BIT* 11, 1971 (the Illinois method).
     """
-    lo, hi = lo.astype(float).copy(), hi.astype(float).copy()
-    m_hi = np.array(m_hi, dtype=float, copy=True)
-    ga, gb = _itp_value(m_lo.min(axis=0)), _itp_value(m_hi.min(axis=0))
+    lo_out, hi_out = lo.astype(float).copy(), hi.astype(float).copy()
+    mhi_out = np.array(m_hi, dtype=float, copy=True)
+    none_out = np.zeros(lo.size, dtype=bool)
+    v1_state = None  # last V1 of each case (engine-failure search), handed back for reuse
+    if lo.size == 0:
+        return lo_out, hi_out, mhi_out, none_out, 0, v1_state
     eps = 0.5 * tol_kg
-    width0 = np.maximum(hi - lo, tol_kg)
+    grid = tol_kg / 64.0
+    # State of the cases still searched (compacted as brackets close): ends A < B (masses,
+    # their logarithms u and the interpolated values G, Illinois-halved), margins at B, and
+    # the last three evaluations (u, g) for the secant and inverse quadratic steps.
+    idx = np.arange(lo.size)
+    A, B, MH = lo_out.copy(), hi_out.copy(), mhi_out.copy()
+    uA, uB = np.log(A), np.log(B)
+    GB = _itp_value(MH.min(axis=0))
+    with np.errstate(invalid="ignore"):
+        GA = np.minimum(GB + DISTANCE_MASS_EXPONENT * (uA - uB), -1e-3)  # estimate until evaluated
+    width0 = np.maximum(B - A, tol_kg)
     n_max = np.ceil(np.log2(width0 / tol_kg)) + ITP_N0
     k1 = ITP_KAPPA1 / width0
-    lo0 = lo.copy()
-    grid = tol_kg / 64.0
-    v1_state = None  # last V1 of each case (engine-failure search), handed back for reuse
-    cur = np.arange(lo.size)
-    side = np.zeros(lo.size, dtype=int)  # +1: the low end moved last, −1: the high end
+    lo0 = A.copy()
+    known = np.zeros(lo.size, dtype=bool)  # the low end is known feasible (evaluated, or a trial)
+    none = np.zeros(lo.size, dtype=bool)
+    side = np.zeros(lo.size, dtype=np.int8)  # +1: the low end moved last, −1: the high end
+    ul, gl = uB.copy(), GB.copy()
+    up, gp, uq, gq = (np.full(lo.size, np.nan) for _ in range(4))
     sub = cases
+
+    def flush(mask):
+        k = idx[mask]
+        lo_out[k], hi_out[k], none_out[k] = A[mask], B[mask], none[mask]
+        mhi_out[:, k] = MH[:, mask]
+
     j = 0
-    limit_iter = int(n_max.max()) + 2 if lo.size else 0
+    limit_iter = int(n_max.max()) + 3
     while j < limit_iter:
-        live_all = (hi - lo) > tol_kg
-        if not live_all.any():
-            break
-        live_cur = live_all[cur]
-        if live_cur.sum() <= 0.5 * cur.size:
-            keep = np.nonzero(live_cur)[0]
-            sub = sub.take(keep)
-            cur = cur[keep]
-        A, B, GA, GB = lo[cur], hi[cur], ga[cur], gb[cur]
         w = B - A
+        open_ = w > tol_kg
+        # a bracket that closed with OEW unevaluated stays live until OEW is evaluated
+        live = open_ | (~known & ~none)
+        n_live = int(np.count_nonzero(live))
+        if n_live == 0:
+            break
+        if n_live <= 0.5 * idx.size:
+            flush(~live)
+            keep = np.nonzero(live)[0]
+            sub = sub.take(keep)
+            idx, A, B, uA, uB, GA, GB, w, open_ = (v[keep] for v in (idx, A, B, uA, uB, GA, GB, w, open_))
+            n_max, k1, lo0, known, none, side = (v[keep] for v in (n_max, k1, lo0, known, none, side))
+            ul, gl, up, gp, uq, gq = (v[keep] for v in (ul, gl, up, gp, uq, gq))
+            MH = MH[:, keep]
         xh = 0.5 * (A + B)
-        r = np.maximum(eps * 2.0 ** (n_max[cur] - j) - 0.5 * w, 0.0)
-        delta = np.maximum(k1[cur] * w ** ITP_KAPPA2, 0.5 * eps)  # at least half a tolerance: straddle the root
+        r = np.maximum(eps * 2.0 ** (n_max - j) - 0.5 * w, 0.0)
+        delta = np.maximum(k1 * w ** ITP_KAPPA2, 0.5 * eps)  # at least half a tolerance: straddle the root
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            xf = (GB * A - GA * B) / (GB - GA)
+            # in u = ln m: regula falsi on the bracket; the secant through the last two
+            # evaluations, and inverse quadratic interpolation through the last three, where
+            # they fall inside the bracket
+            uf = (GB * uA - GA * uB) / (GB - GA)
+            us = ul - gl * (ul - up) / (gl - gp)
+            ui = (ul * gp * gq / ((gl - gp) * (gl - gq)) + up * gl * gq / ((gp - gl) * (gp - gq))
+                  + uq * gl * gp / ((gq - gl) * (gq - gp)))
+            uf = np.where((us > uA) & (us < uB), us, uf)
+            uf = np.where((ui > uA) & (ui < uB), ui, uf)
+            xf = np.exp(uf)
         xf = np.where(np.isfinite(xf), xf, xh)
         sigma = np.sign(xh - xf)
         xt = np.where(delta <= np.abs(xh - xf), xf + sigma * delta, xh)
+        # close-out: the estimate within 0.9 tolerance of an end → step across it, to midway
+        # between it and one tolerance from that end, so the bracket closes
+        near_b, near_a = (B - xf) < 0.9 * tol_kg, (xf - A) < 0.9 * tol_kg
+        xt = np.where(near_b & ~near_a, 0.5 * (xf + B - tol_kg), np.where(near_a & ~near_b, 0.5 * (xf + A + tol_kg), xt))
         x = np.where(np.abs(xt - xh) <= r, xt, xh - sigma * r)
         # on a grid of tol/64 from the starting end: rounding noise of the margins (SIMD paths
         # differ with the batch) then cannot move the result, so a scalar call equals the
         # array element exactly
-        x = np.clip(lo0[cur] + np.round((x - lo0[cur]) / grid) * grid, A, B)
-        mg = margins_fn(sub, x)
+        x = np.clip(lo0 + np.round((x - lo0) / grid) * grid, A, B)
+        # OEW itself where a trial has failed (or the bracket closed) before any succeeded
+        check = ~known & ((side == -1) | ~open_)
+        x = np.where(check, A, x)
+        mg, memo = margins_fn(sub, x)
         g = _itp_value(mg.min(axis=0))
         st = sub._cache.get("engine_failure_state")
         if st and st.get("v1") is not None:
             if v1_state is None:
                 v1_state = {"v1": np.full(lo.size, np.nan), "mass": np.full(lo.size, np.nan)}
-            v1_state["v1"][cur], v1_state["mass"][cur] = st["v1"], st["mass"]
-        live = (B - A) > tol_kg
-        feas = live & (g <= 0.0)
-        infeas = live & ~(g <= 0.0)
+            v1_state["v1"][idx], v1_state["mass"][idx] = st["v1"], st["mass"]
+        ok = g <= 0.0
+        feas = (open_ | check) & ok
+        infeas = open_ & ~ok & ~check
+        failed = check & ~ok
+        if capture is not None and feas.any():
+            local = np.nonzero(feas)[0]
+            capture(sub, x, memo, local, idx[local])
+        ux = np.log(x)
         # Illinois: an end kept twice in a row has its value halved for the interpolation
-        prev = side[cur]
-        lo[cur] = np.where(feas, x, A)
-        ga[cur] = np.where(feas, g, np.where(infeas & (prev == -1), 0.5 * GA, GA))
-        hi[cur] = np.where(infeas, x, B)
-        m_hi[:, cur] = np.where(infeas, mg, m_hi[:, cur])
-        gb[cur] = np.where(infeas, g, np.where(feas & (prev == 1), 0.5 * GB, GB))
-        side[cur] = np.where(feas, 1, np.where(infeas, -1, prev))
+        prev = side
+        known = known | feas
+        none = none | failed
+        A, uA = np.where(feas, x, A), np.where(feas, ux, uA)
+        GA = np.where(feas, g, np.where(infeas & (prev == -1), 0.5 * GA, GA))
+        B, uB = np.where(infeas, x, np.where(failed, A, B)), np.where(infeas, ux, np.where(failed, uA, uB))
+        GB = np.where(infeas, g, np.where(feas & ~check & (prev == 1), 0.5 * GB, GB))
+        MH = np.where(infeas, mg, MH)
+        side = np.where(check, 0, np.where(feas, 1, np.where(infeas, -1, prev))).astype(np.int8)
+        uq, gq, up, gp, ul, gl = up, gp, ul, gl, ux, g
         j += 1
-    return lo, hi, m_hi, j, v1_state
+    flush(np.ones(idx.size, dtype=bool))
+    return lo_out, hi_out, mhi_out, none_out, j, v1_state
 
 
 def _solve(aircraft, site, tol_kg, reqs):
-    cases = prepare_cases(aircraft, site, vmcg_floor=any(r.margin in _ENGINE_FAILURE_MARGINS for r in reqs))
+    engine_failure = any(r.margin in _ENGINE_FAILURE_MARGINS for r in reqs)
+    cases = prepare_cases(aircraft, site, vmcg_floor=engine_failure)
     a = cases.aircraft
-    lo = a.oew_kg.copy()
-    hi = a.mtow_kg.copy()
 
     def margins_fn(cs, mass):
-        return requirement_margins(cs, mass, reqs)[0]
+        return requirement_margins(cs, mass, reqs)
 
-    m_hi = margins_fn(cases, hi)
+    # MTOW first: the cases that meet every requirement there are structural and need no
+    # further evaluation.
+    m_hi, memo_hi = requirement_margins(cases, a.mtow_kg, reqs)
     structural = m_hi.min(axis=0) >= 0.0
-    m_lo = margins_fn(cases, lo)
-    none = ~structural & ~(m_lo.min(axis=0) >= 0.0)
-    active = np.nonzero(~structural & ~none)[0]
     factor = np.where(structural, limits.code("structural"), limits.code("no_takeoff"))
     limit = np.where(structural, a.mtow_kg, np.nan)
-    if active.size:
-        sub = cases.take(active)
-        lo, hi, _, _, v1_state = _itp_search(sub, margins_fn, lo[active], hi[active], m_lo[:, active],
-                                             m_hi[:, active], tol_kg)
-        # The factor: the requirement most violated just above the limit, with V1 converged
-        # (the search's last V1, within a kilogram, and further Newton steps): at a balanced
-        # V1 the go and stop margins tie and only a converged V1 names the binding one
-        # reproducibly.
-        sub = cases.take(active)
-        sub._cache["engine_failure_final"] = True
-        if v1_state is not None:
-            sub._cache["engine_failure_state"] = {k: v.copy() for k, v in v1_state.items()}
-            st = cases._cache.get("engine_failure_state")
-            if st is not None:
-                st["v1"][active], st["mass"][active] = v1_state["v1"], v1_state["mass"]
-        else:
-            sub._cache.pop("engine_failure_state", None)
-        margins_hi, _ = requirement_margins(sub, hi, reqs)
-        codes = np.array([limits.code(r.factor) for r in reqs])
-        factor[active] = codes[np.argmin(margins_hi, axis=0)]
-        limit[active] = lo
-
-    # Figures at the limit mass (OEW stands in for no_takeoff cases and is blanked), with a
-    # fully converged V1.
-    cases._cache["engine_failure_final"] = True
-    _, memo = requirement_margins(cases, np.where(none, a.oew_kg, limit), reqs)
-    mass = np.where(none, a.oew_kg, limit)
+    none = np.zeros(cases.n, dtype=bool)
     out = {k: np.full(cases.n, np.nan) for k in _RESULT_FIELDS}
-    for r in reqs:
-        if r.report is not None:
-            for key, val in r.report(cases, mass, memo).items():
-                out[key] = np.where(none, np.nan, np.asarray(val, dtype=float))
+    reporting = [r for r in reqs if r.report is not None]
+
+    def capture(cs, mass, memo, local, index):
+        # figures at each case's last feasible trial mass = its limit
+        for r in reporting:
+            for key, val in r.report(cs, mass, memo).items():
+                out[key][index] = np.asarray(val, dtype=float)[local]
+
+    rest = np.nonzero(~structural)[0]
+    codes = np.array([limits.code(r.factor) for r in reqs])
+    if rest.size:
+        sub = cases.take(rest)
+        lo, hi, m_top, none_rest, _, v1_state = _itp_search(
+            sub, margins_fn, a.oew_kg[rest], a.mtow_kg[rest], m_hi[:, rest], tol_kg,
+            capture=None if engine_failure else _shifted(capture, rest))
+        none[rest] = none_rest
+        ok = ~none_rest
+        active = rest[ok]
+        if engine_failure and active.size:
+            # The factor: the requirement most violated just above the limit, with V1
+            # converged (the search's last V1, within a kilogram, and further Newton steps):
+            # at a balanced V1 the go and stop margins tie and only a converged V1 names the
+            # binding one reproducibly.
+            sub = cases.take(active)
+            sub._cache["engine_failure_final"] = True
+            if v1_state is not None:
+                v1_state = {k: v[ok] for k, v in v1_state.items()}
+                sub._cache["engine_failure_state"] = {k: v.copy() for k, v in v1_state.items()}
+                st = cases._cache.get("engine_failure_state")
+                if st is not None:
+                    st["v1"][active], st["mass"][active] = v1_state["v1"], v1_state["mass"]
+            else:
+                sub._cache.pop("engine_failure_state", None)
+            m_top, _ = requirement_margins(sub, hi[ok], reqs)
+        else:
+            m_top = m_top[:, ok]
+        # the requirement most violated just above the limit (the margins at the bracket's
+        # upper end)
+        factor[active] = codes[np.argmin(m_top, axis=0)]
+        limit[active] = lo[ok]
+
+    # Figures at the limit mass: without engine-failure requirements they were taken during
+    # the search (structural cases: from the MTOW evaluation); with them every case with a
+    # limit is evaluated again with a fully converged V1. no_takeoff cases are blank.
+    if engine_failure:
+        final = np.nonzero(~none)[0]
+        if final.size:
+            sub = cases.take(final)
+            sub._cache["engine_failure_final"] = True
+            mass = limit[final]
+            _, memo = requirement_margins(sub, mass, reqs)
+            capture(sub, mass, memo, np.arange(final.size), final)
+    elif structural.any():
+        idx = np.nonzero(structural)[0]
+        capture(cases, a.mtow_kg, memo_hi, idx, idx)
+    for key in out:
+        out[key][none] = np.nan
     return WeightLimit(tow_limit_kg=limit, limiting_factor=factor.astype(np.int64), **out)
+
+
+def _shifted(capture, index):
+    """``capture`` for a search over the cases ``index`` of the full arrays."""
+    return lambda cs, mass, memo, local, sub_index: capture(cs, mass, memo, local, index[sub_index])
