@@ -98,7 +98,8 @@ def takeoff_run_m(ground_run_m, airborne_m, clearway_m):
 def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_ground, cl_ground, mu,
                         cl_max, vr_over_vs, vlof_over_vs, v2_over_vs, cd0_airborne, induced_factor,
                         headwind_mps=0.0, slope=0.0, screen_height_m=c.SCREEN_HEIGHT_35FT_M, clearway_m=0.0,
-                        load_factor=airborne.TRANSITION_LOAD_FACTOR, rotation_time_s=0.0, nodes=None):
+                        load_factor=airborne.TRANSITION_LOAD_FACTOR, rotation_time_s=0.0, nodes=None,
+                        ground_terms=None):
     """All-engines takeoff of n cases at trial masses.
 
     Parameters
@@ -139,6 +140,10 @@ def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_
     nodes : int, optional
         Gauss–Legendre nodes for propeller cases (default: per case, see
         :func:`physics.groundrun.nodes_for_ratio`). [–]
+    ground_terms : physics.groundrun.GroundRunTerms, optional
+        :func:`physics.groundrun.ground_run_terms` of these cases (thrust law, area,
+        density, ``cd_ground``, ``cl_ground``, ``mu``, ``slope``), when a search over the mass
+        has computed them once.
 
     Returns
     -------
@@ -162,9 +167,12 @@ def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_
     w = np.asarray(headwind_mps, dtype=float)
     vs = aero.stall_speed_mps(m, rho, s, cl_max)
     vr, vlof, v2 = aero.takeoff_speeds_mps(vs, vr_over_vs, vlof_over_vs, v2_over_vs)
-    gr = groundrun.ground_run_for_thrust_law(thrust_law, mass_kg=m, wing_area_m2=s, density_kg_m3=rho, cd=cd_ground,
-                                             cl=cl_ground, mu=mu, v_lof_mps=vlof, headwind_mps=w, slope=slope,
-                                             nodes=nodes)
+    if ground_terms is None:
+        gr = groundrun.ground_run_for_thrust_law(thrust_law, mass_kg=m, wing_area_m2=s, density_kg_m3=rho,
+                                                 cd=cd_ground, cl=cl_ground, mu=mu, v_lof_mps=vlof, headwind_mps=w,
+                                                 slope=slope, nodes=nodes)
+    else:
+        gr = groundrun.ground_run_from_terms(ground_terms, mass_kg=m, v_lof_mps=vlof, headwind_mps=w, nodes=nodes)
     ground = gr.distance_m
     if np.any(np.asarray(rotation_time_s) != 0.0):
         ground = ground + groundrun.rotation_allowance_m(vlof, w, rotation_time_s)

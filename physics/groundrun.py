@@ -756,6 +756,150 @@ def ground_run_m(*, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, thrust0_n,
     return _scalar_out(out, *args)
 
 
+class GroundRunTerms(NamedTuple):
+    """Mass-independent parts of the ground-run acceleration of n cases.
+
+    Attributes
+    ----------
+    law : physics.thrust.ThrustLaw
+        Thrust of the operating engines, fields of shape (n,).
+    drag_term_kg_m : numpy.ndarray
+        ½ rho S (C_D − mu C_L). [kg/m]
+    resistance_mps2 : numpy.ndarray
+        g (mu cos g + sin g): friction and slope per unit mass. [m/s²]
+    kink_mps : numpy.ndarray
+        Propeller kink airspeed V_k (inf for polynomial thrust). [m/s]
+    valid : numpy.ndarray of bool
+        Density and area positive.
+    """
+
+    law: object
+    drag_term_kg_m: np.ndarray
+    resistance_mps2: np.ndarray
+    kink_mps: np.ndarray
+    valid: np.ndarray
+
+
+def ground_run_terms(thrust_law, *, wing_area_m2, density_kg_m3, cd, cl, mu, slope=0.0):
+    """The mass-independent parts of :func:`ground_run_for_thrust_law`, computed once.
+
+    Parameters
+    ----------
+    thrust_law : physics.thrust.ThrustLaw
+        Total thrust of the operating engines, n cases.
+    wing_area_m2, density_kg_m3, cd, cl, mu : array_like
+        As :func:`ground_run_m`. [m²], [kg/m³], [–], [–], [–]
+    slope : array_like, optional
+        Gradient, + uphill. [–]
+
+    Returns
+    -------
+    GroundRunTerms
+        Arrays of shape (n,).
+
+    Notes
+    -----
+    a(V) = (T(V) − D_t V|V|)/m − R with D_t = ½ rho S (C_D − mu C_L) and
+    R = g (mu cos g + sin g) (:func:`acceleration_coefficients`, divided through by the mass).
+
+    References
+    ----------
+    .. [1] Raymer, §17.8, Eq. 17.100.
+    """
+    shape = np.broadcast_shapes(*(np.shape(x) for x in (wing_area_m2, density_kg_m3, cd, cl, mu, slope,
+                                                        thrust_law.t0_n)))
+    n1 = np.atleast_1d(np.empty(shape)).shape
+    area, rho, cd, cl, mu, slope = (np.broadcast_to(np.atleast_1d(_f(x)), n1) for x in (
+        wing_area_m2, density_kg_m3, cd, cl, mu, slope))
+    law = type(thrust_law)(*(np.broadcast_to(np.atleast_1d(getattr(thrust_law, f)), n1) for f in (
+        "t0_n", "t1_n_per_mps", "t2_n_per_mps2", "propeller_power_w", "is_propeller")))
+    sin_g, cos_g = slope_sin_cos(slope)
+    return GroundRunTerms(law, 0.5 * rho * area * (cd - mu * cl), c.G0 * (mu * cos_g + sin_g),
+                          np.asarray(law.kink_airspeed_mps), (rho > 0) & (area > 0))
+
+
+def ground_run_from_terms(terms, *, mass_kg, v_lof_mps, headwind_mps=0.0, nodes=None):
+    """Ground run from rest to lift-off at trial masses, from :func:`ground_run_terms`.
+
+    Parameters
+    ----------
+    terms : GroundRunTerms
+        Mass-independent parts, n cases.
+    mass_kg : array_like
+        Mass, shape (n,) or broadcastable. [kg]
+    v_lof_mps : array_like
+        Lift-off true airspeed. [m/s]
+    headwind_mps : array_like, optional
+        Headwind (negative: tailwind). [m/s]
+    nodes : int, optional
+        As :func:`ground_run_for_thrust_law`. [–]
+
+    Returns
+    -------
+    GroundRun
+        distance_m [m], time_s [s], reason (NaN where reason ≠ 0), shape (n,).
+
+    Notes
+    -----
+    a0 = T0/m − R, a1 = T1/m, a2 = (T2 ∓ D_t)/m (− for V ≥ 0, + for reverse flow), then as
+    :func:`ground_run_for_thrust_law`.
+
+    References
+    ----------
+    .. [1] Raymer, §17.8. .. [4] Trefethen (2008).
+    """
+    law = terms.law
+    n1 = terms.valid.shape
+    m, vlof, w = (np.broadcast_to(np.atleast_1d(_f(x)), n1) for x in (mass_kg, v_lof_mps, headwind_mps))
+    inv_m = 1.0 / m
+    drag = terms.drag_term_kg_m
+    t2 = law.t2_n_per_mps2
+    a0 = law.t0_n * inv_m - terms.resistance_mps2
+    a1 = law.t1_n_per_mps * inv_m
+    a2 = (t2 - drag) * inv_m
+    a2r = (t2 + drag) * inv_m if np.any(w < 0.0) else None
+    vk = terms.kink_mps
+    v_first = np.maximum(np.minimum(vlof, vk), w)  # polynomial cases: vk = inf → whole run
+    dist, time = _split_at_zero(a0, a1, a2, a2r, w, v_first, w)
+    valid = terms.valid & (m > 0)
+    reason = np.where(np.isnan(dist), REASON_NO_ACCELERATION, REASON_OK)
+    if not np.all(valid):
+        reason = np.where(valid, reason, REASON_INVALID)
+        dist = np.where(valid, dist, np.nan)
+        time = np.where(valid, time, np.nan)
+    prop = law.is_propeller & (vk < vlof) & (w < vlof) & (reason == REASON_OK)
+    if np.any(prop):
+        idx = np.nonzero(prop)[0]
+        # Above the kink V ≥ V_k > 0: T = P_eta/V exactly and V|V| = V², so
+        # a(V) = P_eta/(m V) − c2 V² − c0 (the general acceleration_function, specialised).
+        inv_mi = inv_m.take(idx)
+        pm = law.propeller_power_w.take(idx) * inv_mi
+        c2 = drag.take(idx) * inv_mi
+        c0 = terms.resistance_mps2.take(idx)
+        v0 = np.maximum(vk.take(idx), w.take(idx))
+        v1 = vlof.take(idx)
+        wi = w.take(idx)
+        if nodes is None:  # per case, from the acceleration ratio over the piece
+            a_start = pm / v0 - c2 * v0 * v0 - c0
+            a_end = pm / v1 - c2 * v1 * v1 - c0
+            per_case = nodes_for_ratio(a_end / a_start)
+        else:
+            per_case = np.full(idx.size, int(nodes))
+        s2 = np.empty(idx.size)
+        t2p = np.empty(idx.size)
+        for k in np.unique(per_case):  # a few node counts, not a loop over cases
+            j = np.flatnonzero(per_case == k)
+            s2[j], t2p[j] = _propeller_power_piece(pm.take(j), c2.take(j), c0.take(j), v0.take(j), v1.take(j),
+                                                   wi.take(j), int(k))
+        dist = np.array(dist)
+        time = np.array(time)
+        reason = np.array(reason)
+        dist[idx] += s2
+        time[idx] += t2p
+        reason[idx] = np.where(np.isnan(s2), REASON_NO_ACCELERATION, reason[idx])
+    return GroundRun(dist, time, reason)
+
+
 def ground_run_for_thrust_law(thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, v_lof_mps,
                               headwind_mps=0.0, slope=0.0, nodes=None):
     """Ground run from rest to lift-off for any mix of thrust models.
@@ -785,56 +929,21 @@ def ground_run_for_thrust_law(thrust_law, *, mass_kg, wing_area_m2, density_kg_m
     -----
     Polynomial thrust (quadratic, turbofan): closed form. Propeller: closed form from rest
     to min(V_k, V_LOF) with the constant static cap, then Gauss–Legendre from V_k to V_LOF
-    with T = eta P/V (the integral is split at the kink V_k, where dT/dV jumps).
+    with T = eta P/V (the integral is split at the kink V_k, where dT/dV jumps). Computed as
+    :func:`ground_run_from_terms` of :func:`ground_run_terms` (a search over the mass
+    computes the terms once).
 
     References
     ----------
     .. [1] Raymer, §17.8. .. [4] Trefethen (2008).
     """
-    n = np.broadcast_shapes(*(np.shape(x) for x in (mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, v_lof_mps,
-                                                     headwind_mps, slope, thrust_law.t0_n)))
-    b = [np.broadcast_to(_f(x), n) for x in (mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, v_lof_mps,
-                                             headwind_mps, slope)]
-    m, s_area, rho, cd, cl, mu, vlof, w, slope = (np.atleast_1d(x) for x in b)
-    n1 = m.shape
-    law = type(thrust_law)(*(np.broadcast_to(np.atleast_1d(getattr(thrust_law, f)), n1) for f in (
+    shape = np.broadcast_shapes(*(np.shape(x) for x in (mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu,
+                                                        v_lof_mps, headwind_mps, slope, thrust_law.t0_n)))
+    b = [np.broadcast_to(_f(x), shape) for x in (wing_area_m2, density_kg_m3, cd, cl, mu, slope)]
+    tl = type(thrust_law)(*(np.broadcast_to(np.asarray(getattr(thrust_law, f)), shape) for f in (
         "t0_n", "t1_n_per_mps", "t2_n_per_mps2", "propeller_power_w", "is_propeller")))
-    vk = law.kink_airspeed_mps
-    v_first = np.minimum(vlof, vk)  # polynomial cases: vk = inf → whole run
-    det = ground_run_detail(mass_kg=m, wing_area_m2=s_area, density_kg_m3=rho, cd=cd, cl=cl, mu=mu,
-                            thrust0_n=law.t0_n, thrust1_n_per_mps=law.t1_n_per_mps,
-                            thrust2_n_per_mps2=law.t2_n_per_mps2, v_lof_mps=v_first, headwind_mps=w, slope=slope)
-    dist, time, reason = det.distance_m, det.time_s, det.reason
-    prop = law.is_propeller & (vk < vlof) & (w < vlof) & (reason == REASON_OK)
-    if np.any(prop):
-        idx = np.nonzero(prop)[0]
-        # Above the kink V ≥ V_k > 0: T = P_eta/V exactly and V|V| = V², so
-        # a(V) = P_eta/(m V) − c2 V² − c0 (the general acceleration_function, specialised).
-        mi = m.take(idx)
-        sin_g, cos_g = slope_sin_cos(slope.take(idx))
-        mu_i = mu.take(idx)
-        pm = law.propeller_power_w.take(idx) / mi
-        c2 = 0.5 * rho.take(idx) * s_area.take(idx) * (cd.take(idx) - mu_i * cl.take(idx)) / mi
-        c0 = c.G0 * (mu_i * cos_g + sin_g)
-        v0 = np.maximum(vk.take(idx), w.take(idx))
-        v1 = vlof.take(idx)
-        wi = w.take(idx)
-        if nodes is None:  # per case, from the acceleration ratio over the piece
-            a_start = pm / v0 - c2 * v0 * v0 - c0
-            a_end = pm / v1 - c2 * v1 * v1 - c0
-            per_case = nodes_for_ratio(a_end / a_start)
-        else:
-            per_case = np.full(idx.size, int(nodes))
-        s2 = np.empty(idx.size)
-        t2 = np.empty(idx.size)
-        for k in np.unique(per_case):  # a few node counts, not a loop over cases
-            j = np.flatnonzero(per_case == k)
-            s2[j], t2[j] = _propeller_power_piece(pm.take(j), c2.take(j), c0.take(j), v0.take(j), v1.take(j),
-                                                  wi.take(j), int(k))
-        dist = np.array(dist)
-        time = np.array(time)
-        reason = np.array(reason)
-        dist[idx] += s2
-        time[idx] += t2
-        reason[idx] = np.where(np.isnan(s2), REASON_NO_ACCELERATION, reason[idx])
-    return GroundRun(dist.reshape(n), time.reshape(n), reason.reshape(n))
+    terms = ground_run_terms(tl, wing_area_m2=b[0], density_kg_m3=b[1], cd=b[2], cl=b[3], mu=b[4], slope=b[5])
+    out = ground_run_from_terms(terms, mass_kg=np.broadcast_to(_f(mass_kg), shape),
+                                v_lof_mps=np.broadcast_to(_f(v_lof_mps), shape),
+                                headwind_mps=np.broadcast_to(_f(headwind_mps), shape), nodes=nodes)
+    return GroundRun(*(np.asarray(x).reshape(shape) for x in out))

@@ -57,6 +57,7 @@ from physics import climb
 from physics import constants as const
 from physics import enginefailure
 from physics import fieldlength
+from physics import groundrun
 from physics import limits
 from physics import thrust
 
@@ -239,9 +240,7 @@ class Cases:
     def take(self, index):
         """The prepared cases at ``index`` (integer array); the cache starts empty except for
         the per-case V1 warm start of the engine-failure search."""
-        sub = {f.name: getattr(self.aircraft, f.name)[index] for f in fields(self.aircraft)}
-        sub_site = {f.name: getattr(self.site, f.name)[index] for f in fields(self.site)}
-        out = Cases(Aircraft(**sub), Site(**sub_site), self.density_kg_m3[index],
+        out = Cases(_lazy_take(self.aircraft, index), _lazy_take(self.site, index), self.density_kg_m3[index],
                     self.thrust_all_engines.take(index), self.induced_factor[index], self.cd0_takeoff[index],
                     self.cd_ground_roll[index], self.clearway_m[index], self.vmcg_floor)
         state = self._cache.get("engine_failure_state")
@@ -254,6 +253,41 @@ class Cases:
         if key not in self._cache:
             self._cache[key] = fn(self)
         return self._cache[key]
+
+
+_LAZY_CLASSES: dict = {}
+
+
+def _lazy_getattr(self, name):
+    # a field not yet taken: index the parent's array once (object.__setattr__: the
+    # dataclasses are frozen)
+    if name.startswith("_"):
+        raise AttributeError(name)
+    d = object.__getattribute__(self, "__dict__")
+    if "_lazy_parent" not in d or name not in d["_lazy_names"]:
+        raise AttributeError(name)
+    val = getattr(d["_lazy_parent"], name)[d["_lazy_index"]]
+    object.__setattr__(self, name, val)
+    return val
+
+
+def _lazy_take(obj, index):
+    """``obj`` (an :class:`Aircraft` or :class:`Site` of arrays) at ``index``, each field
+    indexed on first use: a search reads only the fields its requirements need."""
+    d = obj.__dict__
+    if "_lazy_parent" in d:  # compose with the parent's index: one gather per field
+        parent, index = d["_lazy_parent"], np.asarray(d["_lazy_index"])[index]
+    else:
+        parent = obj
+    cls = _LAZY_CLASSES.get(type(parent))
+    if cls is None:
+        cls = type(type(parent).__name__, (type(parent),), {"__getattr__": _lazy_getattr, "__slots__": ()})
+        _LAZY_CLASSES[type(parent)] = cls
+    new = object.__new__(cls)
+    object.__setattr__(new, "_lazy_parent", parent)
+    object.__setattr__(new, "_lazy_index", index)
+    object.__setattr__(new, "_lazy_names", frozenset(f.name for f in fields(parent)))
+    return new
 
 
 def prepare_cases(aircraft, site, *, vmcg_floor=False):
@@ -359,8 +393,15 @@ def all_engines(cases, mass_kg, memo):
             vlof_over_vs=a.vlof_over_vs * raise_by, v2_over_vs=a.v2_over_vs * raise_by,
             cd0_airborne=cases.cd0_takeoff, induced_factor=cases.induced_factor,
             headwind_mps=s.headwind_mps, slope=s.slope, screen_height_m=s.screen_height_m,
-            clearway_m=cases.clearway_m)
+            clearway_m=cases.clearway_m, ground_terms=cases.cached("ground_terms_all_engines", _ground_terms))
     return memo["all_engines"]
+
+
+def _ground_terms(cases):
+    a, s = cases.aircraft, cases.site
+    return groundrun.ground_run_terms(cases.thrust_all_engines, wing_area_m2=a.wing_area_m2,
+                                      density_kg_m3=cases.density_kg_m3, cd=cases.cd_ground_roll,
+                                      cl=a.cl_ground_roll, mu=s.mu_roll, slope=s.slope)
 
 
 def distance_margin(available_m, required_m):
@@ -404,7 +445,8 @@ def _takeoff_run_margin(cases, mass_kg, memo):
 
 
 def _speeds_eas(cases, tas):
-    return atmosphere.equivalent_airspeed_mps(tas, cases.density_kg_m3)
+    # EAS = TAS sqrt(rho/rho0) (physics.atmosphere.equivalent_airspeed_mps), the factor once per solve
+    return tas * cases.cached("eas_factor", lambda cs: atmosphere.equivalent_airspeed_mps(1.0, cs.density_kg_m3))
 
 
 def _takeoff_distance_report(cases, mass_kg, memo):
@@ -703,6 +745,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         GA = np.minimum(GB + DISTANCE_MASS_EXPONENT * (uA - uB), -1e-3)  # estimate until evaluated
     width0 = np.maximum(B - A, tol_kg)
     n_max = np.ceil(np.log2(width0 / tol_kg)) + ITP_N0
+    r_base = eps * 2.0 ** n_max  # projection radius eps 2^(n_max − j), before − (b − a)/2
     k1 = ITP_KAPPA1 / width0
     lo0 = A.copy()
     known = np.zeros(lo.size, dtype=bool)  # the low end is known feasible (evaluated, or a trial)
@@ -732,22 +775,25 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
             keep = np.nonzero(live)[0]
             sub = sub.take(keep)
             idx, A, B, uA, uB, GA, GB, w, open_ = (v[keep] for v in (idx, A, B, uA, uB, GA, GB, w, open_))
-            n_max, k1, lo0, known, none, side = (v[keep] for v in (n_max, k1, lo0, known, none, side))
+            r_base, k1, lo0, known, none, side = (v[keep] for v in (r_base, k1, lo0, known, none, side))
             ul, gl, up, gp, uq, gq = (v[keep] for v in (ul, gl, up, gp, uq, gq))
             MH = MH[:, keep]
         xh = 0.5 * (A + B)
-        r = np.maximum(eps * 2.0 ** (n_max - j) - 0.5 * w, 0.0)
+        r = np.maximum(r_base * 2.0 ** -j - 0.5 * w, 0.0)
         delta = np.maximum(k1 * w ** ITP_KAPPA2, 0.5 * eps)  # at least half a tolerance: straddle the root
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             # in u = ln m: regula falsi on the bracket; the secant through the last two
             # evaluations, and inverse quadratic interpolation through the last three, where
             # they fall inside the bracket
             uf = (GB * uA - GA * uB) / (GB - GA)
-            us = ul - gl * (ul - up) / (gl - gp)
-            ui = (ul * gp * gq / ((gl - gp) * (gl - gq)) + up * gl * gq / ((gp - gl) * (gp - gq))
-                  + uq * gl * gp / ((gq - gl) * (gq - gp)))
-            uf = np.where((us > uA) & (us < uB), us, uf)
-            uf = np.where((ui > uA) & (ui < uB), ui, uf)
+            if j >= 1:
+                dlp = gl - gp
+                us = ul - gl * (ul - up) / dlp
+                uf = np.where((us > uA) & (us < uB), us, uf)
+            if j >= 2:
+                dlq, dpq = gl - gq, gp - gq
+                ui = (ul * gp * gq / (dlp * dlq) - up * gl * gq / (dlp * dpq) + uq * gl * gp / (dlq * dpq))
+                uf = np.where((ui > uA) & (ui < uB), ui, uf)
             xf = np.exp(uf)
         xf = np.where(np.isfinite(xf), xf, xh)
         sigma = np.sign(xh - xf)
