@@ -207,12 +207,13 @@ def _quadratic_integrals(a0, a1, a2, vi, vf, w):
         log1 = np.log1p(x1)
         term1 = (q - a2 * w) * _log1p_ratio(x1, log1) * u  # (r1 − w) ln((vf − r1)/(vi − r1))
         log2 = np.log1p(dv / (vi - r2))
-        dist = ((r2 - w) * log2 - term1) / sq
-        time = (log2 - log1) / sq
+        inv_sq = 1.0 / sq
+        dist = ((r2 - w) * log2 - term1) * inv_sq
+        time = (log2 - log1) * inv_sq
 
     # Other regimes on the (usually few) cases that need them: complex roots, and where the
     # real-root form is singular or ill-conditioned (double root; constant acceleration).
-    special = (disc < 0.0) | (np.abs(disc) <= 1e-12 * (a1sq + np.abs(four_a0a2)))
+    special = disc <= 1e-12 * (a1sq + np.abs(four_a0a2))  # includes every disc < 0
     if np.any(special):
         i = np.nonzero(special)[0]
         A0, A1, A2, Vi, Vf, W, DV, D = a0[i], a1[i], a2[i], vi[i], vf[i], w[i], dv[i], disc[i]
