@@ -593,9 +593,11 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
 
     Notes
     -----
-    Bisection on [OEW, MTOW] for every case at once: ceil(log2((MTOW − OEW)/tol)) halvings
-    per case, each one evaluation of all requirements on the cases neither structural nor
-    no_takeoff. Invariant: the lower end meets every requirement, the upper end fails one.
+    Bracket search on [OEW, MTOW] for every case at once (:func:`_itp_search`): MTOW is
+    evaluated first (feasible → ``structural``), then ITP steps interpolating in ln m, with
+    OEW evaluated only where the first trial fails (infeasible → ``no_takeoff``). Invariant:
+    the lower end meets every requirement, the upper end fails one; at most ITP_N0
+    evaluations more than bisection's ceil(log2((MTOW − OEW)/tol)).
     Wet never better than dry: limit_wet = min(limit with the wet friction and 15 ft screen,
     limit on the same runway dry with a 35 ft screen), figures of the lower.
 

@@ -142,3 +142,19 @@ def test_speeds_reported_as_equivalent_airspeed():
     r = _solve(["turbofan"] * 2, tora_m=5000.0, toda_m=5000.0, pressure_pa=np.array([c.P0_PA, 80000.0]))
     assert r.limiting_factor.tolist() == [0, 0]
     assert r.v_lof_mps[0] == pytest.approx(r.v_lof_mps[1], rel=1e-12)
+
+
+@pytest.mark.parametrize("kind", fleet.KINDS)
+def test_limit_next_to_oew_and_just_below_it(kind):
+    # Runways cut to the 115 % distance (14 CFR 25.113) of the aircraft at OEW + 0.4 kg and at
+    # OEW − 2 kg: the first limit lies in [OEW, OEW + 0.4] (the search reaches OEW, which it
+    # evaluates only when a trial fails), the second is no_takeoff.
+    a = fleet.aircraft([kind] * 2)
+    probe = fleet.site(2)
+    oew = float(np.atleast_1d(a.oew_kg)[0])
+    cases = wl.prepare_cases(a, probe)
+    tod = 1.15 * wl.all_engines(cases, np.array([oew + 0.4, oew - 2.0]), {}).takeoff_distance_m
+    s = fleet.site(2, tora_m=tod * 2.0, toda_m=tod)
+    r = solve(a, s)
+    assert oew <= r.tow_limit_kg[0] <= oew + 0.4 and r.limiting_factor[0] == TD
+    assert np.isnan(r.tow_limit_kg[1]) and r.limiting_factor[1] == limits.code("no_takeoff")
