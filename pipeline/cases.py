@@ -210,6 +210,34 @@ def _atomic_write_table(table: pa.Table, path: Path) -> None:
     os.replace(tmp, path)
 
 
+#: Rows converted to Arrow at a time when a frame is written to Parquet (bounded memory for
+#: the large wind rose).
+WRITE_SLICE_ROWS = 1_000_000
+
+
+def write_frame(frame: pd.DataFrame, path: Path) -> None:
+    """Write ``frame`` to ``path`` (Parquet, atomic), converting a slice of rows at a time."""
+    path = Path(path)
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
+    writer = None
+    try:
+        for start in range(0, max(len(frame), 1), WRITE_SLICE_ROWS):
+            part = frame.iloc[start:start + WRITE_SLICE_ROWS]
+            table = pa.Table.from_pandas(part, preserve_index=False,
+                                         schema=writer.schema if writer is not None else None)
+            if writer is None:
+                writer = pq.ParquetWriter(tmp, table.schema)
+            writer.write_table(table)
+        writer.close()
+        writer = None
+        os.replace(tmp, path)
+    finally:
+        if writer is not None:
+            writer.close()
+        if tmp.exists():
+            tmp.unlink()
+
+
 def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str | os.PathLike,
                 temperature_offset_k: float, conditions: tuple[str, ...] = CONDITIONS,
                 skip: Skip = Skip()) -> Path:
@@ -221,8 +249,7 @@ def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str 
     work = Path(work_dir)
     (work / TABLES_DIR).mkdir(parents=True, exist_ok=True)
     for name, frame in tables.items():
-        _atomic_write_table(pa.Table.from_pandas(frame, preserve_index=False),
-                            work / TABLES_DIR / f"{name}.parquet")
+        write_frame(frame, work / TABLES_DIR / f"{name}.parquet")
     aircraft = tables["aircraft_types"].reset_index(drop=True)
     _atomic_write_table(pa.Table.from_pandas(aircraft, preserve_index=False), work / AIRCRAFT_FILE)
 

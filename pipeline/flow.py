@@ -103,6 +103,7 @@ def fieldlimits_run(input_dir: str, db_path: str = "fieldlimits.duckdb",
         for done, fut in enumerate(as_completed(futures), start=1):
             results.append(fut.result())
             progress.report(done, n, time.monotonic() - t0)
+        chunks.shutdown_pool()  # the worker processes' memory is free for the load
         results.sort(key=lambda r: r.chunk)
         reused = copy_reused_task(prepared, run_id, work)
         best = best_directions_task(work, results)

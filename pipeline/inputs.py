@@ -26,6 +26,14 @@ class Inputs:
     files: dict[str, str | None]
     hashes: dict[str, str]
     warnings: list = field(default_factory=list)
+    released: tuple = ()                     # tables whose frames were dropped (release)
+
+    def release(self, name: str) -> None:
+        """Drop table ``name``'s frames (SI and user units) once they are on disk for the run
+        (the work folder's Parquet copies); later steps read those."""
+        self.tables[name] = None
+        self.user_tables[name] = None
+        self.released = (*self.released, name)
 
     @property
     def input_hash(self) -> str:

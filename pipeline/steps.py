@@ -256,11 +256,34 @@ def work_dir(prepared: PreparedRun, run_id: int) -> Path:
     return prepared.work_root / f"run-{run_id:06d}"
 
 
+#: Input tables with at least this many rows are dropped from memory once written to the
+#: work folder (the wind rose of a large network: about 0.75 GB at 20 000 airfields).
+RELEASE_MIN_ROWS = 1_000_000
+INPUTS_DIR = "inputs"  # user-unit copies of the input tables, for the store
+
+
 def build_cases(prepared: PreparedRun, run_id: int) -> Path:
-    """Write the run's case arrays and tables into its work folder; return the folder."""
-    return case_io.write_cases(prepared.inputs.tables, prepared.plan, work_dir(prepared, run_id),
+    """Write the run's case arrays and tables into its work folder; return the folder.
+
+    The user-unit input tables go to ``<work>/inputs/`` for the load step; a table of at
+    least :data:`RELEASE_MIN_ROWS` rows is then released from memory (its frames are read
+    from the work folder by the steps that need them).
+    """
+    inputs = prepared.inputs
+    work = case_io.write_cases(inputs.tables, prepared.plan, work_dir(prepared, run_id),
                                prepared.params.temperature_offset_k, prepared.params.conditions,
                                prepared.skip)
+    (work / INPUTS_DIR).mkdir(exist_ok=True)
+    for name, frame in inputs.user_tables.items():
+        if name in inputs.hashes:
+            case_io.write_frame(frame, work / INPUTS_DIR / f"{name}.parquet")
+    big = [name for name, frame in inputs.user_tables.items() if frame is not None and len(frame) >= RELEASE_MIN_ROWS]
+    if big:
+        for key in [k for k, v in _PREPARED.items() if v is inputs]:
+            del _PREPARED[key]  # a later run in this process loads the folder again
+        for name in big:
+            inputs.release(name)
+    return work
 
 
 REUSED_DIRECTION = "reused.direction.parquet"
@@ -300,18 +323,16 @@ def best_directions(work: Path, results: Sequence[ChunkResult]) -> Path:
     con = duckdb.connect()
     try:
         con.execute("SET threads = 2")
-        # big networks: let the window sort spill to the work folder instead of holding it all
+        # big networks: the window sort spills to the work folder, and the result streams
+        # to Parquet (COPY) instead of being held as one Arrow table
         spill = Path(work) / "duckdb-spill"
         store.run_sql(con, "SET temp_directory = $d", {"d": str(spill)})
-        store.run_sql(con, "SET memory_limit = '1GB'")
-        table = con.sql(store.sql("best_direction"), params={
-            "files": [r.direction_path for r in results],
-            "airfield_level_bases": bases}).to_arrow_table()
+        store.run_sql(con, "SET memory_limit = $m", {"m": store.duckdb_memory_limit()})
+        query = store.sql("best_direction").strip().rstrip(";")
+        store.run_sql(con, f"COPY ({query}) TO $out (FORMAT parquet)", {
+            "files": [r.direction_path for r in results], "airfield_level_bases": bases, "out": str(tmp)})
     finally:
         con.close()
-    import pyarrow.parquet as pq
-
-    pq.write_table(table.cast(chunks.RESULT_SCHEMA), tmp)
     os.replace(tmp, out)
     return out
 
@@ -371,8 +392,10 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
 def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], best_path: Path,
          route_path: Path | None, reused: Sequence[str] | None = None) -> dict[str, int]:
     """The single writer: all of the run in one DuckDB transaction."""
-    inputs = [store.InputTable(name, prepared.inputs.files.get(name), prepared.inputs.hashes[name], frame)
-              for name, frame in prepared.inputs.user_tables.items() if name in prepared.inputs.hashes]
+    folder = work_dir(prepared, run_id) / INPUTS_DIR
+    inputs = [store.InputTable(name, prepared.inputs.files.get(name), prepared.inputs.hashes[name],
+                               path=str(folder / f"{name}.parquet"))
+              for name in prepared.inputs.user_tables if name in prepared.inputs.hashes]
     spec = store.LoadSpec(
         run_id=run_id,
         direction_parts=[r.direction_path for r in results] + ([reused[0]] if reused else []),
@@ -464,6 +487,7 @@ def run_local(input_dir, db_path, params: RunParams = RunParams(), progress: Pro
             for fut in as_completed(futures):
                 results.append(fut.result())
                 (progress or progress_mod.report)(len(results), n, time.monotonic() - t0)
+        chunks.shutdown_pool()  # the worker processes' memory is free for the load
         results.sort(key=lambda r: r.chunk)
         reused = copy_reused(prepared, run_id, work)
         best = best_directions(work, results)

@@ -48,6 +48,10 @@ WRITER_WAIT_S = 60.0
 _RETRY_INTERVAL_S = 0.2
 _IDENT = re.compile(r"^[a-z_][a-z0-9_]*$")
 
+#: DuckDB's memory cap for the run's writer and the best-direction query (it spills to disk
+#: beyond it); ``FIELDLIMITS_DUCKDB_MEMORY_LIMIT`` overrides (DuckDB size text, e.g. "2GB").
+DEFAULT_DUCKDB_MEMORY_LIMIT = "1GB"
+
 BUSY_MESSAGE = (
     "the database {path} is being written by a fieldlimits run right now; "
     "try again in a few seconds"
@@ -74,6 +78,11 @@ def run_sql(con: duckdb.DuckDBPyConnection, query: str, params=None) -> list:
 def utcnow() -> datetime:
     """Current UTC time without tzinfo (DuckDB TIMESTAMP)."""
     return datetime.now(timezone.utc).replace(tzinfo=None)
+
+
+def duckdb_memory_limit() -> str:
+    """The memory cap for DuckDB work of a run (see :data:`DEFAULT_DUCKDB_MEMORY_LIMIT`)."""
+    return os.environ.get("FIELDLIMITS_DUCKDB_MEMORY_LIMIT", "").strip() or DEFAULT_DUCKDB_MEMORY_LIMIT
 
 
 def _is_lock_error(exc: Exception) -> bool:
@@ -119,7 +128,8 @@ def writer(db_path: str | os.PathLike, wait_s: float = WRITER_WAIT_S) -> Iterato
     path = Path(db_path)
     if path.parent and not path.parent.exists():
         raise BadInput(f"the folder for the database {path} does not exist")
-    con = _connect(path, False, wait_s, None)
+    # capped: a big run's load spills to <db>.tmp instead of growing without bound
+    con = _connect(path, False, wait_s, {"memory_limit": duckdb_memory_limit()})
     try:
         ensure_schema(con)
         yield con
@@ -241,7 +251,8 @@ class InputTable:
     name: str
     file_name: str | None
     sha256: str
-    frame: pd.DataFrame
+    frame: pd.DataFrame | None = None
+    path: str | None = None  # Parquet copy of the table (read by DuckDB instead of ``frame``)
 
 
 @dataclass
@@ -294,11 +305,17 @@ def _append_frame(con, table: str, frame: pd.DataFrame, create_sql: str | None =
         con.unregister(view)
 
 
-def _append_input(con, table: str, frame: pd.DataFrame, sha256: str, create_sql: str | None) -> None:
-    """Insert an input table with its ``input_sha256`` (no copy of the frame: large wind roses)."""
+def _append_input(con, table: str, source: InputTable, create_sql: str | None) -> None:
+    """Insert an input table with its ``input_sha256``, from its frame or its Parquet copy
+    (no copy of a frame in memory: large wind roses)."""
     _check_ident(table)
     view = f"_frame_{table}"
-    con.register(view, frame)
+    if source.frame is not None:
+        con.register(view, source.frame)
+    else:
+        import pyarrow.dataset as ds
+
+        con.register(view, ds.dataset(str(source.path), format="parquet"))  # scanned, not loaded
     try:
         if not _table_exists(con, table):
             run_sql(con, create_sql or
@@ -306,7 +323,7 @@ def _append_input(con, table: str, frame: pd.DataFrame, sha256: str, create_sql:
                     f"FROM {view} LIMIT 0")
         _add_missing_columns(con, table, view)
         run_sql(con, f"INSERT INTO {table} BY NAME SELECT CAST($h AS VARCHAR) AS input_sha256, * "
-                     f"FROM {view}", {"h": sha256})
+                     f"FROM {view}", {"h": source.sha256})
     finally:
         con.unregister(view)
 
@@ -329,11 +346,17 @@ def _load_inputs(con, run_id: int, inputs: Sequence[InputTable]) -> None:
         name = "input_" + _check_ident(table.name)
         stored = _table_exists(con, name) and con.execute(
             f"SELECT count(*) FROM {name} WHERE input_sha256 = $h", {"h": table.sha256}).fetchall()[0][0]
+        if table.frame is not None:
+            rows = len(table.frame)
+        else:
+            import pyarrow.parquet as pq
+
+            rows = pq.ParquetFile(table.path).metadata.num_rows
         if not stored:
-            _append_input(con, name, table.frame, table.sha256, _input_ddl(table.name, name))
+            _append_input(con, name, table, _input_ddl(table.name, name))
         run_sql(con, sql("insert_run_input"), {
             "run_id": run_id, "table_name": table.name, "file_name": table.file_name,
-            "row_count": len(table.frame), "sha256": table.sha256})
+            "row_count": rows, "sha256": table.sha256})
 
 
 def _load_hashes(con, spec: LoadSpec) -> None:
