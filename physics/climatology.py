@@ -31,6 +31,13 @@ departures of this month?* A day is a pair (daily maximum temperature, wind). Th
    binned. With given percentiles the mass is linear in temperature between nodes but the
    score is piecewise linear in temperature, so the interpolant is linear in score only
    between the percentile anchors (a second-order difference).
+7. **Refinement.** The level masses of the interpolated surface are corrected with direct
+   solves of a few days on each level's contour: the crossing days, slopes and densities
+   of the wind points (:func:`level_crossings`), a systematic sample of those days over
+   the density (:func:`refinement_samples`), one Newton step of the level from the
+   sampled errors (:func:`share_equivalent_error`, :func:`refined_level_masses`), and the
+   binding day moved onto the corrected mass (:func:`binding_score`,
+   :func:`secant_score`); the caller does the solves.
 
 Conventions (all arrays, no loops over cases):
 
@@ -50,6 +57,8 @@ References
 .. [4] D. S. Wilks, *Statistical Methods in the Atmospheric Sciences*, 3rd ed., Academic
    Press, 2011, §4.4.2 (Gaussian distribution) and §3.1 (quantiles) [from memory for the
    section numbers].
+.. [6] W. G. Cochran, *Sampling Techniques*, 3rd ed., Wiley, 1977, ch. 8 (systematic
+   sampling) [from memory for the chapter].
 """
 
 from __future__ import annotations
@@ -690,7 +699,7 @@ def _crossing_score(seg, mass):
 
 def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=None,
                     direction_valid=None):
-    """Runway direction each wind point is flown on, and why a point is lost.
+    """Runway direction each day is flown on (the best usable one), and why a wind is lost.
 
     Parameters
     ----------
@@ -705,25 +714,27 @@ def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=No
     Returns
     -------
     direction : numpy.ndarray of int
-        Direction index each point is flown on, ``(N, J)`` (the best candidate when none
-        is usable). [–]
+        Direction index flown at each wind point and temperature node, ``(N, J, G)`` (a
+        usable direction; the best candidate when none is usable). [–]
     mass_kg : numpy.ndarray
-        Mass of each point on that direction at each node, ``(N, J, G)``; -inf where the
-        point is usable on no direction, NaN where no takeoff. [kg]
+        Highest mass over the usable directions at each node, ``(N, J, G)``; -inf where the
+        point is usable on no direction, NaN where no takeoff on any usable direction. [kg]
     lost_reason : numpy.ndarray of int
         ``physics.limits`` code ``crosswind_limit`` or ``tailwind_limit`` for a point usable
         on no direction, else -1; ``(N, J)``. [–]
 
     Notes
     -----
-    Among the usable directions, a point is flown on the one with the highest mass summed
-    over the temperature nodes (no-takeoff nodes count 0): the best direction for that wind
-    on a typical day of the month, used at every temperature of that wind. Keeping one
-    direction per wind can only lower the mass against a per-day choice (conservative);
-    the two differ only where two directions cross in mass inside the month's temperature
-    range. A point usable nowhere is lost; its reason is the limit that excludes the best
-    candidate (the direction that would win with the limits ignored), crosswind when that
-    direction exceeds both.
+    Each day (wind point and temperature) is flown on the usable direction with the highest
+    mass that day: m_j(T) = max_{d usable} m_{d,j}(T), taken at the temperature nodes and
+    interpolated linearly between them (:func:`reliability_masses`). Where two directions
+    cross in mass between two nodes, the interpolated envelope lies above the true one by
+    at most the interpolation error of that kink (the refinement with direct solves,
+    :func:`refinement_samples`, sees it as a surface error). The direction of a day
+    between nodes is the best one at its own temperature (:func:`direction_at_score`). A
+    point usable nowhere is lost; its reason is the limit that excludes the best candidate
+    (the direction with the highest mass summed over the nodes, limits ignored), crosswind
+    when that direction exceeds both.
 
     References
     ----------
@@ -737,20 +748,115 @@ def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=No
                else np.broadcast_to(np.asarray(tailwind_exceeded, dtype=bool), shape3))
     valid = (np.ones(raw.shape[:2], dtype=bool) if direction_valid is None
              else np.asarray(direction_valid, dtype=bool))[:, :, None]
-    merit = np.sum(np.where(np.isnan(raw), 0.0, raw), axis=-1)  # (N, D, J)
-    merit_all = np.where(valid, merit, -np.inf)
-    usable = valid & ~cross_ex & ~tail_ex
-    merit_usable = np.where(usable, merit, -np.inf)
-    best = np.argmax(merit_usable, axis=1)  # (N, J)
-    cand = np.argmax(merit_all, axis=1)
-    any_usable = np.any(usable, axis=1)
-    direction = np.where(any_usable, best, cand)
-    mass = np.take_along_axis(raw, direction[:, None, :, None], axis=1)[:, 0]
-    mass = np.where(any_usable[..., None], mass, -np.inf)
+    usable = valid & ~cross_ex & ~tail_ex  # (N, D, J)
+    any_usable = np.any(usable, axis=1)  # (N, J)
+    cand_mass = np.where(usable[..., None] & ~np.isnan(raw), raw, -np.inf)
+    best = np.argmax(cand_mass, axis=1)[:, None]  # (N, 1, J, G); first on ties
+    top = np.take_along_axis(cand_mass, best, axis=1)[:, 0]
+    best = best[:, 0]
+    merit_all = np.where(valid, np.sum(np.where(np.isnan(raw), 0.0, raw), axis=-1), -np.inf)
+    cand = np.argmax(merit_all, axis=1)  # (N, J)
+    direction = np.where(any_usable[..., None] & np.isfinite(top), best,
+                         np.where(any_usable, np.argmax(usable, axis=1), cand)[..., None])
+    mass = np.where(any_usable[..., None], np.where(np.isfinite(top), top, np.nan), -np.inf)
     c_ex = np.take_along_axis(cross_ex, cand[:, None, :], axis=1)[:, 0]
     reason = np.where(any_usable, -1, np.where(c_ex, limits.code("crosswind_limit"),
                                                 limits.code("tailwind_limit")))
     return direction, mass, reason.astype(np.int64)
+
+
+def mass_at_score(node_mass_kg, scores, score):
+    """Mass at a temperature score from the masses at the temperature nodes.
+
+    Parameters
+    ----------
+    node_mass_kg : array_like
+        Masses at the nodes, ``(..., G)``; NaN or -inf where not possible. [kg]
+    scores : array_like
+        Increasing node scores, ``(..., G)`` or ``(G,)``. [–]
+    score : array_like
+        Score of the day, ``(...)``. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        m(z), linear between the nodes and extended linearly beyond the end nodes (the
+        rule of :func:`share_of_days`); NaN when a neighbouring node is not possible. [kg]
+
+    Notes
+    -----
+    m(z) = (1 − s) m_g + s m_{g+1}, s = (z − z_g)/(z_{g+1} − z_g), g the segment of z (the
+    first or last segment beyond the ends).
+
+    References
+    ----------
+    .. [1] Press et al. (2007), §3.1 (linear interpolation).
+    """
+    f = np.asarray(node_mass_kg, dtype=float)
+    z = np.broadcast_to(np.asarray(scores, dtype=float), f.shape)
+    x = np.asarray(score, dtype=float)
+    g = f.shape[-1]
+    if g == 1:
+        return f[..., 0] + 0.0 * x
+    k = np.clip(np.sum(z[..., 1:-1] <= x[..., None], axis=-1), 0, g - 2)[..., None]
+    z0 = np.take_along_axis(z, k, axis=-1)[..., 0]
+    z1 = np.take_along_axis(z, k + 1, axis=-1)[..., 0]
+    f0 = np.take_along_axis(f, k, axis=-1)[..., 0]
+    f1 = np.take_along_axis(f, k + 1, axis=-1)[..., 0]
+    with np.errstate(invalid="ignore"):
+        s = (x - z0) / np.where(z1 > z0, z1 - z0, np.inf)
+        out = f0 + s * (f1 - f0)
+    return np.where(np.isfinite(f0) & np.isfinite(f1), out, np.nan)
+
+
+def direction_at_score(point_mass_kg, usable, scores, score, margin=0.0):
+    """Best usable runway direction of a day between the temperature nodes, and the
+    directions within a margin of it.
+
+    Parameters
+    ----------
+    point_mass_kg : array_like
+        Mass of the day's wind point on each direction at the nodes, ``(R, D, G)``; NaN
+        where no takeoff. [kg]
+    usable : array_like of bool
+        ``(R, D)``: directions usable for that wind. [–]
+    scores : array_like
+        Node scores, ``(G,)`` or ``(R, G)``. [–]
+    score : array_like
+        Score of each day, ``(R,)``. [–]
+    margin : float, optional
+        Relative margin: directions whose mass is at least (1 − margin) × the best one's
+        are candidates too (their interpolated masses may be off by about that much). [–]
+
+    Returns
+    -------
+    best : numpy.ndarray of int
+        Index of the usable direction with the highest interpolated mass at the day's
+        score (the first usable one when none is possible), ``(R,)``. [–]
+    candidates : numpy.ndarray of bool
+        ``(R, D)``: usable directions strictly within the margin of the best, and the best
+        (only the best with margin 0). [–]
+
+    Notes
+    -----
+    argmax_{d usable} m_d(z) with m_d of :func:`mass_at_score`: the per-day choice of
+    :func:`flown_direction` between the nodes.
+
+    References
+    ----------
+    .. [2] ICAO Annex 14, Vol. I, §3.1.1 (usability of a runway system).
+    """
+    f = np.asarray(point_mass_kg, dtype=float)
+    z = np.asarray(scores, dtype=float)
+    zz = z[:, None, :] if z.ndim == 2 else z
+    m = mass_at_score(f, zz, np.asarray(score, dtype=float)[:, None])
+    u = np.asarray(usable, dtype=bool)
+    cand = np.where(u & np.isfinite(m), m, -np.inf)
+    top = np.max(cand, axis=1)
+    best = np.where(np.isfinite(top), np.argmax(cand, axis=1), np.argmax(u, axis=1))
+    within = np.isfinite(cand) & (cand > (1.0 - float(margin)) * top[:, None]) & (float(margin) > 0)
+    within[np.arange(best.size), best] = True
+    return best, within
 
 
 @dataclass(frozen=True)
@@ -773,6 +879,9 @@ class ReliabilityLevels:
         Share of days on which the target mass is achievable, ``(N,)``. [–]
     possible_share : numpy.ndarray
         Share of days on which a takeoff (≥ OEW) is possible, ``(N,)``. [–]
+    estimate_kg : numpy.ndarray, optional
+        Second-order estimate of the exact level (the false-position point of the search's
+        final bracket; the level itself where there was no search), ``(N, L)``. [kg]
     """
 
     mass_kg: np.ndarray
@@ -781,6 +890,7 @@ class ReliabilityLevels:
     score: np.ndarray
     share_days: np.ndarray
     possible_share: np.ndarray
+    estimate_kg: np.ndarray | None = None
 
 
 def _prepare(point_mass_kg):
@@ -998,4 +1108,364 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     reason = codes[np.argmax(np.stack([cross_share, tail_share, temp_share], axis=-1), axis=-1)]
     reason_l = np.where(np.isnan(mass), reason[:, None], -1).astype(np.int64)
     return ReliabilityLevels(mass_kg=mass, reason=reason_l, point=point, score=score,
-                             share_days=share_target, possible_share=s_oew)
+                             share_days=share_target, possible_share=s_oew,
+                             estimate_kg=np.where(search, polished, level))
+
+
+# ----------------------------------------------------------------------------------------
+# Refinement of the levels with direct solves
+# ----------------------------------------------------------------------------------------
+_FLAT_RATE = 1.0  # |dz*/dM| above this (a slope under 1 kg per unit score) counts as flat
+
+
+def _crossing_score_rate(seg, mass):
+    """z*(M) as :func:`_crossing_score`, and |dz*/dM| there (0 beyond ±_FAR_SCORE).
+
+    dz*/dM = −Σ_g Δz_g / (f_g − f_{g+1}) over the segment whose c_g is strictly inside its
+    clip range (the one holding z*; the end segments unbounded outwards).
+    """
+    f, z, inv = seg
+    m = (np.asarray(mass, dtype=float) - _TIE_KG).astype(np.float32)
+    g = f.shape[-1]
+    shape = np.broadcast_shapes(f.shape[:-1], np.shape(m), z.shape[:-1])
+    if g == 1:
+        return np.where(f[..., 0] >= m, np.inf, -np.inf), np.zeros(shape, dtype=np.float32)
+    dz = np.diff(z, axis=-1)
+    out = np.broadcast_to(z[..., 0], shape).copy()
+    rate = np.zeros(shape, dtype=np.float32)
+    for k in range(g - 1):  # a fixed, small number of temperature segments
+        c = (f[..., k] - m) * inv[..., k]
+        lo = -np.inf if k == 0 else 0.0
+        hi = np.inf if k == g - 2 else 1.0
+        out = out + dz[..., k] * np.clip(c, lo, hi)
+        rate = rate + np.where((c > lo) & (c < hi), dz[..., k] * inv[..., k], 0.0)
+    far = np.abs(out) > _FAR_SCORE
+    out = np.where(out > _FAR_SCORE, np.inf, np.where(out < -_FAR_SCORE, -np.inf, out))
+    return out, np.where(far, 0.0, rate)
+
+
+def level_crossings(point_mass_kg, scores, weight, mass_kg):
+    """Crossing day of each wind point at a mass, the slope there and its mass density.
+
+    Parameters
+    ----------
+    point_mass_kg : array_like
+        Mass of each wind point on its flown direction at each temperature node, ``(N, J,
+        G)`` as for :func:`reliability_masses`; -inf or NaN where not possible. [kg]
+    scores : array_like
+        Standard-normal scores of the temperature nodes, increasing, ``(G,)`` or ``(N, G)``. [–]
+    weight : array_like
+        Share of days of each wind point, ``(N, J)``. [–]
+    mass_kg : array_like
+        Mass asked for, ``(N,)`` (e.g. a level mass or MTOW). [kg]
+
+    Returns
+    -------
+    score : numpy.ndarray
+        z*_j(M) = sup{z : m_j(z) ≥ M} (as in :func:`share_of_days`), ``(N, J)``; ±inf
+        where M is achieved on no day or on every day of that point. [–]
+    slope_kg : numpy.ndarray
+        dm_j/dz of the interpolated mass at z*_j (< 0; the segment of the nodes holding
+        z*_j, an end segment beyond the end nodes), ``(N, J)``; NaN where the point
+        has no density. [kg]
+    density_per_kg : numpy.ndarray
+        Contribution of the point to the density of the day-to-day mass at M,
+        w_j phi(z*_j) / |dm_j/dz|, ``(N, J)``; 0 where z*_j is not finite, beyond ±3.5
+        or on a flat segment (a point whose mass is constant in temperature adds a step to
+        S(M), not a density). [1/kg]
+
+    Notes
+    -----
+    With S(M) = Σ_j w_j Phi(z*_j(M)) (:func:`share_of_days`), the density of the mass
+    achievable on a day is −dS/dM = Σ_j w_j phi(z*_j) |dz*_j/dM| with dz*_j/dM =
+    1/m_j'(z*_j) (change of variables through the monotone m_j). An error ε_j of the
+    interpolated m_j near z*_j moves z*_j by ε_j/|m_j'| and S(M) by density_j × ε_j to
+    first order, which is what :func:`refined_level_masses` uses. Segments flatter than
+    1 kg per unit score count as flat.
+
+    References
+    ----------
+    .. [4] Wilks (2011), §4.4.2 (Gaussian density) and §4.2 (distributions of functions
+       of a random variable) [from memory for the section numbers].
+    """
+    f = _prepare(point_mass_kg)
+    z = np.asarray(scores, dtype=float)
+    w = np.asarray(weight, dtype=float)
+    m = np.asarray(mass_kg, dtype=float)
+    seg = _segments(f, z)
+    zs = seg[1]
+    zj, rate = _crossing_score_rate((seg[0], zs if zs.ndim == 1 else zs[:, None, :], seg[2]),
+                                    m[:, None])
+    zj = zj.astype(float)
+    rate = rate.astype(float)
+    steep = (rate > 0.0) & (rate < _FLAT_RATE) & (np.abs(np.where(np.isfinite(zj), zj, np.inf))
+                                                 <= _BINDING_SCORE) & (w > 0)
+    zc = np.where(steep, zj, 0.0)
+    density = np.where(steep, w * np.exp(-0.5 * zc**2) / np.sqrt(2.0 * np.pi) * rate, 0.0)
+    slope = np.where(steep, -1.0 / np.where(steep, rate, 1.0), np.nan)
+    return zj, slope, density
+
+
+@dataclass(frozen=True)
+class RefinementSamples:
+    """Days chosen for direct solves, per row (group and mass; see :func:`refinement_samples`).
+
+    Attributes
+    ----------
+    point : numpy.ndarray of int
+        Wind point j of each sample, ``(N, K)``; -1 where the slot is empty. [–]
+    score : numpy.ndarray
+        Its crossing score z*_j(M) (the day to solve), ``(N, K)``; NaN in empty slots. [–]
+    slope_kg : numpy.ndarray
+        Slope dm_j/dz of the interpolated mass there, ``(N, K)``. [kg]
+    stratum_density_per_kg : numpy.ndarray
+        Share of the mass density at M the sample stands for, ``(N, K)``; 0 for an empty
+        slot. [1/kg]
+    density_per_kg : numpy.ndarray
+        Total mass density at M over all points, ``(N,)``. [1/kg]
+    """
+
+    point: np.ndarray
+    score: np.ndarray
+    slope_kg: np.ndarray
+    stratum_density_per_kg: np.ndarray
+    density_per_kg: np.ndarray
+
+
+def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count):
+    """The days to solve directly to correct a level mass: K days spread evenly over the
+    density of the day-to-day mass along the level's contour.
+
+    Parameters
+    ----------
+    point_mass_kg, scores, weight : array_like
+        As for :func:`reliability_masses`: ``(N, J, G)`` [kg], ``(G,)`` or ``(N, G)`` [–],
+        ``(N, J)`` [–].
+    mass_kg : array_like
+        Mass to correct, ``(N,)``. [kg]
+    order_key : array_like
+        Position of each wind point along the contour m = M, ``(N, J)`` or per
+        temperature node ``(N, J, G)`` (then taken at the node nearest its crossing): e.g.
+        flown direction × 1000 + factored headwind, so points next to each other in the
+        order lie next to each other on the surface. [–]
+    count : int
+        Number of samples K (fewer where points repeat). [–]
+
+    Returns
+    -------
+    RefinementSamples
+        Days, slopes and the density each day stands for.
+
+    Notes
+    -----
+    The level mass moves, to first order, by the density-weighted mean of the surface
+    errors at the crossing days of all wind points (:func:`refined_level_masses`). That
+    mean is estimated by systematic sampling: with the points in contour order and C(j)
+    their cumulative density, sample k is the point holding C = (k + ½)/K × f (f the total
+    density), standing for f/K (a point picked by several k stands for their sum: one
+    solve). A dominant point (often the calm) is then solved once and carries its own
+    share; the others spread along the contour, so a smooth error is integrated by the
+    midpoint rule over the density.
+
+    References
+    ----------
+    .. [6] W. G. Cochran, *Sampling Techniques*, 3rd ed., Wiley, 1977, ch. 8 (systematic
+       sampling) [from memory for the chapter].
+    """
+    zj, slope, dens = level_crossings(point_mass_kg, scores, weight, mass_kg)
+    n_rows, n_pts = dens.shape
+    key = np.asarray(order_key, dtype=float)
+    if key.ndim == 3:
+        z = np.broadcast_to(np.asarray(scores, dtype=float), (n_rows, key.shape[-1]))
+        node = np.argmin(np.abs(z[:, None, :] - np.where(np.isfinite(zj), zj, 0.0)[..., None]),
+                         axis=-1)
+        key = np.take_along_axis(key, node[..., None], axis=-1)[..., 0]
+    order = np.argsort(key, axis=1, kind="stable")
+    cum = np.cumsum(np.take_along_axis(dens, order, axis=1), axis=1)  # (N, J)
+    total = cum[:, -1] if n_pts else np.zeros(n_rows)
+    k = max(1, int(count))
+    target = (np.arange(k) + 0.5)[None, :] / k * total[:, None]  # (N, K)
+    pos = np.minimum(np.sum(cum[:, None, :] < target[..., None], axis=-1), n_pts - 1)
+    best = np.take_along_axis(order, pos, axis=1)  # (N, K), non-decreasing positions
+    share = np.repeat(np.where(total > 0, total / k, 0.0)[:, None], k, axis=1)
+    for i in range(k - 1, 0, -1):  # merge repeats into the first slot (a fixed, small K)
+        same = pos[:, i] == pos[:, i - 1]
+        share[:, i - 1] += np.where(same, share[:, i], 0.0)
+        share[:, i] = np.where(same, 0.0, share[:, i])
+    filled = share > 0
+    take = lambda a: np.take_along_axis(a, best, axis=-1)  # noqa: E731
+    return RefinementSamples(point=np.where(filled, best, -1),
+                             score=np.where(filled, take(zj), np.nan),
+                             slope_kg=np.where(filled, take(slope), np.nan),
+                             stratum_density_per_kg=share, density_per_kg=total)
+
+
+def refined_level_masses(mass_kg, excess_share, density_per_kg, stratum_density_per_kg,
+                         error_kg, low_kg, high_kg):
+    """Level masses corrected by the errors of the interpolated surface at sampled days.
+
+    Parameters
+    ----------
+    mass_kg : array_like
+        Level masses from the interpolated surface, ``(N,)``. [kg]
+    excess_share : array_like
+        S(M) − p of the surface at those masses, ``(N,)`` (0 for a level found by the
+        search, ≥ 0 for a level capped at MTOW). [–]
+    density_per_kg : array_like
+        Total mass density at M, ``(N,)`` (:class:`RefinementSamples`). [1/kg]
+    stratum_density_per_kg : array_like
+        Density of each sampled stratum, ``(N, K)``; 0 for empty slots. [1/kg]
+    error_kg : array_like
+        Direct-solve mass minus M at each sampled day, ``(N, K)`` (any value in empty
+        slots). [kg]
+    low_kg, high_kg : array_like
+        Bounds of the level (OEW and MTOW), ``(N,)``. [kg]
+
+    Returns
+    -------
+    mass_kg : numpy.ndarray
+        M_c, ``(N,)``; M where the density is 0. [kg]
+    share_change : numpy.ndarray
+        First-order change of S(M) from the sampled errors, Σ_k D_k ε_k, ``(N,)`` (for
+        M = MTOW: the correction of the share of days on which MTOW is achievable). [–]
+
+    Notes
+    -----
+    One Newton step on S_true(M) = p with S_true(M) ≈ S(M) + Σ_k D_k ε_k and
+    −dS/dM = f = Σ_j density_j (:func:`level_crossings`):
+    M_c = clip(M + (S(M) − p + Σ_k D_k ε_k) / f, low, high). For a level capped at MTOW
+    (excess ≥ 0) the level only moves when the errors outweigh the excess.
+
+    References
+    ----------
+    .. [1] Press et al. (2007), §9.4 (Newton–Raphson step).
+    .. [6] Cochran (1977), ch. 8 (systematic sample: estimate of the mean error).
+    """
+    m = np.asarray(mass_kg, dtype=float)
+    d = np.asarray(stratum_density_per_kg, dtype=float)
+    e = np.where(d > 0, np.asarray(error_kg, dtype=float), 0.0)
+    change = np.sum(d * e, axis=-1)
+    f = np.asarray(density_per_kg, dtype=float)
+    step = (np.asarray(excess_share, dtype=float) + change) / np.where(f > 0, f, 1.0)
+    lo = np.asarray(low_kg, dtype=float)
+    hi = np.asarray(high_kg, dtype=float)
+    return np.where((f > 0) & np.isfinite(m), np.clip(m + step, lo, hi), m), change
+
+
+def binding_score(score, slope_kg, direct_mass_kg, target_mass_kg):
+    """Temperature score on a wind point at which its direct mass meets a target.
+
+    Parameters
+    ----------
+    score : array_like
+        Score of a directly solved day on the point. [–]
+    slope_kg : array_like
+        dm/dz of the interpolated mass there (< 0). [kg]
+    direct_mass_kg : array_like
+        The direct solve's mass at ``score``. [kg]
+    target_mass_kg : array_like
+        Mass wanted (the corrected level). [kg]
+
+    Returns
+    -------
+    numpy.ndarray
+        z = score + (M − m_d)/slope, clipped to ±6; ``score`` where the slope is not
+        negative or not finite. [–]
+
+    Notes
+    -----
+    A Newton step on m(z) = M along the wind point, with the interpolated slope.
+
+    References
+    ----------
+    .. [1] Press et al. (2007), §9.4 (Newton–Raphson step).
+    """
+    z = np.asarray(score, dtype=float)
+    s = np.asarray(slope_kg, dtype=float)
+    ok = np.isfinite(s) & (s < 0)
+    with np.errstate(invalid="ignore"):
+        step = (np.asarray(target_mass_kg, dtype=float) - np.asarray(direct_mass_kg, dtype=float)) \
+            / np.where(ok, s, -1.0)
+    return np.clip(np.where(ok & np.isfinite(step), z + step, z), -_FAR_SCORE, _FAR_SCORE)
+
+
+def secant_score(score0, mass0_kg, score1, mass1_kg, target_mass_kg, slope_kg):
+    """Secant step on a wind point's direct mass towards a target mass.
+
+    Parameters
+    ----------
+    score0, score1 : array_like
+        Scores of the two last solved days on the point. [–]
+    mass0_kg, mass1_kg : array_like
+        Their direct masses. [kg]
+    target_mass_kg : array_like
+        Mass wanted. [kg]
+    slope_kg : array_like
+        Fallback slope dm/dz (< 0) where the secant is not usable. [kg]
+
+    Returns
+    -------
+    numpy.ndarray
+        z = z1 + (M − m1)/s with s = (m1 − m0)/(z1 − z0) when that is negative and finite
+        (the mass falls with temperature), else the fallback slope; clipped to ±6. [–]
+
+    Notes
+    -----
+    The secant method on m(z) = M (superlinear convergence where m is smooth).
+
+    References
+    ----------
+    .. [1] Press et al. (2007), §9.2 (secant method).
+    """
+    z0 = np.asarray(score0, dtype=float)
+    z1 = np.asarray(score1, dtype=float)
+    m0 = np.asarray(mass0_kg, dtype=float)
+    m1 = np.asarray(mass1_kg, dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        s = (m1 - m0) / (z1 - z0)
+    s = np.where(np.isfinite(s) & (s < 0) & (np.abs(z1 - z0) > 1e-9), s,
+                 np.asarray(slope_kg, dtype=float))
+    return binding_score(z1, s, m1, target_mass_kg)
+
+
+def share_equivalent_error(error_kg, score, slope_kg):
+    """Mass error of a sampled day in terms of the share of days it moves (saturating).
+
+    Parameters
+    ----------
+    error_kg : array_like
+        Direct-solve mass minus the interpolated mass at the day's crossing score. [kg]
+    score : array_like
+        Crossing score z* of the day's wind point. [–]
+    slope_kg : array_like
+        Slope dm/dz of the interpolated mass there (< 0). [kg]
+
+    Returns
+    -------
+    numpy.ndarray
+        ε_e = [Phi(z* + ε/|s|) − Phi(z*)] |s| / phi(z*): the error that, used to first
+        order (density × ε_e), moves the share of days of that point exactly as shifting
+        its crossing by ε/|s| does; ε_e → ε for small ε. ε where the slope or score is not
+        finite. [kg]
+
+    Notes
+    -----
+    A point's share of days at M is w Phi(z*); a mass error ε at the crossing moves z* by
+    ε/|s| (the mass linear in z near z*, slope s), hence its share by
+    w [Phi(z* + ε/|s|) − Phi(z*)]; the density there is w phi(z*)/|s|. On a nearly flat
+    mass (|s| small) a large ε moves the crossing far into the tail, where the linear
+    estimate density × ε would overstate the change in share.
+
+    References
+    ----------
+    .. [4] Wilks (2011), §4.4.2 (Gaussian distribution and density).
+    """
+    e = np.asarray(error_kg, dtype=float)
+    z = np.asarray(score, dtype=float)
+    s = np.abs(np.asarray(slope_kg, dtype=float))
+    ok = np.isfinite(z) & np.isfinite(s) & (s > 0) & np.isfinite(e)
+    zz = np.where(ok, z, 0.0)
+    ss = np.where(ok, s, 1.0)
+    phi = np.exp(-0.5 * zz**2) / np.sqrt(2.0 * np.pi)
+    moved = special.ndtr(zz + np.where(ok, e, 0.0) / ss) - special.ndtr(zz)
+    return np.where(ok, moved * ss / phi, e)

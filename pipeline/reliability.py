@@ -28,26 +28,43 @@ chunk's cases (complete airfields, see :mod:`pipeline.cases`):
    of the cell beyond the boundary is lost;
 3. each month takes the window of consecutive temperature nodes covering its range
    (:func:`physics.climatology.node_window`); its wind points are interpolated on the grid,
-   flown on their best usable direction (:func:`physics.climatology.flown_direction`) and
-   the level masses found (:func:`physics.climatology.reliability_masses`), with the share
-   of days on which MTOW is achievable (``share_days_full_mass``);
-4. each level's binding day (its runway direction, temperature and wind point) is solved
-   directly once more (all in one call), so a row's mass, limiting factor, distances and
-   speeds are those of one consistent solve.
+   each day flown on its best usable direction (:func:`physics.climatology.flown_direction`)
+   and the level masses found (:func:`physics.climatology.reliability_masses`), with the
+   share of days on which MTOW is achievable (``share_days_full_mass``);
+4. refinement: the interpolated surface is off by up to a few per cent next to regime
+   changes of the limit between nodes, and a level mass is (to first order) moved by the
+   density-weighted mean of the surface's errors at the days where it crosses the level.
+   For each level found by the search, and for MTOW where the share of days is strictly
+   between 0 and 1, ``refine_samples`` days spread evenly over that density along the
+   level's contour (:func:`physics.climatology.refinement_samples`) are solved directly,
+   all in one call (each on its best direction, and on the others within
+   ``refine_direction_margin`` if that is set), and the level moved by one Newton step
+   (:func:`physics.climatology.refined_level_masses`; errors taken in share-of-days terms,
+   :func:`physics.climatology.share_equivalent_error`); the share of days at MTOW gets the
+   same correction, and a level at MTOW moves below it only if the errors outweigh the
+   surface's margin;
+5. each level's binding day (a sampled day moved to the corrected mass by a Newton step
+   on its wind point, :func:`physics.climatology.binding_score`) is solved directly (all in
+   one call), with at most ``binding_iterations`` secant steps where that solve misses the
+   corrected mass by more than ``binding_tol_kg``, so a row's mass, limiting factor,
+   distances and speeds are those of one consistent solve.
 
 Cost (2-core machine, 2 000-airfield synthetic network): about 5–7 solves per design-day
-case on the grid plus about one per level row, ~0.35 ms of CPU per dry case in all.
+case on the grid, about two per level row for the refinement and about one for the binding
+day.
 
 Accuracy. Against direct solves at random days of the demo network the interpolated
 surface is within 0.2 % of the mass or 50 kg on about 98 % of days
 (tests/pipeline/test_reliability.py); the rest lie next to regime changes of the limit
 between nodes — chiefly the accelerate-stop limit, whose slope in tailwind changes
 several-fold where V1 meets a bound (the minimum control speed on short wet runways) —
-worst about 2.5 %. Where a level falls near such a kink, the reported mass is still an
-exact solve of a real day (the binding day); what can be off is which day binds, and the
-level masses on the deliberately hard test set (a short wet runway, a hot airfield) are
-within the bound for about 90 % of levels, worst about 1 %. Temperature and wind are taken
-as independent; days are flown at the daily maximum temperature.
+worst about 2.5 %. On the deliberately hard test set (a short wet runway, a hot airfield)
+the surface's own level masses are within the bound for about 94 % of levels (worst about
+0.5 %), the refined and reported ones for all (worst about 0.17 %). The refinement's
+estimate rests on a few days per level: where the error is concentrated on a few wind
+points (typically a runway direction the surface ranks wrongly) a level can still be off
+by a few tenths of a per cent. Temperature and wind are taken as independent; days are
+flown at the daily maximum temperature.
 
 Rows go to ``results_airfield`` (basis ``reliability``, level in ``reliability``); with
 ``ReliabilitySettings.per_direction`` also one set per runway direction flown alone to
@@ -66,12 +83,13 @@ import pandas as pd
 from physics import atmosphere, climatology, constants, limits
 from schemas.results import RESULT_COLUMNS
 
+_KEY_STRIDE = 1000.0  # contour order key: direction index x this + factored headwind [m/s]
 GROUP_KEYS = ("airfield_id", "month", "aircraft_type_id", "condition")
 SHARE_COLUMN = "share_days_full_mass"
 _SPEEDS = {"v1_kt": "v1_mps", "vr_kt": "vr_mps", "v2_kt": "v2_mps", "v_lof_kt": "v_lof_mps"}
 _PLAIN = ("takeoff_distance_m", "takeoff_run_m", "accelerate_stop_m", "climb_gradient")
 _SITE_FIELDS = ("tora_m", "toda_m", "asda_m", "slope", "mu_roll", "mu_brake", "pressure_pa",
-                "temperature_k", "headwind_mps", "screen_height_m")
+                "temperature_k", "headwind_mps", "screen_height_m", "mu_roll_dry", "mu_brake_dry")
 
 
 @dataclass(frozen=True)
@@ -86,6 +104,11 @@ class ReliabilitySettings:
     and above calm per runway direction. ``pressure_tol_pa``: months whose station pressures
     differ by more get a second pressure layer. ``bracket_low``/``bracket_high``: grid mass
     bracket as multiples of OEW/MTOW. ``grid_tol_kg``: solver bracket on the grid.
+    ``refine_samples``: directly solved days per level (and per MTOW row) for the
+    refinement; ``refine_direction_margin``: other usable directions whose interpolated
+    mass is within this share of the best one's are solved too on those days (0: only the
+    best); ``refine_tol_kg``: their solver bracket. ``binding_tol_kg`` and
+    ``binding_iterations``: secant steps of the binding day towards the refined mass.
     """
 
     conditions: tuple[str, ...] = ("dry",)
@@ -101,8 +124,142 @@ class ReliabilitySettings:
     bracket_low: float = 1.0
     bracket_high: float = 1.25
     grid_tol_kg: float = 5.0
+    refine_samples: int = 4
+    refine_direction_margin: float = 0.0
+    binding_tol_kg: float = 10.0
+    binding_iterations: int = 2
+    refine_tol_kg: float = 2.0
     per_direction: bool = False
     block_elements: int = 2_000_000
+
+
+def _concat(parts):
+    """One dataclass of arrays from blocks of groups (concatenated on the first axis)."""
+    return type(parts[0])(**{f.name: np.concatenate([getattr(p, f.name) for p in parts])
+                             for f in dataclasses.fields(parts[0])})
+
+
+def _refinement_samples(point_mass, scores, weight, res, mtow, order_key, settings):
+    """Days to solve directly for a block of groups, as compact rows (group, column,
+    samples): the columns are the levels found by the search (below MTOW), and MTOW itself
+    (for the share of days and the levels at MTOW) where that share is strictly between 0
+    and 1. Returns None when no row needs samples."""
+    n_lev = res.mass_kg.shape[1]
+    searched = np.isfinite(res.mass_kg) & (res.mass_kg < mtow[:, None])
+    open_share = (res.share_days > 0.0) & (res.share_days < 1.0)
+    columns = np.concatenate([np.where(searched, res.estimate_kg, mtow[:, None]), mtow[:, None]], axis=1)
+    wanted = np.concatenate([searched, open_share[:, None]], axis=1)
+    parts = []
+    for c in range(n_lev + 1):  # a fixed, small number of columns (levels and MTOW)
+        rows = np.nonzero(wanted[:, c])[0]
+        if rows.size == 0:
+            continue
+        z = scores if np.ndim(scores) == 1 else scores[rows]
+        smp = climatology.refinement_samples(
+            point_mass[rows], z, weight[rows], columns[rows, c], order_key[rows],
+            settings.refine_samples)
+        parts.append((rows, np.full(rows.size, c), smp))
+    if not parts:
+        return None
+    return (np.concatenate([p[0] for p in parts]), np.concatenate([p[1] for p in parts]),
+            _concat([p[2] for p in parts]))
+
+
+def _join_samples(parts, offsets):
+    """Compact sample rows of blocks of groups joined (group indices made global)."""
+    kept = [(rows + off, col, smp) for part, off in zip(parts, offsets) if part is not None
+            for rows, col, smp in [part]]
+    if not kept:
+        return None
+    return (np.concatenate([k[0] for k in kept]), np.concatenate([k[1] for k in kept]),
+            _concat([k[2] for k in kept]))
+
+
+def _refine(res, sampled, solve_days, levels, oew, mtow):
+    """Levels, share of days and binding days corrected with direct solves of the sampled
+    days (one vectorised solve call).
+
+    ``sampled`` is (group, column, RefinementSamples) with columns 0 … L − 1 the levels and L
+    MTOW; ``solve_days(group, point, score)`` returns the direct masses of those days (each
+    on its best usable direction) and the cases they were flown on. ``oew``, ``mtow``: (N,). Returns the corrected levels and,
+    per moved level, the sampled day its binding day was stepped from (score, direct mass,
+    interpolated slope, case; NaN and -1 elsewhere), the start of the binding-day secant.
+    """
+    start = {k: np.full(res.mass_kg.shape, np.nan) for k in ("score", "mass_kg", "slope_kg")}
+    start["case"] = np.full(res.mass_kg.shape, -1, dtype=np.int64)
+    if sampled is None:
+        return res, start
+    grp, col, smp = sampled
+    n_lev = levels.size
+    r_i, k_i = np.nonzero(smp.point >= 0)
+    j_i = smp.point[r_i, k_i]
+    g_i = grp[r_i]
+    direct = np.full(smp.point.shape, np.nan)
+    case = np.full(smp.point.shape, -1, dtype=np.int64)
+    direct[r_i, k_i], case[r_i, k_i] = solve_days(g_i, j_i, smp.score[r_i, k_i])
+    is_top = col == n_lev
+    base = np.where(is_top, mtow[grp], res.estimate_kg[grp, np.minimum(col, n_lev - 1)])
+    error = climatology.share_equivalent_error(direct - base[:, None], smp.score, smp.slope_kg)
+    mass = res.mass_kg.copy()
+    point = res.point.copy()
+    score = res.score.copy()
+    share = res.share_days.copy()
+
+    def bind(rows, target):
+        """Binding day of corrected masses ``target`` (R, …) from the samples of ``rows``:
+        the sampled day needing the smallest temperature step (Newton) to reach the
+        target, moved by that step. Returns point, new score, found, and the sample's
+        score, direct mass and slope."""
+        extra = (None,) * (target.ndim - 1)
+        sl = lambda a: np.broadcast_to(a[rows][(slice(None),) + extra],  # noqa: E731
+                                       target.shape + (a.shape[-1],))
+        z_new = climatology.binding_score(sl(smp.score), sl(smp.slope_kg), sl(direct),
+                                          target[..., None])
+        step = np.where(sl(smp.stratum_density_per_kg) > 0, np.abs(z_new - sl(smp.score)), np.inf)
+        best = np.argmin(step, axis=-1)[..., None]
+        at = lambda a: np.take_along_axis(a, best, axis=-1)[..., 0]  # noqa: E731
+        return (at(sl(smp.point)), at(z_new), np.isfinite(step.min(axis=-1)),
+                (at(sl(smp.score)), at(sl(direct)), at(sl(smp.slope_kg)), at(sl(case))))
+
+    def keep_start(g, c, moved, sample):
+        for name, v in zip(("score", "mass_kg", "slope_kg", "case"), sample):
+            start[name][g, c] = np.where(moved, v, start[name][g, c])
+
+    # Levels found by the search: one Newton step from the surface's level.
+    lv = np.nonzero(~is_top)[0]
+    if lv.size:
+        g, c = grp[lv], col[lv]
+        m_new, _ = climatology.refined_level_masses(
+            base[lv], np.zeros(lv.size), smp.density_per_kg[lv], smp.stratum_density_per_kg[lv],
+            error[lv], oew[g], mtow[g])
+        pt, zb, ok, sample = bind(lv, m_new)
+        mass[g, c] = m_new
+        point[g, c] = np.where(ok, pt, point[g, c])
+        score[g, c] = np.where(ok, zb, score[g, c])
+        keep_start(g, c, ok, sample)
+    # MTOW rows: the share of days, and the levels at MTOW (moved only when the errors
+    # outweigh the surface's excess share over the level).
+    tp = np.nonzero(is_top)[0]
+    if tp.size:
+        g = grp[tp]
+        shape = (tp.size, n_lev)
+        m_top, change = climatology.refined_level_masses(
+            np.broadcast_to(mtow[g][:, None], shape), share[g][:, None] - levels[None, :],
+            np.broadcast_to(smp.density_per_kg[tp][:, None], shape),
+            np.broadcast_to(smp.stratum_density_per_kg[tp][:, None, :], shape + (direct.shape[1],)),
+            np.broadcast_to(error[tp][:, None, :], shape + (direct.shape[1],)),
+            oew[g][:, None], mtow[g][:, None])
+        at_top = np.isfinite(res.mass_kg[g]) & (res.mass_kg[g] >= mtow[g][:, None])
+        pt, zb, ok, sample = bind(tp, m_top)
+        moved = at_top & (m_top < mtow[g][:, None]) & ok
+        mass[g] = np.where(moved, m_top, mass[g])
+        point[g] = np.where(moved, pt, point[g])
+        score[g] = np.where(moved, zb, score[g])
+        gg = np.repeat(g[:, None], n_lev, axis=1)
+        cc = np.broadcast_to(np.arange(n_lev), shape)
+        keep_start(gg, cc, moved, sample)
+        share[g] = np.clip(share[g] + change[:, 0], 0.0, 1.0)
+    return dataclasses.replace(res, mass_kg=mass, share_days=share, point=point, score=score), start
 
 
 def reliability_rows(context):
@@ -446,24 +603,80 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         scores[flat] = np.arange(k_win) - 0.5 * (k_win - 1)
         t_nodes[flat] = c_mean[flat, None]
     h_nodes = h_nodes_trk[trk]  # (n, H)
-    counts = {"grid": n_solves, "binding": 0}
+    counts = {"grid": n_solves, "refine": 0, "binding": 0}
 
-    def binding_rows(case_of, res, point_h):
-        """Direct solve of each level's binding day; rows for groups (case_of: (N, L))."""
+    def temperature(case_index, score):
+        """Daily maximum temperature of a day of the case's month at a score."""
+        am_idx = am_pos[case_index]
+        pv = None if t_pv is None else t_pv[am_idx]
+        return climatology.daily_max_temperature_k(score, t_mean[am_idx], t_sd[am_idx], pv)
+
+    def solve_days(case_index, point_index, score):
+        """Direct solves of days (case, wind point, temperature score) on the grid's mass
+        bracket (so a mass above MTOW is not cut at MTOW); below the floor: the floor."""
+        counts["refine"] += int(case_index.size)
+        if case_index.size == 0:
+            return np.zeros(0)
+        ac = aircraft_arrays(aircraft_table, ac_index[case_index])
+        ac = _replace(ac, oew_kg=np.asarray(ac.oew_kg) * settings.bracket_low,
+                      mtow_kg=np.asarray(ac.mtow_kg) * settings.bracket_high)
+        site = _site(cases, case_index, site_cls, temperature_k=temperature(case_index, score),
+                     headwind_mps=h_f[case_index, point_index])
+        m = np.asarray(solve(ac, site, tol_kg=settings.refine_tol_kg).tow_limit_kg, dtype=float)
+        return np.where(np.isfinite(m), m, oew[case_index] * settings.bracket_low)
+
+    def solve_fields(case_index, point_index, score):
+        """Direct solves (the run's aircraft, 1 kg bracket) of days: all result fields."""
+        counts["binding"] += int(case_index.size)
+        ac = aircraft_arrays(aircraft_table, ac_index[case_index])
+        site = _site(cases, case_index, site_cls, temperature_k=temperature(case_index, score),
+                     headwind_mps=h_f[case_index, point_index])
+        return _weight_limit_fields(solve(ac, site), int(case_index.size))
+
+    def binding_rows(res, start, day_case, fallback_case):
+        """Direct solve of each level's binding day; rows for groups.
+
+        ``day_case(g, j, z)``: case (runway direction) a day is flown on; ``fallback_case``
+        (N,): the case named on rows that are not possible. A binding day stepped from a
+        sampled day (``start``) whose solve misses the level mass by more than
+        ``settings.binding_tol_kg`` is moved by secant steps on its wind point (at most
+        ``settings.binding_iterations``), the closest solve kept.
+        """
         n_grp, n_lev = res.mass_kg.shape
         ok = np.isfinite(res.mass_kg)
-        c_idx = case_of[ok]
-        am_idx = am_pos[c_idx]
-        sc = res.score[ok]
-        if t_pv is None:
-            t_b = climatology.daily_max_temperature_k(sc, t_mean[am_idx], t_sd[am_idx])
-        else:
-            t_b = climatology.daily_max_temperature_k(sc, t_mean[am_idx], t_sd[am_idx], t_pv[am_idx])
-        hb = point_h[ok]
-        ac = aircraft_arrays(aircraft_table, ac_index[c_idx])
-        counts["binding"] += int(c_idx.size)
-        sol = _weight_limit_fields(solve(ac, _site(cases, c_idx, site_cls, temperature_k=t_b,
-                                                    headwind_mps=hb)), int(ok.sum()))
+        g_o = np.nonzero(ok)[0]
+        j_o = res.point[ok]
+        z_o = res.score[ok].copy()
+        target = res.mass_kg[ok]
+        c_o = start["case"][ok].copy()
+        own = np.nonzero(c_o < 0)[0]
+        c_o[own] = day_case(g_o[own], j_o[own], z_o[own])
+        sol = {k: np.array(v) for k, v in solve_fields(c_o, j_o, z_o).items()}
+        floor_o = oew[c_o]
+        z_cur, m_cur = z_o.copy(), np.where(np.isfinite(sol["tow_limit_kg"]), sol["tow_limit_kg"], floor_o)
+        z_prev, m_prev, slope = (start["score"][ok], start["mass_kg"][ok], start["slope_kg"][ok])
+        for _ in range(settings.binding_iterations):  # a fixed, small number of secant steps
+            idx = np.nonzero((np.abs(m_cur - target) > settings.binding_tol_kg) & np.isfinite(slope))[0]
+            if idx.size == 0:
+                break
+            z_new = climatology.secant_score(z_prev[idx], m_prev[idx], z_cur[idx], m_cur[idx],
+                                             target[idx], slope[idx])
+            c_new = c_o[idx]  # the secant stays on the binding day's runway direction
+            s_new = solve_fields(c_new, j_o[idx], z_new)
+            m_new = np.where(np.isfinite(s_new["tow_limit_kg"]), s_new["tow_limit_kg"], oew[c_new])
+            m_old = np.where(np.isfinite(sol["tow_limit_kg"][idx]), sol["tow_limit_kg"][idx],
+                             floor_o[idx])
+            better = np.abs(m_new - target[idx]) < np.abs(m_old - target[idx])
+            keep = idx[better]
+            for k, v in s_new.items():
+                sol[k][keep] = v[better]
+            z_o[keep], c_o[keep], floor_o[keep] = z_new[better], c_new[better], oew[c_new][better]
+            z_prev[idx], m_prev[idx] = z_cur[idx], m_cur[idx]
+            z_cur[idx], m_cur[idx] = z_new, m_new
+        t_b = temperature(c_o, z_o)
+        hb = h_f[c_o, j_o]
+        case_of = np.repeat(np.asarray(fallback_case)[:, None], n_lev, axis=1)
+        case_of[ok] = c_o
         cols = {k: np.full((n_grp, n_lev), np.nan) for k in sol if k != "limiting_factor"}
         factor = np.where(ok, -1, res.reason).astype(np.int64)
         for k, v in sol.items():
@@ -526,7 +739,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     safe = np.where(valid, case_at, 0)
     first = safe[:, 0]
     block = max(1, int(settings.block_elements // max(1, n_dir * n_pts * k_win)))
-    parts, flown_parts = [], []
+    parts, sample_parts = [], []
     for b0 in range(0, n_grp, block):  # blocks of groups: memory, not a loop over cases
         sb, vb = safe[b0:b0 + block], valid[b0:b0 + block]
         pm = climatology.interpolate_headwind(case_grid[sb], h_nodes[sb], h_f[sb])  # (B, D, J, K)
@@ -535,29 +748,58 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         tx = np.where(vb[:, :, None], tail_ex[sb], True)
         fb = sb[:, 0]
         flown_b, m_grp, lost = climatology.flown_direction(raw, cx, tx, vb)
-        parts.append(climatology.reliability_masses(
-            m_grp, scores[fb], weight_case[fb], oew[fb], mtow[fb], levels=levels, lost_reason=lost))
-        flown_parts.append(flown_b)
-    res = climatology.ReliabilityLevels(**{
-        f.name: np.concatenate([getattr(r, f.name) for r in parts])
-        for f in dataclasses.fields(climatology.ReliabilityLevels)})
-    flown = np.concatenate(flown_parts)
-    d_bind = np.take_along_axis(flown, res.point, axis=1)  # (N, L)
-    case_bind = np.take_along_axis(safe, d_bind, axis=1)
-    h_bind = h_f[case_bind, res.point]
-    airfield = binding_rows(case_bind.copy(), res, h_bind)
-    if details is not None:
-        def temperature(case_index, score):
-            am_idx = am_pos[case_index]
-            pv = None if t_pv is None else t_pv[am_idx]
-            return climatology.daily_max_temperature_k(score, t_mean[am_idx], t_sd[am_idx], pv)
+        res_b = climatology.reliability_masses(
+            m_grp, scores[fb], weight_case[fb], oew[fb], mtow[fb], levels=levels, lost_reason=lost)
+        # Contour order of the days for the refinement: flown direction (on the middle
+        # temperature node), then headwind.
+        d_mid = flown_b[:, :, k_win // 2]
+        key = d_mid * _KEY_STRIDE + h_f[np.take_along_axis(sb, d_mid, axis=1), np.arange(n_pts)]
+        sample_parts.append(_refinement_samples(m_grp, scores[fb], weight_case[fb], res_b,
+                                                mtow[fb], key, settings))
+        parts.append(res_b)
+    res = _concat(parts)
+    samples = _join_samples(sample_parts, range(0, n_grp, block))
 
+    def day_directions(g, j, z, margin=0.0):
+        """Best usable direction index of days (group g, wind point j, score z), and the
+        usable directions within ``margin`` of it (R, D)."""
+        best = np.zeros(g.size, dtype=np.int64)
+        within = np.zeros((g.size, n_dir), dtype=bool)
+        rows = max(1, settings.block_elements // max(1, n_dir * k_win * n_h))
+        for r0 in range(0, g.size, rows):  # blocks of days: memory, not a loop over cases
+            gb, jb = g[r0:r0 + rows], j[r0:r0 + rows, None]
+            c = safe[gb]  # (R, D)
+            pm_d = climatology.interpolate_headwind(case_grid[c], h_nodes[c], h_f[c, jb][..., None])
+            use = valid[gb] & ~cross_ex[c, jb] & ~tail_ex[c, jb]
+            best[r0:r0 + rows], within[r0:r0 + rows] = climatology.direction_at_score(
+                np.where(valid[gb][..., None], pm_d[:, :, 0, :], np.nan), use, scores[c[:, 0]],
+                z[r0:r0 + rows], margin)
+        return best, within
+
+    def solve_group_days(g, j, z):
+        """Direct masses of days on the best of their candidate directions (the surface's
+        best and those within ``settings.refine_direction_margin`` of it), and the case."""
+        best, within = day_directions(g, j, z, settings.refine_direction_margin)
+        r, d = np.nonzero(within)
+        m = solve_days(safe[g[r], d], j[r], z[r])
+        top = np.full(g.size, -np.inf)
+        np.maximum.at(top, r, m)
+        pick = np.full(g.size, -1, dtype=np.int64)
+        hit = m >= top[r]
+        pick[r[hit][::-1]] = d[hit][::-1]  # the first candidate reaching the maximum
+        pick = np.where(pick >= 0, pick, best)
+        return np.where(np.isfinite(top), top, oew[safe[g, pick]] * settings.bracket_low), safe[g, pick]
+
+    surface = res
+    res, start = _refine(res, samples, solve_group_days, levels, oew[first], mtow[first])
+    airfield = binding_rows(res, start, lambda g, j, z: safe[g, day_directions(g, j, z)[0]], first)
+    if details is not None:
         details.update(grid_low=grid_lo, grid_high=grid_hi, case_grid=case_grid, cases=cases,
                        h_nodes=h_nodes, t_nodes=t_nodes, solves=counts,
                        scores=scores, temperature=temperature, crosswind_exceeded=cross_ex,
                        tailwind_exceeded=tail_ex,
                        point_headwind=h_f, point_weight=weight_case, levels=res,
-                       group_case=case_at, case_bind=case_bind)
+                       group_case=case_at, surface_levels=surface)
 
     direction = None
     if settings.per_direction:
@@ -566,8 +808,11 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
                                                          tail_ex[:, None])
         res1 = climatology.reliability_masses(m_one, scores, weight_case, oew, mtow,
                                               levels=levels, lost_reason=lost_one)
-        case1 = np.repeat(np.arange(n)[:, None], levels.size, axis=1)
-        direction = binding_rows(case1, res1, h_f[case1, res1.point])
+        samples1 = _join_samples([_refinement_samples(m_one, scores, weight_case, res1, mtow,
+                                                      h_f, settings)], [0])
+        res1, start1 = _refine(res1, samples1, lambda g, j, z: (solve_days(g, j, z), g), levels,
+                               oew, mtow)
+        direction = binding_rows(res1, start1, lambda g, j, z: g, np.arange(n))
         # A direction alone names its own runway even when no day is possible.
-        direction["runway_id"] = cases["runway_id"].to_numpy(object)[case1.ravel()]
+        direction["runway_id"] = np.repeat(cases["runway_id"].to_numpy(object), levels.size)
     return direction, airfield

@@ -231,7 +231,7 @@ def test_single_wind_point_zero_spread_is_the_direct_value_on_the_best_direction
     t = np.full(Z.size, 301.0)  # zero spread: every node at the mean
     raw = linear_mass(t[None, None, :], h[:, :, None])[None]  # (1, D, 1, G)
     d, m, lost = clim.flown_direction(raw, cx[None], tx[None])
-    assert d[0, 0] == 0  # into wind
+    assert np.all(d[0, 0] == 0)  # into wind, on every day
     r = _levels(m, np.ones((1, 1)))
     direct = linear_mass(301.0, 0.5 * 8.0)  # 14 CFR 25.105(d)(1): half the headwind
     np.testing.assert_allclose(r.mass_kg, direct, atol=1.0)
@@ -274,11 +274,13 @@ def test_levels_fall_as_p_rises_and_match_a_fine_discretisation():
     got = r.mass_kg[0]
     assert np.all(np.diff(got) <= 1e-9)
     # Independent check: 20 001 equal-probability temperature strata × the wind points,
-    # exact mass function on the same flown direction, weighted lower quantile.
+    # exact mass function, each day on its best usable direction, weighted lower quantile.
     zz = stats.norm.ppf((np.arange(20001) + 0.5) / 20001)
     tt = mean + sd * zz
-    dsel = dirs[0]
-    mass = scale[dsel, 0, 0][:, None] * curved_mass(tt[None, :], h[dsel, np.arange(h.shape[1])][:, None])
+    usable = ~(cx | tx)  # (D, J)
+    exact = scale * curved_mass(tt[None, None, :], h[:, :, None])  # (D, J, T)
+    mass = np.max(np.where(usable[:, :, None], exact, -np.inf), axis=0)
+    assert np.array_equal(np.isfinite(mass[:, 0]), lost[0] < 0)
     mass = np.where((lost[0] < 0)[:, None], np.minimum(mass, MTOW), 0.0)
     ww = np.repeat(wt[:, None] / zz.size, zz.size, axis=1)
     order = np.argsort(-mass.ravel())
