@@ -1223,6 +1223,9 @@ class RefinementSamples:
         slot. [1/kg]
     density_per_kg : numpy.ndarray
         Total mass density at M over all points, ``(N,)``. [1/kg]
+    risk_kg : numpy.ndarray
+        Density-weighted mean error indicator of the points' cells at their crossings,
+        ``(N,)`` (0 without indicators): the size of level error the surface risks. [kg]
     """
 
     point: np.ndarray
@@ -1230,9 +1233,10 @@ class RefinementSamples:
     slope_kg: np.ndarray
     stratum_density_per_kg: np.ndarray
     density_per_kg: np.ndarray
+    risk_kg: np.ndarray
 
 
-def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count):
+def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count, risk_kg=None):
     """The days to solve directly to correct a level mass: K days spread evenly over the
     density of the day-to-day mass along the level's contour.
 
@@ -1250,6 +1254,10 @@ def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count)
         order lie next to each other on the surface. [–]
     count : int
         Number of samples K (fewer where points repeat). [–]
+    risk_kg : array_like, optional
+        Interpolation-error indicator of each point's grid cell per temperature segment,
+        ``(N, J, G − 1)`` (:func:`grid_error_indicator`), taken at the segment of its
+        crossing; gives ``RefinementSamples.risk_kg``. [kg]
 
     Returns
     -------
@@ -1294,10 +1302,21 @@ def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count)
         share[:, i] = np.where(same, 0.0, share[:, i])
     filled = share > 0
     take = lambda a: np.take_along_axis(a, best, axis=-1)  # noqa: E731
+    risk = np.zeros(n_rows)
+    if risk_kg is not None:
+        u = np.asarray(risk_kg, dtype=float)
+        n_seg = u.shape[-1]
+        z = np.broadcast_to(np.asarray(scores, dtype=float), (n_rows, n_seg + 1))
+        seg = np.clip(np.sum(z[:, None, 1:-1] <= np.where(np.isfinite(zj), zj, 0.0)[..., None],
+                             axis=-1), 0, n_seg - 1)
+        u_pt = np.take_along_axis(u, seg[..., None], axis=-1)[..., 0]
+        with np.errstate(invalid="ignore"):
+            risk = np.where(total > 0, np.sum(np.where(dens > 0, dens * u_pt, 0.0), axis=-1)
+                            / np.where(total > 0, total, 1.0), 0.0)
     return RefinementSamples(point=np.where(filled, best, -1),
                              score=np.where(filled, take(zj), np.nan),
                              slope_kg=np.where(filled, take(slope), np.nan),
-                             stratum_density_per_kg=share, density_per_kg=total)
+                             stratum_density_per_kg=share, density_per_kg=total, risk_kg=risk)
 
 
 def refined_level_masses(mass_kg, excess_share, density_per_kg, stratum_density_per_kg,
@@ -1469,3 +1488,52 @@ def share_equivalent_error(error_kg, score, slope_kg):
     phi = np.exp(-0.5 * zz**2) / np.sqrt(2.0 * np.pi)
     moved = special.ndtr(zz + np.where(ok, e, 0.0) / ss) - special.ndtr(zz)
     return np.where(ok, moved * ss / phi, e)
+
+
+def grid_error_indicator(grid_mass_kg):
+    """Interpolation-error indicator of each cell of a temperature × headwind grid.
+
+    Parameters
+    ----------
+    grid_mass_kg : array_like
+        Masses at the nodes, ``(..., G, H)``; NaN where no takeoff. [kg]
+
+    Returns
+    -------
+    numpy.ndarray
+        Indicator per cell, ``(..., G − 1, H − 1)``: half the largest absolute second
+        difference (along either axis) at the cell's four corners; +inf for a cell with a
+        no-takeoff corner or next to one. [kg]
+
+    Notes
+    -----
+    Piecewise-linear interpolation of a smooth m over a cell of width Δ errs by at most
+    |m''| Δ²/8 = |Δ²m|/8. Where the slope jumps by J at a distance a from the nearer node
+    of the cell (a change of limiting regime), it errs by up to J a (Δ − a)/Δ, at most
+    J Δ/4 for a kink mid-cell, while the second difference at that node is J (Δ − a) ≥
+    J Δ/2. Half the second difference at the corners therefore bounds both (a kink
+    mid-cell exactly), up to the curvature of the neighbouring cells; second differences
+    are taken at interior nodes, an end node takes its neighbour's.
+
+    References
+    ----------
+    .. [1] Press et al. (2007), §3.0–3.1 (error of polynomial interpolation); C. de Boor,
+       *A Practical Guide to Splines*, rev. ed., Springer, 2001, ch. II (error of broken-line
+       interpolation) [from memory for the chapters].
+    """
+    m = np.asarray(grid_mass_kg, dtype=float)
+    big = np.inf
+
+    def second(a, axis):
+        a = np.moveaxis(a, axis, -1)
+        if a.shape[-1] < 3:
+            d = np.zeros_like(a)
+        else:
+            inner = np.abs(a[..., 2:] - 2.0 * a[..., 1:-1] + a[..., :-2])
+            d = np.concatenate([inner[..., :1], inner, inner[..., -1:]], axis=-1)
+        return np.moveaxis(np.where(np.isfinite(d), d, big), -1, axis)
+
+    node = np.maximum(second(m, -2), second(m, -1))  # (..., G, H)
+    corner = np.maximum(np.maximum(node[..., :-1, :-1], node[..., 1:, :-1]),
+                        np.maximum(node[..., :-1, 1:], node[..., 1:, 1:]))
+    return 0.5 * corner

@@ -35,8 +35,12 @@ chunk's cases (complete airfields, see :mod:`pipeline.cases`):
    changes of the limit between nodes, and a level mass is (to first order) moved by the
    density-weighted mean of the surface's errors at the days where it crosses the level.
    For each level found by the search, and for MTOW where the share of days is strictly
-   between 0 and 1, ``refine_samples`` days spread evenly over that density along the
-   level's contour (:func:`physics.climatology.refinement_samples`) are solved directly,
+   between 0 and 1, whose grid cells at the crossing days may hold an error of the size of
+   the accuracy bound (density-weighted error indicator of the cells,
+   :func:`physics.climatology.grid_error_indicator`, at least ``refine_risk`` × the bound;
+   smooth cells are left as they are), ``refine_samples`` days spread evenly over that
+   density along the level's contour (:func:`physics.climatology.refinement_samples`) are
+   solved directly,
    all in one call (each on its best direction, and on the others within
    ``refine_direction_margin`` if that is set), and the level moved by one Newton step
    (:func:`physics.climatology.refined_level_masses`; errors taken in share-of-days terms,
@@ -50,7 +54,7 @@ chunk's cases (complete airfields, see :mod:`pipeline.cases`):
    distances and speeds are those of one consistent solve.
 
 Cost (2-core machine, 2 000-airfield synthetic network): about 5–7 solves per design-day
-case on the grid, about two per level row for the refinement and about one for the binding
+case on the grid, about 1.2 per level row for the refinement and about one for the binding
 day.
 
 Accuracy. Against direct solves at random days of the demo network the interpolated
@@ -105,7 +109,9 @@ class ReliabilitySettings:
     differ by more get a second pressure layer. ``bracket_low``/``bracket_high``: grid mass
     bracket as multiples of OEW/MTOW. ``grid_tol_kg``: solver bracket on the grid.
     ``refine_samples``: directly solved days per level (and per MTOW row) for the
-    refinement; ``refine_direction_margin``: other usable directions whose interpolated
+    refinement; ``refine_risk``: only levels whose grid error indicator (density-weighted
+    over their crossing days) reaches this share of the bound max(``refine_bound_share`` ×
+    mass, ``refine_bound_kg``) are refined; ``refine_direction_margin``: other usable directions whose interpolated
     mass is within this share of the best one's are solved too on those days (0: only the
     best); ``refine_tol_kg``: their solver bracket. ``binding_tol_kg`` and
     ``binding_iterations``: secant steps of the binding day towards the refined mass.
@@ -125,6 +131,9 @@ class ReliabilitySettings:
     bracket_high: float = 1.25
     grid_tol_kg: float = 5.0
     refine_samples: int = 4
+    refine_risk: float = 1.0
+    refine_bound_share: float = 0.002
+    refine_bound_kg: float = 50.0
     refine_direction_margin: float = 0.0
     binding_tol_kg: float = 10.0
     binding_iterations: int = 2
@@ -139,7 +148,7 @@ def _concat(parts):
                              for f in dataclasses.fields(parts[0])})
 
 
-def _refinement_samples(point_mass, scores, weight, res, mtow, order_key, settings):
+def _refinement_samples(point_mass, scores, weight, res, mtow, order_key, settings, risk=None):
     """Days to solve directly for a block of groups, as compact rows (group, column,
     samples): the columns are the levels found by the search (below MTOW), and MTOW itself
     (for the share of days and the levels at MTOW) where that share is strictly between 0
@@ -157,7 +166,16 @@ def _refinement_samples(point_mass, scores, weight, res, mtow, order_key, settin
         z = scores if np.ndim(scores) == 1 else scores[rows]
         smp = climatology.refinement_samples(
             point_mass[rows], z, weight[rows], columns[rows, c], order_key[rows],
-            settings.refine_samples)
+            settings.refine_samples, None if risk is None else risk[rows])
+        # Rows whose surface is smooth where the level crosses it are left as they are.
+        bound = np.maximum(settings.refine_bound_share * columns[rows, c], settings.refine_bound_kg)
+        keep = smp.risk_kg >= settings.refine_risk * bound if risk is not None else \
+            np.ones(rows.size, dtype=bool)
+        if not np.all(keep):
+            rows = rows[keep]
+            smp = type(smp)(**{f.name: getattr(smp, f.name)[keep] for f in dataclasses.fields(smp)})
+        if rows.size == 0:
+            continue
         parts.append((rows, np.full(rows.size, c), smp))
     if not parts:
         return None
@@ -739,6 +757,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     safe = np.where(valid, case_at, 0)
     first = safe[:, 0]
     block = max(1, int(settings.block_elements // max(1, n_dir * n_pts * k_win)))
+    cell_risk = climatology.grid_error_indicator(case_grid)  # (n, K - 1, H - 1)
     parts, sample_parts = [], []
     for b0 in range(0, n_grp, block):  # blocks of groups: memory, not a loop over cases
         sb, vb = safe[b0:b0 + block], valid[b0:b0 + block]
@@ -753,9 +772,14 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         # Contour order of the days for the refinement: flown direction (on the middle
         # temperature node), then headwind.
         d_mid = flown_b[:, :, k_win // 2]
-        key = d_mid * _KEY_STRIDE + h_f[np.take_along_axis(sb, d_mid, axis=1), np.arange(n_pts)]
+        c_mid = np.take_along_axis(sb, d_mid, axis=1)  # (B, J)
+        h_mid = h_f[c_mid, np.arange(n_pts)]
+        key = d_mid * _KEY_STRIDE + h_mid
+        # Error indicator of each point's grid cell on that direction, per temperature cell.
+        cell = np.clip(np.sum(h_nodes[c_mid][..., 1:-1] <= h_mid[..., None], axis=-1), 0, n_h - 2)
+        risk = cell_risk[c_mid[..., None], np.arange(k_win - 1), cell[..., None]]  # (B, J, K - 1)
         sample_parts.append(_refinement_samples(m_grp, scores[fb], weight_case[fb], res_b,
-                                                mtow[fb], key, settings))
+                                                mtow[fb], key, settings, risk))
         parts.append(res_b)
     res = _concat(parts)
     samples = _join_samples(sample_parts, range(0, n_grp, block))

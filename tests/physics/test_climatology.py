@@ -459,3 +459,98 @@ def test_no_takeoff_node_gets_the_trend_below_the_floor():
     # Mirrored (headwind rows: no takeoff at the strongest tailwinds first).
     back = clim.fill_no_takeoff_nodes(-t[::-1], grid[::-1], floor, reverse=True)
     np.testing.assert_allclose(back, filled[::-1])
+
+
+# --------------------------------------------------------------------------------------
+# Refinement with direct solves
+# --------------------------------------------------------------------------------------
+def _curved_rose_masses(mean=301.0, sd=3.5, seed=11):
+    c, w, lo, hi, f, calm = _rose16(seed=seed)
+    d, s, wt = clim.wind_rose_points(c, w, lo, hi, f, calm)
+    h, cx, tx = clim.runway_usability(d, s, 40.0, 5.0, 10.0)
+    m = point_masses(curved_mass, [mean], [sd], h[None])
+    return np.where((cx | tx)[None, :, None], -np.inf, m), wt[None], h
+
+
+def test_level_crossing_density_is_the_slope_of_the_share_of_days():
+    m, wt, _ = _curved_rose_masses()
+    mass = np.array([57_000.0])
+    _, slope, dens = clim.level_crossings(m, Z, wt, mass)
+    # −dS/dM by a central difference of share_of_days (±20 kg: inside one segment of the
+    # piecewise-linear interpolant for almost every point; 1 % covers the rest).
+    ds = (clim.share_of_days(mass - 20.0, m, Z, wt) - clim.share_of_days(mass + 20.0, m, Z, wt)) / 40.0
+    assert dens.sum() == pytest.approx(ds[0], rel=0.01)
+    assert np.all(slope[dens > 0] < 0)
+
+
+def test_refinement_samples_spread_over_the_density_and_a_dominant_point_is_solved_once():
+    m, wt, h = _curved_rose_masses()
+    mass = np.array([57_000.0])
+    smp = clim.refinement_samples(m, Z, wt, mass, h[None], 4)
+    _, _, dens = clim.level_crossings(m, Z, wt, mass)
+    assert smp.stratum_density_per_kg.sum() == pytest.approx(dens.sum(), rel=1e-12)
+    filled = smp.point[0] >= 0
+    assert filled.sum() == 4 and np.unique(smp.point[0]).size == 4
+    # Ordered by headwind: the samples come out in increasing headwind.
+    assert np.all(np.diff(h[smp.point[0]]) >= 0)
+    # Almost all days calm: the calm point holds most of the density and is solved once.
+    w2 = np.where(np.arange(wt.shape[1]) == 0, 0.9, 0.1 * wt / wt[:, 1:].sum())
+    one = clim.refinement_samples(m, Z, w2, mass, h[None], 4)
+    assert np.sum(one.point[0] == 0) == 1
+    assert one.stratum_density_per_kg.sum() == pytest.approx(one.density_per_kg[0], rel=1e-12)
+
+
+def test_refined_level_recovers_a_uniformly_shifted_surface():
+    # The "true" masses are the interpolated ones plus 300 kg on every day: the level moves
+    # by exactly 300 kg, and one Newton step from sampled days finds it.
+    m, wt, h = _curved_rose_masses()
+    oew, mtow = np.array([OEW]), np.array([MTOW])
+    surf = clim.reliability_masses(m, Z, wt, oew, mtow, levels=(0.85,))
+    true = clim.reliability_masses(m + 300.0, Z, wt, oew, mtow, levels=(0.85,))
+    assert true.mass_kg[0, 0] - surf.mass_kg[0, 0] == pytest.approx(300.0, abs=2.0)
+    smp = clim.refinement_samples(m, Z, wt, surf.mass_kg[:, 0], h[None], 4)
+    error = np.where(smp.point >= 0, 300.0, np.nan)
+    m_c, change = clim.refined_level_masses(surf.mass_kg[:, 0], np.zeros(1), smp.density_per_kg,
+                                            smp.stratum_density_per_kg, error, oew, mtow)
+    assert m_c[0] == pytest.approx(true.mass_kg[0, 0], abs=2.0)
+    assert change[0] == pytest.approx(300.0 * smp.density_per_kg[0], rel=1e-9)
+
+
+def test_share_equivalent_error_is_the_error_when_small_and_saturates_when_large():
+    z, s = 0.3, -2_000.0
+    assert clim.share_equivalent_error(5.0, z, s) == pytest.approx(5.0, rel=1e-3)
+    # A 10 000 kg error on a slope of 2 000 kg per unit score moves the crossing by 5:
+    # the share moved is Phi(5.3) − Phi(0.3), not phi(0.3) × 5.
+    big = clim.share_equivalent_error(10_000.0, z, s)
+    expected = (stats.norm.cdf(5.3) - stats.norm.cdf(0.3)) * 2_000.0 / stats.norm.pdf(0.3)
+    assert big == pytest.approx(expected, rel=1e-9) and big < 10_000.0
+
+
+def test_binding_and_secant_steps_reach_a_linear_mass_exactly():
+    # m(z) = 60 000 − 2 500 z: the Newton step with the right slope and the secant step
+    # through two points both land on the score of the target mass.
+    mass = lambda z: 60_000.0 - 2_500.0 * z  # noqa: E731
+    assert clim.binding_score(0.2, -2_500.0, mass(0.2), 58_000.0) == pytest.approx(0.8)
+    assert clim.secant_score(0.0, mass(0.0), 0.5, mass(0.5), 58_000.0, -1.0) == pytest.approx(0.8)
+    # A secant through a rising pair is not used: the fallback slope is.
+    assert clim.secant_score(0.0, 0.0, 0.5, 10.0, -5.0, -10.0) == pytest.approx(2.0)
+
+
+def test_grid_error_indicator_zero_for_bilinear_and_the_interpolation_error_at_a_kink():
+    t = np.linspace(290.0, 310.0, 6)
+    h = np.linspace(-6.0, 6.0, 7)
+    bilinear = 60_000.0 - 500.0 * (t[:, None] - 300.0) + 800.0 * h[None, :] \
+        + 3.0 * (t[:, None] - 300.0) * h[None, :]
+    assert np.allclose(clim.grid_error_indicator(bilinear), 0.0, atol=1e-6)
+    # A slope change of 1 000 kg per m/s at h = 1 m/s, mid-way between the nodes 0 and
+    # 2 m/s: linear interpolation errs there by 1 000 × 1 × 1/2 = 500 kg; the second
+    # difference at the nodes next to it is 1 000 kg, the indicator half of it.
+    kink = 60_000.0 + 1_000.0 * np.maximum(h - 1.0, 0.0)[None, :] + 0.0 * t[:, None]
+    ind = clim.grid_error_indicator(kink)
+    interpolated = 0.5 * (kink[:, 3] + kink[:, 4])  # at h = 1 m/s
+    np.testing.assert_allclose(np.abs(interpolated - 60_000.0), 500.0)
+    np.testing.assert_allclose(ind[:, 3], 500.0)
+    assert np.all(ind[:, 0] == 0.0) and np.all(ind[:, -1] == 0.0)
+    # No-takeoff corners: unknown, flagged as infinite.
+    kink[-1, -1] = np.nan
+    assert np.isinf(clim.grid_error_indicator(kink)[-1, -1])
