@@ -131,7 +131,7 @@ class ReliabilitySettings:
     bracket_high: float = 1.25
     grid_tol_kg: float = 5.0
     refine_samples: int = 4
-    refine_risk: float = 1.0
+    refine_risk: float = 2.0
     refine_bound_share: float = 0.002
     refine_bound_kg: float = 50.0
     refine_direction_margin: float = 0.0
