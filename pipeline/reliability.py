@@ -54,7 +54,7 @@ chunk's cases (complete airfields, see :mod:`pipeline.cases`):
    distances and speeds are those of one consistent solve.
 
 Cost (2-core machine, 2 000-airfield synthetic network): about 5–7 solves per design-day
-case on the grid, about 1.2 per level row for the refinement and about one for the binding
+case on the grid, about 0.9 per level row for the refinement and about one for the binding
 day.
 
 Accuracy. Against direct solves at random days of the demo network the interpolated
