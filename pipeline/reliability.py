@@ -34,11 +34,11 @@ chunk's cases (complete airfields, see :mod:`pipeline.cases`):
 4. refinement: the interpolated surface is off by up to a few per cent next to regime
    changes of the limit between nodes, and a level mass is (to first order) moved by the
    density-weighted mean of the surface's errors at the days where it crosses the level.
-   For each level found by the search, and for MTOW where the share of days is strictly
-   between 0 and 1, whose grid cells at the crossing days may hold an error of the size of
-   the accuracy bound (density-weighted error indicator of the cells,
+   For each level found by the search whose grid cells at the crossing days may hold an
+   error of the size of the accuracy bound (density-weighted error indicator of the cells,
    :func:`physics.climatology.grid_error_indicator`, at least ``refine_risk`` × the bound;
-   smooth cells are left as they are), ``refine_samples`` days spread evenly over that
+   levels in smooth cells are left as they are), and for MTOW wherever the share of days
+   is strictly between 0 and 1, ``refine_samples`` days spread evenly over that
    density along the level's contour (:func:`physics.climatology.refinement_samples`) are
    solved directly,
    all in one call (each on its best direction, and on the others within
@@ -54,7 +54,7 @@ chunk's cases (complete airfields, see :mod:`pipeline.cases`):
    distances and speeds are those of one consistent solve.
 
 Cost (2-core machine, 2 000-airfield synthetic network): about 5–7 solves per design-day
-case on the grid, about 0.9 per level row for the refinement and about one for the binding
+case on the grid, about one per level row for the refinement and about one for the binding
 day.
 
 Accuracy. Against direct solves at random days of the demo network the interpolated
@@ -169,8 +169,8 @@ def _refinement_samples(point_mass, scores, weight, res, mtow, order_key, settin
             settings.refine_samples, None if risk is None else risk[rows])
         # Rows whose surface is smooth where the level crosses it are left as they are.
         bound = np.maximum(settings.refine_bound_share * columns[rows, c], settings.refine_bound_kg)
-        keep = smp.risk_kg >= settings.refine_risk * bound if risk is not None else \
-            np.ones(rows.size, dtype=bool)
+        keep = smp.risk_kg >= settings.refine_risk * bound if risk is not None and c < n_lev \
+            else np.ones(rows.size, dtype=bool)
         if not np.all(keep):
             rows = rows[keep]
             smp = type(smp)(**{f.name: getattr(smp, f.name)[keep] for f in dataclasses.fields(smp)})
