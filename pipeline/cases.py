@@ -215,27 +215,41 @@ def _atomic_write_table(table: pa.Table, path: Path) -> None:
 WRITE_SLICE_ROWS = 1_000_000
 
 
-def write_frame(frame: pd.DataFrame, path: Path) -> None:
-    """Write ``frame`` to ``path`` (Parquet, atomic), converting a slice of rows at a time."""
+def _write_parquet_parts(path: Path, parts) -> bool:
+    """Write ``(table, row_group_size)`` parts to ``path`` as one Parquet file, atomically
+    (temp name + rename); return False, leaving ``path`` untouched, when there is no part."""
     path = Path(path)
     tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
     writer = None
     try:
-        for start in range(0, max(len(frame), 1), WRITE_SLICE_ROWS):
-            part = frame.iloc[start:start + WRITE_SLICE_ROWS]
-            table = pa.Table.from_pandas(part, preserve_index=False,
-                                         schema=writer.schema if writer is not None else None)
+        for table, row_group_size in parts:
             if writer is None:
                 writer = pq.ParquetWriter(tmp, table.schema)
-            writer.write_table(table)
+            writer.write_table(table, row_group_size=row_group_size)
+        if writer is None:
+            return False
         writer.close()
         writer = None
         os.replace(tmp, path)
+        return True
     finally:
         if writer is not None:
             writer.close()
         if tmp.exists():
             tmp.unlink()
+
+
+def write_frame(frame: pd.DataFrame, path: Path) -> None:
+    """Write ``frame`` to ``path`` (Parquet, atomic), converting a slice of rows at a time."""
+    def parts():
+        schema = None
+        for start in range(0, max(len(frame), 1), WRITE_SLICE_ROWS):
+            table = pa.Table.from_pandas(frame.iloc[start:start + WRITE_SLICE_ROWS], preserve_index=False,
+                                         schema=schema)
+            schema = table.schema
+            yield table, None
+
+    _write_parquet_parts(path, parts())
 
 
 def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str | os.PathLike,
@@ -253,28 +267,16 @@ def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str 
     aircraft = tables["aircraft_types"].reset_index(drop=True)
     _atomic_write_table(pa.Table.from_pandas(aircraft, preserve_index=False), work / AIRCRAFT_FILE)
 
-    target = work / CASES_FILE
-    tmp = target.with_name(f".{target.name}.{os.getpid()}.tmp")
-    writer = None
-    try:
-        stations = all_stations(tables, temperature_offset_k)
+    stations = all_stations(tables, temperature_offset_k)
+
+    def parts():
         for block, expected in zip(plan.airfield_blocks, plan.cases_per_chunk):
             cases = block_cases(tables, block, temperature_offset_k, conditions, stations, skip)
             if len(cases) != expected:  # a broken invariant, not a user error
                 raise RuntimeError(f"chunk of {block[:3]}… has {len(cases)} cases, planned {expected}")
-            table = pa.Table.from_pandas(cases, preserve_index=False)
-            if writer is None:
-                writer = pq.ParquetWriter(tmp, table.schema)
-            writer.write_table(table, row_group_size=max(len(cases), 1))
-        if writer is not None:
-            writer.close()
-            writer = None
-            os.replace(tmp, target)
-    finally:
-        if writer is not None:
-            writer.close()
-        if tmp.exists():
-            tmp.unlink()
+            yield pa.Table.from_pandas(cases, preserve_index=False), max(len(cases), 1)
+
+    _write_parquet_parts(work / CASES_FILE, parts())
     return work
 
 
