@@ -177,28 +177,10 @@ def _log1p_ratio(x, log1p_x):
     return ratio
 
 
-def _quadratic_integrals(a0, a1, a2, vi, vf, w):
-    """Closed-form ∫(V − w)/a dV and ∫dV/a from vi to vf for a = a0 + a1 V + a2 V².
-
-    Returns (distance, time), NaN where the segment is infeasible. Arrays broadcast.
-
-    Feasibility: the acceleration must have the sign of (vf − vi) at vi; a root of a(V)
-    inside the segment then makes one of the logarithms' arguments negative (or zero at an
-    end), which gives NaN (or ±inf) — caught by the final finiteness check. With complex
-    roots a(V) keeps its sign.
-    """
-    a0, a1, a2, vi, vf, w = np.broadcast_arrays(_f(a0), _f(a1), _f(a2), _f(vi), _f(vf), _f(w))
-    shape = a0.shape
-    a0, a1, a2, vi, vf, w = (np.atleast_1d(x) for x in (a0, a1, a2, vi, vf, w))
-    dv = vf - vi
-    ai = a0 + (a1 + a2 * vi) * vi
-    a1sq = a1 * a1
-    four_a0a2 = 4.0 * a0 * a2
-    disc = a1sq - four_a0a2
-
+def _real_root_integrals(a0, a1, a2, vi, vf, w, dv, disc):
+    """Real-root form of the integrals (distinct roots), written to stay exact as a2 → 0."""
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        # Real, distinct roots: a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q,
-        # and a2 (r1 − r2) = −sq.
+        # a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q, and a2 (r1 − r2) = −sq.
         sq = np.copysign(np.sqrt(np.maximum(disc, 0.0)), a1)
         q = -0.5 * (a1 + sq)
         r2 = a0 / q
@@ -210,43 +192,81 @@ def _quadratic_integrals(a0, a1, a2, vi, vf, w):
         inv_sq = 1.0 / sq
         dist = ((r2 - w) * log2 - term1) * inv_sq
         time = (log2 - log1) * inv_sq
+    return dist, time
 
-    # Other regimes on the (usually few) cases that need them: complex roots, and where the
-    # real-root form is singular or ill-conditioned (double root; constant acceleration).
-    special = disc <= 1e-12 * (a1sq + np.abs(four_a0a2))  # includes every disc < 0
-    if np.any(special):
-        i = np.nonzero(special)[0]
-        A0, A1, A2, Vi, Vf, W, DV, D = a0[i], a1[i], a2[i], vi[i], vf[i], w[i], dv[i], disc[i]
-        vmax = np.maximum(np.abs(Vi), np.abs(Vf))
-        const = (np.abs(A1) + np.abs(A2) * vmax) * vmax <= 1e-13 * np.abs(A0)
-        double = (np.abs(D) <= 1e-12 * (A1 * A1 + np.abs(4.0 * A0 * A2))) & ~const
-        cplx = (D < 0.0) & ~double & ~const
-        s_sp, t_sp = dist[i], time[i]
+
+def _special_integrals(a0, a1, a2, vi, vf, w, dv, disc, ai):
+    """The integrals where the real-root form does not apply: complex roots, double root,
+    constant acceleration (the last two only where present)."""
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        # complex roots [3] 2.172 (atan difference written with atan2, exact branch)
+        sd = np.sqrt(np.abs(disc))
+        x = (2.0 * a2 * vf + a1) / sd
+        y = (2.0 * a2 * vi + a1) / sd
+        time = 2.0 / sd * np.arctan2(2.0 * a2 * dv / sd, 1.0 + x * y)
+        ln = np.log1p(dv * (a1 + a2 * (vf + vi)) / ai)
+        dist = (ln - (2.0 * a2 * w + a1) * time) / (2.0 * a2)
+    vmax = np.maximum(np.abs(vi), np.abs(vf))
+    const = (np.abs(a1) + np.abs(a2) * vmax) * vmax <= 1e-13 * np.abs(a0)
+    double = (np.abs(disc) <= 1e-12 * (a1 * a1 + np.abs(4.0 * a0 * a2))) & ~const
+    if np.any(double):
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            # complex roots [3] 2.172 (atan difference written with atan2, exact branch)
-            sd = np.sqrt(np.abs(D))
-            x = (2.0 * A2 * Vf + A1) / sd
-            y = (2.0 * A2 * Vi + A1) / sd
-            jt = 2.0 / sd * np.arctan2(2.0 * A2 * DV / sd, 1.0 + x * y)
-            ln = np.log1p(DV * (A1 + A2 * (Vf + Vi)) / ai[i])
-            s_c = (ln - (2.0 * A2 * W + A1) * jt) / (2.0 * A2)
             # double root r: a = a2 (V − r)²
-            r = -A1 / (2.0 * A2)
-            inv = 1.0 / (Vi - r) - 1.0 / (Vf - r)
-            s_d = (np.log((Vf - r) / (Vi - r)) + (r - W) * inv) / A2
-            t_d = inv / A2
-            # constant acceleration
-            s_k = DV * (Vf + Vi - 2.0 * W) / (2.0 * A0)
-            t_k = DV / A0
-        s_sp = np.where(cplx, s_c, np.where(double, s_d, np.where(const, s_k, s_sp)))
-        t_sp = np.where(cplx, jt, np.where(double, t_d, np.where(const, t_k, t_sp)))
-        dist[i] = s_sp
-        time[i] = t_sp
+            r = -a1 / (2.0 * a2)
+            inv = 1.0 / (vi - r) - 1.0 / (vf - r)
+            dist = np.where(double, (np.log((vf - r) / (vi - r)) + (r - w) * inv) / a2, dist)
+            time = np.where(double, inv / a2, time)
+    if np.any(const):
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+            dist = np.where(const, dv * (vf + vi - 2.0 * w) / (2.0 * a0), dist)
+            time = np.where(const, dv / a0, time)
+    return dist, time
 
-    ok = (np.sign(dv) * ai > 0.0) & np.isfinite(dist)
+
+def _quadratic_integrals(a0, a1, a2, vi, vf, w):
+    """Closed-form ∫(V − w)/a dV and ∫dV/a from vi to vf for a = a0 + a1 V + a2 V².
+
+    Returns (distance, time), NaN where the segment is infeasible. Arrays broadcast.
+
+    Feasibility: the acceleration must have the sign of (vf − vi) at vi; a root of a(V)
+    inside the segment then makes one of the logarithms' arguments negative (or zero at an
+    end), which gives NaN (or ±inf) — caught by the final finiteness check. With complex
+    roots a(V) keeps its sign.
+
+    Each regime's formula is evaluated only on the cases in it: the real-root form on all
+    cases when few need another, else each form on its own cases (a reverse-flow segment,
+    with drag adding to the acceleration, has complex roots throughout).
+    """
+    a0, a1, a2, vi, vf, w = np.broadcast_arrays(_f(a0), _f(a1), _f(a2), _f(vi), _f(vf), _f(w))
+    shape = a0.shape
+    a0, a1, a2, vi, vf, w = (np.atleast_1d(x) for x in (a0, a1, a2, vi, vf, w))
+    dv = vf - vi
+    ai = a0 + (a1 + a2 * vi) * vi
+    a1sq = a1 * a1
+    four_a0a2 = 4.0 * a0 * a2
+    disc = a1sq - four_a0a2
+    # the real-root form is singular or ill-conditioned here (double root, constant
+    # acceleration), or does not apply (complex roots)
+    special = disc <= 1e-12 * (a1sq + np.abs(four_a0a2))  # includes every disc < 0
+    n_special = int(np.count_nonzero(special))
+    if n_special == special.size:
+        dist, time = _special_integrals(a0, a1, a2, vi, vf, w, dv, disc, ai)
+    elif n_special > 0.5 * special.size:
+        dist, time = _special_integrals(a0, a1, a2, vi, vf, w, dv, disc, ai)
+        i = np.flatnonzero(~special)
+        dist[i], time[i] = _real_root_integrals(*(x.take(i) for x in (a0, a1, a2, vi, vf, w, dv, disc)))
+    else:
+        dist, time = _real_root_integrals(a0, a1, a2, vi, vf, w, dv, disc)
+        if n_special:
+            i = np.flatnonzero(special)
+            dist[i], time[i] = _special_integrals(*(x.take(i) for x in (a0, a1, a2, vi, vf, w, dv, disc, ai)))
+
+    # a(vi) with the sign of vf − vi (dv·ai cannot underflow for speeds and accelerations)
+    ok = (dv * ai > 0.0) & np.isfinite(dist)
+    if not ok.all():
+        dist = np.where(ok, dist, np.nan)
+        time = np.where(ok, time, np.nan)
     zero = dv == 0.0
-    dist = np.where(ok, dist, np.nan)
-    time = np.where(ok, time, np.nan)
     if np.any(zero):
         dist[zero] = 0.0
         time[zero] = 0.0
