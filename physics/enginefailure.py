@@ -359,6 +359,42 @@ def scheduled_speeds_mps(aircraft, *, mass_kg, density_kg_m3):
 PROPELLER_NODES = 8
 
 
+def regime_terms(*, wing_area_m2, density_kg_m3, cd, cl, mu, slope, shape):
+    """The mass-independent parts of a ground regime's acceleration.
+
+    Parameters
+    ----------
+    wing_area_m2, density_kg_m3, cd, cl, mu, slope : array_like
+        As :func:`physics.groundrun.acceleration_coefficients`. [m²], [kg/m³], [–], [–],
+        [–], [–]
+    shape : tuple
+        Shape to broadcast to. [–]
+
+    Returns
+    -------
+    drag_num : numpy.ndarray
+        ½ rho S (C_D − mu C_L), the drag-minus-friction-relief term times V². [kg/m]
+    resistance : numpy.ndarray
+        g (mu cos g + sin g), friction and slope. [m/s²]
+
+    Notes
+    -----
+    a0 = T0/m − resistance, a1 = T1/m, a2 = T2/m ∓ drag_num/m (− for V ≥ 0, + for reverse
+    flow), the arithmetic of :func:`physics.groundrun.acceleration_coefficients`.
+
+    References
+    ----------
+    .. [1] Raymer, Eq. 17.100. .. [2] Anderson (1999), Eq. 6.85.
+    """
+    from physics import groundrun
+
+    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), shape)  # noqa: E731
+    sin_g, cos_g = groundrun.slope_sin_cos(b(slope))
+    mu = b(mu)
+    drag_num = 0.5 * b(density_kg_m3) * b(wing_area_m2) * (b(cd) - mu * b(cl))
+    return drag_num, c.G0 * (mu * cos_g + sin_g)
+
+
 class GroundRegime:
     """One engine and configuration state on the ground: a(V) and segment distances.
 
@@ -382,20 +418,25 @@ class GroundRegime:
         Headwind, shape (n,). [m/s]
     """
 
-    def __init__(self, thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, slope, headwind_mps):
+    def __init__(self, thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, slope, headwind_mps,
+                 terms=None):
         from physics import groundrun
 
         n = np.shape(thrust_law.t0_n)
-        f = [np.broadcast_to(np.asarray(x, dtype=float), n)
-             for x in (mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, slope, headwind_mps)]
-        m, s_area, rho, cd, cl, mu, slope, w = f
+        m, w = (np.broadcast_to(np.asarray(x, dtype=float), n) for x in (mass_kg, headwind_mps))
+        if terms is None:
+            terms = regime_terms(wing_area_m2=wing_area_m2, density_kg_m3=density_kg_m3, cd=cd, cl=cl, mu=mu,
+                                 slope=slope, shape=n)
+        drag_num, resistance = terms
         self.law, self.w = thrust_law, w
-        kw = dict(mass_kg=m, wing_area_m2=s_area, density_kg_m3=rho, cd=cd, cl=cl, mu=mu,
-                  thrust0_n=thrust_law.t0_n, thrust1_n_per_mps=thrust_law.t1_n_per_mps,
-                  thrust2_n_per_mps2=thrust_law.t2_n_per_mps2, slope=slope)
-        self.coeffs = groundrun.acceleration_coefficients(**kw)
-        self.a2_reverse = (groundrun.acceleration_coefficients(**kw, reverse_flow=True).a2
-                           if np.any(w < 0.0) else None)
+        # as groundrun.acceleration_coefficients, with the mass-independent parts given
+        aero = drag_num / m
+        a0 = np.asarray(thrust_law.t0_n, dtype=float) / m - resistance
+        a1 = np.broadcast_to(np.asarray(thrust_law.t1_n_per_mps, dtype=float) / m, n)
+        t2m = np.asarray(thrust_law.t2_n_per_mps2, dtype=float) / m
+        self.coeffs = groundrun.AccelerationCoefficients(np.broadcast_to(a0, n), a1, np.broadcast_to(t2m - aero, n))
+        # below V = 0 drag and lift act on V|V| (reverse flow)
+        self.a2_reverse = np.broadcast_to(t2m + aero, n) if np.any(w < 0.0) else None
         is_prop = np.asarray(thrust_law.is_propeller, dtype=bool)
         self.kink = np.broadcast_to(thrust_law.kink_airspeed_mps, n)
         self.prop = np.nonzero(is_prop)[0]
@@ -439,33 +480,25 @@ class GroundRegime:
         quad = groundrun.segment_distance_quadratic_m
         c_from, c_to = np.minimum(v_from, self.kink), np.minimum(v_to, self.kink)
         with np.errstate(invalid="ignore", divide="ignore"):
-            s = np.asarray(quad(a0, a1, a2, c_from, c_to, self.w), dtype=float)
-            if self.tail.size:
-                i = self.tail
-                cross = np.minimum(c_from[i], c_to[i]) < 0.0
-                if np.any(cross):
-                    i = i[cross]
-                    s = np.array(s, copy=True)
-                    s[i] = quad(a0[i], a1[i], a2[i], c_from[i], c_to[i], self.w[i],
-                                a2_reverse=self.a2_reverse[i])
+            # split at V = 0 (reverse-flow drag below it) only where a segment crosses it
+            s = np.array(quad(a0, a1, a2, c_from, c_to, self.w, a2_reverse=self.a2_reverse), dtype=float)
         if self.prop.size:
             i = self.prop
             g_from, g_to = np.maximum(v_from[i], self.kink[i]), np.maximum(v_to[i], self.kink[i])
             lo, hi = np.minimum(g_from, g_to), np.maximum(g_from, g_to)
             x, wts = _gl_nodes(PROPELLER_NODES)
             half = 0.5 * (hi - lo)
-            v = (0.5 * (hi + lo))[:, None] + half[:, None] * x
-            ends = np.stack([lo, hi], axis=1)
-            pm, a0n, a2p = self._p_m[:, None], self._a0n[:, None], self._a2p[:, None]
+            # nodes on the first axis: the sums over nodes are elementwise over the cases
+            v = 0.5 * (hi + lo) + x[:, None] * half  # (nodes, n)
+            pm, a0n, a2p = self._p_m, self._a0n, self._a2p
+            sgn = np.sign(g_to - g_from)
             with np.errstate(invalid="ignore", divide="ignore"):
                 acc = pm / v + a0n + a2p * v * v
-                acc_ends = pm / ends + a0n + a2p * ends * ends
-                sgn = np.sign(g_to - g_from)
-                ok = (np.all(sgn[:, None] * acc > 0.0, axis=1) & np.all(sgn[:, None] * acc_ends > 0.0, axis=1))
-                part = sgn * half * np.sum(wts * (v - self.w[i][:, None]) / acc, axis=1)
+                ok = ((sgn * acc).min(axis=0) > 0.0) & (sgn * (pm / lo + a0n + a2p * lo * lo) > 0.0) \
+                    & (sgn * (pm / hi + a0n + a2p * hi * hi) > 0.0)
+                part = sgn * half * (wts[:, None] * ((v - self.w[i]) / acc)).sum(axis=0)
             part = np.where(g_to == g_from, 0.0, np.where(ok, part, np.nan))
-            s = np.array(s, dtype=float, copy=True)
-            s[i] = s[i] + part
+            s[i] += part
         return s
 
     def take(self, index):
@@ -582,6 +615,7 @@ class EngineFailureSetup:
     mu_roll: np.ndarray
     mu_brake: np.ndarray
     headwind_mps: np.ndarray
+    regime_terms: dict
 
 
 def engine_failure_setup(aircraft, site, shape=()):
@@ -636,10 +670,17 @@ def engine_failure_setup(aircraft, site, shape=()):
     p, t = b(s.pressure_pa), b(s.temperature_k)
     law = lambda ops, tau=1.0: thrust.thrust_law_for_aircraft(  # noqa: E731
         a, p, t, engines_operating=ops, throttle=tau)
+    rho_b, area, slope = b(rho), b(a.wing_area_m2), b(s.slope)
+    cl_roll, cl_brake, mu_roll, mu_brake = b(a.cl_ground_roll), b(a.braking_cl), b(s.mu_roll), b(s.mu_brake)
+    terms = lambda cd, cl, mu: regime_terms(wing_area_m2=area, density_kg_m3=rho_b, cd=cd, cl=cl, mu=mu,  # noqa: E731
+                                           slope=slope, shape=n)
+    regimes = {"all_engines": terms(cd_roll, cl_roll, mu_roll), "one_out": terms(cd_roll + eo, cl_roll, mu_roll),
+               "stop_all": terms(cd_brake, cl_brake, mu_brake),
+               "stop_one_out": terms(cd_brake + eo, cl_brake, mu_brake)}
     return EngineFailureSetup(
-        n, b(rho), multi, law(n_eng), law(n_out), law(n_eng, idle), law(n_out, idle),
-        cd_roll, cd_roll + eo, cd_brake, cd_brake + eo, cd0 + eo, k, b(a.cl_ground_roll), b(a.braking_cl),
-        b(a.wing_area_m2), b(s.slope), b(s.mu_roll), b(s.mu_brake), b(s.headwind_mps))
+        n, rho_b, multi, law(n_eng), law(n_out), law(n_eng, idle), law(n_out, idle),
+        cd_roll, cd_roll + eo, cd_brake, cd_brake + eo, cd0 + eo, k, cl_roll, cl_brake,
+        area, slope, mu_roll, mu_brake, b(s.headwind_mps), regimes)
 
 
 def engine_failure_model(aircraft, site, mass_kg, setup=None):
@@ -679,10 +720,11 @@ def engine_failure_model(aircraft, site, mass_kg, setup=None):
                   headwind_mps=w)
     roll = dict(common, mu=su.mu_roll, cl=su.cl_roll)
     brake = dict(common, mu=su.mu_brake, cl=su.cl_brake)
-    all_engines = GroundRegime(su.law_all, cd=su.cd_roll, **roll)
-    one_out = GroundRegime(su.law_one_out, cd=su.cd_roll_one_out, **roll)
-    stop_all = GroundRegime(su.law_idle_all, cd=su.cd_brake, **brake)
-    stop_one_out = GroundRegime(su.law_idle_one_out, cd=su.cd_brake_one_out, **brake)
+    t = su.regime_terms
+    all_engines = GroundRegime(su.law_all, cd=su.cd_roll, **roll, terms=t["all_engines"])
+    one_out = GroundRegime(su.law_one_out, cd=su.cd_roll_one_out, **roll, terms=t["one_out"])
+    stop_all = GroundRegime(su.law_idle_all, cd=su.cd_brake, **brake, terms=t["stop_all"])
+    stop_one_out = GroundRegime(su.law_idle_one_out, cd=su.cd_brake_one_out, **brake, terms=t["stop_one_out"])
     lo = np.maximum(speeds.vmcg_mps, w)
     hi = np.maximum(speeds.vr_mps, lo)
     lo = np.where(su.multi_engine, lo, hi)  # single engine: V1 = VR
