@@ -56,6 +56,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -616,6 +617,23 @@ class EngineFailureSetup:
     mu_brake: np.ndarray
     headwind_mps: np.ndarray
     regime_terms: dict
+
+    def take_cases(self, index):
+        """The setup of the cases at ``index`` (integer array), gathered, not recomputed."""
+        index = np.asarray(index)
+        vals = {}
+        for f in dataclasses.fields(self):
+            v = getattr(self, f.name)
+            if f.name == "n":
+                v = (index.size,)
+            elif f.name == "regime_terms":
+                v = {k: tuple(np.asarray(x)[index] for x in t) for k, t in v.items()}
+            elif f.name.startswith("law_"):
+                v = v.take(index)
+            else:
+                v = np.asarray(v)[index]
+            vals[f.name] = v
+        return EngineFailureSetup(**vals)
 
 
 def engine_failure_setup(aircraft, site, shape=()):

@@ -246,6 +246,11 @@ class Cases:
         state = self._cache.get("engine_failure_state")
         if state and state.get("v1") is not None and np.shape(state["v1"]) == (self.n,):
             out._cache["engine_failure_state"] = {k: np.asarray(v)[index] for k, v in state.items()}
+        for key, val in self._cache.items():  # the mass-independent items, by gathering
+            if key != "engine_failure_state":
+                sub = _take_cached(val, index, self.n)
+                if sub is not None:
+                    out._cache[key] = sub
         return out
 
     def cached(self, key, fn):
@@ -253,6 +258,21 @@ class Cases:
         if key not in self._cache:
             self._cache[key] = fn(self)
         return self._cache[key]
+
+
+def _take_cached(val, index, n):
+    """A cached per-case item at ``index`` (None: not a per-case item, compute it afresh)."""
+    if isinstance(val, np.ndarray):
+        if val.ndim == 1 and val.shape[0] == n:
+            return val[index]
+        return val if val.ndim == 0 else None
+    if isinstance(val, tuple):
+        parts = [_take_cached(x, index, n) for x in val]
+        if any(p is None for p in parts):
+            return None
+        return type(val)(*parts) if hasattr(val, "_fields") else tuple(parts)
+    take = getattr(val, "take_cases", None) or (getattr(val, "take", None) if isinstance(val, thrust.ThrustLaw) else None)
+    return take(index) if take is not None else None
 
 
 _LAZY_CLASSES: dict = {}
