@@ -580,7 +580,7 @@ def requirement_margins(cases, mass_kg, requirements=None):
     return margins, memo
 
 
-def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules="transport"):
+def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules="transport", figures=True):
     """Largest takeoff mass between OEW and MTOW meeting every requirement, per case.
 
     Parameters
@@ -600,6 +600,12 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
         ``"transport"`` (default: all-engines 115 % distances, one-engine-inoperative
         distances and accelerate-stop at the best V1, second-segment climb) or
         ``"all_engines"`` (the all-engines pair only). [–]
+    figures : bool, optional
+        False: only the limit mass is wanted (e.g. grid nodes to interpolate). The search is
+        the same, so the mass is too; the distances, speeds and gradients are left NaN and,
+        with engine-failure requirements, the limiting factor is named from the search's
+        last margins above the limit (V1 not re-converged: where the go and stop margins
+        tie it may name either), saving the two closing evaluations. [–]
 
     Returns
     -------
@@ -630,7 +636,7 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
             raise ValueError(f"unknown rules {rules!r}; expected one of {sorted(RULES)}")
         requirements = REQUIREMENTS if rules == "transport" else RULES[rules]
     reqs = list(requirements)
-    result = _solve(aircraft, site, tol_kg, reqs)
+    result = _solve(aircraft, site, tol_kg, reqs, figures)
     dry_roll = np.asarray(site.mu_roll_dry if site.mu_roll_dry is not None else np.nan, dtype=float)
     dry_brake = np.asarray(site.mu_brake_dry if site.mu_brake_dry is not None else np.nan, dtype=float)
     n = result.tow_limit_kg.shape[0]
@@ -648,7 +654,7 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
                        "mu_brake": np.broadcast_to(dry_brake, (n,))[idx],
                        "screen_height_m": np.full(idx.size, const.SCREEN_HEIGHT_35FT_M),
                        "mu_roll_dry": math.nan, "mu_brake_dry": math.nan})
-    dry = _solve(take(aircraft), dry_site, tol_kg, reqs)
+    dry = _solve(take(aircraft), dry_site, tol_kg, reqs, figures)
     w_lim = result.tow_limit_kg[idx]
     lower = ~np.isnan(w_lim) & (np.isnan(dry.tow_limit_kg) | (dry.tow_limit_kg < w_lim))
     out = {}
@@ -863,7 +869,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     return lo_out, hi_out, mhi_out, none_out, j, v1_state
 
 
-def _solve(aircraft, site, tol_kg, reqs):
+def _solve(aircraft, site, tol_kg, reqs, figures=True):
     engine_failure = any(r.margin in _ENGINE_FAILURE_MARGINS for r in reqs)
     cases = prepare_cases(aircraft, site, vmcg_floor=engine_failure)
     a = cases.aircraft
@@ -893,11 +899,11 @@ def _solve(aircraft, site, tol_kg, reqs):
         sub = cases.take(rest)
         lo, hi, m_top, none_rest, _, v1_state = _itp_search(
             sub, margins_fn, a.oew_kg[rest], a.mtow_kg[rest], m_hi[:, rest], tol_kg,
-            capture=None if engine_failure else _shifted(capture, rest))
+            capture=None if engine_failure or not figures else _shifted(capture, rest))
         none[rest] = none_rest
         ok = ~none_rest
         active = rest[ok]
-        if engine_failure and active.size:
+        if engine_failure and active.size and figures:
             # The factor: the requirement most violated just above the limit, with V1
             # converged (the search's last V1, within a kilogram, and further Newton steps):
             # at a balanced V1 the go and stop margins tie and only a converged V1 names the
@@ -923,7 +929,9 @@ def _solve(aircraft, site, tol_kg, reqs):
     # Figures at the limit mass: without engine-failure requirements they were taken during
     # the search (structural cases: from the MTOW evaluation); with them every case with a
     # limit is evaluated again with a fully converged V1. no_takeoff cases are blank.
-    if engine_failure:
+    if not figures:
+        pass
+    elif engine_failure:
         final = np.nonzero(~none)[0]
         if final.size:
             sub = cases.take(final)

@@ -571,7 +571,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
                           headwind_mps=np.concatenate([h_lo_pts.ravel(), h_hi_pts.ravel()]),
                           pressure_pa=np.concatenate([np.repeat(p_lo[lo_trk], n_g * n_h),
                                                       np.repeat(p_hi[hi_trk], n_g * sub_h.size)]))
-        solved = np.asarray(solve(ac_grid, site_grid, tol_kg=settings.grid_tol_kg).tow_limit_kg,
+        solved = np.asarray(solve(ac_grid, site_grid, tol_kg=settings.grid_tol_kg, figures=False).tow_limit_kg,
                             dtype=float)
         n_solves += int(rep.size)
         n_lo = lo_trk.size * n_g * n_h
@@ -640,7 +640,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
                       mtow_kg=np.asarray(ac.mtow_kg) * settings.bracket_high)
         site = _site(cases, case_index, site_cls, temperature_k=temperature(case_index, score),
                      headwind_mps=h_f[case_index, point_index])
-        m = np.asarray(solve(ac, site, tol_kg=settings.refine_tol_kg).tow_limit_kg, dtype=float)
+        m = np.asarray(solve(ac, site, tol_kg=settings.refine_tol_kg, figures=False).tow_limit_kg, dtype=float)
         return np.where(np.isfinite(m), m, oew[case_index] * settings.bracket_low)
 
     def solve_fields(case_index, point_index, score):

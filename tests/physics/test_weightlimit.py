@@ -158,3 +158,20 @@ def test_limit_next_to_oew_and_just_below_it(kind):
     r = solve(a, s)
     assert oew <= r.tow_limit_kg[0] <= oew + 0.4 and r.limiting_factor[0] == TD
     assert np.isnan(r.tow_limit_kg[1]) and r.limiting_factor[1] == limits.code("no_takeoff")
+
+
+@pytest.mark.parametrize("rules", ["transport", "all_engines"])
+def test_mass_only_solve_gives_the_same_limit(rules):
+    # figures=False (grid nodes for interpolation) skips the closing evaluations only: the
+    # search, and so the limit mass, is the same to the bit; the figures are left blank.
+    a, site = fleet.random_cases(600, seed=23)
+    full = wl.solve_takeoff_weight(a, site, rules=rules)
+    mass = wl.solve_takeoff_weight(a, site, rules=rules, figures=False)
+    np.testing.assert_array_equal(mass.tow_limit_kg, full.tow_limit_kg)
+    possible = np.isfinite(full.tow_limit_kg)
+    assert possible.mean() > 0.9
+    assert np.all(np.isnan(mass.takeoff_distance_m)) and np.all(np.isnan(mass.accelerate_stop_m))
+    # structural and no-takeoff are decided before the closing evaluations
+    for name in ("structural", "no_takeoff"):
+        code = limits.code(name)
+        np.testing.assert_array_equal(mass.limiting_factor == code, full.limiting_factor == code)
