@@ -68,6 +68,11 @@ def load_task(prepared, run_id: int, results, best_path: str, route_path: str | 
     return steps.load(prepared, run_id, results, best_path, route_path, reused)
 
 
+#: Environment of the Dask workers' processes (see _task_runner); remote workers should be
+#: started with it too (DEVELOPERS.md).
+WORKER_MALLOC_ENV = {"MALLOC_MMAP_THRESHOLD_": "33554432", "MALLOC_TRIM_THRESHOLD_": "67108864"}
+
+
 def _task_runner(cluster: str | None, workers: int):
     if not cluster:
         return ThreadPoolTaskRunner(max_workers=workers)
@@ -78,7 +83,17 @@ def _task_runner(cluster: str | None, workers: int):
 
         raise BadInput("--cluster needs the dask extra: pip install 'fieldlimits[dask]'") from None
     if cluster == "local":
-        return DaskTaskRunner(cluster_kwargs={"n_workers": workers, "threads_per_worker": 1})
+        import dask
+
+        # Dask's nanny starts workers with MALLOC_TRIM_THRESHOLD_=65536, which also fixes
+        # glibc's mmap threshold at 128 KiB: every large numpy temporary is then mapped and
+        # unmapped again, page faults in the kernel cost more than the arithmetic (measured:
+        # 3 min system time in a 5 min run). These are glibc's own dynamic limits at their
+        # largest (32 MiB, trim at twice that), as in a plain run.
+        dask.config.set({"distributed.nanny.pre-spawn-environ": dict(
+            dask.config.get("distributed.nanny.pre-spawn-environ", {}), **WORKER_MALLOC_ENV)})
+        return DaskTaskRunner(cluster_kwargs={"n_workers": workers, "threads_per_worker": 1,
+                                              "dashboard_address": None})
     return DaskTaskRunner(address=cluster)
 
 
@@ -117,12 +132,35 @@ def fieldlimits_run(input_dir: str, db_path: str = "fieldlimits.duckdb",
     return steps.summarise(prepared, run_id, time.monotonic() - t0, rows)
 
 
+def share_temporary_api() -> str | None:
+    """Start Prefect's temporary API in this process and point new child processes at it.
+
+    Without ``PREFECT_API_URL`` every process that runs a task starts a temporary API server
+    of its own: the workers of a local Dask cluster would each spend about 10 s on it (and
+    record their task runs where nobody sees them). The server is Prefect's own (stopped at
+    exit); this process goes on using it as before. Returns the URL given to the children,
+    or None when ``PREFECT_API_URL`` is already set.
+    """
+    import os
+
+    if os.environ.get("PREFECT_API_URL"):
+        return None
+    from prefect.server.api.server import SubprocessASGIServer
+
+    server = SubprocessASGIServer()  # the instance this process's client uses too
+    server.start()
+    os.environ["PREFECT_API_URL"] = server.api_url
+    return server.api_url
+
+
 def run_with_prefect(input_dir, db_path, params: RunParams | None = None, *, cluster: str | None = None,
                      workers: int | None = None, work_root=None):
     """Run the flow (temporary local Prefect API unless PREFECT_API_URL is set)."""
     import os
 
     n = workers or int(os.environ.get("PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS", "2"))
+    if cluster == "local":
+        share_temporary_api()
     runner = _task_runner(cluster, n)
     return fieldlimits_run.with_options(task_runner=runner)(
         str(input_dir), str(db_path), (params or RunParams()).as_dict(),
