@@ -145,16 +145,25 @@ def main(argv=None):
 
     # 4. Plain per-case loop on a sample (same requirements), and the ratio.
     sample = rng.choice(n_wl, n_loop, replace=False)
-    t, cpu = time.perf_counter(), time.process_time()
+    # each case timed twice and its faster run kept: the same best-of treatment as the
+    # vectorised figure (a single pass over the sample is at the mercy of the machine's load)
+    wall_loop, cpu_loop_sum = 0.0, 0.0
     worst = 0.0
     for i in sample:
-        m, _ = loop_solve(a, site, int(i))
+        best_wall, best_cpu = float("inf"), float("inf")
+        for _ in range(2):
+            t, cpu = time.perf_counter(), time.process_time()
+            m, _ = loop_solve(a, site, int(i))
+            best_wall = min(best_wall, time.perf_counter() - t)
+            best_cpu = min(best_cpu, time.process_time() - cpu)
+        wall_loop += best_wall
+        cpu_loop_sum += best_cpu
         if np.isfinite(m):
             worst = max(worst, abs(m - res.tow_limit_kg[i]))
-    per_case_loop = (time.perf_counter() - t) / n_loop
-    cpu_loop = (time.process_time() - cpu) / n_loop
+    per_case_loop = wall_loop / n_loop
+    cpu_loop = cpu_loop_sum / n_loop
     per_case_vec = dt_vec / n_wl
-    print(f"plain loop (solve_ivp + brentq), {n_loop} sampled cases: {per_case_loop * 1e3:.1f} ms/case "
+    print(f"plain loop (solve_ivp + brentq), {n_loop} sampled cases, best of 2 each: {per_case_loop * 1e3:.1f} ms/case "
           f"({1 / per_case_loop:,.1f} solves/s); largest difference from the vectorised limit {worst:.2f} kg")
     print(f"vectorised / loop speed ratio per case: {per_case_loop / per_case_vec:,.0f}x wall time, "
           f"{cpu_loop / (cpu_vec / n_wl):,.0f}x CPU time")
