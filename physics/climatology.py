@@ -63,6 +63,7 @@ References
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -657,6 +658,7 @@ def fill_no_takeoff_nodes(nodes, mass_kg, floor_kg, *, reverse=False):
 # ----------------------------------------------------------------------------------------
 _NOT_POSSIBLE_KG = -1.0e12  # finite stand-in for "not possible" inside the inversion
 _TIE_KG = 0.05  # masses equal within this count as achieved (float32 inside the search)
+_INV_SQRT_2PI = 1.0 / math.sqrt(2.0 * math.pi)
 _FAR_SCORE = 6.0  # |z| beyond this is taken as infinite (Phi within 1e-9 of 0 or 1)
 _BINDING_SCORE = 3.5  # a binding day further out than this is not "typical"
 
@@ -674,27 +676,34 @@ def _segments(f, scores):
     return f, z, inv
 
 
-def _crossing_score(seg, mass):
+def _crossing_score(seg, mass, slope=False):
     """z*(M) = sup{z : m(z) ≥ M} for the piecewise-linear m of _segments (mass broadcast).
 
     z* = z_0 + Σ_g Δz_g c_g with c_g = (f_g − M)/(f_g − f_{g+1}) clipped to [0, 1], except
     that the first segment is not clipped below and the last not above: the end segments
     extend linearly beyond the nodes (a flat end segment extends to ±inf in effect).
+    With ``slope``, also dz*/dM = −Σ Δz_g/(f_g − f_{g+1}) over the segments not clipped.
     """
     f, z, inv = seg
     m = (np.asarray(mass, dtype=float) - _TIE_KG).astype(np.float32)
     g = f.shape[-1]
     if g == 1:
-        return np.where(f[..., 0] >= m, np.inf, -np.inf)
+        out = np.where(f[..., 0] >= m, np.inf, -np.inf)
+        return (out, np.zeros(out.shape, dtype=np.float32)) if slope else out
     dz = np.diff(z, axis=-1)
-    out = np.broadcast_to(z[..., 0], np.broadcast_shapes(f.shape[:-1], np.shape(m), z.shape[:-1])).copy()
+    shape = np.broadcast_shapes(f.shape[:-1], np.shape(m), z.shape[:-1])
+    out = np.broadcast_to(z[..., 0], shape).copy()
+    d_out = np.zeros(shape, dtype=np.float32) if slope else None
     for k in range(g - 1):  # a fixed, small number of temperature segments
         c = (f[..., k] - m) * inv[..., k]
         lo = -np.inf if k == 0 else 0.0
         hi = np.inf if k == g - 2 else 1.0
         out = out + dz[..., k] * np.clip(c, lo, hi)
+        if slope:
+            d_out = d_out - np.where((c > lo) & (c < hi), dz[..., k] * inv[..., k], 0.0)
     # Beyond ±_FAR_SCORE the extension is flat in effect (Phi is 0 or 1 to 1e-300).
-    return np.where(out > _FAR_SCORE, np.inf, np.where(out < -_FAR_SCORE, -np.inf, out))
+    out = np.where(out > _FAR_SCORE, np.inf, np.where(out < -_FAR_SCORE, -np.inf, out))
+    return (out, d_out) if slope else out
 
 
 def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=None,
@@ -899,6 +908,28 @@ def _prepare(point_mass_kg):
     return np.minimum.accumulate(f, axis=-1)
 
 
+def _single_point_level(f, scores, weight, p):
+    """First estimate of each level: Σ_j w_j m_j(Φ⁻¹(p)) / Σ_j w_j over the possible points.
+
+    f (n, J, G) float32 node masses (not possible: _NOT_POSSIBLE_KG), scores (G,) or (n, G),
+    weight (n, J), p (n,). Exact where the wind is one point; NaN where no point is possible.
+    """
+    z = np.broadcast_to(np.asarray(scores, dtype=float), (f.shape[0], f.shape[-1]))
+    zq = special.ndtri(np.clip(np.asarray(p, dtype=float), 1e-9, 1.0 - 1e-9))
+    k = np.clip(np.sum(z <= zq[:, None], axis=1) - 1, 0, z.shape[1] - 2)  # segment (n,)
+    z0 = np.take_along_axis(z, k[:, None], 1)[:, 0]
+    z1 = np.take_along_axis(z, k[:, None] + 1, 1)[:, 0]
+    s = (zq - z0) / (z1 - z0)  # beyond the end nodes: linear extension
+    f0 = np.take_along_axis(f, k[:, None, None], 2)[..., 0].astype(float)
+    f1 = np.take_along_axis(f, k[:, None, None] + 1, 2)[..., 0].astype(float)
+    m = f0 + s[:, None] * (f1 - f0)
+    possible = (f0 > 0.5 * _NOT_POSSIBLE_KG) & (f1 > 0.5 * _NOT_POSSIBLE_KG)
+    w = np.where(possible, weight, 0.0)
+    total = w.sum(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(total > 0, (w * np.where(possible, m, 0.0)).sum(axis=1) / total, np.nan)
+
+
 def _share(f, scores, weight, m):
     """S(m) for f (N, J, G) (or its _segments) and m (N,) or (N, L); also z*_j,
     shape m.shape + (J,)."""
@@ -1032,10 +1063,14 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     at_top = s_mtow[:, None] >= p[None, :] - eps
     search = (s_oew[:, None] >= p[None, :] - eps) & ~at_top
     # Each (group, level) pair still searching is iterated on its own, on the bracket
-    # [OEW, MTOW] (S(lo) ≥ p > S(hi)). Steps: false position with the Illinois halving of
-    # a retained end, a bisection every third step (the bracket at least halves every
-    # third step); once the local slope says lo is within tol of the root, a step to
-    # lo + tol certifies it (S(lo + tol) < p closes the bracket, also where S is a step).
+    # [OEW, MTOW] (S(lo) ≥ p > S(hi)). The first trial is the weighted mean over the wind
+    # points of their mass at the score Φ⁻¹(p) (the level itself were the wind one point);
+    # then Newton from the last trial (S and dS/dM = Σ w φ(z*) dz*/dM come with each
+    # evaluation) where it lands inside the bracket, else false position with the Illinois
+    # halving of a retained end; a bisection where the bracket has not halved over the last
+    # two steps (so it at least halves every third step). Once the estimate is within tol/2
+    # of lo, a step to lo + tol certifies it (S(lo + tol) < p closes the bracket, also where
+    # S is a step); within tol/2 of hi, a step to hi − tol does the same from above.
     lo = np.repeat(oew[:, None], p.size, axis=1)
     polished = lo.copy()
     g_idx, l_idx = np.nonzero(search)
@@ -1049,6 +1084,9 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
         s_lo = s_oew[g_idx] - pp
         s_hi = s_mtow[g_idx] - pp
         side = np.zeros(g_idx.size, dtype=np.int8)  # end retained last step: +1 lo, -1 hi
+        width_2 = np.full(g_idx.size, np.inf)  # bracket width one and two steps ago
+        width_1 = np.full(g_idx.size, np.inf)
+        newton = _single_point_level(f_p, z_p, w_p, pp)  # estimate for the next trial
         span = float(np.max(hi_p - lo_p))
         max_steps = 3 * int(np.ceil(np.log2(max(span, tol_kg) / tol_kg))) + 3
         act = np.arange(g_idx.size)
@@ -1060,12 +1098,26 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
             width = hi_a - lo_a
             drop = sl - sh
             t = sl / np.where(drop > 0, drop, 1.0)
-            x = np.where(step % 3 == 2, 0.5 * (lo_a + hi_a), lo_a + np.clip(t, 0.01, 0.99) * width)
-            x = np.where(t * width <= 0.5 * tol_kg, lo_a + tol_kg, x)
+            est = lo_a + np.clip(t, 0.01, 0.99) * width
+            xn = newton[act]
+            use_n = (xn > lo_a) & (xn < hi_a)
+            est = np.where(use_n, xn, est)
+            bisect = width > 0.5 * width_2[act]
+            width_2[act], width_1[act] = width_1[act], width
+            x = np.where(bisect, 0.5 * (lo_a + hi_a), est)
+            near_lo = np.where(use_n, xn - lo_a, t * width) <= 0.5 * tol_kg
+            near_hi = use_n & (hi_a - xn <= 0.5 * tol_kg) & ~near_lo
+            x = np.where(near_lo, lo_a + tol_kg, np.where(near_hi, hi_a - tol_kg, x))
             x = np.minimum(x, hi_a)
             zz = z_p if z_p.ndim == 1 else z_p[act][:, None, :]
-            zj = _crossing_score((f_p[act], zz, inv_p[act]), x[:, None])
+            zj, dzj = _crossing_score((f_p[act], zz, inv_p[act]), x[:, None], slope=True)
             s_x = np.sum(w_p[act] * special.ndtr(zj), axis=-1, dtype=float) - pp[act]
+            with np.errstate(invalid="ignore", over="ignore"):
+                fin = np.isfinite(zj)
+                phi = np.where(fin, np.exp(-0.5 * np.where(fin, zj, 0.0) ** 2), 0.0)
+                ds = np.sum(w_p[act] * phi * dzj, axis=-1, dtype=float) * _INV_SQRT_2PI
+            with np.errstate(divide="ignore", invalid="ignore"):
+                newton[act] = np.where(ds < 0.0, x - s_x / np.where(ds < 0.0, ds, -1.0), np.nan)
             ok = s_x >= -eps
             # Illinois: halve the function value at an end retained twice in a row.
             sd = side[act]
