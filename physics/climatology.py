@@ -759,10 +759,15 @@ def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=No
              else np.asarray(direction_valid, dtype=bool))[:, :, None]
     usable = valid & ~cross_ex & ~tail_ex  # (N, D, J)
     any_usable = np.any(usable, axis=1)  # (N, J)
-    cand_mass = np.where(usable[..., None] & ~np.isnan(raw), raw, -np.inf)
-    best = np.argmax(cand_mass, axis=1)[:, None]  # (N, 1, J, G); first on ties
-    top = np.take_along_axis(cand_mass, best, axis=1)[:, 0]
-    best = best[:, 0]
+    # The best usable direction and its mass, first on ties: a pass over the few
+    # directions (elementwise over the rest; numpy's argmax over a middle axis copies).
+    top = np.where(usable[:, 0, :, None] & ~np.isnan(raw[:, 0]), raw[:, 0], -np.inf)  # (N, J, G)
+    best = np.zeros(top.shape, dtype=np.int64)
+    for d in range(1, raw.shape[1]):  # a handful of runway directions, not a loop over cases
+        cand_d = np.where(usable[:, d, :, None] & ~np.isnan(raw[:, d]), raw[:, d], -np.inf)
+        better = cand_d > top
+        best[better] = d
+        top = np.where(better, cand_d, top)
     merit_all = np.where(valid, np.sum(np.where(np.isnan(raw), 0.0, raw), axis=-1), -np.inf)
     cand = np.argmax(merit_all, axis=1)  # (N, J)
     direction = np.where(any_usable[..., None] & np.isfinite(top), best,
