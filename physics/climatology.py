@@ -1026,9 +1026,12 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     S(M) is the share of days with mass M achievable (:func:`share_of_days`). The level-p
     mass is M_p = max{M ∈ [OEW, MTOW] : S(M) ≥ p}; ties count as achieved (S is compared
     with p − 1e-9 to absorb rounding). It is MTOW if S(MTOW) ≥ p, not possible if
-    S(OEW) < p, and otherwise found on the bracket [OEW, MTOW] by false position with the
-    Illinois modification and a bisection every third step [5] until the bracket is
-    narrower than ``tol_kg``; only the (group, level) pairs still open are evaluated.
+    S(OEW) < p, and otherwise found on the bracket [OEW, MTOW] until it is narrower than
+    ``tol_kg``: first trial the weighted mean of the wind points' masses at the score
+    Φ⁻¹(p), then Newton steps (dS/dM from the crossing scores' slopes) where they land
+    inside the bracket, false position with the Illinois modification [5] otherwise, and a
+    bisection where the bracket has not halved in two steps; only the (group, level) pairs
+    still open are evaluated.
     Equivalently M_p is the lower (1 − p) quantile of the day-to-day mass, days that are
     not possible counting as mass 0.
 
