@@ -360,42 +360,6 @@ def scheduled_speeds_mps(aircraft, *, mass_kg, density_kg_m3):
 PROPELLER_NODES = 8
 
 
-def regime_terms(*, wing_area_m2, density_kg_m3, cd, cl, mu, slope, shape):
-    """The mass-independent parts of a ground regime's acceleration.
-
-    Parameters
-    ----------
-    wing_area_m2, density_kg_m3, cd, cl, mu, slope : array_like
-        As :func:`physics.groundrun.acceleration_coefficients`. [m²], [kg/m³], [–], [–],
-        [–], [–]
-    shape : tuple
-        Shape to broadcast to. [–]
-
-    Returns
-    -------
-    drag_num : numpy.ndarray
-        ½ rho S (C_D − mu C_L), the drag-minus-friction-relief term times V². [kg/m]
-    resistance : numpy.ndarray
-        g (mu cos g + sin g), friction and slope. [m/s²]
-
-    Notes
-    -----
-    a0 = T0/m − resistance, a1 = T1/m, a2 = T2/m ∓ drag_num/m (− for V ≥ 0, + for reverse
-    flow), the arithmetic of :func:`physics.groundrun.acceleration_coefficients`.
-
-    References
-    ----------
-    .. [1] Raymer, Eq. 17.100. .. [2] Anderson (1999), Eq. 6.85.
-    """
-    from physics import groundrun
-
-    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), shape)  # noqa: E731
-    sin_g, cos_g = groundrun.slope_sin_cos(b(slope))
-    mu = b(mu)
-    drag_num = 0.5 * b(density_kg_m3) * b(wing_area_m2) * (b(cd) - mu * b(cl))
-    return drag_num, c.G0 * (mu * cos_g + sin_g)
-
-
 class GroundRegime:
     """One engine and configuration state on the ground: a(V) and segment distances.
 
@@ -426,20 +390,19 @@ class GroundRegime:
         n = np.shape(thrust_law.t0_n)
         m, w = (np.broadcast_to(np.asarray(x, dtype=float), n) for x in (mass_kg, headwind_mps))
         if terms is None:
-            terms = regime_terms(wing_area_m2=wing_area_m2, density_kg_m3=density_kg_m3, cd=cd, cl=cl, mu=mu,
-                                 slope=slope, shape=n)
-        drag_num, resistance = terms
+            terms = groundrun.ground_run_terms(thrust_law, wing_area_m2=wing_area_m2, density_kg_m3=density_kg_m3,
+                                               cd=cd, cl=cl, mu=mu, slope=slope)
         self.law, self.w = thrust_law, w
         # as groundrun.acceleration_coefficients, with the mass-independent parts given
-        aero = drag_num / m
-        a0 = np.asarray(thrust_law.t0_n, dtype=float) / m - resistance
+        aero = terms.drag_term_kg_m / m
+        a0 = np.asarray(thrust_law.t0_n, dtype=float) / m - terms.resistance_mps2
         a1 = np.broadcast_to(np.asarray(thrust_law.t1_n_per_mps, dtype=float) / m, n)
         t2m = np.asarray(thrust_law.t2_n_per_mps2, dtype=float) / m
         self.coeffs = groundrun.AccelerationCoefficients(np.broadcast_to(a0, n), a1, np.broadcast_to(t2m - aero, n))
         # below V = 0 drag and lift act on V|V| (reverse flow)
         self.a2_reverse = np.broadcast_to(t2m + aero, n) if np.any(w < 0.0) else None
         is_prop = np.asarray(thrust_law.is_propeller, dtype=bool)
-        self.kink = np.broadcast_to(thrust_law.kink_airspeed_mps, n)
+        self.kink = np.broadcast_to(terms.kink_mps, n)
         self.prop = np.nonzero(is_prop)[0]
         # tailwind cases whose segments may cross V = 0 (reverse-flow drag below it)
         self.tail = np.nonzero(w < 0.0)[0]
@@ -626,8 +589,8 @@ class EngineFailureSetup:
             v = getattr(self, f.name)
             if f.name == "n":
                 v = (index.size,)
-            elif f.name == "regime_terms":
-                v = {k: tuple(np.asarray(x)[index] for x in t) for k, t in v.items()}
+            elif f.name == "regime_terms":  # groundrun.GroundRunTerms per regime
+                v = {k: type(t)(t.law.take(index), *(np.asarray(x)[index] for x in t[1:])) for k, t in v.items()}
             elif f.name.startswith("law_"):
                 v = v.take(index)
             else:
@@ -667,7 +630,7 @@ def engine_failure_setup(aircraft, site, shape=()):
     .. [1] 14 CFR 25.109, 25.111. .. [2] Anderson (1999), Eq. 6.78, §6.8.
     .. [3] Raymer, §17.8 (braking friction and lift dumpers).
     """
-    from physics import aerodynamics, atmosphere, thrust
+    from physics import aerodynamics, atmosphere, groundrun, thrust
 
     a, s = aircraft, site
     rho = atmosphere.density_kg_m3(s.pressure_pa, s.temperature_k)
@@ -690,13 +653,15 @@ def engine_failure_setup(aircraft, site, shape=()):
         a, p, t, engines_operating=ops, throttle=tau)
     rho_b, area, slope = b(rho), b(a.wing_area_m2), b(s.slope)
     cl_roll, cl_brake, mu_roll, mu_brake = b(a.cl_ground_roll), b(a.braking_cl), b(s.mu_roll), b(s.mu_brake)
-    terms = lambda cd, cl, mu: regime_terms(wing_area_m2=area, density_kg_m3=rho_b, cd=cd, cl=cl, mu=mu,  # noqa: E731
-                                           slope=slope, shape=n)
-    regimes = {"all_engines": terms(cd_roll, cl_roll, mu_roll), "one_out": terms(cd_roll + eo, cl_roll, mu_roll),
-               "stop_all": terms(cd_brake, cl_brake, mu_brake),
-               "stop_one_out": terms(cd_brake + eo, cl_brake, mu_brake)}
+    laws = law(n_eng), law(n_out), law(n_eng, idle), law(n_out, idle)
+    terms = lambda lw, cd, cl, mu: groundrun.ground_run_terms(  # noqa: E731
+        lw, wing_area_m2=area, density_kg_m3=rho_b, cd=cd, cl=cl, mu=mu, slope=slope)
+    regimes = {"all_engines": terms(laws[0], cd_roll, cl_roll, mu_roll),
+               "one_out": terms(laws[1], cd_roll + eo, cl_roll, mu_roll),
+               "stop_all": terms(laws[2], cd_brake, cl_brake, mu_brake),
+               "stop_one_out": terms(laws[3], cd_brake + eo, cl_brake, mu_brake)}
     return EngineFailureSetup(
-        n, rho_b, multi, law(n_eng), law(n_out), law(n_eng, idle), law(n_out, idle),
+        n, rho_b, multi, *laws,
         cd_roll, cd_roll + eo, cd_brake, cd_brake + eo, cd0 + eo, k, cl_roll, cl_brake,
         area, slope, mu_roll, mu_brake, b(s.headwind_mps), regimes)
 

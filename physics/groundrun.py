@@ -249,12 +249,11 @@ def _quadratic_integrals(a0, a1, a2, vi, vf, w):
     # acceleration), or does not apply (complex roots)
     special = disc <= 1e-12 * (a1sq + np.abs(four_a0a2))  # includes every disc < 0
     n_special = int(np.count_nonzero(special))
-    if n_special == special.size:
+    if n_special > 0.5 * special.size:
         dist, time = _special_integrals(a0, a1, a2, vi, vf, w, dv, disc, ai)
-    elif n_special > 0.5 * special.size:
-        dist, time = _special_integrals(a0, a1, a2, vi, vf, w, dv, disc, ai)
-        i = np.flatnonzero(~special)
-        dist[i], time[i] = _real_root_integrals(*(x.take(i) for x in (a0, a1, a2, vi, vf, w, dv, disc)))
+        if n_special < special.size:
+            i = np.flatnonzero(~special)
+            dist[i], time[i] = _real_root_integrals(*(x.take(i) for x in (a0, a1, a2, vi, vf, w, dv, disc)))
     else:
         dist, time = _real_root_integrals(a0, a1, a2, vi, vf, w, dv, disc)
         if n_special:

@@ -240,14 +240,11 @@ class ThrustLaw:
     def kink_airspeed_mps(self):
         """Airspeed where a propeller's power limit takes over from the static cap. [m/s]
 
-        inf for the polynomial models. V_k = P_eta / T_static. Computed once per law.
+        inf for the polynomial models. V_k = P_eta / T_static.
         """
-        vk = self.__dict__.get("_kink_airspeed_mps")
-        if vk is None:
-            with np.errstate(divide="ignore", invalid="ignore"):
-                vk = np.where(self.is_propeller, self.propeller_power_w / self.t0_n, np.inf)
-            object.__setattr__(self, "_kink_airspeed_mps", vk)  # frozen: a cache, not a field
-        return vk
+        with np.errstate(divide="ignore", invalid="ignore"):
+            vk = self.propeller_power_w / self.t0_n
+        return np.where(self.is_propeller, vk, np.inf)
 
     def coefficients(self):
         """(T0, T1, T2) of T = T0 + T1 V + T2 V²; NaN for propeller cases. [N, N/(m/s), N/(m/s)²]"""

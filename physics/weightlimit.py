@@ -929,9 +929,7 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True):
     # Figures at the limit mass: without engine-failure requirements they were taken during
     # the search (structural cases: from the MTOW evaluation); with them every case with a
     # limit is evaluated again with a fully converged V1. no_takeoff cases are blank.
-    if not figures:
-        pass
-    elif engine_failure:
+    if figures and engine_failure:
         final = np.nonzero(~none)[0]
         if final.size:
             sub = cases.take(final)
@@ -939,7 +937,7 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True):
             mass = limit[final]
             _, memo = requirement_margins(sub, mass, reqs)
             capture(sub, mass, memo, np.arange(final.size), final)
-    elif structural.any():
+    elif figures and structural.any():
         idx = np.nonzero(structural)[0]
         capture(cases, a.mtow_kg, memo_hi, idx, idx)
     for key in out:

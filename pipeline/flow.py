@@ -85,6 +85,8 @@ def _task_runner(cluster: str | None, workers: int):
     if cluster == "local":
         import dask
 
+        share_temporary_api()  # the workers report to this process's temporary API
+
         # Dask's nanny starts workers with MALLOC_TRIM_THRESHOLD_=65536, which also fixes
         # glibc's mmap threshold at 128 KiB: every large numpy temporary is then mapped and
         # unmapped again, page faults in the kernel cost more than the arithmetic (measured:
@@ -159,8 +161,6 @@ def run_with_prefect(input_dir, db_path, params: RunParams | None = None, *, clu
     import os
 
     n = workers or int(os.environ.get("PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS", "2"))
-    if cluster == "local":
-        share_temporary_api()
     runner = _task_runner(cluster, n)
     return fieldlimits_run.with_options(task_runner=runner)(
         str(input_dir), str(db_path), (params or RunParams()).as_dict(),
