@@ -678,6 +678,14 @@ ITP_N0 = 3
 DISTANCE_MASS_EXPONENT = 2.0
 
 
+#: Failed trials before OEW is evaluated when no trial has yet succeeded (the secant through
+#: two failed trials landing at or below OEW calls for it at once). [–]
+OEW_CHECK_FAILS = 3
+
+# rows of the search state (see _itp_search)
+_ROWS, _ROW_UP = 12, 10
+
+
 def _itp_value(margin):
     """Function the ITP search interpolates: g = −log(1 + margin) (−margin to first order).
 
@@ -728,8 +736,14 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
 
     Notes
     -----
-    Interpolate (regula falsi on g = −log(1 + margin), :func:`_itp_value`, with the Illinois
-    halving of an end's value when the other end has moved twice in a row), truncate towards
+    Interpolate each requirement on its own (g_i = −log(1 + margin_i), :func:`_itp_value`):
+    the secant through the last two evaluations, or inverse quadratic interpolation through
+    the last three, where it falls inside the bracket; the estimate is the lowest of the
+    requirements' roots (the least margin, max g_i, has a kink wherever the requirement that
+    is least met changes, e.g. a climb margin, flat in the mass, least met at light masses
+    and a distance binding at the limit; interpolating it across the kink costs steps).
+    Where no requirement's estimate is inside, regula falsi on max g_i with the Illinois
+    halving of an end's value when the other end has moved twice in a row. Then truncate towards
     the midpoint by max(kappa1 (b − a)^kappa2, eps/2) (the floor of eps/2 makes the step land
     across the root once the interpolation is that accurate, so the bracket closes from both
     sides), project into the ball of radius eps 2^(n_max − j) − (b − a)/2 around the midpoint
@@ -739,9 +753,10 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
 
     OEW is evaluated only when needed: until then its value is estimated from the value at
     MTOW as g(MTOW) + p ln(OEW/MTOW) (:data:`DISTANCE_MASS_EXPONENT`, d ∝ m^p); a case
-    found feasible at a trial mass is feasible at OEW (margins fall with the mass), and a
-    case whose first trial fails has OEW evaluated next, where failing ends its search as
-    ``no_takeoff``. Each case follows its own sequence, so a scalar call equals the array
+    found feasible at a trial mass is feasible at OEW (margins fall with the mass). A case
+    with no feasible trial yet has OEW evaluated when the secant through its failed trials
+    puts the root at or below OEW, after :data:`OEW_CHECK_FAILS` failed trials, or when its
+    bracket has closed; failing there ends its search as ``no_takeoff``. Each case follows its own sequence, so a scalar call equals the array
     element. Cases whose bracket has closed are dropped from the evaluations once they are
     at least half of those still evaluated.
 
@@ -762,31 +777,41 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         return lo_out, hi_out, mhi_out, none_out, 0, v1_state
     eps = 0.5 * tol_kg
     grid = tol_kg / 64.0
-    # State of the cases still searched (compacted as brackets close): ends A < B (masses,
-    # their logarithms u and the interpolated values G, Illinois-halved), margins at B, and
-    # the last three evaluations (u, g) for the secant and inverse quadratic steps.
-    idx = np.arange(lo.size)
-    A, B, MH = lo_out.copy(), hi_out.copy(), mhi_out.copy()
-    uA, uB = np.log(A), np.log(B)
-    GB = _itp_value(MH.min(axis=0))
+    # State of the cases still searched, one row each of F (compacted together as brackets
+    # close): ends A < B (masses, their logarithms u and the interpolated values G,
+    # Illinois-halved), the ITP constants, and the last three evaluations (u, g) for the
+    # secant and inverse quadratic steps; margins at B in MH.
+    F = np.empty((_ROWS, lo.size))
+    A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq = F
+    A[:], B[:] = lo_out, hi_out
+    MH = mhi_out.copy()
+    np.log(A, out=uA)
+    np.log(B, out=uB)
+    # each requirement's value at the last three evaluations (the secant and inverse
+    # quadratic steps interpolate each requirement on its own: their minimum has kinks)
+    H = np.full((3,) + MH.shape, np.nan)
+    H[0] = _itp_value(MH)
+    GB[:] = H[0].max(axis=0)
     with np.errstate(invalid="ignore"):
-        GA = np.minimum(GB + DISTANCE_MASS_EXPONENT * (uA - uB), -1e-3)  # estimate until evaluated
+        GA[:] = np.minimum(GB + DISTANCE_MASS_EXPONENT * (uA - uB), -1e-3)  # estimate until evaluated
     width0 = np.maximum(B - A, tol_kg)
     n_max = np.ceil(np.log2(width0 / tol_kg)) + ITP_N0
-    r_base = eps * 2.0 ** n_max  # projection radius eps 2^(n_max − j), before − (b − a)/2
-    k1 = ITP_KAPPA1 / width0
-    lo0 = A.copy()
+    r_base[:] = eps * 2.0 ** n_max  # projection radius eps 2^(n_max − j), before − (b − a)/2
+    k1[:] = ITP_KAPPA1 / width0
+    lo0[:] = A
+    ul[:] = uB
+    F[_ROW_UP:] = np.nan
+    idx = np.arange(lo.size)
     known = np.zeros(lo.size, dtype=bool)  # the low end is known feasible (evaluated, or a trial)
     none = np.zeros(lo.size, dtype=bool)
     side = np.zeros(lo.size, dtype=np.int8)  # +1: the low end moved last, −1: the high end
-    ul, gl = uB.copy(), GB.copy()
-    up, gp, uq, gq = (np.full(lo.size, np.nan) for _ in range(4))
+    fails = np.zeros(lo.size, dtype=np.int8)  # trials failed while the low end is not yet known
     sub = cases
 
-    def flush(mask):
-        k = idx[mask]
-        lo_out[k], hi_out[k], none_out[k] = A[mask], B[mask], none[mask]
-        mhi_out[:, k] = MH[:, mask]
+    def flush(k, A, B):
+        i = idx.take(k)
+        lo_out[i], hi_out[i], none_out[i] = A.take(k), B.take(k), none.take(k)
+        mhi_out[:, i] = MH.take(k, axis=1)
 
     j = 0
     limit_iter = int(n_max.max()) + 3
@@ -794,52 +819,73 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         w = B - A
         open_ = w > tol_kg
         # a bracket that closed with OEW unevaluated stays live until OEW is evaluated
-        live = open_ | (~known & ~none)
+        live = open_ | ~(known | none)
         n_live = int(np.count_nonzero(live))
         if n_live == 0:
             break
         if n_live <= 0.5 * idx.size:
-            flush(~live)
-            keep = np.nonzero(live)[0]
+            flush(np.flatnonzero(~live), A, B)
+            keep = np.flatnonzero(live)
             sub = sub.take(keep)
-            idx, A, B, uA, uB, GA, GB, w, open_ = (v[keep] for v in (idx, A, B, uA, uB, GA, GB, w, open_))
-            r_base, k1, lo0, known, none, side = (v[keep] for v in (r_base, k1, lo0, known, none, side))
-            ul, gl, up, gp, uq, gq = (v[keep] for v in (ul, gl, up, gp, uq, gq))
-            MH = MH[:, keep]
+            F, MH, H = F.take(keep, axis=1), MH.take(keep, axis=1), H.take(keep, axis=2)
+            A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq = F
+            idx, known, none, side, fails, w, open_ = (v.take(keep) for v in (idx, known, none, side, fails, w, open_))
         xh = 0.5 * (A + B)
-        r = np.maximum(r_base * 2.0 ** -j - 0.5 * w, 0.0)
-        delta = np.maximum(k1 * w ** ITP_KAPPA2, 0.5 * eps)  # at least half a tolerance: straddle the root
+        r = r_base * 2.0 ** -j - 0.5 * w
+        np.maximum(r, 0.0, out=r)
+        delta = k1 * (w * w)  # kappa2 = 2
+        np.maximum(delta, 0.5 * eps, out=delta)  # at least half a tolerance: straddle the root
+        below = None  # the secant puts the root at or below the low end
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            # in u = ln m: regula falsi on the bracket; the secant through the last two
-            # evaluations, and inverse quadratic interpolation through the last three, where
-            # they fall inside the bracket
+            # in u = ln m: regula falsi on the bracket (the least margin); for each
+            # requirement the secant through the last two evaluations, or inverse quadratic
+            # interpolation through the last three, where it falls inside the bracket; the
+            # lowest of the requirements' roots where any
             uf = (GB * uA - GA * uB) / (GB - GA)
             if j >= 1:
+                gl, gp, gq = H
                 dlp = gl - gp
-                us = ul - gl * (ul - up) / dlp
-                uf = np.where((us > uA) & (us < uB), us, uf)
-            if j >= 2:
-                dlq, dpq = gl - gq, gp - gq
-                ui = (ul * gp * gq / (dlp * dlq) - up * gl * gq / (dlp * dpq) + uq * gl * gp / (dlq * dpq))
-                uf = np.where((ui > uA) & (ui < uB), ui, uf)
+                est = ul - gl * (ul - up) / dlp
+                if not known.all():
+                    below = np.where(est < uB, est, np.inf).min(axis=0) <= uA
+                if j >= 2:
+                    dlq, dpq = gl - gq, gp - gq
+                    ui = (ul * gp * gq / (dlp * dlq) - up * gl * gq / (dlp * dpq) + uq * gl * gp / (dlq * dpq))
+                    np.copyto(est, ui, where=(ui > uA) & (ui < uB))
+                np.copyto(est, np.inf, where=~((est > uA) & (est < uB)))
+                lowest = est.min(axis=0)
+                np.copyto(uf, lowest, where=lowest < np.inf)
             xf = np.exp(uf)
-        xf = np.where(np.isfinite(xf), xf, xh)
-        sigma = np.sign(xh - xf)
-        xt = np.where(delta <= np.abs(xh - xf), xf + sigma * delta, xh)
+        np.copyto(xf, xh, where=~np.isfinite(xf))
+        d = xh - xf
+        sigma = np.sign(d)
+        xt = np.where(delta <= np.abs(d), xf + sigma * delta, xh)
         # close-out: the estimate within 0.9 tolerance of an end → step across it, to midway
         # between it and one tolerance from that end, so the bracket closes
         near_b, near_a = (B - xf) < 0.9 * tol_kg, (xf - A) < 0.9 * tol_kg
-        xt = np.where(near_b & ~near_a, 0.5 * (xf + B - tol_kg), np.where(near_a & ~near_b, 0.5 * (xf + A + tol_kg), xt))
+        np.copyto(xt, 0.5 * (xf + B - tol_kg), where=near_b & ~near_a)
+        np.copyto(xt, 0.5 * (xf + A + tol_kg), where=near_a & ~near_b)
         x = np.where(np.abs(xt - xh) <= r, xt, xh - sigma * r)
         # on a grid of tol/64 from the starting end: rounding noise of the margins (SIMD paths
         # differ with the batch) then cannot move the result, so a scalar call equals the
         # array element exactly
-        x = np.clip(lo0 + np.round((x - lo0) / grid) * grid, A, B)
-        # OEW itself where a trial has failed (or the bracket closed) before any succeeded
-        check = ~known & ((side == -1) | ~open_)
-        x = np.where(check, A, x)
+        x -= lo0
+        x /= grid
+        np.round(x, out=x)
+        x *= grid
+        x += lo0
+        np.clip(x, A, B, out=x)
+        # OEW itself where the bracket closed before any trial succeeded, where the secant
+        # through two failed trials puts the root at or below OEW, or after OEW_CHECK_FAILS
+        # failed trials
+        check = ~open_
+        if below is not None:
+            check |= below | (fails >= OEW_CHECK_FAILS)
+        check &= ~known
+        np.copyto(x, A, where=check)
         mg, memo = margins_fn(sub, x)
-        g = _itp_value(mg.min(axis=0))
+        gi = _itp_value(mg)
+        g = gi.max(axis=0)
         st = sub._cache.get("engine_failure_state")
         if st and st.get("v1") is not None:
             if v1_state is None:
@@ -850,22 +896,30 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         infeas = open_ & ~ok & ~check
         failed = check & ~ok
         if capture is not None and feas.any():
-            local = np.nonzero(feas)[0]
-            capture(sub, x, memo, local, idx[local])
+            local = np.flatnonzero(feas)
+            capture(sub, x, memo, local, idx.take(local))
         ux = np.log(x)
         # Illinois: an end kept twice in a row has its value halved for the interpolation
         prev = side
-        known = known | feas
-        none = none | failed
-        A, uA = np.where(feas, x, A), np.where(feas, ux, uA)
-        GA = np.where(feas, g, np.where(infeas & (prev == -1), 0.5 * GA, GA))
-        B, uB = np.where(infeas, x, np.where(failed, A, B)), np.where(infeas, ux, np.where(failed, uA, uB))
-        GB = np.where(infeas, g, np.where(feas & ~check & (prev == 1), 0.5 * GB, GB))
-        MH = np.where(infeas, mg, MH)
+        known |= feas
+        none |= failed
+        fails = np.where(known, 0, fails + infeas).astype(np.int8)
+        np.copyto(GA, 0.5 * GA, where=infeas & (prev == -1))
+        np.copyto(GB, 0.5 * GB, where=feas & ~check & (prev == 1))
+        np.copyto(A, x, where=feas)
+        np.copyto(uA, ux, where=feas)
+        np.copyto(GA, g, where=feas)
+        np.copyto(B, A, where=failed)
+        np.copyto(uB, uA, where=failed)
+        np.copyto(B, x, where=infeas)
+        np.copyto(uB, ux, where=infeas)
+        np.copyto(GB, g, where=infeas)
+        np.copyto(MH, mg, where=infeas)
         side = np.where(check, 0, np.where(feas, 1, np.where(infeas, -1, prev))).astype(np.int8)
-        uq, gq, up, gp, ul, gl = up, gp, ul, gl, ux, g
+        uq[:], up[:], ul[:] = up, ul, ux
+        H[2], H[1], H[0] = H[1], H[0], gi
         j += 1
-    flush(np.ones(idx.size, dtype=bool))
+    flush(np.arange(idx.size), A, B)
     return lo_out, hi_out, mhi_out, none_out, j, v1_state
 
 
