@@ -682,6 +682,11 @@ DISTANCE_MASS_EXPONENT = 2.0
 #: two failed trials landing at or below OEW calls for it at once). [–]
 OEW_CHECK_FAILS = 3
 
+#: Cases whose bracket has closed are dropped from the evaluations once those still open are
+#: at most this share of the cases evaluated (gathering the state costs far less than
+#: evaluating the closed ones again, above all with the engine-failure requirements). [–]
+COMPACT_SHARE = 0.7
+
 # rows of the search state (see _itp_search)
 _ROWS, _ROW_UP = 12, 10
 
@@ -758,7 +763,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     puts the root at or below OEW, after :data:`OEW_CHECK_FAILS` failed trials, or when its
     bracket has closed; failing there ends its search as ``no_takeoff``. Each case follows its own sequence, so a scalar call equals the array
     element. Cases whose bracket has closed are dropped from the evaluations once they are
-    at least half of those still evaluated.
+    at least 1 − :data:`COMPACT_SHARE` of those still evaluated.
 
     References
     ----------
@@ -823,7 +828,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         n_live = int(np.count_nonzero(live))
         if n_live == 0:
             break
-        if n_live <= 0.5 * idx.size:
+        if n_live <= COMPACT_SHARE * idx.size:
             flush(np.flatnonzero(~live), A, B)
             keep = np.flatnonzero(live)
             sub = sub.take(keep)
