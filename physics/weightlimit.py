@@ -761,9 +761,10 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     found feasible at a trial mass is feasible at OEW (margins fall with the mass). A case
     with no feasible trial yet has OEW evaluated when the secant through its failed trials
     puts the root at or below OEW, after :data:`OEW_CHECK_FAILS` failed trials, or when its
-    bracket has closed; failing there ends its search as ``no_takeoff``. Each case follows its own sequence, so a scalar call equals the array
-    element. Cases whose bracket has closed are dropped from the evaluations once they are
-    at least 1 − :data:`COMPACT_SHARE` of those still evaluated.
+    bracket has closed; failing there ends its search as ``no_takeoff``. Each case follows
+    its own sequence, so a scalar call equals the array element. Cases whose bracket has
+    closed are dropped from the evaluations once they are at least 1 − :data:`COMPACT_SHARE`
+    of those still evaluated.
 
     References
     ----------
