@@ -688,7 +688,7 @@ OEW_CHECK_FAILS = 3
 COMPACT_SHARE = 0.7
 
 # rows of the search state (see _itp_search)
-_ROWS, _ROW_UP = 12, 10
+_ROWS, _ROW_UP = 15, 10
 
 
 def _itp_value(margin):
@@ -701,6 +701,18 @@ def _itp_value(margin):
     m = np.asarray(margin, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         return np.where(m > -1.0, -np.log1p(np.maximum(m, -1.0)), np.inf)
+
+
+def _interpolated_root(ul, up, uq, gl, gp, gq, j):
+    """Root in u of the interpolant through the last evaluations (u, g): the secant through
+    the last two (j = 1), inverse quadratic interpolation through the last three (j ≥ 2), in
+    Newton's form: ul − gl u[gl, gp] + gl gp u[gl, gp, gq]. Any shape; NaN/inf where
+    degenerate."""
+    f1 = (ul - up) / (gl - gp)  # divided difference du/dg
+    est = ul - gl * f1
+    if j >= 2:
+        est = est + gl * gp * ((f1 - (up - uq) / (gp - gq)) / (gl - gq))
+    return est
 
 
 def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
@@ -788,15 +800,18 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     # Illinois-halved), the ITP constants, and the last three evaluations (u, g) for the
     # secant and inverse quadratic steps; margins at B in MH.
     F = np.empty((_ROWS, lo.size))
-    A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq = F
+    A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq, gl, gp, gq = F
     A[:], B[:] = lo_out, hi_out
     MH = mhi_out.copy()
     np.log(A, out=uA)
     np.log(B, out=uB)
-    # each requirement's value at the last three evaluations (the secant and inverse
-    # quadratic steps interpolate each requirement on its own: their minimum has kinks)
+    # each requirement's value at the last three evaluations, and which was least met (where
+    # that changed, the steps interpolate each requirement on its own: the least margin has
+    # a kink there)
     H = np.full((3,) + MH.shape, np.nan)
     H[0] = _itp_value(MH)
+    AR = np.full((3, lo.size), -1, dtype=np.int8)
+    AR[0] = H[0].argmax(axis=0)
     GB[:] = H[0].max(axis=0)
     with np.errstate(invalid="ignore"):
         GA[:] = np.minimum(GB + DISTANCE_MASS_EXPONENT * (uA - uB), -1e-3)  # estimate until evaluated
@@ -805,8 +820,9 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     r_base[:] = eps * 2.0 ** n_max  # projection radius eps 2^(n_max − j), before − (b − a)/2
     k1[:] = ITP_KAPPA1 / width0
     lo0[:] = A
-    ul[:] = uB
-    F[_ROW_UP:] = np.nan
+    ul[:], gl[:] = uB, GB
+    F[_ROW_UP:_ROW_UP + 2] = np.nan
+    F[_ROW_UP + 3:] = np.nan
     idx = np.arange(lo.size)
     known = np.zeros(lo.size, dtype=bool)  # the low end is known feasible (evaluated, or a trial)
     none = np.zeros(lo.size, dtype=bool)
@@ -833,8 +849,8 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
             flush(np.flatnonzero(~live), A, B)
             keep = np.flatnonzero(live)
             sub = sub.take(keep)
-            F, MH, H = F.take(keep, axis=1), MH.take(keep, axis=1), H.take(keep, axis=2)
-            A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq = F
+            F, MH, H, AR = F.take(keep, axis=1), MH.take(keep, axis=1), H.take(keep, axis=2), AR.take(keep, axis=1)
+            A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq, gl, gp, gq = F
             idx, known, none, side, fails, w, open_ = (v.take(keep) for v in (idx, known, none, side, fails, w, open_))
         xh = 0.5 * (A + B)
         r = r_base * 2.0 ** -j - 0.5 * w
@@ -843,24 +859,30 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         np.maximum(delta, 0.5 * eps, out=delta)  # at least half a tolerance: straddle the root
         below = None  # the secant puts the root at or below the low end
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            # in u = ln m: regula falsi on the bracket (the least margin); for each
-            # requirement the secant through the last two evaluations, or inverse quadratic
-            # interpolation through the last three, where it falls inside the bracket; the
-            # lowest of the requirements' roots where any
-            uf = (GB * uA - GA * uB) / (GB - GA)
+            # in u = ln m: regula falsi on the bracket (the least margin); the secant through
+            # the last two evaluations, or inverse quadratic interpolation through the last
+            # three, where it falls inside the bracket: of the least margin where the same
+            # requirement was least met at those evaluations, else of each requirement on its
+            # own, the lowest of their roots
+            rf = (GB * uA - GA * uB) / (GB - GA)
+            uf = rf
             if j >= 1:
-                gl, gp, gq = H
-                dlp = gl - gp
-                est = ul - gl * (ul - up) / dlp
-                if not known.all():
-                    below = np.where(est < uB, est, np.inf).min(axis=0) <= uA
+                est = _interpolated_root(ul, up, uq, gl, gp, gq, j)
+                uf = np.where((est > uA) & (est < uB), est, rf)
+                kink = AR[0] != AR[1]
                 if j >= 2:
-                    dlq, dpq = gl - gq, gp - gq
-                    ui = (ul * gp * gq / (dlp * dlq) - up * gl * gq / (dlp * dpq) + uq * gl * gp / (dlq * dpq))
-                    np.copyto(est, ui, where=(ui > uA) & (ui < uB))
-                np.copyto(est, np.inf, where=~((est > uA) & (est < uB)))
-                lowest = est.min(axis=0)
-                np.copyto(uf, lowest, where=lowest < np.inf)
+                    kink |= AR[1] != AR[2]
+                k = np.flatnonzero(kink) if H.shape[1] > 1 else ()
+                if len(k):
+                    uak, ubk = uA[k], uB[k]
+                    e = _interpolated_root(ul[k], up[k], uq[k], *H[:, :, k], j)
+                    lowest = np.where((e > uak) & (e < ubk), e, np.inf).min(axis=0)
+                    uf[k] = np.where(lowest < np.inf, lowest, rf[k])
+                unknown = np.flatnonzero(~known)
+                if unknown.size:  # the secants of the requirements, through failed trials
+                    below = np.zeros(known.shape, dtype=bool)
+                    e = _interpolated_root(ul[unknown], up[unknown], None, *H[:2, :, unknown], None, 1)
+                    below[unknown] = np.where(e < uB[unknown], e, np.inf).min(axis=0) <= uA[unknown]
             xf = np.exp(uf)
         np.copyto(xf, xh, where=~np.isfinite(xf))
         d = xh - xf
@@ -923,7 +945,9 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         np.copyto(MH, mg, where=infeas)
         side = np.where(check, 0, np.where(feas, 1, np.where(infeas, -1, prev))).astype(np.int8)
         uq[:], up[:], ul[:] = up, ul, ux
+        gq[:], gp[:], gl[:] = gp, gl, g
         H[2], H[1], H[0] = H[1], H[0], gi
+        AR[2], AR[1], AR[0] = AR[1], AR[0], gi.argmax(axis=0)
         j += 1
     flush(np.arange(idx.size), A, B)
     return lo_out, hi_out, mhi_out, none_out, j, v1_state
