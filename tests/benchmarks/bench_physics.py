@@ -13,8 +13,12 @@ Prints
     and turbofan, Gauss–Legendre for propellers) — ``ground_run_for_thrust_law``;
   * weight-limit solves per second on 100 000 mixed cases (a third each turbofan,
     quadratic, propeller; varied runways, elevations, temperatures, slopes, winds);
+  * the same solves returning only what the loop returns (limit mass and limiting factor,
+    ``figures=False``);
   * the same per-case solve as a plain Python loop (scipy ``solve_ivp`` for the ground run +
-    ``brentq`` on the mass, tests/physics/reference_loop.py) on a small sample, and the ratio.
+    ``brentq`` on the mass, tests/physics/reference_loop.py) on a small sample, and the ratio:
+    first like for like (limit and factor), then against the solve that also reports the
+    distances and speeds at the limit.
 
 Each figure is the best of a few repeats (the machine is shared). By default the script
 re-executes itself once with glibc's malloc told to keep freed memory
@@ -138,6 +142,12 @@ def main(argv=None):
     mix = ", ".join(f"{k} {v / n_wl:.0%}" for k, v in zip(names, counts))
     print(f"solve_takeoff_weight (all-engines requirements), {n_wl:,} mixed cases: "
           f"{n_wl / dt_vec:,.0f} solves/s  ({dt_vec:.3f} s; CPU time {n_wl / cpu_vec:,.0f}/s; {mix})")
+    # the same outputs as the per-case loop below (limit mass and limiting factor, no figures)
+    dt_mass, res_mass = _best(lambda: wl.solve_takeoff_weight(a, site, requirements=aeo, figures=False), repeats)
+    cpu_mass = _CPU["last"]
+    same = np.array_equal(res_mass.tow_limit_kg, res.tow_limit_kg, equal_nan=True)
+    print(f"  same, limit and factor only (figures=False, the loop's outputs): {n_wl / dt_mass:,.0f} solves/s  "
+          f"({dt_mass:.3f} s; limits identical to the bit: {same})")
     if len(wl.REQUIREMENTS) != len(aeo):
         dt_all, _ = _best(lambda: wl.solve_takeoff_weight(a, site), max(repeats // 2, 1))
         print(f"solve_takeoff_weight (default REQUIREMENTS, {len(wl.REQUIREMENTS)} requirements): "
@@ -165,7 +175,9 @@ def main(argv=None):
     per_case_vec = dt_vec / n_wl
     print(f"plain loop (solve_ivp + brentq), {n_loop} sampled cases, best of 2 each: {per_case_loop * 1e3:.1f} ms/case "
           f"({1 / per_case_loop:,.1f} solves/s); largest difference from the vectorised limit {worst:.2f} kg")
-    print(f"vectorised / loop speed ratio per case: {per_case_loop / per_case_vec:,.0f}x wall time, "
+    print(f"vectorised / loop speed ratio per case, same outputs (limit and factor): "
+          f"{per_case_loop / (dt_mass / n_wl):,.0f}x wall time, {cpu_loop / (cpu_mass / n_wl):,.0f}x CPU time")
+    print(f"  with the figures at the limit as well (distances, speeds): {per_case_loop / per_case_vec:,.0f}x wall time, "
           f"{cpu_loop / (cpu_vec / n_wl):,.0f}x CPU time")
     return 0
 
