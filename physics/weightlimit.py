@@ -687,8 +687,8 @@ OEW_CHECK_FAILS = 3
 #: evaluating the closed ones again, above all with the engine-failure requirements). [–]
 COMPACT_SHARE = 0.7
 
-# rows of the search state (see _itp_search)
-_ROWS, _ROW_UP = 15, 10
+# rows of the search state F (see _itp_search)
+_ROWS = 15
 
 
 def _itp_value(margin):
@@ -701,6 +701,12 @@ def _itp_value(margin):
     m = np.asarray(margin, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         return np.where(m > -1.0, -np.log1p(np.maximum(m, -1.0)), np.inf)
+
+
+def _least_met(g):
+    """Index and value of the largest g_i (the least-met requirement) over the first axis."""
+    i = g.argmax(axis=0)
+    return i, np.take_along_axis(g, i[None], axis=0)[0]
 
 
 def _interpolated_root(ul, up, uq, gl, gp, gq, j):
@@ -811,8 +817,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     H = np.full((3,) + MH.shape, np.nan)
     H[0] = _itp_value(MH)
     AR = np.full((3, lo.size), -1, dtype=np.int8)
-    AR[0] = H[0].argmax(axis=0)
-    GB[:] = H[0].max(axis=0)
+    AR[0], GB[:] = _least_met(H[0])
     with np.errstate(invalid="ignore"):
         GA[:] = np.minimum(GB + DISTANCE_MASS_EXPONENT * (uA - uB), -1e-3)  # estimate until evaluated
     width0 = np.maximum(B - A, tol_kg)
@@ -821,8 +826,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     k1[:] = ITP_KAPPA1 / width0
     lo0[:] = A
     ul[:], gl[:] = uB, GB
-    F[_ROW_UP:_ROW_UP + 2] = np.nan
-    F[_ROW_UP + 3:] = np.nan
+    up[:] = uq[:] = gp[:] = gq[:] = np.nan
     idx = np.arange(lo.size)
     known = np.zeros(lo.size, dtype=bool)  # the low end is known feasible (evaluated, or a trial)
     none = np.zeros(lo.size, dtype=bool)
@@ -872,8 +876,8 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
                 kink = AR[0] != AR[1]
                 if j >= 2:
                     kink |= AR[1] != AR[2]
-                k = np.flatnonzero(kink) if H.shape[1] > 1 else ()
-                if len(k):
+                k = np.flatnonzero(kink)  # never with one requirement
+                if k.size:
                     uak, ubk = uA[k], uB[k]
                     e = _interpolated_root(ul[k], up[k], uq[k], *H[:, :, k], j)
                     lowest = np.where((e > uak) & (e < ubk), e, np.inf).min(axis=0)
@@ -913,7 +917,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         np.copyto(x, A, where=check)
         mg, memo = margins_fn(sub, x)
         gi = _itp_value(mg)
-        g = gi.max(axis=0)
+        ar, g = _least_met(gi)
         st = sub._cache.get("engine_failure_state")
         if st and st.get("v1") is not None:
             if v1_state is None:
@@ -947,7 +951,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         uq[:], up[:], ul[:] = up, ul, ux
         gq[:], gp[:], gl[:] = gp, gl, g
         H[2], H[1], H[0] = H[1], H[0], gi
-        AR[2], AR[1], AR[0] = AR[1], AR[0], gi.argmax(axis=0)
+        AR[2], AR[1], AR[0] = AR[1], AR[0], ar
         j += 1
     flush(np.arange(idx.size), A, B)
     return lo_out, hi_out, mhi_out, none_out, j, v1_state
