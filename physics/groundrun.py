@@ -476,7 +476,12 @@ def _propeller_power_piece(pm, c2, c0, v0, v1, w, nodes):
     a_end = pm / v1 - c2 * v1 * v1 - c0
     a_start = pm / v0 - c2 * v0 * v0 - c0
     sgn = np.sign(v1 - v0)
-    ok = ((sgn * a > 0.0).all(axis=0) & (sgn * a_end > 0.0) & (sgn * a_start > 0.0)) | (v1 == v0)
+    if np.all(c2 >= 0.0) and np.all(pm >= 0.0) and np.all(v1 >= v0):
+        # da/dV = −pm/V² − 2 c2 V ≤ 0: a falls along the piece, so it is positive at every
+        # node where it is positive at the end
+        ok = (a_end > 0.0) | (v1 == v0)
+    else:
+        ok = ((sgn * a > 0.0).all(axis=0) & (sgn * a_end > 0.0) & (sgn * a_start > 0.0)) | (v1 == v0)
     with np.errstate(divide="ignore", invalid="ignore"):
         inv = wts[:, None] / a
         time_up = half * inv.sum(axis=0)
@@ -907,7 +912,9 @@ def ground_run_from_terms(terms, *, mass_kg, v_lof_mps, headwind_mps=0.0, nodes=
             per_case = np.full(idx.size, int(nodes))
         s2 = np.empty(idx.size)
         t2p = np.empty(idx.size)
-        for k in np.unique(per_case):  # a few node counts, not a loop over cases
+        # a few node counts, not a loop over cases (bincount: np.unique sorts or hashes, many
+        # times slower on this small set of values)
+        for k in np.flatnonzero(np.bincount(per_case)):
             j = np.flatnonzero(per_case == k)
             s2[j], t2p[j] = _propeller_power_piece(pm.take(j), c2.take(j), c0.take(j), v0.take(j), v1.take(j),
                                                    wi.take(j), int(k))

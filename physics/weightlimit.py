@@ -704,9 +704,16 @@ def _itp_value(margin):
 
 
 def _least_met(g):
-    """Index and value of the largest g_i (the least-met requirement) over the first axis."""
-    i = g.argmax(axis=0)
-    return i, np.take_along_axis(g, i[None], axis=0)[0]
+    """Index (int8) and value of the largest g_i (the least-met requirement) over the first
+    axis; the first of equal values, as ``argmax``. A pass over the few requirement rows:
+    ``argmax`` along a short first axis is many times slower."""
+    val = g[0]
+    i = np.zeros(g.shape[1:], dtype=np.int8)
+    for k in range(1, g.shape[0]):
+        more = g[k] > val
+        i += more * np.int8(k) - more * i  # i = k where more (branch-free: the mask is random)
+        val = np.maximum(val, g[k])
+    return i, val
 
 
 def _interpolated_root(ul, up, uq, gl, gp, gq, j):
@@ -927,27 +934,32 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         feas = (open_ | check) & ok
         infeas = open_ & ~ok & ~check
         failed = check & ~ok
-        if capture is not None and feas.any():
-            local = np.flatnonzero(feas)
-            capture(sub, x, memo, local, idx.take(local))
+        # the state is updated at integer positions: feasible and infeasible cases are mixed
+        # at random, where a masked copy (np.copyto(where=), np.where) costs several times
+        # a plain gather and scatter
+        fi, ii = np.flatnonzero(feas), np.flatnonzero(infeas)
+        if capture is not None and fi.size:
+            capture(sub, x, memo, fi, idx.take(fi))
         ux = np.log(x)
         # Illinois: an end kept twice in a row has its value halved for the interpolation
         prev = side
         known |= feas
         none |= failed
-        fails = np.where(known, 0, fails + infeas).astype(np.int8)
-        np.copyto(GA, 0.5 * GA, where=infeas & (prev == -1))
-        np.copyto(GB, 0.5 * GB, where=feas & ~check & (prev == 1))
-        np.copyto(A, x, where=feas)
-        np.copyto(uA, ux, where=feas)
-        np.copyto(GA, g, where=feas)
-        np.copyto(B, A, where=failed)
-        np.copyto(uB, uA, where=failed)
-        np.copyto(B, x, where=infeas)
-        np.copyto(uB, ux, where=infeas)
-        np.copyto(GB, g, where=infeas)
-        np.copyto(MH, mg, where=infeas)
-        side = np.where(check, 0, np.where(feas, 1, np.where(infeas, -1, prev))).astype(np.int8)
+        fails = (fails + infeas) * ~known  # failed trials while the low end is unknown
+        halve = ii[prev.take(ii) == -1]
+        GA[halve] *= 0.5
+        halve = fi[(prev.take(fi) == 1) & ~check.take(fi)]
+        GB[halve] *= 0.5
+        A[fi], uA[fi], GA[fi] = x.take(fi), ux.take(fi), g.take(fi)
+        if failed.any():
+            fl = np.flatnonzero(failed)
+            B[fl], uB[fl] = A.take(fl), uA.take(fl)
+        B[ii], uB[ii], GB[ii] = x.take(ii), ux.take(ii), g.take(ii)
+        MH[:, ii] = mg.take(ii, axis=1)
+        side = prev.copy()
+        side[fi] = 1
+        side[ii] = -1
+        side[check] = 0
         uq[:], up[:], ul[:] = up, ul, ux
         gq[:], gp[:], gl[:] = gp, gl, g
         H[2], H[1], H[0] = H[1], H[0], gi
