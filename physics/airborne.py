@@ -17,6 +17,7 @@ from __future__ import annotations
 import numpy as np
 
 from physics import constants as c
+from physics.select import choose
 
 #: Raymer's load factor in the transition arc (V_TR = 1.15 V_stall, C_L = 0.9 C_Lmax). [–]
 TRANSITION_LOAD_FACTOR = 1.2
@@ -120,7 +121,8 @@ def airborne_distance_m(*, v_transition_mps, climb_sine, screen_height_m=c.SCREE
     inside = h <= h_tr
     s_arc = np.sqrt(np.maximum(h * (2.0 * r - h), 0.0))
     s_climb = r * sg_safe + (h - h_tr) * cg / sg_safe
-    out = np.where(ok, np.where(inside, s_arc, s_climb), np.nan)
+    out = np.where(ok, choose(inside, s_arc, s_climb) if np.ndim(inside) == 1 else np.where(inside, s_arc, s_climb),
+                   np.nan)
     return float(out) if np.ndim(out) == 0 else out
 
 

@@ -62,6 +62,7 @@ import numpy as np
 
 from physics import atmosphere
 from physics import constants as c
+from physics.select import choose
 
 MODEL_CODES = {"quadratic": 0, "turbofan": 1, "propeller": 2}
 MODEL_NAMES = tuple(MODEL_CODES)
@@ -232,9 +233,16 @@ class ThrustLaw:
         poly = t0 + (t1 + t2 * v) * v
         if not np.any(self.is_propeller):
             return poly
+        is_prop = np.asarray(self.is_propeller)
+        if v.ndim == 1 and is_prop.shape == v.shape:  # the propeller cases only
+            i = np.flatnonzero(is_prop)
+            with np.errstate(divide="ignore"):
+                poly[i] = np.minimum(np.asarray(t0).take(i), np.asarray(self.propeller_power_w).take(i)
+                                     / np.abs(v.take(i)))
+            return poly
         with np.errstate(divide="ignore"):
             prop = np.minimum(t0, _trail(self.propeller_power_w, v) / np.abs(v))
-        return np.where(_trail(self.is_propeller, v), prop, poly)
+        return np.where(_trail(is_prop, v), prop, poly)
 
     @property
     def kink_airspeed_mps(self):
@@ -337,10 +345,11 @@ def thrust_law(*, thrust_model, static_thrust_per_engine_n, pressure_pa, tempera
     power_ratio = sigma**PROPELLER_POWER_LAPSE_EXPONENT * f_flat
     cap = t_static * np.cbrt(sigma * power_ratio**2)
 
-    t0 = np.where(is_prop, cap, np.where(is_turbofan, fan[0], quad[0])) * scale
-    t1_out = np.where(is_prop, 0.0, np.where(is_turbofan, fan[1], quad[1])) * scale
-    t2_out = np.where(is_prop, 0.0, np.where(is_turbofan, fan[2], quad[2])) * scale
-    p_eta = np.where(is_prop, eta * power * power_ratio, 0.0) * scale
+    pick = choose if is_prop.ndim == 1 else np.where
+    t0 = pick(is_prop, cap, pick(is_turbofan, fan[0], quad[0])) * scale
+    t1_out = pick(is_prop, 0.0, pick(is_turbofan, fan[1], quad[1])) * scale
+    t2_out = pick(is_prop, 0.0, pick(is_turbofan, fan[2], quad[2])) * scale
+    p_eta = pick(is_prop, eta * power * power_ratio, 0.0) * scale
     return ThrustLaw(t0, t1_out, t2_out, p_eta, is_prop)
 
 

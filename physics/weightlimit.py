@@ -60,6 +60,7 @@ from physics import fieldlength
 from physics import groundrun
 from physics import limits
 from physics import thrust
+from physics.select import choose
 
 # ---------------------------------------------------------------------------------------------
 # The case contract (DEVELOPERS.md): frozen dataclasses of numpy arrays, broadcastable to n.
@@ -700,7 +701,8 @@ def _itp_value(margin):
     """
     m = np.asarray(margin, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(m > -1.0, -np.log1p(np.maximum(m, -1.0)), np.inf)
+        g = np.log1p(np.fmax(m, -1.0))  # fmax: NaN → −1 → log1p = −inf
+    return np.negative(g, out=g) if isinstance(g, np.ndarray) else -g
 
 
 def _least_met(g):
@@ -982,7 +984,7 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True):
     m_hi, memo_hi = requirement_margins(cases, a.mtow_kg, reqs)
     structural = m_hi.min(axis=0) >= 0.0
     factor = np.where(structural, limits.code("structural"), limits.code("no_takeoff"))
-    limit = np.where(structural, a.mtow_kg, np.nan)
+    limit = choose(structural, a.mtow_kg, np.nan)
     none = np.zeros(cases.n, dtype=bool)
     out = {k: np.full(cases.n, np.nan) for k in _RESULT_FIELDS}
     reporting = [r for r in reqs if r.report is not None]
