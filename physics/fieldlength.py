@@ -138,8 +138,8 @@ def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_
         Free-roll allowance at V_LOF added to the ground run (Anderson's N; 0 by default,
         since the roll is integrated up to V_LOF itself, rotation from VR included). [s]
     nodes : int, optional
-        Gauss–Legendre nodes for propeller cases (default: per case, see
-        :func:`physics.groundrun.nodes_for_ratio`). [–]
+        Gauss–Legendre nodes for propeller cases (default: closed form where it applies,
+        see :func:`physics.groundrun.ground_run_for_thrust_law`). [–]
     ground_terms : physics.groundrun.GroundRunTerms, optional
         :func:`physics.groundrun.ground_run_terms` of these cases (thrust law, area,
         density, ``cd_ground``, ``cl_ground``, ``mu``, ``slope``), when a search over the mass

@@ -18,7 +18,8 @@ Building blocks (other modules string segments together from them):
   integration for any vectorised a(V), split at kinks (V = 0 and given breakpoints).
 * :func:`ground_run_m` (fixed public signature), :func:`ground_run_detail` (time, reason
   code, rotation allowance) and :func:`ground_run_for_thrust_law` (any thrust model:
-  closed form for polynomial thrust, closed form + Gauss–Legendre for propellers).
+  closed form for polynomial thrust; for propellers closed form below the power kink and
+  above it too, by the roots of a cubic, with Gauss–Legendre where that form does not apply).
 
 A segment whose acceleration vanishes or changes sign before its end speed gives NaN
 (``REASON_NO_ACCELERATION``), never an exception.
@@ -33,6 +34,8 @@ References
 .. [4] L. N. Trefethen, "Is Gauss quadrature better than Clenshaw–Curtis?", *SIAM Review*
    50(1), 2008, Theorem 4.5 (Gauss–Legendre error bound for analytic integrands).
 .. [5] W. H. Press et al., *Numerical Recipes*, 3rd ed., §5.6 (stable quadratic roots).
+.. [6] M. Abramowitz, I. A. Stegun, *Handbook of Mathematical Functions*, 3.8.2 (roots of a
+   cubic).
 """
 
 from __future__ import annotations
@@ -462,6 +465,56 @@ def _general_integrals(accel_fn, va_start, va_end, headwind_mps, nodes, breakpoi
         dist[zero] = 0.0
         time[zero] = 0.0
     return dist, time
+
+
+def _propeller_power_closed(pm, c2, c0, v0, v1, w):
+    """Closed-form distance and time for a(V) = pm/V − c2 V² − c0 on [v0, v1], 0 < v0 ≤ v1,
+    where pm, c2, c0 > 0.
+
+    Returns (distance, time); NaN where a(v1) ≤ 0 (the piece ends at or above the speed where
+    the acceleration vanishes).
+
+    Notes
+    -----
+    1/a = V/Q(V) with Q = pm − c0 V − c2 V³ = −c2 (V³ + p V + q), p = c0/c2 > 0, q = −pm/c2 < 0:
+    the cubic rises with V and has one real root r > 0 (a = 0 there) and a complex pair,
+    V³ + pV + q = (V − r)(V² + rV + s), s = r² + p. Partial fractions over the two factors
+    ([3] 2.103, 2.172) give, with D = 3r² + p, E = √(3r² + 4p):
+    ∫ V dV/(V³ + pV + q) = [r L1 − ½ r L2 + (1.5 r² + p) Θ]/D,
+    ∫ V² dV/(V³ + pV + q) = [r² L1 + ½ (2r² + p) L2 + ½ r p Θ]/D,
+    L1 = ln((r − v1)/(r − v0)), L2 = ln((v1² + r v1 + s)/(v0² + r v0 + s)),
+    Θ = (2/E)[atan((2V + r)/E)] between the ends; time = −∫V/(…)/c2, distance = time-weighted
+    (V − w): −(∫V²/(…) − w ∫V/(…))/c2. The root by Cardano's formula in the form
+    r = u − p/(3u), u = ∛(−q/2 + √(q²/4 + p³/27)) (no cancellation inside the cube root), then two
+    Newton steps (exact to rounding also where p³/27 ≫ q²/4 and u − p/(3u) cancels).
+
+    References
+    ----------
+    .. [3] Gradshteyn & Ryzhik, 2.103, 2.172. .. [6] Abramowitz & Stegun, 3.8.2 (cubic).
+    """
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        p = c0 / c2
+        q = -pm / c2
+        u = np.cbrt(-0.5 * q + np.sqrt(0.25 * q * q + p * p * p / 27.0))
+        r = u - p / (3.0 * u)
+        for _ in range(2):  # Newton on r³ + p r + q
+            r2 = r * r
+            r = r - (r * (r2 + p) + q) / (3.0 * r2 + p)
+        r2 = r * r
+        d_inv = 1.0 / (3.0 * r2 + p)
+        e = np.sqrt(3.0 * r2 + 4.0 * p)
+        dv = v1 - v0
+        l1 = np.log1p(-dv / (r - v0))
+        l2 = np.log1p(dv * (v1 + v0 + r) / (v0 * (v0 + r) + r2 + p))
+        x = (2.0 * v1 + r) / e
+        y = (2.0 * v0 + r) / e
+        theta = (2.0 / e) * np.arctan2(2.0 * dv / e, 1.0 + x * y)
+        i1 = (r * (l1 - 0.5 * l2) + (1.5 * r2 + p) * theta) * d_inv
+        i2 = (r2 * l1 + (r2 + 0.5 * p) * l2 + 0.5 * r * p * theta) * d_inv
+        time = -i1 / c2
+        dist = -(i2 - w * i1) / c2
+    ok = (pm / v1 - c2 * v1 * v1 - c0 > 0.0) & np.isfinite(dist) & np.isfinite(time)
+    return np.where(ok, dist, np.nan), np.where(ok, time, np.nan)
 
 
 def _propeller_power_piece(pm, c2, c0, v0, v1, w, nodes):
@@ -904,20 +957,37 @@ def ground_run_from_terms(terms, *, mass_kg, v_lof_mps, headwind_mps=0.0, nodes=
         v0 = np.maximum(vk.take(idx), w.take(idx))
         v1 = vlof.take(idx)
         wi = w.take(idx)
-        if nodes is None:  # per case, from the acceleration ratio over the piece
-            a_start = pm / v0 - c2 * v0 * v0 - c0
-            a_end = pm / v1 - c2 * v1 * v1 - c0
-            per_case = nodes_for_ratio(a_end / a_start)
-        else:
-            per_case = np.full(idx.size, int(nodes))
         s2 = np.empty(idx.size)
         t2p = np.empty(idx.size)
-        # a few node counts, not a loop over cases (bincount: np.unique sorts or hashes, many
-        # times slower on this small set of values)
-        for k in np.flatnonzero(np.bincount(per_case)):
-            j = np.flatnonzero(per_case == k)
-            s2[j], t2p[j] = _propeller_power_piece(pm.take(j), c2.take(j), c0.take(j), v0.take(j), v1.take(j),
-                                                   wi.take(j), int(k))
+        # closed form where the cubic of a(V) = 0 has one real root (friction and drag
+        # positive, the usual case); Gauss–Legendre elsewhere and when nodes are given
+        if nodes is None:
+            closed = (c0 > 0.0) & (c2 > 0.0) & (pm > 0.0)
+            if closed.all():
+                s2, t2p = _propeller_power_closed(pm, c2, c0, v0, v1, wi)
+                rest = idx[:0]
+            else:
+                jc = np.flatnonzero(closed)
+                s2[jc], t2p[jc] = _propeller_power_closed(pm.take(jc), c2.take(jc), c0.take(jc), v0.take(jc),
+                                                          v1.take(jc), wi.take(jc))
+                rest = np.flatnonzero(~closed)
+        else:
+            rest = np.arange(idx.size)
+        if rest.size:
+            pmr, c2r, c0r, v0r, v1r = (x.take(rest) for x in (pm, c2, c0, v0, v1))
+            if nodes is None:  # per case, from the acceleration ratio over the piece
+                a_start = pmr / v0r - c2r * v0r * v0r - c0r
+                a_end = pmr / v1r - c2r * v1r * v1r - c0r
+                per_case = nodes_for_ratio(a_end / a_start)
+            else:
+                per_case = np.full(rest.size, int(nodes))
+            # a few node counts, not a loop over cases (bincount: np.unique sorts or hashes,
+            # many times slower on this small set of values)
+            for k in np.flatnonzero(np.bincount(per_case)):
+                j = np.flatnonzero(per_case == k)
+                jr = rest.take(j)
+                s2[jr], t2p[jr] = _propeller_power_piece(pmr.take(j), c2r.take(j), c0r.take(j), v0r.take(j),
+                                                         v1r.take(j), wi.take(jr), int(k))
         dist = np.array(dist)
         time = np.array(time)
         reason = np.array(reason)
@@ -944,8 +1014,11 @@ def ground_run_for_thrust_law(thrust_law, *, mass_kg, wing_area_m2, density_kg_m
     slope : array_like, optional
         Gradient, + uphill. [–]
     nodes : int, optional
-        Gauss–Legendre nodes for the propeller power-limited piece; default: chosen per case
-        by :func:`nodes_for_ratio` from a(V_LOF)/a(V_k) so that rho^(−2n) ≤ 1e-9. [–]
+        Gauss–Legendre nodes for the propeller power-limited piece. Default: that piece in
+        closed form (:func:`_propeller_power_closed`) where friction + slope and drag are
+        positive, else Gauss–Legendre with nodes chosen per case by :func:`nodes_for_ratio`
+        from a(V_LOF)/a(V_k) so that rho^(−2n) ≤ 1e-9; given: Gauss–Legendre with that many
+        nodes for every propeller case. [–]
 
     Returns
     -------
@@ -955,14 +1028,17 @@ def ground_run_for_thrust_law(thrust_law, *, mass_kg, wing_area_m2, density_kg_m
     Notes
     -----
     Polynomial thrust (quadratic, turbofan): closed form. Propeller: closed form from rest
-    to min(V_k, V_LOF) with the constant static cap, then Gauss–Legendre from V_k to V_LOF
-    with T = eta P/V (the integral is split at the kink V_k, where dT/dV jumps). Computed as
+    to min(V_k, V_LOF) with the constant static cap, then from V_k to V_LOF with
+    T = eta P/V, where 1/a = V/(cubic in V), by partial fractions over the cubic's real root
+    and complex pair (Gauss–Legendre where friction + slope or drag is not positive and the
+    cubic may have three real roots); the integral is split at the kink V_k, where dT/dV
+    jumps. Computed as
     :func:`ground_run_from_terms` of :func:`ground_run_terms` (a search over the mass
     computes the terms once).
 
     References
     ----------
-    .. [1] Raymer, §17.8. .. [4] Trefethen (2008).
+    .. [1] Raymer, §17.8. .. [3] Gradshteyn & Ryzhik, 2.103, 2.172. .. [4] Trefethen (2008).
     """
     shape = np.broadcast_shapes(*(np.shape(x) for x in (mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu,
                                                         v_lof_mps, headwind_mps, slope, thrust_law.t0_n)))

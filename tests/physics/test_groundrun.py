@@ -92,20 +92,74 @@ def test_closed_form_equals_gauss_legendre_and_solve_ivp(t0, t1, t2, w, slope):
     assert t_ivp == pytest.approx(float(det.time_s), rel=1e-6)
 
 
-def test_propeller_gauss_legendre_against_solve_ivp():
+def test_propeller_against_solve_ivp():
     # Propeller thrust min(T_s, eta P/V) has a kink; ground_run_for_thrust_law splits there.
+    # Above it the closed form (friction + slope > 0) or, on a downhill slope steeper than
+    # the friction (mu 0.01, slope −0.02), Gauss–Legendre; and Gauss–Legendre when asked.
     law = thrust.thrust_law(thrust_model=2, static_thrust_per_engine_n=40e3, pressure_pa=95000.0,
                             temperature_k=300.0, engines_operating=2.0, flat_rate_oat_k=305.0,
                             shaft_power_per_engine_w=1.8e6, propeller_efficiency=0.8)
-    for w, slope in [(0.0, 0.0), (5.0, 0.01), (-4.0, -0.005)]:
+    for w, slope, mu, nodes in [(0.0, 0.0, 0.04, None), (5.0, 0.01, 0.04, None), (-4.0, -0.005, 0.04, None),
+                                (-4.0, -0.005, 0.04, 16), (3.0, -0.02, 0.01, None)]:
         kw = dict(mass_kg=21000.0, wing_area_m2=61.0, density_kg_m3=95000.0 / (c.R_AIR * 300.0), cd=0.06,
-                  cl=0.4, mu=0.04, v_lof_mps=56.0, headwind_mps=w, slope=slope)
-        res = gr.ground_run_for_thrust_law(law, **kw)
+                  cl=0.4, mu=mu, v_lof_mps=56.0, headwind_mps=w, slope=slope)
+        res = gr.ground_run_for_thrust_law(law, **kw, nodes=nodes)
         s_ivp, t_ivp = _ivp_ground_run(lambda v: float(law.thrust_n(np.array([v]))[0]), 21000.0, 61.0,
-                                       kw["density_kg_m3"], 0.06, 0.4, 0.04, 56.0, w, slope)
+                                       kw["density_kg_m3"], 0.06, 0.4, mu, 56.0, w, slope)
         assert float(law.kink_airspeed_mps) < 56.0  # the kink is inside the run
         assert float(res.distance_m) == pytest.approx(s_ivp, rel=1e-6)
         assert float(res.time_s) == pytest.approx(t_ivp, rel=1e-6)
+
+
+def test_propeller_power_piece_closed_form_against_adaptive_quadrature():
+    # a(V) = pm/V − c2 V² − c0 above the power kink: the closed form (partial fractions over
+    # the roots of the cubic, Gradshteyn & Ryzhik 2.103, 2.172) against scipy.integrate.quad
+    # (adaptive Gauss–Kronrod, an independent quadrature) over a wide spread of powers, drags
+    # (down to 1/1000 of a typical one, where the cubic's root formula cancels), frictions,
+    # winds and speed ranges; NaN where a(v1) ≤ 0, as the Gauss–Legendre piece gives.
+    from scipy.integrate import quad
+
+    rng = np.random.default_rng(42)
+    n = 300
+    m = rng.uniform(8e3, 30e3, n)
+    pm = 2 * rng.uniform(0.5e6, 2.5e6, n) * 0.75 / m
+    c2 = 0.5 * rng.uniform(30.0, 110.0, n) * rng.uniform(0.02, 0.09, n) / m * 10 ** rng.uniform(-3.0, 0.5, n)
+    c0 = c.G0 * rng.uniform(0.005, 0.12, n)
+    w = rng.uniform(-9.0, 9.0, n)
+    v0 = np.maximum(rng.uniform(5.0, 50.0, n), w)
+    v1 = v0 + rng.uniform(0.0, 60.0, n)
+    dist, time = gr._propeller_power_closed(pm, c2, c0, v0, v1, w)
+    gl_dist, _ = gr._propeller_power_piece(pm, c2, c0, v0, v1, w, 64)
+    assert np.array_equal(np.isnan(dist), np.isnan(gl_dist))
+    reach = np.flatnonzero(pm / v1 - c2 * v1**2 - c0 > 0.0)
+    assert 0.5 * n < reach.size < n  # both kinds present
+    for i in reach:
+        acc = lambda v: pm[i] / v - c2[i] * v * v - c0[i]  # noqa: E731
+        ref_t = quad(lambda v: 1.0 / acc(v), v0[i], v1[i], epsabs=0.0, epsrel=1e-13, limit=200)[0]
+        ref_s = quad(lambda v: (v - w[i]) / acc(v), v0[i], v1[i], epsabs=0.0, epsrel=1e-13, limit=200)[0]
+        assert time[i] == pytest.approx(ref_t, rel=1e-10, abs=1e-12)
+        assert dist[i] == pytest.approx(ref_s, rel=1e-9, abs=1e-9)
+
+
+def test_propeller_closed_form_matches_gauss_legendre_in_the_ground_run():
+    # The default (closed form above the kink) against 64-node Gauss–Legendre (nodes=64) on
+    # mixed propeller cases through the public function: same distances and times to 1e-9.
+    from tests.physics import fleet
+    from physics.weightlimit import prepare_cases
+
+    a, site = fleet.random_cases(3000, seed=4)
+    cs = prepare_cases(a, site)
+    mass = 0.5 * (a.oew_kg + a.mtow_kg)
+    vs = aero.stall_speed_mps(mass, cs.density_kg_m3, a.wing_area_m2, a.cl_max_takeoff)
+    kw = dict(mass_kg=mass, wing_area_m2=a.wing_area_m2, density_kg_m3=cs.density_kg_m3, cd=cs.cd_ground_roll,
+              cl=a.cl_ground_roll, mu=site.mu_roll, v_lof_mps=a.vlof_over_vs * vs, headwind_mps=site.headwind_mps,
+              slope=site.slope)
+    closed = gr.ground_run_for_thrust_law(cs.thrust_all_engines, **kw)
+    gl = gr.ground_run_for_thrust_law(cs.thrust_all_engines, **kw, nodes=64)
+    prop = a.thrust_model == thrust.PROPELLER
+    assert prop.sum() > 500 and np.all(np.isfinite(closed.distance_m[prop]))
+    assert_allclose(closed.distance_m, gl.distance_m, rtol=1e-9)
+    assert_allclose(closed.time_s, gl.time_s, rtol=1e-9)
 
 
 def test_decelerating_segment_braking_to_rest():
