@@ -62,7 +62,6 @@ import numpy as np
 
 from physics import atmosphere
 from physics import constants as c
-from physics.select import choose
 
 MODEL_CODES = {"quadratic": 0, "turbofan": 1, "propeller": 2}
 MODEL_NAMES = tuple(MODEL_CODES)
@@ -332,24 +331,50 @@ def thrust_law(*, thrust_model, static_thrust_per_engine_n, pressure_pa, tempera
     f_flat = flat_rating_factor(temp, t_flat)
     is_turbofan = model == TURBOFAN
     is_prop = model == PROPELLER
+    if model.ndim != 1:
+        return _thrust_law_where(model, t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat,
+                                 is_turbofan, is_prop)
+    # one-dimensional cases (the solver's): each model's terms on its own cases only
+    t0 = t_static * delta * f_flat  # quadratic
+    t1_out, t2_out = t1.copy(), t2.copy()
+    p_eta = np.zeros_like(t0)
+    i = np.flatnonzero(is_turbofan)
+    if i.size:
+        # turbofan: Bartel & Young in Mach at this temperature, M = V / a
+        a_bY, b_bY, c_bY = bartel_young_coefficients(delta.take(i), bpr.take(i))
+        sound = atmosphere.speed_of_sound_mps(temp.take(i))
+        tf0 = t_static.take(i) * f_flat.take(i)
+        t0[i], t1_out[i], t2_out[i] = tf0 * a_bY, -tf0 * b_bY / sound, tf0 * c_bY / sound**2
+    i = np.flatnonzero(is_prop)
+    if i.size:
+        # propeller: power lapse and actuator-disc static cap
+        sigma = (p.take(i) / (c.R_AIR * temp.take(i))) / c.RHO0_KG_M3
+        power_ratio = sigma**PROPELLER_POWER_LAPSE_EXPONENT * f_flat.take(i)
+        t0[i] = t_static.take(i) * np.cbrt(sigma * power_ratio**2)
+        t1_out[i] = t2_out[i] = 0.0
+        p_eta[i] = eta.take(i) * power.take(i) * power_ratio
+    t0 *= scale
+    t1_out *= scale
+    t2_out *= scale
+    p_eta *= scale
+    return ThrustLaw(t0, t1_out, t2_out, p_eta, is_prop)
 
-    # turbofan: Bartel & Young in Mach at this temperature, M = V / a
+
+def _thrust_law_where(model, t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat, is_turbofan, is_prop):
+    """:func:`thrust_law` for cases of any shape: every model's terms everywhere, chosen by
+    ``np.where`` (the one-dimensional path computes each model on its own cases)."""
     a_bY, b_bY, c_bY = bartel_young_coefficients(delta, np.where(is_turbofan, bpr, 0.0))
     sound = atmosphere.speed_of_sound_mps(temp)
     tf0 = t_static * f_flat
     fan = (tf0 * a_bY, -tf0 * b_bY / sound, tf0 * c_bY / sound**2)
     quad = (t_static * delta * f_flat, t1, t2)
-
-    # propeller: power lapse and actuator-disc static cap
     sigma = (p / (c.R_AIR * temp)) / c.RHO0_KG_M3
     power_ratio = sigma**PROPELLER_POWER_LAPSE_EXPONENT * f_flat
     cap = t_static * np.cbrt(sigma * power_ratio**2)
-
-    pick = choose if is_prop.ndim == 1 else np.where
-    t0 = pick(is_prop, cap, pick(is_turbofan, fan[0], quad[0])) * scale
-    t1_out = pick(is_prop, 0.0, pick(is_turbofan, fan[1], quad[1])) * scale
-    t2_out = pick(is_prop, 0.0, pick(is_turbofan, fan[2], quad[2])) * scale
-    p_eta = pick(is_prop, eta * power * power_ratio, 0.0) * scale
+    t0 = np.where(is_prop, cap, np.where(is_turbofan, fan[0], quad[0])) * scale
+    t1_out = np.where(is_prop, 0.0, np.where(is_turbofan, fan[1], quad[1])) * scale
+    t2_out = np.where(is_prop, 0.0, np.where(is_turbofan, fan[2], quad[2])) * scale
+    p_eta = np.where(is_prop, eta * power * power_ratio, 0.0) * scale
     return ThrustLaw(t0, t1_out, t2_out, p_eta, is_prop)
 
 

@@ -1025,7 +1025,7 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True):
             m_top = m_top[:, ok]
         # the requirement most violated just above the limit (the margins at the bracket's
         # upper end)
-        factor[active] = codes[np.argmin(m_top, axis=0)]
+        factor[active] = codes[_least_met(-m_top)[0]]
         limit[active] = lo[ok]
 
     # Figures at the limit mass: without engine-failure requirements they were taken during
