@@ -900,12 +900,12 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         np.copyto(xf, xh, where=~np.isfinite(xf))
         d = xh - xf
         sigma = np.sign(d)
-        xt = np.where(delta <= np.abs(d), xf + sigma * delta, xh)
+        xt = choose(delta <= np.abs(d), xf + sigma * delta, xh)
         # close-out: the estimate within 0.9 tolerance of an end → step across it, to midway
         # between it and one tolerance from that end, so the bracket closes
         near_b, near_a = (B - xf) < 0.9 * tol_kg, (xf - A) < 0.9 * tol_kg
-        np.copyto(xt, 0.5 * (xf + B - tol_kg), where=near_b & ~near_a)
-        np.copyto(xt, 0.5 * (xf + A + tol_kg), where=near_a & ~near_b)
+        xt = choose(near_b & ~near_a, 0.5 * (xf + B - tol_kg), xt)  # (choose: the masks mix)
+        xt = choose(near_a & ~near_b, 0.5 * (xf + A + tol_kg), xt)
         x = np.where(np.abs(xt - xh) <= r, xt, xh - sigma * r)
         # on a grid of tol/64 from the starting end: rounding noise of the margins (SIMD paths
         # differ with the batch) then cannot move the result, so a scalar call equals the
