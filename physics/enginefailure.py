@@ -367,10 +367,12 @@ class GroundRegime:
     quadratic in V and every segment has the closed form of
     :func:`physics.groundrun.segment_distance_quadratic_m`. Propeller, T = min(T_s, eta P/V):
     below the kink V_k = eta P/T_s the thrust is the constant cap, so the closed form holds
-    there too; above it a(V) = eta P/(m V) + a0' + a2 V² is integrated by Gauss–Legendre
-    (:data:`PROPELLER_NODES` nodes; the nearest singularity, V = 0, lies at least three
-    half-lengths from the centre of a piece above V_k, so the error is below ~1e-12 relative,
-    Trefethen 2008, Thm 4.5).
+    there too; above it a(V) = eta P/(m V) + a0' + a2 V² has the closed form of
+    :func:`physics.groundrun._propeller_power_closed` (partial fractions over the roots of a
+    cubic) where a0' < 0 and a2 < 0 (friction and drag hold it back), and is otherwise
+    integrated by Gauss–Legendre (:data:`PROPELLER_NODES` nodes; the error is set by how
+    near a(V) comes to zero on the piece, Trefethen 2008, Thm 4.5: 2e-7 relative on a long
+    one-engine-inoperative run in the tests, far smaller where a stays well above zero).
 
     Parameters
     ----------
@@ -412,6 +414,9 @@ class GroundRegime:
             self._p_m = np.asarray(thrust_law.propeller_power_w)[i] / m[i]
             self._a0n = a0[i] - np.asarray(thrust_law.t0_n)[i] / m[i]
             self._a2p = a2[i]
+            # the closed form above the kink where the cubic of a = 0 has one real root
+            self._closed = (self._a0n < 0.0) & (self._a2p < 0.0) & (self._p_m > 0.0)
+            self._root = None  # groundrun.CubicRoot of the closed cases, on first use
 
     def distance_m(self, v_from, v_to):
         """Ground distance between two true airspeeds (NaN where not reachable).
@@ -429,8 +434,8 @@ class GroundRegime:
         Notes
         -----
         ∫ (V − w)/a(V) dV: closed form below the propeller kink (everywhere for polynomial
-        thrust; split at V = 0 only for the tailwind cases that cross it), Gauss–Legendre
-        above it.
+        thrust; split at V = 0 only for the tailwind cases that cross it) and above it (the
+        cubic's partial fractions), Gauss–Legendre above it where that form does not apply.
 
         References
         ----------
@@ -449,19 +454,19 @@ class GroundRegime:
         if self.prop.size:
             i = self.prop
             g_from, g_to = np.maximum(v_from[i], self.kink[i]), np.maximum(v_to[i], self.kink[i])
-            lo, hi = np.minimum(g_from, g_to), np.maximum(g_from, g_to)
-            x, wts = _gl_nodes(PROPELLER_NODES)
-            half = 0.5 * (hi - lo)
-            # nodes on the first axis: the sums over nodes are elementwise over the cases
-            v = 0.5 * (hi + lo) + x[:, None] * half  # (nodes, n)
-            pm, a0n, a2p = self._p_m, self._a0n, self._a2p
-            sgn = np.sign(g_to - g_from)
-            with np.errstate(invalid="ignore", divide="ignore"):
-                acc = pm / v + a0n + a2p * v * v
-                ok = ((sgn * acc).min(axis=0) > 0.0) & (sgn * (pm / lo + a0n + a2p * lo * lo) > 0.0) \
-                    & (sgn * (pm / hi + a0n + a2p * hi * hi) > 0.0)
-                part = sgn * half * (wts[:, None] * ((v - self.w[i]) / acc)).sum(axis=0)
-            part = np.where(g_to == g_from, 0.0, np.where(ok, part, np.nan))
+            pm, a0n, a2p, w = self._p_m, self._a0n, self._a2p, self.w[i]
+            closed_all = self._closed.all()
+            if self._root is None:  # a(V) is the same for every piece of this regime
+                c = slice(None) if closed_all else np.flatnonzero(self._closed)
+                self._root = groundrun._cubic_root(pm[c], -a2p[c], -a0n[c])
+            if closed_all:
+                part = groundrun._propeller_power_closed(pm, -a2p, -a0n, g_from, g_to, w, self._root)[0]
+            else:
+                part = np.empty(i.size)
+                c, gl = np.flatnonzero(self._closed), np.flatnonzero(~self._closed)
+                part[c] = groundrun._propeller_power_closed(pm[c], -a2p[c], -a0n[c], g_from[c], g_to[c], w[c],
+                                                            self._root)[0]
+                part[gl] = _power_piece_gauss_legendre(pm[gl], a0n[gl], a2p[gl], g_from[gl], g_to[gl], w[gl])
             s[i] += part
         return s
 
@@ -482,6 +487,8 @@ class GroundRegime:
         if new.prop.size:
             local = (np.cumsum(is_prop) - 1)[np.asarray(index)[sub_prop]]
             new._p_m, new._a0n, new._a2p = self._p_m[local], self._a0n[local], self._a2p[local]
+            new._closed = self._closed[local]
+            new._root = None
         return new
 
     def acceleration(self, v):
@@ -522,6 +529,24 @@ class GroundRegime:
 
 
 _GL = {}
+
+
+def _power_piece_gauss_legendre(pm, a0n, a2p, g_from, g_to, w):
+    """∫ (V − w)/a dV from g_from to g_to for a = pm/V + a0n + a2p V² (V > 0), by
+    Gauss–Legendre (:data:`PROPELLER_NODES` nodes); NaN where a does not keep the sign of
+    the travel direction at the nodes and ends."""
+    lo, hi = np.minimum(g_from, g_to), np.maximum(g_from, g_to)
+    x, wts = _gl_nodes(PROPELLER_NODES)
+    half = 0.5 * (hi - lo)
+    # nodes on the first axis: the sums over nodes are elementwise over the cases
+    v = 0.5 * (hi + lo) + x[:, None] * half  # (nodes, n)
+    sgn = np.sign(g_to - g_from)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        acc = pm / v + a0n + a2p * v * v
+        ok = ((sgn * acc).min(axis=0) > 0.0) & (sgn * (pm / lo + a0n + a2p * lo * lo) > 0.0) \
+            & (sgn * (pm / hi + a0n + a2p * hi * hi) > 0.0)
+        part = sgn * half * (wts[:, None] * ((v - w) / acc)).sum(axis=0)
+    return np.where(g_to == g_from, 0.0, np.where(ok, part, np.nan))
 
 
 def _gl_nodes(n):

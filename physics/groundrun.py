@@ -467,12 +467,38 @@ def _general_integrals(accel_fn, va_start, va_end, headwind_mps, nodes, breakpoi
     return dist, time
 
 
-def _propeller_power_closed(pm, c2, c0, v0, v1, w):
-    """Closed-form distance and time for a(V) = pm/V − c2 V² − c0 on [v0, v1], 0 < v0 ≤ v1,
-    where pm, c2, c0 > 0.
+class CubicRoot(NamedTuple):
+    """The real root of V³ + pV + q (p = c0/c2 > 0, q = −pm/c2) and the constants of the
+    partial fractions (:func:`_propeller_power_closed`), per case."""
 
-    Returns (distance, time); NaN where a(v1) ≤ 0 (the piece ends at or above the speed where
-    the acceleration vanishes).
+    r: np.ndarray
+    p: np.ndarray
+    d_inv: np.ndarray
+    e: np.ndarray
+
+
+def _cubic_root(pm, c2, c0):
+    """:class:`CubicRoot` of a(V) = pm/V − c2 V² − c0 = 0 (pm, c2, c0 > 0); see
+    :func:`_propeller_power_closed`."""
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        p = c0 / c2
+        q = -pm / c2
+        u = np.cbrt(-0.5 * q + np.sqrt(0.25 * q * q + p * p * p / 27.0))
+        r = u - p / (3.0 * u)
+        for _ in range(2):  # Newton on r³ + p r + q
+            r2 = r * r
+            r = r - (r * (r2 + p) + q) / (3.0 * r2 + p)
+        r2 = r * r
+        return CubicRoot(r, p, 1.0 / (3.0 * r2 + p), np.sqrt(3.0 * r2 + 4.0 * p))
+
+
+def _propeller_power_closed(pm, c2, c0, v0, v1, w, root=None):
+    """Closed-form distance and time for a(V) = pm/V − c2 V² − c0 from v0 to v1 (either
+    order, both > 0), where pm, c2, c0 > 0.
+
+    Returns (distance, time), ≥ 0; NaN where the acceleration does not keep the sign of
+    v1 − v0 along the piece (a falls with V, so: where (v1 − v0) a(v1) ≤ 0), e.g. an
+    accelerating piece ending at or above the speed where a vanishes.
 
     Notes
     -----
@@ -486,23 +512,16 @@ def _propeller_power_closed(pm, c2, c0, v0, v1, w):
     Θ = (2/E)[atan((2V + r)/E)] between the ends; time = −∫V/(…)/c2, distance = time-weighted
     (V − w): −(∫V²/(…) − w ∫V/(…))/c2. The root by Cardano's formula in the form
     r = u − p/(3u), u = ∛(−q/2 + √(q²/4 + p³/27)) (no cancellation inside the cube root), then two
-    Newton steps (exact to rounding also where p³/27 ≫ q²/4 and u − p/(3u) cancels).
+    Newton steps (exact to rounding also where p³/27 ≫ q²/4 and u − p/(3u) cancels);
+    ``root`` (:func:`_cubic_root`) lets a caller integrate several pieces of one a(V).
 
     References
     ----------
     .. [3] Gradshteyn & Ryzhik, 2.103, 2.172. .. [6] Abramowitz & Stegun, 3.8.2 (cubic).
     """
+    r, p, d_inv, e = _cubic_root(pm, c2, c0) if root is None else root  # mass-dependent only
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        p = c0 / c2
-        q = -pm / c2
-        u = np.cbrt(-0.5 * q + np.sqrt(0.25 * q * q + p * p * p / 27.0))
-        r = u - p / (3.0 * u)
-        for _ in range(2):  # Newton on r³ + p r + q
-            r2 = r * r
-            r = r - (r * (r2 + p) + q) / (3.0 * r2 + p)
         r2 = r * r
-        d_inv = 1.0 / (3.0 * r2 + p)
-        e = np.sqrt(3.0 * r2 + 4.0 * p)
         dv = v1 - v0
         l1 = np.log1p(-dv / (r - v0))
         l2 = np.log1p(dv * (v1 + v0 + r) / (v0 * (v0 + r) + r2 + p))
@@ -513,8 +532,12 @@ def _propeller_power_closed(pm, c2, c0, v0, v1, w):
         i2 = (r2 * l1 + (r2 + 0.5 * p) * l2 + 0.5 * r * p * theta) * d_inv
         time = -i1 / c2
         dist = -(i2 - w * i1) / c2
-    ok = (pm / v1 - c2 * v1 * v1 - c0 > 0.0) & np.isfinite(dist) & np.isfinite(time)
-    return np.where(ok, dist, np.nan), np.where(ok, time, np.nan)
+    zero = dv == 0.0
+    ok = ((dv * (pm / v1 - c2 * v1 * v1 - c0) > 0.0) & np.isfinite(dist) & np.isfinite(time)) | zero
+    dist, time = np.where(ok, dist, np.nan), np.where(ok, time, np.nan)
+    if np.any(zero):
+        dist, time = np.where(zero, 0.0, dist), np.where(zero, 0.0, time)
+    return dist, time
 
 
 def _propeller_power_piece(pm, c2, c0, v0, v1, w, nodes):

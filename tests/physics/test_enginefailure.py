@@ -176,6 +176,32 @@ def test_propeller_segments_against_quadrature():
     assert_allclose(got, ref, rtol=1e-7)
 
 
+@pytest.mark.parametrize("headwind", [4.0, -3.0])
+def test_propeller_power_piece_closed_form_and_gauss_legendre_against_quadrature(headwind):
+    # Above the kink every regime's a(V) = eta P/(m V) + a0' + a2 V² is integrated in closed
+    # form (friction and drag positive); the Gauss–Legendre path it replaces (kept for the
+    # other cases) and scipy's adaptive quadrature agree with it, accelerating (all engines,
+    # one out: to V_LOF) and decelerating (the stops, idle thrust: from V1 down to the kink).
+    a = make_aircraft(thrust_model=2.0, static_thrust_per_engine_n=45_000.0,
+                      shaft_power_per_engine_w=2.2e6, propeller_efficiency=0.8,
+                      thrust_linear_per_engine_n_per_mps=0.0, thrust_quadratic_per_engine_n_per_mps2=0.0)
+    m = ef.engine_failure_model(a, site(headwind_mps=headwind), np.asarray(45_000.0))
+    vlof = float(m.speeds.vlof_mps[0])
+    for regime, v_from, v_to in [(m.all_engines, 30.0, vlof), (m.one_out, 30.0, vlof),
+                                 (m.stop_all, 70.0, 20.0), (m.stop_one_out, 70.0, 20.0)]:
+        vk = float(regime.kink[0])
+        lo, hi = sorted((max(v_from, vk), max(v_to, vk)))
+        assert hi > lo  # a piece above the kink
+        assert regime._closed.all()
+        got = float(regime.distance_m(v_from, v_to)[0])
+        sign = 1.0 if v_to > v_from else -1.0
+        ref = sign * quad(lambda v: (v - headwind) / regime.acceleration(v)[0], min(v_from, v_to), max(v_from, v_to),
+                          points=[vk], epsabs=0.0, epsrel=1e-12, limit=200)[0]
+        assert got == pytest.approx(ref, rel=1e-9)
+        regime._closed = np.zeros_like(regime._closed)  # the 8-node Gauss–Legendre path
+        assert float(regime.distance_m(v_from, v_to)[0]) == pytest.approx(got, rel=1e-6)
+
+
 def test_single_engine_has_no_engine_out_case():
     a = make_aircraft(engine_count=1.0, vmcg_mps=0.0)
     m = _model(a)
