@@ -331,10 +331,13 @@ def thrust_law(*, thrust_model, static_thrust_per_engine_n, pressure_pa, tempera
     f_flat = flat_rating_factor(temp, t_flat)
     is_turbofan = model == TURBOFAN
     is_prop = model == PROPELLER
+    # each model's terms on its own cases only (gathered and scattered: a mixed fleet makes
+    # the model masks random, where np.where is slow), on the cases flattened
+    shape = model.shape
     if model.ndim != 1:
-        return _thrust_law_where(model, t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat,
-                                 is_turbofan, is_prop)
-    # one-dimensional cases (the solver's): each model's terms on its own cases only
+        model, t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat, is_turbofan, is_prop = (
+            np.ravel(x) for x in (model, t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat,
+                                  is_turbofan, is_prop))
     t0 = t_static * delta * f_flat  # quadratic
     t1_out, t2_out = t1.copy(), t2.copy()
     p_eta = np.zeros_like(t0)
@@ -357,25 +360,7 @@ def thrust_law(*, thrust_model, static_thrust_per_engine_n, pressure_pa, tempera
     t1_out *= scale
     t2_out *= scale
     p_eta *= scale
-    return ThrustLaw(t0, t1_out, t2_out, p_eta, is_prop)
-
-
-def _thrust_law_where(model, t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat, is_turbofan, is_prop):
-    """:func:`thrust_law` for cases of any shape: every model's terms everywhere, chosen by
-    ``np.where`` (the one-dimensional path computes each model on its own cases)."""
-    a_bY, b_bY, c_bY = bartel_young_coefficients(delta, np.where(is_turbofan, bpr, 0.0))
-    sound = atmosphere.speed_of_sound_mps(temp)
-    tf0 = t_static * f_flat
-    fan = (tf0 * a_bY, -tf0 * b_bY / sound, tf0 * c_bY / sound**2)
-    quad = (t_static * delta * f_flat, t1, t2)
-    sigma = (p / (c.R_AIR * temp)) / c.RHO0_KG_M3
-    power_ratio = sigma**PROPELLER_POWER_LAPSE_EXPONENT * f_flat
-    cap = t_static * np.cbrt(sigma * power_ratio**2)
-    t0 = np.where(is_prop, cap, np.where(is_turbofan, fan[0], quad[0])) * scale
-    t1_out = np.where(is_prop, 0.0, np.where(is_turbofan, fan[1], quad[1])) * scale
-    t2_out = np.where(is_prop, 0.0, np.where(is_turbofan, fan[2], quad[2])) * scale
-    p_eta = np.where(is_prop, eta * power * power_ratio, 0.0) * scale
-    return ThrustLaw(t0, t1_out, t2_out, p_eta, is_prop)
+    return ThrustLaw(*(x.reshape(shape) for x in (t0, t1_out, t2_out, p_eta, is_prop)))
 
 
 def thrust_law_for_aircraft(aircraft, pressure_pa, temperature_k, *, engines_operating=None, throttle=1.0):
