@@ -886,16 +886,18 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
                 if j >= 2:
                     kink |= AR[1] != AR[2]
                 k = np.flatnonzero(kink)  # never with one requirement
-                if k.size:
-                    uak, ubk = uA[k], uB[k]
-                    e = _interpolated_root(ul[k], up[k], uq[k], *H[:, :, k], j)
+                if k.size:  # (take: fancy indexing on the last axis gives strided views)
+                    uak, ubk = uA.take(k), uB.take(k)
+                    e = _interpolated_root(ul.take(k), up.take(k), uq.take(k), *H.take(k, axis=2), j)
                     lowest = np.where((e > uak) & (e < ubk), e, np.inf).min(axis=0)
-                    uf[k] = np.where(lowest < np.inf, lowest, rf[k])
+                    uf[k] = np.where(lowest < np.inf, lowest, rf.take(k))
                 unknown = np.flatnonzero(~known)
                 if unknown.size:  # the secants of the requirements, through failed trials
                     below = np.zeros(known.shape, dtype=bool)
-                    e = _interpolated_root(ul[unknown], up[unknown], None, *H[:2, :, unknown], None, 1)
-                    below[unknown] = np.where(e < uB[unknown], e, np.inf).min(axis=0) <= uA[unknown]
+                    ubu = uB.take(unknown)
+                    e = _interpolated_root(ul.take(unknown), up.take(unknown), None, *H[:2].take(unknown, axis=2),
+                                           None, 1)
+                    below[unknown] = np.where(e < ubu, e, np.inf).min(axis=0) <= uA.take(unknown)
             xf = np.exp(uf)
         np.copyto(xf, xh, where=~np.isfinite(xf))
         d = xh - xf
