@@ -803,7 +803,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
        equation", *BIT* 11, 1971 (the Illinois method).
     """
     lo_out, hi_out = lo.astype(float).copy(), hi.astype(float).copy()
-    mhi_out = np.array(m_hi, dtype=float, copy=True)
+    mhi_out = np.array(m_hi, dtype=float, copy=True, order="C")
     none_out = np.zeros(lo.size, dtype=bool)
     v1_state = None  # last V1 of each case (engine-failure search), handed back for reuse
     if lo.size == 0:
@@ -1002,7 +1002,7 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True):
     if rest.size:
         sub = cases.take(rest)
         lo, hi, m_top, none_rest, _, v1_state = _itp_search(
-            sub, margins_fn, a.oew_kg[rest], a.mtow_kg[rest], m_hi[:, rest], tol_kg,
+            sub, margins_fn, a.oew_kg[rest], a.mtow_kg[rest], m_hi.take(rest, axis=1), tol_kg,
             capture=None if engine_failure or not figures else _shifted(capture, rest))
         none[rest] = none_rest
         ok = ~none_rest
@@ -1024,7 +1024,7 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True):
                 sub._cache.pop("engine_failure_state", None)
             m_top, _ = requirement_margins(sub, hi[ok], reqs)
         else:
-            m_top = m_top[:, ok]
+            m_top = m_top.take(np.flatnonzero(ok), axis=1)
         # the requirement most violated just above the limit (the margins at the bracket's
         # upper end)
         factor[active] = codes[_least_met(-m_top)[0]]
