@@ -7,6 +7,10 @@ about 5.5 ns an element at a 50 % mix against 0.8 ns for an addition). :func:`ch
 the same result by gathering and scattering at the positions where ``cond`` holds, and keeps
 ``np.where`` where the condition is nearly all one way (there its branch is predictable and
 it is the faster of the two).
+
+References
+----------
+.. [1] NumPy reference: ``numpy.where``, ``numpy.flatnonzero``, ``numpy.ndarray.take``.
 """
 
 from __future__ import annotations
@@ -30,7 +34,7 @@ def choose(cond, if_true, if_false):
     Returns
     -------
     numpy.ndarray
-        Shape (n,), float.
+        Shape (n,), float. [the unit of the values]
 
     Notes
     -----
