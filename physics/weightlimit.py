@@ -899,7 +899,9 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
                                            None, 1)
                     below[unknown] = np.where(e < ubu, e, np.inf).min(axis=0) <= uA.take(unknown)
             xf = np.exp(uf)
-        np.copyto(xf, xh, where=~np.isfinite(xf))
+        bad = ~np.isfinite(xf)
+        if bad.any():
+            np.copyto(xf, xh, where=bad)
         d = xh - xf
         sigma = np.sign(d)
         xt = choose(delta <= np.abs(d), xf + sigma * delta, xh)
@@ -908,7 +910,8 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         near_b, near_a = (B - xf) < 0.9 * tol_kg, (xf - A) < 0.9 * tol_kg
         xt = choose(near_b & ~near_a, 0.5 * (xf + B - tol_kg), xt)  # (choose: the masks mix)
         xt = choose(near_a & ~near_b, 0.5 * (xf + A + tol_kg), xt)
-        x = np.where(np.abs(xt - xh) <= r, xt, xh - sigma * r)
+        inside = np.abs(xt - xh) <= r  # the projection binds only in the worst case
+        x = xt if inside.all() else np.where(inside, xt, xh - sigma * r)
         # on a grid of tol/64 from the starting end: rounding noise of the margins (SIMD paths
         # differ with the batch) then cannot move the result, so a scalar call equals the
         # array element exactly
