@@ -97,7 +97,7 @@ def main(argv=None):
     repeats = 2 if args.quick else 4
     n_gr = 200_000 if args.quick else 1_000_000
     n_wl = 20_000 if args.quick else 100_000
-    n_loop = 8 if args.quick else 30
+    n_loop = 10 if args.quick else 60
     loop_rounds = 2 if args.quick else 3
     rng = np.random.default_rng(2024)
     tuned = os.environ.get("FIELDLIMITS_BENCH_CHILD") == "1"
@@ -198,11 +198,18 @@ def main(argv=None):
         per_round.append(float(weight @ wall_round) / (vec_round / n_wl))
     per_case_loop = float(weight @ best_wall)
     cpu_loop = float(weight @ best_cpu)
+    # standard error of the class-weighted mean: sqrt(sum share_k² var_k / n_k)
+    var = 0.0
+    for k in range(3):
+        in_k = classes[sample] == k
+        if in_k.sum() > 1:
+            var += share[k] ** 2 * best_wall[in_k].var(ddof=1) / in_k.sum()
     counts = ", ".join(f"{name} {int(np.sum(classes[sample] == k))}"
                        for k, name in enumerate(("structural", "no_takeoff", "limited")) if np.any(classes[sample] == k))
     print(f"plain loop (solve_ivp + brentq), {sample.size} cases sampled by class ({counts}), best of "
           f"{loop_rounds} each, weighted by the classes' shares of all {n_wl:,}: {per_case_loop * 1e3:.1f} ms/case "
-          f"({1 / per_case_loop:,.1f} solves/s); largest difference from the vectorised limit {worst:.2f} kg")
+          f"(standard error {np.sqrt(var) * 1e3:.1f} ms; {1 / per_case_loop:,.1f} solves/s); largest difference from "
+          f"the vectorised limit {worst:.2f} kg")
     print(f"vectorised / loop speed ratio per case, same outputs (limit and factor): "
           f"{per_case_loop / (best_vec / n_wl):,.0f}x wall time, {cpu_loop / (best_vec_cpu / n_wl):,.0f}x CPU time "
           f"(rounds: {', '.join(f'{r:,.0f}x' for r in per_round)})")
