@@ -202,6 +202,31 @@ def test_propeller_power_piece_closed_form_and_gauss_legendre_against_quadrature
         assert float(regime.distance_m(v_from, v_to)[0]) == pytest.approx(got, rel=1e-6)
 
 
+def test_propeller_regime_mixing_closed_form_and_gauss_legendre():
+    # A stop whose braking lift outweighs the drag (braking_cl 0.9 × mu 0.4 > C_D: a2 > 0)
+    # leaves the closed form for Gauss–Legendre; in one batch with an ordinary stop each case
+    # gets what it gets alone, and a regime taken to a subset keeps its cases' distances.
+    a = make_aircraft(thrust_model=2.0, static_thrust_per_engine_n=45_000.0,
+                      shaft_power_per_engine_w=2.2e6, propeller_efficiency=0.8,
+                      thrust_linear_per_engine_n_per_mps=0.0, thrust_quadratic_per_engine_n_per_mps2=0.0,
+                      braking_cl=np.array([0.05, 0.9, 0.05]))
+    s = site(headwind_mps=np.array([4.0, -3.0, -3.0]))
+    mass = np.full(3, 45_000.0)
+    batch = ef.engine_failure_model(a, s, mass)
+    assert batch.stop_all._closed.tolist() == [True, False, True]
+    got = batch.stop_all.distance_m(np.full(3, 70.0), np.full(3, 20.0))
+    assert np.all(np.isfinite(got))
+    for i in range(3):
+        ai = make_aircraft(thrust_model=2.0, static_thrust_per_engine_n=45_000.0,
+                           shaft_power_per_engine_w=2.2e6, propeller_efficiency=0.8,
+                           thrust_linear_per_engine_n_per_mps=0.0, thrust_quadratic_per_engine_n_per_mps2=0.0,
+                           braking_cl=[0.05, 0.9, 0.05][i])
+        alone = ef.engine_failure_model(ai, site(headwind_mps=[4.0, -3.0, -3.0][i]), np.asarray(45_000.0))
+        assert float(alone.stop_all.distance_m(70.0, 20.0)[0]) == pytest.approx(float(got[i]), rel=1e-12)
+    sub = batch.stop_all.take(np.array([2, 1]))
+    assert_allclose(sub.distance_m(np.full(2, 70.0), np.full(2, 20.0)), got[[2, 1]], rtol=1e-12)
+
+
 def test_single_engine_has_no_engine_out_case():
     a = make_aircraft(engine_count=1.0, vmcg_mps=0.0)
     m = _model(a)

@@ -162,6 +162,27 @@ def test_propeller_closed_form_matches_gauss_legendre_in_the_ground_run():
     assert_allclose(closed.time_s, gl.time_s, rtol=1e-9)
 
 
+def test_propeller_batch_mixing_closed_form_and_gauss_legendre_equals_single_cases():
+    # One call with propeller cases on level runways (closed form above the kink) and on a
+    # downhill slope steeper than the friction (friction + slope < 0: Gauss–Legendre) gives
+    # each case what a call with that case alone gives; polynomial cases unchanged beside them.
+    law = thrust.thrust_law(thrust_model=np.array([2, 2, 1, 2, 0, 2]), static_thrust_per_engine_n=40e3,
+                            pressure_pa=c.P0_PA, temperature_k=c.T0_K, engines_operating=2.0, flat_rate_oat_k=303.15,
+                            bypass_ratio=5.0, shaft_power_per_engine_w=1.8e6, propeller_efficiency=0.8)
+    kw = dict(mass_kg=21000.0, wing_area_m2=61.0, density_kg_m3=c.RHO0_KG_M3, cd=0.06, cl=0.4, v_lof_mps=56.0)
+    mu = np.array([0.04, 0.01, 0.03, 0.02, 0.04, 0.05])
+    slope = np.array([0.0, -0.02, 0.01, -0.03, 0.0, 0.01])
+    wind = np.array([0.0, 3.0, -4.0, -2.0, 5.0, -6.0])
+    batch = gr.ground_run_for_thrust_law(law, **kw, mu=mu, slope=slope, headwind_mps=wind)
+    assert np.all(np.isfinite(batch.distance_m))
+    for i in range(6):
+        one = law.take(np.array([i]))
+        single = gr.ground_run_for_thrust_law(one, **kw, mu=mu[i], slope=slope[i], headwind_mps=wind[i])
+        # (to rounding: numpy's vector and scalar paths of log1p, cbrt may differ in the last bit)
+        assert float(single.distance_m[0]) == pytest.approx(float(batch.distance_m[i]), rel=1e-13)
+        assert float(single.time_s[0]) == pytest.approx(float(batch.time_s[i]), rel=1e-13)
+
+
 def test_decelerating_segment_braking_to_rest():
     # Braking from V1 = 70 m/s to rest in a 3 m/s tailwind: closed form (with reverse-flow
     # coefficient below V = 0) against Gauss–Legendre and a hand check at constant deceleration.
