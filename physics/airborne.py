@@ -115,14 +115,16 @@ def airborne_distance_m(*, v_transition_mps, climb_sine, screen_height_m=c.SCREE
     sg = np.asarray(climb_sine, dtype=float)
     h = np.asarray(screen_height_m, dtype=float)
     ok = (sg > 0.0) & (sg < 1.0)
-    sg_safe = np.where(ok, sg, 0.5)
+    all_ok = bool(np.all(ok))
+    sg_safe = sg if all_ok else np.where(ok, sg, 0.5)
     cg = np.sqrt(1.0 - sg_safe * sg_safe)
     h_tr = r * (1.0 - cg)
     inside = h <= h_tr
     s_arc = np.sqrt(np.maximum(h * (2.0 * r - h), 0.0))
     s_climb = r * sg_safe + (h - h_tr) * cg / sg_safe
-    out = np.where(ok, choose(inside, s_arc, s_climb) if np.ndim(inside) == 1 else np.where(inside, s_arc, s_climb),
-                   np.nan)
+    out = choose(inside, s_arc, s_climb) if np.ndim(inside) == 1 else np.where(inside, s_arc, s_climb)
+    if not all_ok:
+        out = np.where(ok, out, np.nan)
     return float(out) if np.ndim(out) == 0 else out
 
 

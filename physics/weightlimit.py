@@ -403,15 +403,15 @@ def all_engines(cases, mass_kg, memo):
     """
     if "all_engines" not in memo:
         a, s = cases.aircraft, cases.site
-        raise_by = 1.0
+        ratios = a.vr_over_vs, a.vlof_over_vs, a.v2_over_vs
         if cases.vmcg_floor:
             sp = enginefailure.scheduled_speeds_mps(a, mass_kg=mass_kg, density_kg_m3=cases.density_kg_m3)
             raise_by = sp.vr_mps / (sp.vs_mps * a.vr_over_vs)
+            ratios = tuple(x * raise_by for x in ratios)
         memo["all_engines"] = fieldlength.all_engines_takeoff(
             thrust_law=cases.thrust_all_engines, mass_kg=mass_kg, wing_area_m2=a.wing_area_m2,
             density_kg_m3=cases.density_kg_m3, cd_ground=cases.cd_ground_roll, cl_ground=a.cl_ground_roll,
-            mu=s.mu_roll, cl_max=a.cl_max_takeoff, vr_over_vs=a.vr_over_vs * raise_by,
-            vlof_over_vs=a.vlof_over_vs * raise_by, v2_over_vs=a.v2_over_vs * raise_by,
+            mu=s.mu_roll, cl_max=a.cl_max_takeoff, vr_over_vs=ratios[0], vlof_over_vs=ratios[1], v2_over_vs=ratios[2],
             cd0_airborne=cases.cd0_takeoff, induced_factor=cases.induced_factor,
             headwind_mps=s.headwind_mps, slope=s.slope, screen_height_m=s.screen_height_m,
             clearway_m=cases.clearway_m, ground_terms=cases.cached("ground_terms_all_engines", _ground_terms))
