@@ -408,6 +408,7 @@ class GroundRegime:
         self.prop = np.nonzero(is_prop)[0]
         # tailwind cases whose segments may cross V = 0 (reverse-flow drag below it)
         self.tail = np.nonzero(w < 0.0)[0]
+        self._forward = None  # groundrun.QuadraticSegments of the V ≥ 0 coefficients, on first use
         if self.prop.size:
             i = self.prop
             a0, _, a2 = self.coeffs
@@ -446,11 +447,13 @@ class GroundRegime:
         a0, a1, a2 = self.coeffs
         v_from = np.broadcast_to(np.asarray(v_from, dtype=float), self.w.shape)
         v_to = np.broadcast_to(np.asarray(v_to, dtype=float), self.w.shape)
-        quad = groundrun.segment_distance_quadratic_m
         c_from, c_to = np.minimum(v_from, self.kink), np.minimum(v_to, self.kink)
+        if self._forward is None:  # roots of a(V) for V ≥ 0, once for every segment of the regime
+            self._forward = groundrun.QuadraticSegments(a0, a1, a2, self.w)
         with np.errstate(invalid="ignore", divide="ignore"):
             # split at V = 0 (reverse-flow drag below it) only where a segment crosses it
-            s = np.array(quad(a0, a1, a2, c_from, c_to, self.w, a2_reverse=self.a2_reverse), dtype=float)
+            s = np.array(groundrun._split_at_zero(a0, a1, a2, self.a2_reverse, c_from, c_to, self.w,
+                                                  forward=self._forward)[0], dtype=float)
         if self.prop.size:
             i = self.prop
             g_from, g_to = np.maximum(v_from[i], self.kink[i]), np.maximum(v_to[i], self.kink[i])
@@ -484,6 +487,7 @@ class GroundRegime:
         sub_prop = is_prop[index]
         new.prop = np.nonzero(sub_prop)[0]
         new.tail = np.nonzero(new.w < 0.0)[0]
+        new._forward = None
         if new.prop.size:
             local = (np.cumsum(is_prop) - 1)[np.asarray(index)[sub_prop]]
             new._p_m, new._a0n, new._a2p = self._p_m[local], self._a0n[local], self._a2p[local]

@@ -180,112 +180,193 @@ def _log1p_ratio(x, log1p_x):
     return ratio
 
 
-def _real_root_integrals(a0, a1, a2, vi, vf, w, dv, disc):
-    """Real-root form of the integrals (distinct roots), written to stay exact as a2 → 0."""
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+class QuadraticSegments:
+    """Closed-form ∫(V − w)/a dV and ∫dV/a between any two airspeeds for a = a0 + a1 V + a2 V²,
+    with everything that does not depend on the airspeeds found once.
+
+    Parameters
+    ----------
+    a0, a1, a2 : array_like
+        Coefficients of a(V) per case, one-dimensional after broadcasting with ``w``.
+        [m/s²], [1/s], [1/m]
+    w : array_like
+        Headwind; ground speed = V − w. [m/s]
+
+    Notes
+    -----
+    The discriminant Δ = a1² − 4 a0 a2 sorts each case into the real-root form or the
+    special forms (complex roots, double root, constant acceleration), and gives the roots
+    and the constants of its form; :meth:`integrals` then evaluates the formulas of
+    :func:`segment_distance_quadratic_m` for the segment's ends only. A caller integrating
+    several segments of one a(V) (the V1 search of :mod:`physics.enginefailure`) builds
+    this once; :func:`_quadratic_integrals` builds it for a single segment.
+
+    References
+    ----------
+    .. [3] Gradshteyn & Ryzhik, 2.172, 2.175. .. [5] Numerical Recipes §5.6.
+    """
+
+    def __init__(self, a0, a1, a2, w):
+        a0, a1, a2, w = (np.atleast_1d(x) for x in np.broadcast_arrays(_f(a0), _f(a1), _f(a2), _f(w)))
+        self.a0, self.a1, self.a2, self.w = a0, a1, a2, w
+        a1sq = a1 * a1
+        four_a0a2 = 4.0 * a0 * a2
+        disc = a1sq - four_a0a2
+        # the real-root form is singular or ill-conditioned here (double root, constant
+        # acceleration), or does not apply (complex roots)
+        special = disc <= 1e-12 * (a1sq + np.abs(four_a0a2))  # includes every disc < 0
+        n_special = int(np.count_nonzero(special))
+        # each form on its own cases: the real-root form on all cases when few need another,
+        # else the special forms on all and the real-root form on the rest (a reverse-flow
+        # segment, with drag adding to the acceleration, has complex roots throughout)
+        self.special_first = n_special > 0.5 * special.size
+        if self.special_first:
+            self.others = np.flatnonzero(~special) if n_special < special.size else None
+            self._special_c = self._special_constants(a0, a1, a2, w, disc)
+            self._real_c = None if self.others is None else self._real_constants(
+                *(x.take(self.others) for x in (a0, a1, a2, w, disc)))
+        else:
+            self.others = np.flatnonzero(special) if n_special else None
+            self._real_c = self._real_constants(a0, a1, a2, w, disc)
+            self._special_c = None if self.others is None else self._special_constants(
+                *(x.take(self.others) for x in (a0, a1, a2, w, disc)))
+
+    @staticmethod
+    def _real_constants(a0, a1, a2, w, disc):
         # a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q, and a2 (r1 − r2) = −sq.
-        sq = np.copysign(np.sqrt(np.maximum(disc, 0.0)), a1)
-        q = -0.5 * (a1 + sq)
-        r2 = a0 / q
-        u = dv / (a2 * vi - q)
-        x1 = a2 * u
-        log1 = np.log1p(x1)
-        term1 = (q - a2 * w) * _log1p_ratio(x1, log1) * u  # (r1 − w) ln((vf − r1)/(vi − r1))
-        log2 = np.log1p(dv / (vi - r2))
-        inv_sq = 1.0 / sq
-        dist = ((r2 - w) * log2 - term1) * inv_sq
-        time = (log2 - log1) * inv_sq
-    return dist, time
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            sq = np.copysign(np.sqrt(np.maximum(disc, 0.0)), a1)
+            q = -0.5 * (a1 + sq)
+            r2 = a0 / q
+            return a2, q, r2, 1.0 / sq, q - a2 * w, r2 - w
 
+    @staticmethod
+    def _special_constants(a0, a1, a2, w, disc):
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+            sd = np.sqrt(np.abs(disc))
+            two_a2 = 2.0 * a2
+            double = np.abs(disc) <= 1e-12 * (a1 * a1 + np.abs(4.0 * a0 * a2))
+            return a0, a1, a2, w, sd, two_a2, 2.0 / sd, two_a2 * w + a1, double
 
-def _special_integrals(a0, a1, a2, vi, vf, w, dv, disc, ai):
-    """The integrals where the real-root form does not apply: complex roots, double root,
-    constant acceleration (the last two only where present)."""
-    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        # complex roots [3] 2.172 (atan difference written with atan2, exact branch)
-        sd = np.sqrt(np.abs(disc))
-        x = (2.0 * a2 * vf + a1) / sd
-        y = (2.0 * a2 * vi + a1) / sd
-        time = 2.0 / sd * np.arctan2(2.0 * a2 * dv / sd, 1.0 + x * y)
-        ln = np.log1p(dv * (a1 + a2 * (vf + vi)) / ai)
-        dist = (ln - (2.0 * a2 * w + a1) * time) / (2.0 * a2)
-    vmax = np.maximum(np.abs(vi), np.abs(vf))
-    const = (np.abs(a1) + np.abs(a2) * vmax) * vmax <= 1e-13 * np.abs(a0)
-    double = (np.abs(disc) <= 1e-12 * (a1 * a1 + np.abs(4.0 * a0 * a2))) & ~const
-    if np.any(double):
+    @staticmethod
+    def _real_root(const, vi, dv):
+        """Real-root form (distinct roots), written to stay exact as a2 → 0."""
+        a2, q, r2, inv_sq, q_w, r2_w = const
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            u = dv / (a2 * vi - q)
+            x1 = a2 * u
+            log1 = np.log1p(x1)
+            term1 = q_w * _log1p_ratio(x1, log1) * u  # (r1 − w) ln((vf − r1)/(vi − r1))
+            log2 = np.log1p(dv / (vi - r2))
+            dist = (r2_w * log2 - term1) * inv_sq
+            time = (log2 - log1) * inv_sq
+        return dist, time
+
+    @staticmethod
+    def _special(const, vi, vf, dv, ai):
+        """Complex roots ([3] 2.172, the atan difference written with atan2, exact branch);
+        double root and constant acceleration only where present."""
+        a0, a1, a2, w, sd, two_a2, two_over_sd, two_a2_w_a1, double = const
         with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            # double root r: a = a2 (V − r)²
-            r = -a1 / (2.0 * a2)
-            inv = 1.0 / (vi - r) - 1.0 / (vf - r)
-            dist = np.where(double, (np.log((vf - r) / (vi - r)) + (r - w) * inv) / a2, dist)
-            time = np.where(double, inv / a2, time)
-    if np.any(const):
-        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            dist = np.where(const, dv * (vf + vi - 2.0 * w) / (2.0 * a0), dist)
-            time = np.where(const, dv / a0, time)
-    return dist, time
+            x = (two_a2 * vf + a1) / sd
+            y = (two_a2 * vi + a1) / sd
+            time = two_over_sd * np.arctan2(two_a2 * dv / sd, 1.0 + x * y)
+            ln = np.log1p(dv * (a1 + a2 * (vf + vi)) / ai)
+            dist = (ln - two_a2_w_a1 * time) / two_a2
+        vmax = np.maximum(np.abs(vi), np.abs(vf))
+        const = (np.abs(a1) + np.abs(a2) * vmax) * vmax <= 1e-13 * np.abs(a0)
+        double = double & ~const
+        if np.any(double):
+            with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+                # double root r: a = a2 (V − r)²
+                r = -a1 / two_a2
+                inv = 1.0 / (vi - r) - 1.0 / (vf - r)
+                dist = np.where(double, (np.log((vf - r) / (vi - r)) + (r - w) * inv) / a2, dist)
+                time = np.where(double, inv / a2, time)
+        if np.any(const):
+            with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+                dist = np.where(const, dv * (vf + vi - 2.0 * w) / (2.0 * a0), dist)
+                time = np.where(const, dv / a0, time)
+        return dist, time
+
+    def integrals(self, vi, vf):
+        """Distance and time from airspeed ``vi`` to ``vf``.
+
+        Parameters
+        ----------
+        vi, vf : array_like
+            True airspeeds at the start and end, broadcastable to the cases. [m/s]
+
+        Returns
+        -------
+        distance, time : numpy.ndarray
+            Ground distance and time, shape (n,); NaN where the acceleration does not have the
+            sign of vf − vi at vi, or vanishes inside the segment. [m], [s]
+
+        Notes
+        -----
+        Feasibility: the acceleration must have the sign of (vf − vi) at vi; a root of a(V)
+        inside the segment then makes one of the logarithms' arguments negative (or zero at
+        an end), which gives NaN (or ±inf) — caught by the final finiteness check. With
+        complex roots a(V) keeps its sign.
+
+        References
+        ----------
+        .. [3] Gradshteyn & Ryzhik, 2.172, 2.175.
+        """
+        a0, a1, a2 = self.a0, self.a1, self.a2
+        vi, vf = (np.broadcast_to(np.atleast_1d(_f(x)), a0.shape) for x in (vi, vf))
+        dv = vf - vi
+        ai = a0 + (a1 + a2 * vi) * vi
+        o = self.others
+        if self.special_first:
+            dist, time = self._special(self._special_c, vi, vf, dv, ai)
+            if o is not None:
+                dist[o], time[o] = self._real_root(self._real_c, vi.take(o), dv.take(o))
+        else:
+            dist, time = self._real_root(self._real_c, vi, dv)
+            if o is not None:
+                dist[o], time[o] = self._special(self._special_c, vi.take(o), vf.take(o), dv.take(o), ai.take(o))
+        # a(vi) with the sign of vf − vi (dv·ai cannot underflow for speeds and accelerations)
+        ok = (dv * ai > 0.0) & np.isfinite(dist)
+        if not ok.all():
+            dist = np.where(ok, dist, np.nan)
+            time = np.where(ok, time, np.nan)
+        zero = dv == 0.0
+        if np.any(zero):
+            dist[zero] = 0.0
+            time[zero] = 0.0
+        return dist, time
 
 
 def _quadratic_integrals(a0, a1, a2, vi, vf, w):
-    """Closed-form ∫(V − w)/a dV and ∫dV/a from vi to vf for a = a0 + a1 V + a2 V².
-
-    Returns (distance, time), NaN where the segment is infeasible. Arrays broadcast.
-
-    Feasibility: the acceleration must have the sign of (vf − vi) at vi; a root of a(V)
-    inside the segment then makes one of the logarithms' arguments negative (or zero at an
-    end), which gives NaN (or ±inf) — caught by the final finiteness check. With complex
-    roots a(V) keeps its sign.
-
-    Each regime's formula is evaluated only on the cases in it: the real-root form on all
-    cases when few need another, else each form on its own cases (a reverse-flow segment,
-    with drag adding to the acceleration, has complex roots throughout).
-    """
+    """Closed-form ∫(V − w)/a dV and ∫dV/a from vi to vf for a = a0 + a1 V + a2 V²
+    (:class:`QuadraticSegments` for one segment). Returns (distance, time), NaN where the
+    segment is infeasible. Arrays broadcast."""
     a0, a1, a2, vi, vf, w = np.broadcast_arrays(_f(a0), _f(a1), _f(a2), _f(vi), _f(vf), _f(w))
     shape = a0.shape
-    a0, a1, a2, vi, vf, w = (np.atleast_1d(x) for x in (a0, a1, a2, vi, vf, w))
-    dv = vf - vi
-    ai = a0 + (a1 + a2 * vi) * vi
-    a1sq = a1 * a1
-    four_a0a2 = 4.0 * a0 * a2
-    disc = a1sq - four_a0a2
-    # the real-root form is singular or ill-conditioned here (double root, constant
-    # acceleration), or does not apply (complex roots)
-    special = disc <= 1e-12 * (a1sq + np.abs(four_a0a2))  # includes every disc < 0
-    n_special = int(np.count_nonzero(special))
-    if n_special > 0.5 * special.size:
-        dist, time = _special_integrals(a0, a1, a2, vi, vf, w, dv, disc, ai)
-        if n_special < special.size:
-            i = np.flatnonzero(~special)
-            dist[i], time[i] = _real_root_integrals(*(x.take(i) for x in (a0, a1, a2, vi, vf, w, dv, disc)))
-    else:
-        dist, time = _real_root_integrals(a0, a1, a2, vi, vf, w, dv, disc)
-        if n_special:
-            i = np.flatnonzero(special)
-            dist[i], time[i] = _special_integrals(*(x.take(i) for x in (a0, a1, a2, vi, vf, w, dv, disc, ai)))
-
-    # a(vi) with the sign of vf − vi (dv·ai cannot underflow for speeds and accelerations)
-    ok = (dv * ai > 0.0) & np.isfinite(dist)
-    if not ok.all():
-        dist = np.where(ok, dist, np.nan)
-        time = np.where(ok, time, np.nan)
-    zero = dv == 0.0
-    if np.any(zero):
-        dist[zero] = 0.0
-        time[zero] = 0.0
+    dist, time = QuadraticSegments(a0, a1, a2, w).integrals(vi, vf)
     return dist.reshape(shape), time.reshape(shape)
 
 
-def _split_at_zero(a0, a1, a2, a2_reverse, va_start, va_end, headwind_mps):
+def _split_at_zero(a0, a1, a2, a2_reverse, va_start, va_end, headwind_mps, forward=None):
     """Closed-form integrals over a segment that may cross V = 0 (reverse flow below 0).
 
     The part at V ≥ 0 runs from max(V_s, 0) to max(V_e, 0), the part at V < 0 from
     min(V_s, 0) to min(V_e, 0); the second is computed only where it is not empty.
+    ``forward``: the :class:`QuadraticSegments` of (a0, a1, a2, headwind) when the caller
+    keeps it for several segments (one-dimensional cases).
     """
     if a2_reverse is None:
+        if forward is not None:
+            return forward.integrals(va_start, va_end)
         return _quadratic_integrals(a0, a1, a2, va_start, va_end, headwind_mps)
     a0, a1, a2, a2r, vi, vf, w = np.broadcast_arrays(*(_f(x) for x in (
         a0, a1, a2, a2_reverse, va_start, va_end, headwind_mps)))
-    s, t = _quadratic_integrals(a0, a1, a2, np.maximum(vi, 0.0), np.maximum(vf, 0.0), w)
+    if forward is not None:
+        s, t = forward.integrals(np.maximum(vi, 0.0), np.maximum(vf, 0.0))
+    else:
+        s, t = _quadratic_integrals(a0, a1, a2, np.maximum(vi, 0.0), np.maximum(vf, 0.0), w)
     rev = np.flatnonzero(np.minimum(vi, vf) < 0.0)  # integer indices: much faster than a mask
     if rev.size:
         shape = np.shape(s)

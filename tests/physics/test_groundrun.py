@@ -183,6 +183,28 @@ def test_propeller_batch_mixing_closed_form_and_gauss_legendre_equals_single_cas
         assert float(single.time_s[0]) == pytest.approx(float(batch.time_s[i]), rel=1e-13)
 
 
+def test_quadratic_segments_kept_for_several_segments_equal_one_off_segments():
+    # QuadraticSegments finds each case's regime and roots once; every segment from it equals
+    # the closed form computed afresh (segment_distance_quadratic_m, checked above against
+    # Gauss–Legendre and solve_ivp), for batches led by real roots and by complex roots, with
+    # accelerating, decelerating and empty segments.
+    rng = np.random.default_rng(3)
+    n = 400
+    a0 = rng.uniform(1.0, 3.0, n)
+    a1 = rng.uniform(-0.02, 0.01, n)
+    for a2 in (-rng.uniform(1e-5, 1e-4, n), np.where(np.arange(n) % 4 == 0, -1e-4, 2e-4)):
+        w = rng.uniform(-5.0, 5.0, n)
+        seg = gr.QuadraticSegments(a0, a1, a2, w)
+        for vi, vf in [(w, np.full(n, 60.0)), (np.full(n, 20.0), np.full(n, 45.0)), (np.full(n, 30.0), np.full(n, 30.0))]:
+            dist, time = seg.integrals(vi, vf)
+            assert np.array_equal(dist, gr.segment_distance_quadratic_m(a0, a1, a2, vi, vf, w), equal_nan=True)
+            assert np.array_equal(time, gr.segment_time_quadratic_s(a0, a1, a2, vi, vf, w), equal_nan=True)
+        braking = gr.QuadraticSegments(-a0, a1, a2, w)  # decelerating from 60 m/s to rest
+        dist, _ = braking.integrals(np.full(n, 60.0), w)
+        assert np.array_equal(dist, gr.segment_distance_quadratic_m(-a0, a1, a2, 60.0, w, w), equal_nan=True)
+        assert np.all(np.isfinite(dist) | (a2 > 0))
+
+
 def test_decelerating_segment_braking_to_rest():
     # Braking from V1 = 70 m/s to rest in a 3 m/s tailwind: closed form (with reverse-flow
     # coefficient below V = 0) against Gauss–Legendre and a hand check at constant deceleration.
