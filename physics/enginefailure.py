@@ -469,7 +469,8 @@ class GroundRegime:
                 c, gl = np.flatnonzero(self._closed), np.flatnonzero(~self._closed)
                 part[c] = groundrun._propeller_power_closed(pm[c], -a2p[c], -a0n[c], g_from[c], g_to[c], w[c],
                                                             self._root)[0]
-                part[gl] = _power_piece_gauss_legendre(pm[gl], a0n[gl], a2p[gl], g_from[gl], g_to[gl], w[gl])
+                part[gl] = groundrun._propeller_power_piece(pm[gl], -a2p[gl], -a0n[gl], g_from[gl], g_to[gl], w[gl],
+                                                            PROPELLER_NODES)[0]
             s[i] += part
         return s
 
@@ -530,33 +531,6 @@ class GroundRegime:
             out = np.array(out, copy=True)
             out[i] = np.where(vi > self.kink[i], above, out[i])
         return out
-
-
-_GL = {}
-
-
-def _power_piece_gauss_legendre(pm, a0n, a2p, g_from, g_to, w):
-    """∫ (V − w)/a dV from g_from to g_to for a = pm/V + a0n + a2p V² (V > 0), by
-    Gauss–Legendre (:data:`PROPELLER_NODES` nodes); NaN where a does not keep the sign of
-    the travel direction at the nodes and ends."""
-    lo, hi = np.minimum(g_from, g_to), np.maximum(g_from, g_to)
-    x, wts = _gl_nodes(PROPELLER_NODES)
-    half = 0.5 * (hi - lo)
-    # nodes on the first axis: the sums over nodes are elementwise over the cases
-    v = 0.5 * (hi + lo) + x[:, None] * half  # (nodes, n)
-    sgn = np.sign(g_to - g_from)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        acc = pm / v + a0n + a2p * v * v
-        ok = ((sgn * acc).min(axis=0) > 0.0) & (sgn * (pm / lo + a0n + a2p * lo * lo) > 0.0) \
-            & (sgn * (pm / hi + a0n + a2p * hi * hi) > 0.0)
-        part = sgn * half * (wts[:, None] * ((v - w) / acc)).sum(axis=0)
-    return np.where(g_to == g_from, 0.0, np.where(ok, part, np.nan))
-
-
-def _gl_nodes(n):
-    if n not in _GL:
-        _GL[n] = np.polynomial.legendre.leggauss(n)
-    return _GL[n]
 
 
 @dataclass(frozen=True)

@@ -622,9 +622,12 @@ def _propeller_power_closed(pm, c2, c0, v0, v1, w, root=None):
 
 
 def _propeller_power_piece(pm, c2, c0, v0, v1, w, nodes):
-    """Gauss–Legendre distance and time for a(V) = pm/V − c2 V² − c0 on [v0, v1], V > 0.
+    """Gauss–Legendre distance and time for a(V) = pm/V − c2 V² − c0 from v0 to v1 (either
+    order, both > 0); NaN where a does not keep the sign of v1 − v0 at the nodes and ends.
 
-    Node-major layout (nodes, cases) so that numpy's inner loops run over the cases.
+    Node-major layout (nodes, cases) so that numpy's inner loops run over the cases. The
+    half-length (v1 − v0)/2 carries the direction, so a decelerating piece (a < 0) gives a
+    positive distance and time too.
     """
     x, wts = _gauss_legendre(nodes)
     half = 0.5 * (v1 - v0)
@@ -643,8 +646,8 @@ def _propeller_power_piece(pm, c2, c0, v0, v1, w, nodes):
         inv = wts[:, None] / a
         time_up = half * inv.sum(axis=0)
         dist_up = half * (v * inv).sum(axis=0) - w * time_up
-    dist = np.where(ok, sgn * dist_up, np.nan)
-    time = np.where(ok, sgn * time_up, np.nan)
+    dist = np.where(ok, dist_up, np.nan)
+    time = np.where(ok, time_up, np.nan)
     zero = v1 == v0
     if np.any(zero):
         dist[zero] = 0.0
@@ -1069,7 +1072,7 @@ def ground_run_from_terms(terms, *, mass_kg, v_lof_mps, headwind_mps=0.0, nodes=
             closed = (c0 > 0.0) & (c2 > 0.0) & (pm > 0.0)
             if closed.all():
                 s2, t2p = _propeller_power_closed(pm, c2, c0, v0, v1, wi)
-                rest = idx[:0]
+                rest = np.empty(0, dtype=np.intp)
             else:
                 jc = np.flatnonzero(closed)
                 s2[jc], t2p[jc] = _propeller_power_closed(pm.take(jc), c2.take(jc), c0.take(jc), v0.take(jc),

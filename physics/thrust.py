@@ -335,9 +335,9 @@ def thrust_law(*, thrust_model, static_thrust_per_engine_n, pressure_pa, tempera
     # the model masks random, where np.where is slow), on the cases flattened
     shape = model.shape
     if model.ndim != 1:
-        model, t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat, is_turbofan, is_prop = (
-            np.ravel(x) for x in (model, t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat,
-                                  is_turbofan, is_prop))
+        t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat, is_turbofan, is_prop = (
+            np.ravel(x) for x in (t_static, p, temp, t1, t2, bpr, power, eta, scale, delta, f_flat, is_turbofan,
+                                  is_prop))
     t0 = t_static * delta * f_flat  # quadratic
     t1_out, t2_out = t1.copy(), t2.copy()
     p_eta = np.zeros_like(t0)
