@@ -306,9 +306,10 @@ def wind_rose_points(direction_deg, sector_width_deg, speed_low_mps, speed_high_
     dirs = (c[..., :, None, None] + w[..., :, None, None] * di[:, None]) % 360.0
     spd = lo[..., :, None, None] + (hi - lo)[..., :, None, None] * sk[None, :]
     shape = np.broadcast_shapes(dirs.shape, spd.shape)
-    dirs = np.broadcast_to(dirs, shape).reshape(shape[:-3] + (-1,))
-    spd = np.broadcast_to(spd, shape).reshape(shape[:-3] + (-1,))
-    wgt = np.broadcast_to(f[..., :, None, None] / (nd * ns), shape).reshape(shape[:-3] + (-1,))
+    flat = shape[:-3] + (shape[-3] * nd * ns,)  # explicit: -1 cannot be inferred for no groups
+    dirs = np.broadcast_to(dirs, shape).reshape(flat)
+    spd = np.broadcast_to(spd, shape).reshape(flat)
+    wgt = np.broadcast_to(f[..., :, None, None] / (nd * ns), shape).reshape(flat)
     total = calm + f.sum(axis=-1)
     total = np.where(total > 0.0, total, 1.0)
     zero = np.zeros(shape[:-3] + (1,))
@@ -942,7 +943,7 @@ def _share(f, scores, weight, m):
     # A levels axis after the groups; per-group scores (N, G) line up with (N, L, J, G).
     seg = (f[:, None], z if z.ndim == 1 else z[:, None, None, :], inv[:, None])
     m = np.asarray(m, dtype=float)
-    zj = _crossing_score(seg, m.reshape(m.shape[0], -1)[:, :, None])
+    zj = _crossing_score(seg, m.reshape(m.shape[0], math.prod(m.shape[1:]))[:, :, None])
     s = np.sum(weight[:, None, :] * special.ndtr(zj), axis=-1, dtype=float)
     if m.ndim == 1:
         return s[:, 0], zj[:, 0]

@@ -797,7 +797,7 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
     v1 = np.broadcast_to(v1, w.shape).astype(float)
     multi = model.multi_engine
     count = np.broadcast_to(np.asarray(iterations), w.shape)
-    total = max(int(np.max(count)), 1)
+    total = max(int(np.max(count, initial=0)), 1)  # initial: an empty batch has no maximum
     s_oei = np.full(w.shape, np.nan)
     s_stop = np.full(w.shape, np.nan)
     idx, oo, sa = None, model.one_out, model.stop_all

@@ -11,6 +11,8 @@ name                      code  meaning
 ``tailwind_limit``        5     reported tailwind above the type's limit
 ``crosswind_limit``       6     reported crosswind above the type's limit
 ``no_takeoff``            7     a requirement fails even at OEW (no mass is possible)
+``invalid_input``         8     the case is outside the model's input contract
+                                (``physics.caseinput``: NaN, OEW > MTOW, TODA < TORA, …)
 ========================  ====  ===========================================================
 
 Codes are stable: new factors are appended, never renumbered.
@@ -33,6 +35,7 @@ FACTORS = (
     "tailwind_limit",
     "crosswind_limit",
     "no_takeoff",
+    "invalid_input",
 )
 
 _CODE = {n: i for i, n in enumerate(FACTORS)}

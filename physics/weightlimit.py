@@ -53,6 +53,7 @@ import numpy as np
 
 from physics import aerodynamics as aero
 from physics import atmosphere
+from physics import caseinput
 from physics import climb
 from physics import constants as const
 from physics import enginefailure
@@ -627,6 +628,10 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
     evaluations more than bisection's ceil(log2((MTOW − OEW)/tol)).
     Wet never better than dry: limit_wet = min(limit with the wet friction and 15 ft screen,
     limit on the same runway dry with a 35 ft screen), figures of the lower.
+    A case outside the input contract (:func:`physics.caseinput.refusal_codes`: a NaN or
+    infinite value, OEW > MTOW, TODA < TORA, a reported tailwind above the type's limit, …)
+    gets NaN everywhere and the reason as its factor (``invalid_input``, ``tailwind_limit``);
+    it never stops the others. An empty batch gives empty arrays.
 
     References
     ----------
@@ -637,6 +642,29 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
             raise ValueError(f"unknown rules {rules!r}; expected one of {sorted(RULES)}")
         requirements = REQUIREMENTS if rules == "transport" else RULES[rules]
     reqs = list(requirements)
+    n = case_count(aircraft, site)
+    refused = caseinput.refusal_codes(aircraft, site, n)
+    keep = np.flatnonzero(refused < 0)
+    if keep.size == n:
+        return _solve_accepted(aircraft, site, tol_kg, reqs, figures)
+    # cases outside the input contract: NaN and their reason; the others solved as a batch
+    out = {f.name: np.full(n, np.nan) for f in fields(WeightLimit)}
+    out["limiting_factor"] = refused
+    if keep.size:
+        solved = _solve_accepted(_gather(aircraft, keep, n), _gather(site, keep, n), tol_kg, reqs, figures)
+        for f in fields(WeightLimit):
+            out[f.name][keep] = getattr(solved, f.name)
+    return WeightLimit(**out)
+
+
+def _gather(obj, index, n):
+    """``obj`` (an :class:`Aircraft` or :class:`Site`) with every field at ``index`` of n."""
+    return type(obj)(**{f.name: np.broadcast_to(np.asarray(getattr(obj, f.name), dtype=float), (n,))[index]
+                        for f in fields(obj)})
+
+
+def _solve_accepted(aircraft, site, tol_kg, reqs, figures):
+    """:func:`solve_takeoff_weight` for cases inside the input contract."""
     result = _solve(aircraft, site, tol_kg, reqs, figures)
     dry_roll = np.asarray(site.mu_roll_dry if site.mu_roll_dry is not None else np.nan, dtype=float)
     dry_brake = np.asarray(site.mu_brake_dry if site.mu_brake_dry is not None else np.nan, dtype=float)

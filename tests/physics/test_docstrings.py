@@ -8,7 +8,7 @@ import re
 import pytest
 
 CORE = ["constants", "atmosphere", "wind", "friction", "aerodynamics", "thrust", "groundrun", "airborne",
-        "fieldlength", "limits", "weightlimit", "select"]
+        "fieldlength", "limits", "weightlimit", "select", "caseinput"]
 # Small non-physics helpers (bookkeeping, no formula) are exempt from Notes/References.
 EXEMPT = {"case_count"}
 
