@@ -109,6 +109,13 @@ class Aircraft:
     cruise_tsfc_kg_per_n_s: np.ndarray
     cruise_psfc_kg_per_w_s: np.ndarray
     taxi_fuel_kg: np.ndarray
+    # the takeoff event sequence (physics.takeoffevents); these defaults give the idealised
+    # sequence (failure recognised at V1, every stop action at V1, VLOF from its ratio)
+    engine_failure_recognition_s: np.ndarray = 0.0
+    stop_action_interval_s: np.ndarray = 0.0
+    rotation_pitch_deg: np.ndarray = 0.0
+    rotation_rate_deg_per_s: np.ndarray = 3.0
+    lineup_allowance_m: np.ndarray = 0.0
 
 
 @dataclass(frozen=True)

@@ -38,6 +38,8 @@ AIRCRAFT_FIELDS: tuple[str, ...] = (
     "idle_thrust_fraction", "tailwind_limit_mps", "crosswind_limit_mps",
     "cruise_tas_mps", "cruise_lift_to_drag", "cruise_tsfc_kg_per_n_s",
     "cruise_psfc_kg_per_w_s", "taxi_fuel_kg",
+    "engine_failure_recognition_s", "stop_action_interval_s", "rotation_pitch_deg",
+    "rotation_rate_deg_per_s", "lineup_allowance_m",
 )
 
 

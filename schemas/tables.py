@@ -400,6 +400,27 @@ AIRCRAFT_TYPES = TableSpec(
            typical="2 … 1 000"),
         _c("max_passengers", "int", "–", True, "Seats (for passenger payload).",
            min=0, max=900),
+        # the takeoff event sequence (14 CFR 25.107, 25.109, 25.111; delays: common
+        # flight-test practice); 0 everywhere gives the idealised sequence of earlier versions
+        _c("engine_failure_recognition_s", "float", "s", False,
+           "Time from the engine failure (V_EF) to the crew's first action (V1), accelerating "
+           "on the remaining engines; 0 = failure recognised at V1.",
+           min=0, max=5, default=1.0, typical="1"),
+        _c("stop_action_interval_s", "float", "s", False,
+           "Time between the stop actions after V1 (brakes, then thrust to idle, then lift "
+           "dumpers); thrust spools down to idle over the interval after the idle command; "
+           "0 = all at V1.",
+           min=0, max=5, default=1.0, typical="1"),
+        _c("rotation_pitch_deg", "float", "deg", False,
+           "Pitch attitude gained from the ground roll to lift-off; with the rotation rate it "
+           "sets the rotation time, and VLOF is at least VR plus the speed gained in it; "
+           "0 = VLOF from the speed ratio alone.",
+           min=0, max=20, default=8.0, typical="7 … 10"),
+        _c("rotation_rate_deg_per_s", "float", "deg/s", False,
+           "Pitch rate of the rotation.", min=0.5, max=10, default=3.0, typical="2 … 4"),
+        _c("lineup_allowance_m", "float", "m", False,
+           "Runway used to line up, subtracted from TORA, TODA and ASDA.",
+           min=0, max=500, default=0.0, typical="0 … 60"),
     ),
     key=("aircraft_type_id",),
     rules=(
