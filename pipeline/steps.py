@@ -249,7 +249,7 @@ def register(prepared: PreparedRun) -> int:
         reused_from_run_id=prepared.reuse.from_run_id if prepared.reuse else None,
         reuse_key=prepared.reuse_key,
     )
-    return store.register_run(prepared.db_path, record)
+    return store.register_run(prepared.db_path, record, heartbeat=True)  # until cleanup
 
 
 def work_dir(prepared: PreparedRun, run_id: int) -> Path:
@@ -417,7 +417,8 @@ def fail(prepared: PreparedRun, run_id: int, exc: BaseException) -> None:
 
 
 def cleanup(prepared: PreparedRun, run_id: int) -> None:
-    """Remove the run's work folder (and the work root if it is empty)."""
+    """Stop the run's heartbeat; remove its work folder (and the work root if it is empty)."""
+    store.stop_heartbeat(prepared.db_path, run_id)
     shutil.rmtree(work_dir(prepared, run_id), ignore_errors=True)
     try:
         prepared.work_root.rmdir()

@@ -19,6 +19,16 @@ process can open it, not even read-only. So the writer connects only for short m
 (register a run; load its results in one transaction; record a failure) and readers open
 read-only, retry for a few seconds and then raise :class:`~pipeline.errors.StoreBusy` with
 a plain message.
+
+Live or dead: a run is ``running`` from its registration until its load or its failure is
+recorded; a process that is killed records neither. The run row keeps the host and process
+id, and a run started with ``heartbeat=True`` (every ``fieldlimits run``) keeps a small JSON
+file ``<db>.heartbeat/run-NNNNNN.json`` beside the database, rewritten every
+:data:`HEARTBEAT_EVERY_S` seconds by a thread of the run's process (no database lock), with
+the process start time and the machine's boot id. :func:`run_liveness` tells live from dead
+with them (same machine: the process id and its start time; another machine: the heartbeat's
+age against :data:`HEARTBEAT_STALE_S`), read-only; the next :func:`register_run` records
+dead runs as ``interrupted``.
 """
 
 from __future__ import annotations
@@ -28,10 +38,11 @@ import json
 import os
 import re
 import socket
+import threading
 import time
 from contextlib import contextmanager
 from dataclasses import dataclass, field
-from datetime import datetime, timezone
+from datetime import datetime, timedelta, timezone
 from pathlib import Path
 from typing import Iterator, Sequence
 
@@ -182,35 +193,253 @@ class RunRecord:
     started_at: datetime = field(default_factory=utcnow)
 
 
+# --------------------------------------------------------------------------- live or dead
+#: A running process rewrites its heartbeat file this often [s].
+HEARTBEAT_EVERY_S = 5.0
+#: A heartbeat older than this [s] means a run started on another machine is presumed dead
+#: (twelve missed beats; the machines' clocks must agree to well within it).
+HEARTBEAT_STALE_S = 60.0
+
+LIVE, DEAD, PRESUMED_DEAD, UNKNOWN = "live", "dead", "presumed dead", "unknown"
+
+
+@dataclass(frozen=True)
+class Liveness:
+    """Whether the process of a ``running`` run still works on it, and why we think so."""
+
+    state: str  # LIVE, DEAD, PRESUMED_DEAD or UNKNOWN
+    reason: str
+    heartbeat_age_s: float | None = None  # seconds since the last heartbeat (None: no file)
+
+    @property
+    def dead(self) -> bool:
+        """Dead or presumed dead: the next run records it as interrupted."""
+        return self.state in (DEAD, PRESUMED_DEAD)
+
+
+def heartbeat_dir(db_path: str | os.PathLike) -> Path:
+    """The folder of heartbeat files beside the database: ``<db>.heartbeat``."""
+    path = Path(db_path)
+    return path.with_name(path.name + ".heartbeat")
+
+
+def heartbeat_path(db_path: str | os.PathLike, run_id: int) -> Path:
+    return heartbeat_dir(db_path) / f"run-{int(run_id):06d}.json"
+
+
+def _boot_id() -> str | None:
+    """This machine's boot id (Linux); changes at every restart."""
+    try:
+        return Path("/proc/sys/kernel/random/boot_id").read_text().strip() or None
+    except OSError:
+        return None
+
+
+def _proc_stat(pid: int) -> tuple[str, int] | None:
+    """State letter and start time [clock ticks since boot] of a process from
+    ``/proc/<pid>/stat`` (fields 3 and 22; proc(5)), or None without /proc or such a process."""
+    try:
+        text = Path(f"/proc/{int(pid)}/stat").read_text()
+    except (OSError, ValueError):
+        return None
+    fields = text[text.rfind(")") + 2:].split()  # the command name may hold spaces and ')'
+    try:
+        return fields[0], int(fields[19])
+    except (IndexError, ValueError):
+        return None
+
+
 def _process_alive(pid: int) -> bool:
+    if pid <= 0:  # kill(0 or -n) would signal a process group, not a process
+        return False
     try:
         os.kill(pid, 0)
     except ProcessLookupError:
         return False
     except PermissionError:
         return True
-    return True
+    except (OverflowError, ValueError):  # not a process id this system can have
+        return False
+    stat = _proc_stat(pid)
+    return not (stat and stat[0] == "Z")  # a zombie has ended; only its exit status is left
 
 
-def _mark_interrupted(con: duckdb.DuckDBPyConnection) -> list[int]:
-    """Runs left 'running' by a process on this host that no longer exists → interrupted."""
-    host = socket.gethostname()
-    gone = [
-        run_id
-        for run_id, run_host, pid in con.execute(sql("running_runs")).fetchall()
-        if run_host == host and pid is not None and pid != os.getpid() and not _process_alive(int(pid))
-    ]
-    for run_id in gone:
-        run_sql(con, sql("mark_interrupted"), {"run_id": run_id, "finished_at": utcnow()})
+class _Heartbeat:
+    """A daemon thread rewriting one run's heartbeat file (atomically) until stopped."""
+
+    def __init__(self, path: Path, payload: dict, every_s: float):
+        self.path, self.payload, self.every_s = path, payload, every_s
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._loop, name=f"fieldlimits-heartbeat-{path.stem}",
+                                        daemon=True)
+
+    def beat(self) -> None:
+        self.path.parent.mkdir(exist_ok=True)
+        tmp = self.path.with_name(f".{self.path.name}.tmp")
+        tmp.write_text(json.dumps({**self.payload, "beat_at": time.time()}))
+        os.replace(tmp, self.path)
+
+    def _loop(self) -> None:
+        while not self._stop.wait(self.every_s):
+            try:
+                self.beat()
+            except OSError:  # a full disk or a removed folder must not stop the run
+                pass
+
+    def start(self) -> None:
+        try:
+            self.beat()
+        except OSError:  # the thread tries again; the run must not fail for its heartbeat
+            pass
+        self._thread.start()
+
+    def stop(self) -> None:
+        self._stop.set()
+        if self._thread.is_alive():
+            self._thread.join(timeout=2 * self.every_s)
+        _remove_heartbeat(self.path)
+
+
+_HEARTBEATS: dict[tuple[str, int], _Heartbeat] = {}
+_HEARTBEATS_LOCK = threading.Lock()
+
+
+def _remove_heartbeat(path: Path) -> None:
+    try:
+        path.unlink(missing_ok=True)
+        path.parent.rmdir()  # only when no other run's file is left
+    except OSError:
+        pass
+
+
+def _start_heartbeat(db_path, run_id: int, started_at: datetime) -> None:
+    stat = _proc_stat(os.getpid())
+    beat = _Heartbeat(heartbeat_path(db_path, run_id), {
+        "run_id": int(run_id), "host": socket.gethostname(), "pid": os.getpid(),
+        "boot_id": _boot_id(), "process_started": stat[1] if stat else None,
+        "started_at": started_at.isoformat(), "beat_every_s": HEARTBEAT_EVERY_S,
+        "database": str(Path(db_path).resolve())}, HEARTBEAT_EVERY_S)
+    beat.start()
+    with _HEARTBEATS_LOCK:
+        _HEARTBEATS[(str(Path(db_path).resolve()), int(run_id))] = beat
+
+
+def stop_heartbeat(db_path: str | os.PathLike, run_id: int) -> None:
+    """Stop this process's heartbeat of a run and remove its file (no-op if there is none)."""
+    with _HEARTBEATS_LOCK:
+        beat = _HEARTBEATS.pop((str(Path(db_path).resolve()), int(run_id)), None)
+    if beat is not None:
+        beat.stop()
+
+
+def read_heartbeat(db_path: str | os.PathLike, run_id: int) -> dict | None:
+    """The run's heartbeat record, or None when there is no readable file for that run."""
+    try:
+        beat = json.loads(heartbeat_path(db_path, run_id).read_text())
+    except (OSError, ValueError):
+        return None
+    if not isinstance(beat, dict) or beat.get("run_id") != int(run_id):
+        return None
+    return beat
+
+
+def run_liveness(host: str | None, pid: int | None, beat: dict | None,
+                 now: float | None = None) -> Liveness:
+    """Live or dead, for a run still marked ``running`` (reads /proc and the clock, writes nothing).
+
+    Same machine (``host`` is this host name and the heartbeat, if any, has this boot id):
+    dead when process ``pid`` has ended or is a zombie, or when that process id now belongs to
+    a process started at another time than the recorded one (process ids are reused), or when
+    the machine has restarted since the run started; otherwise live. Another machine, or no
+    host or process id: live while the heartbeat is at most :data:`HEARTBEAT_STALE_S` old,
+    presumed dead after that, unknown without a heartbeat file.
+
+    Parameters
+    ----------
+    host, pid
+        ``runs.host`` and ``runs.pid`` of the run.
+    beat
+        :func:`read_heartbeat` of the run (None: no file).
+    now
+        Current time [s since 1970, UTC]; ``time.time()`` by default.
+    """
+    now = time.time() if now is None else now
+    if beat is not None and (beat.get("host") != host or beat.get("pid") != pid):
+        beat = None  # a file of some other process: no evidence about this run
+    age = None
+    if beat is not None and isinstance(beat.get("beat_at"), (int, float)):
+        age = max(0.0, now - float(beat["beat_at"]))
+    if host is not None and host == socket.gethostname() and pid is not None:
+        return _same_host_liveness(host, int(pid), beat, age)
+    where = f"on {host}" if host else "on an unrecorded machine"
+    if age is None:
+        return Liveness(UNKNOWN, f"started {where}, which this machine cannot check, and it has no "
+                                 f"heartbeat file: cannot tell whether it is still working")
+    if age > HEARTBEAT_STALE_S:
+        return Liveness(PRESUMED_DEAD, f"started {where} (process {pid}); no heartbeat for "
+                                       f"{age:.0f} s (more than {HEARTBEAT_STALE_S:.0f} s)", age)
+    return Liveness(LIVE, f"started {where} (process {pid}); last heartbeat {age:.0f} s ago", age)
+
+
+def _same_host_liveness(host: str, pid: int, beat: dict | None, age: float | None) -> Liveness:
+    boot = _boot_id()
+    if beat is not None and beat.get("boot_id") and boot and beat["boot_id"] != boot:
+        return Liveness(DEAD, f"this machine ({host}) has restarted since the run started", age)
+    if not _process_alive(pid):
+        return Liveness(DEAD, f"process {pid} on this machine ({host}) has ended", age)
+    stat = _proc_stat(pid)
+    recorded = beat.get("process_started") if beat is not None else None
+    if recorded is not None and stat is not None and stat[1] != recorded:
+        return Liveness(DEAD, f"process {pid} on this machine ({host}) has ended; its process id "
+                              f"now belongs to a process started at another time", age)
+    how = "process id and start time" if recorded is not None and stat is not None else "process id only"
+    since = f"; last heartbeat {age:.0f} s ago" if age is not None else ""
+    return Liveness(LIVE, f"process {pid} on this machine ({host}) is running ({how}){since}", age)
+
+
+def _mark_interrupted(con: duckdb.DuckDBPyConnection, db_path) -> list[int]:
+    """Runs left 'running' by a dead process (:func:`run_liveness`) → interrupted.
+
+    A run of this very process is live (same process id and start time), so it is left
+    alone.
+    """
+    gone = []
+    for run_id, run_host, pid in con.execute(sql("running_runs")).fetchall():
+        state = run_liveness(run_host, pid, read_heartbeat(db_path, run_id))
+        if state.dead:
+            gone.append(int(run_id))
+            seen = state.heartbeat_age_s  # finish time: its last sign of life, when known
+            run_sql(con, sql("mark_interrupted"), {
+                "run_id": run_id, "finished_at": utcnow() - timedelta(seconds=seen or 0.0),
+                "error": f"the run's process ended before it finished (killed or crashed): {state.reason}"
+                         + ("; finish time = its last heartbeat" if seen is not None else "")})
     return gone
 
 
-def register_run(db_path: str | os.PathLike, record: RunRecord) -> int:
-    """Record a new run as ``running`` (short write) and return its run_id."""
+def _tidy_heartbeats(con: duckdb.DuckDBPyConnection, db_path) -> None:
+    """Remove the heartbeat files of runs no longer ``running`` (left by killed processes)."""
+    folder = heartbeat_dir(db_path)
+    if not folder.is_dir():
+        return
+    running = {int(r[0]) for r in con.execute(sql("running_runs")).fetchall()}
+    for path in folder.glob("run-*.json"):
+        number = path.stem.removeprefix("run-")
+        if number.isdigit() and int(number) not in running:
+            _remove_heartbeat(path)
+
+
+def register_run(db_path: str | os.PathLike, record: RunRecord, heartbeat: bool = False) -> int:
+    """Record a new run as ``running`` (short write) and return its run_id.
+
+    Earlier runs whose process is dead are recorded as ``interrupted`` first. With
+    ``heartbeat`` this process keeps the run's heartbeat file fresh until
+    :func:`stop_heartbeat` (written before the writer lets readers in, so a reader never sees
+    the run without it).
+    """
     with writer(db_path) as con:
         run_sql(con, "BEGIN")
         try:
-            _mark_interrupted(con)
+            _mark_interrupted(con, db_path)
             run_id = int(con.execute(sql("next_run_id")).fetchall()[0][0])
             run_sql(con, sql("insert_run"), {
                 "run_id": run_id,
@@ -234,6 +463,9 @@ def register_run(db_path: str | os.PathLike, record: RunRecord) -> int:
         except Exception:
             run_sql(con, "ROLLBACK")
             raise
+        _tidy_heartbeats(con, db_path)
+        if heartbeat:
+            _start_heartbeat(db_path, run_id, record.started_at)
     return run_id
 
 
@@ -479,6 +711,56 @@ def pa_count_design(table) -> int:
     import pyarrow.compute as pc
 
     return pc.sum(pc.equal(table.column("basis"), "design_day")).as_py() or 0
+
+
+# --------------------------------------------------------------------------- run list
+def list_runs(db_path: str | os.PathLike, limit: int | None = 20, wait_s: float | None = None) -> pd.DataFrame:
+    """The most recent runs, newest first, with the liveness of those still ``running``.
+
+    Read-only (``list_runs.sql`` plus the process table and heartbeat files). Adds
+    ``state`` (the status, or for a running run ``live``, ``dead``, ``presumed dead`` or
+    ``unknown``), ``state_reason`` and ``heartbeat_age_s`` [s]; ``duration_s`` of a running
+    run is the time since it started (live or unknown) or until its last heartbeat (dead).
+    """
+    with reader(db_path, READER_WAIT_S if wait_s is None else wait_s) as con:
+        frame = con.execute(sql("list_runs"), {"limit": limit}).df()
+    now, now_utc = time.time(), utcnow()
+    states, reasons, ages = [], [], []
+    for i, row in enumerate(frame.itertuples(index=False)):
+        if row.status != "running":
+            states.append(row.status)
+            reasons.append(None)
+            ages.append(None)
+            continue
+        pid = None if pd.isna(row.pid) else int(row.pid)
+        host = None if pd.isna(row.host) else row.host
+        beat = read_heartbeat(db_path, row.run_id)
+        state = run_liveness(host, pid, beat, now)
+        states.append(state.state)
+        reasons.append(state.reason)
+        ages.append(state.heartbeat_age_s)
+        started = row.started_at.to_pydatetime()
+        if not state.dead:
+            frame.loc[i, "duration_s"] = (now_utc - started).total_seconds()
+        elif state.heartbeat_age_s is not None:
+            last = datetime.fromtimestamp(float(beat["beat_at"]), timezone.utc).replace(tzinfo=None)
+            frame.loc[i, "duration_s"] = max(0.0, (last - started).total_seconds())
+    frame["state"] = states
+    frame["state_reason"] = reasons
+    frame["heartbeat_age_s"] = pd.array(ages, dtype="Float64")
+    return frame
+
+
+def heartbeat_runs(db_path: str | os.PathLike) -> list[tuple[dict, Liveness]]:
+    """Runs known from their heartbeat files alone (when the database is busy), by run id."""
+    found = []
+    folder = heartbeat_dir(db_path)
+    for path in sorted(folder.glob("run-*.json")) if folder.is_dir() else ():
+        number = path.stem.removeprefix("run-")
+        beat = read_heartbeat(db_path, int(number)) if number.isdigit() else None
+        if beat is not None:
+            found.append((beat, run_liveness(beat.get("host"), beat.get("pid"), beat)))
+    return found
 
 
 def run_summary(db_path: str | os.PathLike, run_id: int) -> pd.DataFrame:

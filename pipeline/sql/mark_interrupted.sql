@@ -1,5 +1,4 @@
--- mark_interrupted: a run whose process has ended without finishing.
+-- mark_interrupted: a run whose process has ended without finishing ($error says how we know).
 UPDATE runs
-SET status = 'interrupted', finished_at = $finished_at,
-    error = 'the run''s process ended before it finished (killed or crashed)'
+SET status = 'interrupted', finished_at = $finished_at, error = $error
 WHERE run_id = $run_id AND status = 'running';
