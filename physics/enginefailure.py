@@ -58,10 +58,12 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 
 from physics import constants as c
+from physics import takeoffevents
 
 #: Distance allowance of 14 CFR 25.109(a): 2 s at V1 after the stop is begun. [s]
 STOP_DELAY_S = 2.0
@@ -552,6 +554,45 @@ class EngineFailureModel:
     stop_one_out: GroundRegime
     v1_min_mps: np.ndarray
     v1_max_mps: np.ndarray
+    #: The timed event sequence (None: idealised). ``v1_min_mps``/``v1_max_mps`` then bound
+    #: the engine-failure speed V_EF, and V1 follows one recognition interval later.
+    events: "StopEvents" = None
+
+
+@dataclass(frozen=True)
+class StopEvents:
+    """The timed parts of the engine-failure cases at one trial mass (arrays over cases).
+
+    ``recognition_s`` (V_EF → V1), ``action_interval_s`` (between the stop actions), and the
+    braking regimes before the lift dumpers are in (None where no action interval is set).
+    """
+
+    recognition_s: np.ndarray
+    action_interval_s: np.ndarray
+    brake_all_takeoff: GroundRegime = None
+    brake_all_idle: GroundRegime = None
+    brake_one_out_takeoff: GroundRegime = None
+    brake_one_out_idle: GroundRegime = None
+
+    def take(self, index):
+        """The events of the cases at ``index`` (integer array)."""
+        return StopEvents(*(None if v is None else (v.take(index) if isinstance(v, GroundRegime)
+                                                    else np.asarray(v)[index])
+                            for v in (getattr(self, f.name) for f in dataclasses.fields(self))))
+
+    def actions(self, v1_mps, headwind_mps, engine_failure):
+        """Speed when the lift dumpers are in and the distance from V1 to there.
+
+        ``engine_failure``: the failed engine's case (N − 1 engines) or all engines.
+        """
+        if self.brake_all_takeoff is None:
+            v1 = np.asarray(v1_mps, dtype=float)
+            return v1, np.zeros(v1.shape)
+        take, idle = ((self.brake_one_out_takeoff, self.brake_one_out_idle) if engine_failure
+                      else (self.brake_all_takeoff, self.brake_all_idle))
+        return takeoffevents.stop_actions(v1_mps, interval_s=self.action_interval_s,
+                                          accel_takeoff_thrust_fn=take.acceleration, accel_idle_fn=idle.acceleration,
+                                          headwind_mps=headwind_mps)
 
 
 @dataclass(frozen=True)
@@ -583,6 +624,16 @@ class EngineFailureSetup:
     mu_brake: np.ndarray
     headwind_mps: np.ndarray
     regime_terms: dict
+    recognition_s: np.ndarray = None
+    action_interval_s: np.ndarray = None
+    rotation_s: np.ndarray = None
+
+    @property
+    def timed_events(self):
+        """True where any case has a recognition, action or rotation time (the event sequence
+        of :mod:`physics.takeoffevents`; False: the idealised sequence)."""
+        return any(x is not None and np.any(x > 0.0) for x in (self.recognition_s, self.action_interval_s,
+                                                                self.rotation_s))
 
     def take_cases(self, index):
         """The setup of the cases at ``index`` (integer array), gathered, not recomputed."""
@@ -596,6 +647,8 @@ class EngineFailureSetup:
                 v = {k: type(t)(t.law.take(index), *(np.asarray(x)[index] for x in t[1:])) for k, t in v.items()}
             elif f.name.startswith("law_"):
                 v = v.take(index)
+            elif v is None:
+                pass
             else:
                 v = np.asarray(v)[index]
             vals[f.name] = v
@@ -663,10 +716,20 @@ def engine_failure_setup(aircraft, site, shape=()):
                "one_out": terms(laws[1], cd_roll + eo, cl_roll, mu_roll),
                "stop_all": terms(laws[2], cd_brake, cl_brake, mu_brake),
                "stop_one_out": terms(laws[3], cd_brake + eo, cl_brake, mu_brake)}
+    times = [b(getattr(a, name, 0.0)) for name in ("engine_failure_recognition_s", "stop_action_interval_s")]
+    times[0] = np.where(multi, times[0], 0.0)  # no engine failure to recognise on a single
+    times.append(b(takeoffevents.rotation_time_s(getattr(a, "rotation_pitch_deg", 0.0),
+                                                  getattr(a, "rotation_rate_deg_per_s", 3.0))))
+    if np.any(times[1] > 0.0):
+        # braking before the lift dumpers are in: takeoff power first, then idle (14 CFR 25.109)
+        regimes.update({"brake_all_takeoff": terms(laws[0], cd_roll, cl_roll, mu_brake),
+                        "brake_all_idle": terms(laws[2], cd_roll, cl_roll, mu_brake),
+                        "brake_one_out_takeoff": terms(laws[1], cd_roll + eo, cl_roll, mu_brake),
+                        "brake_one_out_idle": terms(laws[3], cd_roll + eo, cl_roll, mu_brake)})
     return EngineFailureSetup(
         n, rho_b, multi, *laws,
         cd_roll, cd_roll + eo, cd_brake, cd_brake + eo, cd0 + eo, k, cl_roll, cl_brake,
-        area, slope, mu_roll, mu_brake, b(s.headwind_mps), regimes)
+        area, slope, mu_roll, mu_brake, b(s.headwind_mps), regimes, *times)
 
 
 def engine_failure_model(aircraft, site, mass_kg, setup=None):
@@ -711,11 +774,28 @@ def engine_failure_model(aircraft, site, mass_kg, setup=None):
     one_out = GroundRegime(su.law_one_out, cd=su.cd_roll_one_out, **roll, terms=t["one_out"])
     stop_all = GroundRegime(su.law_idle_all, cd=su.cd_brake, **brake, terms=t["stop_all"])
     stop_one_out = GroundRegime(su.law_idle_one_out, cd=su.cd_brake_one_out, **brake, terms=t["stop_one_out"])
+    events = None
+    if su.timed_events:
+        if np.any(su.rotation_s > 0.0):  # lift-off after the rotation, one engine out
+            vlof = takeoffevents.rotation_liftoff_speed_mps(speeds.vr_mps, speeds.vlof_mps,
+                                                             one_out.acceleration(speeds.vr_mps), su.rotation_s)
+            speeds = dataclasses.replace(speeds, vlof_mps=vlof)
+        braking = {}
+        if "brake_all_takeoff" in t:
+            braking = {k: GroundRegime(law, cd=cd, **brake, terms=t[k]) for k, law, cd in (
+                ("brake_all_takeoff", su.law_all, su.cd_roll), ("brake_all_idle", su.law_idle_all, su.cd_roll),
+                ("brake_one_out_takeoff", su.law_one_out, su.cd_roll_one_out),
+                ("brake_one_out_idle", su.law_idle_one_out, su.cd_roll_one_out))}
+        events = StopEvents(su.recognition_s, su.action_interval_s, **braking)
     lo = np.maximum(speeds.vmcg_mps, w)
     hi = np.maximum(speeds.vr_mps, lo)
+    if events is not None and np.any(events.recognition_s > 0.0):
+        # V_EF at most VR less the speed gained in the recognition interval (V1 ≤ VR)
+        gain = events.recognition_s * one_out.acceleration(speeds.vr_mps)
+        hi = np.where(events.recognition_s > 0.0, np.maximum(speeds.vr_mps - gain, lo), hi)
     lo = np.where(su.multi_engine, lo, hi)  # single engine: V1 = VR
     return EngineFailureModel(m, su.density_kg_m3, speeds, w, su.multi_engine, all_engines, one_out, stop_all,
-                              stop_one_out, lo, hi)
+                              stop_one_out, lo, hi, events)
 
 
 def accelerate_stop_cases_m(model, v1_mps, *, delay_s=STOP_DELAY_S):
@@ -785,8 +865,20 @@ def continued_takeoff_ground_run_m(model, v1_mps):
     return np.where(model.multi_engine, s, np.nan)
 
 
+class V1Search(NamedTuple):
+    """Result of the V1 search: the engine-failure speed, V1 and the parts of the distances
+    at the final evaluation (arrays over cases)."""
+
+    v_ef_mps: np.ndarray  # V_EF (= V1 without a recognition interval) [m/s]
+    v1_mps: np.ndarray  # V1 [m/s]
+    one_out_m: np.ndarray  # S_oei(V_EF → V_LOF) [m]
+    braking_m: np.ndarray  # all-engines stop: full braking to rest after the stop actions [m]
+    to_v1_m: np.ndarray  # all engines from V_EF to V1 (0 without a recognition interval) [m]
+    actions_m: np.ndarray  # all-engines stop: V1 until the lift dumpers are in [m]
+
+
 def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
-    """Newton on h(V1); returns V1 and S_oei(V1 → V_LOF), S_stop(V1 → w) at that V1."""
+    """Newton on h over the engine-failure speed (V1 itself in the idealised sequence)."""
     w = model.headwind_mps
     lo, hi = model.v1_min_mps, model.v1_max_mps
     vlof = model.speeds.vlof_mps
@@ -800,7 +892,10 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
     total = max(int(np.max(count, initial=0)), 1)  # initial: an empty batch has no maximum
     s_oei = np.full(w.shape, np.nan)
     s_stop = np.full(w.shape, np.nan)
-    idx, oo, sa = None, model.one_out, model.stop_all
+    ev = model.events
+    if ev is not None:
+        out_v1, out_pre, out_act = np.full(w.shape, np.nan), np.zeros(w.shape), np.zeros(w.shape)
+    idx, oo, sa, ae, evi = None, model.one_out, model.stop_all, model.all_engines, ev
     for k in range(total):
         need = count > k
         if k == 0 or not np.all(need[idx] if idx is not None else need):
@@ -809,21 +904,50 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
             full = idx.size == w.size
             oo = model.one_out if full else model.one_out.take(idx)
             sa = model.stop_all if full else model.stop_all.take(idx)
+            if ev is not None:
+                ae = model.all_engines if full else model.all_engines.take(idx)
+                evi = ev if full else ev.take(idx)
         vi, wi = v1[idx], w[idx]
         so = oo.distance_m(vi, vlof[idx])
-        ss = sa.distance_m(vi, wi)
-        s_oei[idx], s_stop[idx] = so, ss
-        if k == total - 1:
-            break
-        h = base[idx] - so + delay_s * (vi - wi) + ss
-        vg = vi - wi
-        with np.errstate(divide="ignore", invalid="ignore"):
-            dh = vg / oo.acceleration(vi) + delay_s - vg / sa.acceleration(vi)
-            step = h / dh
+        if ev is None:
+            ss = sa.distance_m(vi, wi)
+            s_oei[idx], s_stop[idx] = so, ss
+            if k == total - 1:
+                break
+            h = base[idx] - so + delay_s * (vi - wi) + ss
+            vg = vi - wi
+            with np.errstate(divide="ignore", invalid="ignore"):
+                dh = vg / oo.acceleration(vi) + delay_s - vg / sa.acceleration(vi)
+                step = h / dh
+        else:
+            # V_EF = vi; V1 one recognition interval later; the all-engines stop from V1
+            # with its stop actions (physics.takeoffevents)
+            a_oo = oo.acceleration(vi)
+            v1i = np.clip(takeoffevents.recognition_v1_mps(vi, a_oo, evi.recognition_s), vi,
+                          np.maximum(model.speeds.vr_mps[idx], vi))
+            rec = evi.recognition_s > 0.0
+            a_ae = ae.acceleration(vi)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                pre = np.where(rec, 0.5 * ((vi - wi) + (v1i - wi)) * (v1i - vi) / a_ae, 0.0)
+            v_act, act = evi.actions(v1i, wi, engine_failure=False)
+            ss = sa.distance_m(v_act, wi)
+            s_oei[idx], s_stop[idx] = so, ss
+            out_v1[idx], out_pre[idx], out_act[idx] = v1i, pre, act
+            if k == total - 1:
+                break
+            h = base[idx] - so + pre + delay_s * (v1i - wi) + act + ss
+            vg = vi - wi
+            with np.errstate(divide="ignore", invalid="ignore"):
+                extra = np.where(rec, a_oo * evi.recognition_s / a_ae, 0.0) + 2.0 * evi.action_interval_s
+                dh = vg / oo.acceleration(vi) + extra + delay_s - (v_act - wi) / sa.acceleration(v_act)
+                step = h / dh
         # a case stops stepping after its own number of evaluations (last step at k = count − 2)
         step = np.where(np.isfinite(step) & (dh > 0) & multi[idx] & (k < count[idx] - 1), step, 0.0)
         v1[idx] = np.clip(vi - step, lo[idx], hi[idx])
-    return v1, s_oei, s_stop
+    if ev is None:
+        zero = np.zeros(w.shape)
+        return V1Search(v1, v1, s_oei, s_stop, zero, zero)
+    return V1Search(v1, out_v1, s_oei, s_stop, out_pre, out_act)
 
 
 def best_v1_mps(model, *, go_available_m, asda_m, v1_start_mps=None, iterations=V1_ITERATIONS,
@@ -862,7 +986,7 @@ def best_v1_mps(model, *, go_available_m, asda_m, v1_start_mps=None, iterations=
     """
     base = np.broadcast_to(np.asarray(go_available_m, dtype=float) - np.asarray(asda_m, dtype=float),
                            model.headwind_mps.shape)
-    v1, _, _ = _newton_v1(model, base, v1_start_mps, iterations, delay_s)
+    v1 = _newton_v1(model, base, v1_start_mps, iterations, delay_s).v1_mps
     return np.where(model.multi_engine, v1, model.v1_max_mps)
 
 
@@ -899,7 +1023,7 @@ def continued_takeoff_airborne_m(model, setup, screen_height_m):
     from physics import aerodynamics, airborne
 
     sp = model.speeds
-    v_tr = 0.5 * (sp.vlof_mps + sp.v2_mps)
+    v_tr = 0.5 * (sp.vlof_mps + np.fmax(sp.v2_mps, sp.vlof_mps))  # a rotation may lift off above V2
     weight = model.mass_kg * c.G0
     q_s = 0.5 * setup.density_kg_m3 * v_tr * v_tr * setup.wing_area_m2
     cl = weight / q_s
@@ -925,6 +1049,7 @@ class EngineFailureTakeoff:
         (NaN for single-engine types).
     accelerate_stop_m : the greater of the two 25.109(a) cases [m].
     accelerate_stop_engine_failure_m, accelerate_stop_all_engines_m : the two cases [m].
+    v_ef_mps : engine-failure speed V_EF (= V1 in the idealised sequence) [m/s].
     """
 
     v1_mps: np.ndarray
@@ -936,6 +1061,7 @@ class EngineFailureTakeoff:
     accelerate_stop_m: np.ndarray
     accelerate_stop_engine_failure_m: np.ndarray
     accelerate_stop_all_engines_m: np.ndarray
+    v_ef_mps: np.ndarray = None
 
 
 def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=None,
@@ -984,19 +1110,28 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
     air = continued_takeoff_airborne_m(model, su, b(site.screen_height_m))
     go_avail = go_constant_m(toda_m=toda, tora_m=tora, airborne_m=air)
     base = go_avail - asda
-    v1, s_oei, s_stop = _newton_v1(model, base, v1_start_mps, iterations, STOP_DELAY_S)
+    found = _newton_v1(model, base, v1_start_mps, iterations, STOP_DELAY_S)
+    v_ef, v1 = found.v_ef_mps, found.v1_mps
     w = model.headwind_mps
     multi = model.multi_engine
-    to_v1 = model.all_engines.distance_m(w, v1)
-    ground = np.where(multi, to_v1 + s_oei, np.nan)
+    to_v1 = model.all_engines.distance_m(w, v_ef)  # all engines to the failure (V1 when idealised)
+    ground = np.where(multi, to_v1 + found.one_out_m, np.nan)
     tod = ground + air
     tor = ground + np.where(toda > tora, 0.5 * air, air)
-    al = to_v1 + STOP_DELAY_S * (v1 - w) + s_stop
-    if both_stops:
+    al = to_v1 + found.to_v1_m + STOP_DELAY_S * (v1 - w) + found.actions_m + found.braking_m
+    ev = model.events
+    if ev is not None:
+        # the engine-failure stop: the recognition interval on N − 1 engines, its own stop
+        # actions and braking; with timed events either stop may be the longer
+        _, recognition = takeoffevents.timed_piece(v_ef, model.one_out.acceleration(v_ef), ev.recognition_s, w)
+        v_act, act = ev.actions(v1, w, engine_failure=True)
+        eo = to_v1 + recognition + STOP_DELAY_S * (v1 - w) + act + model.stop_one_out.distance_m(v_act, w)
+        eo = np.where(multi, eo, al)
+    elif both_stops:
         eo = np.where(multi, to_v1 + STOP_DELAY_S * (v1 - w) + model.stop_one_out.distance_m(v1, w), al)
     else:
         eo = np.full(al.shape, np.nan)
-    return EngineFailureTakeoff(v1, model.speeds, ground, air, tod, tor, np.fmax(eo, al), eo, al)
+    return EngineFailureTakeoff(v1, model.speeds, ground, air, tod, tor, np.fmax(eo, al), eo, al, v_ef)
 
 
 def balanced_field_length_m(aircraft, site, mass_kg, *, iterations=12):
@@ -1024,7 +1159,8 @@ def balanced_field_length_m(aircraft, site, mass_kg, *, iterations=12):
     Notes
     -----
     With TODA = ASDA = L and no clearway, h(V1) = (L − air) − L − S_oei + t_d (V1 − w) +
-    S_stop = −air − S_oei(V1 → V_LOF) + t_d (V1 − w) + S_stop(V1 → w), independent of L.
+    S_stop = −air − S_oei(V1 → V_LOF) + t_d (V1 − w) + S_stop(V1 → w), independent of L
+    (with the timed event sequence of the type, :func:`engine_failure_takeoff`).
     The all-engines requirement (1.15 × TOD_all) is separate: the field length an operator
     needs is the greater of the two.
 
@@ -1032,13 +1168,12 @@ def balanced_field_length_m(aircraft, site, mass_kg, *, iterations=12):
     ----------
     .. [1] Raymer, §17.8 (balanced field length). .. [2] 14 CFR 25.109, 25.113.
     """
-    su = engine_failure_setup(aircraft, site, np.shape(mass_kg))
-    model = engine_failure_model(aircraft, site, mass_kg, setup=su)
-    air = continued_takeoff_airborne_m(model, su, np.broadcast_to(np.asarray(site.screen_height_m, float), su.n))
-    v1 = best_v1_mps(model, go_available_m=-air, asda_m=0.0, iterations=iterations)
-    tod = continued_takeoff_ground_run_m(model, v1) + air
-    asd = np.maximum(*accelerate_stop_cases_m(model, v1))
-    return np.where(model.multi_engine, np.maximum(tod, asd), np.nan), v1
+    # TODA = TORA = ASDA = L: the go margin less the stop margin does not depend on L, so any
+    # L (here 0) gives the balancing V1; the distances are then those of the event sequence
+    no_runway = dataclasses.replace(site, tora_m=0.0, toda_m=0.0, asda_m=0.0)
+    r = engine_failure_takeoff(aircraft, no_runway, mass_kg, iterations=iterations)
+    multi = np.broadcast_to(np.asarray(aircraft.engine_count, dtype=float) > 1, r.v1_mps.shape)
+    return np.where(multi, np.maximum(r.takeoff_distance_m, r.accelerate_stop_m), np.nan), r.v1_mps
 
 
 # --- requirements for physics.weightlimit (margin(cases, mass_kg, memo) -> array) ----------
@@ -1092,7 +1227,7 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
             iterations = V1_ITERATIONS if cases._cache.get("engine_failure_final") else V1_ITERATIONS_SEARCH
         r = engine_failure_takeoff(cases.aircraft, cases.site, mass_kg, setup=setup, v1_start_mps=guess,
                                    iterations=iterations, both_stops=False)
-        state["v1"], state["mass"] = r.v1_mps, np.array(mass_kg, dtype=float, copy=True)
+        state["v1"], state["mass"] = r.v_ef_mps, np.array(mass_kg, dtype=float, copy=True)  # the search variable
         memo["engine_failure"] = r
     return memo["engine_failure"]
 

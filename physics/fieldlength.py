@@ -34,6 +34,7 @@ from physics import aerodynamics as aero
 from physics import airborne
 from physics import constants as c
 from physics import groundrun
+from physics import takeoffevents
 
 #: Factor on all-engines takeoff distance and run, 14 CFR 25.113(a)(2), (b)(2). [–]
 ALL_ENGINES_FACTOR = 1.15
@@ -99,7 +100,7 @@ def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_
                         cl_max, vr_over_vs, vlof_over_vs, v2_over_vs, cd0_airborne, induced_factor,
                         headwind_mps=0.0, slope=0.0, screen_height_m=c.SCREEN_HEIGHT_35FT_M, clearway_m=0.0,
                         load_factor=airborne.TRANSITION_LOAD_FACTOR, rotation_time_s=0.0, nodes=None,
-                        ground_terms=None):
+                        ground_terms=None, rotation_duration_s=0.0):
     """All-engines takeoff of n cases at trial masses.
 
     Parameters
@@ -144,6 +145,10 @@ def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_
         :func:`physics.groundrun.ground_run_terms` of these cases (thrust law, area,
         density, ``cd_ground``, ``cl_ground``, ``mu``, ``slope``), when a search over the mass
         has computed them once.
+    rotation_duration_s : array_like, optional
+        Time from VR to lift-off at the type's pitch rate
+        (:func:`physics.takeoffevents.rotation_time_s`); V_LOF is then at least
+        VR + a(VR) t (0: V_LOF from its ratio alone). [s]
 
     Returns
     -------
@@ -167,6 +172,12 @@ def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_
     w = np.asarray(headwind_mps, dtype=float)
     vs = aero.stall_speed_mps(m, rho, s, cl_max)
     vr, vlof, v2 = aero.takeoff_speeds_mps(vs, vr_over_vs, vlof_over_vs, v2_over_vs)
+    if np.any(np.asarray(rotation_duration_s) > 0.0):
+        terms = ground_terms if ground_terms is not None else groundrun.ground_run_terms(
+            thrust_law, wing_area_m2=s, density_kg_m3=rho, cd=cd_ground, cl=cl_ground, mu=mu, slope=slope)
+        a_vr = (thrust_law.thrust_n(vr) - terms.drag_term_kg_m * vr * np.abs(vr)) / m - terms.resistance_mps2
+        vlof = takeoffevents.rotation_liftoff_speed_mps(vr, vlof, a_vr, rotation_duration_s)
+        v2 = np.fmax(v2, vlof)  # for the transition speed only when the rotation lifts off above V2
     if ground_terms is None:
         gr = groundrun.ground_run_for_thrust_law(thrust_law, mass_kg=m, wing_area_m2=s, density_kg_m3=rho,
                                                  cd=cd_ground, cl=cl_ground, mu=mu, v_lof_mps=vlof, headwind_mps=w,

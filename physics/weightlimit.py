@@ -45,6 +45,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field, fields
 from typing import Callable, Optional
@@ -60,6 +61,7 @@ from physics import enginefailure
 from physics import fieldlength
 from physics import groundrun
 from physics import limits
+from physics import takeoffevents
 from physics import thrust
 from physics.select import choose
 
@@ -422,8 +424,14 @@ def all_engines(cases, mass_kg, memo):
             mu=s.mu_roll, cl_max=a.cl_max_takeoff, vr_over_vs=ratios[0], vlof_over_vs=ratios[1], v2_over_vs=ratios[2],
             cd0_airborne=cases.cd0_takeoff, induced_factor=cases.induced_factor,
             headwind_mps=s.headwind_mps, slope=s.slope, screen_height_m=s.screen_height_m,
-            clearway_m=cases.clearway_m, ground_terms=cases.cached("ground_terms_all_engines", _ground_terms))
+            clearway_m=cases.clearway_m, ground_terms=cases.cached("ground_terms_all_engines", _ground_terms),
+            rotation_duration_s=cases.cached("rotation_s", _rotation_s))
     return memo["all_engines"]
+
+
+def _rotation_s(cases):
+    a = cases.aircraft
+    return np.broadcast_to(takeoffevents.rotation_time_s(a.rotation_pitch_deg, a.rotation_rate_deg_per_s), (cases.n,))
 
 
 def _ground_terms(cases):
@@ -672,6 +680,10 @@ def _gather(obj, index, n):
 
 def _solve_accepted(aircraft, site, tol_kg, reqs, figures):
     """:func:`solve_takeoff_weight` for cases inside the input contract."""
+    if np.any(np.asarray(aircraft.lineup_allowance_m) > 0.0):  # the runway used to line up
+        lineup = aircraft.lineup_allowance_m
+        site = dataclasses.replace(site, **{k: takeoffevents.available_after_lineup_m(getattr(site, k), lineup)
+                                            for k in ("tora_m", "toda_m", "asda_m")})
     result = _solve(aircraft, site, tol_kg, reqs, figures)
     dry_roll = np.asarray(site.mu_roll_dry if site.mu_roll_dry is not None else np.nan, dtype=float)
     dry_brake = np.asarray(site.mu_brake_dry if site.mu_brake_dry is not None else np.nan, dtype=float)
