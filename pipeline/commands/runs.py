@@ -15,10 +15,10 @@ DESCRIPTION = (
     "(UTC), duration, climate scenario and conditions, cases and rows. A run still marked\n"
     "'running' is checked without writing anything: on this machine by its process id and the\n"
     "process start time, from another machine by its heartbeat file beside the database\n"
-    "(<db>.heartbeat/), which a running run rewrites every few seconds. 'dead' means the\n"
-    "process has ended without recording how the run finished (killed, crashed, machine\n"
-    "restarted); 'presumed dead' means no heartbeat for longer than the stated threshold. The\n"
-    "next `fieldlimits run` on the same database records such runs as interrupted."
+    "(<db>.heartbeat/), which a running run rewrites every 5 s. 'dead' means the process has\n"
+    "ended without recording how the run finished (killed, crashed, machine restarted);\n"
+    "'presumed dead' means a run of another machine whose heartbeat is more than 60 s old.\n"
+    "The next `fieldlimits run` on the same database records such runs as interrupted."
 )
 
 _TIME = "%Y-%m-%d %H:%M:%S"

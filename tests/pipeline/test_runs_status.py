@@ -230,6 +230,13 @@ def test_busy_database_falls_back_to_the_heartbeat_files(tmp_path, capsys, monke
     assert f"run {run_id} running (live)" in out
 
 
+def test_help_states_the_heartbeat_figures_in_use():
+    from pipeline.commands import runs
+
+    assert f"every {store.HEARTBEAT_EVERY_S:.0f} s" in runs.DESCRIPTION
+    assert f"more than {store.HEARTBEAT_STALE_S:.0f} s old" in runs.DESCRIPTION
+
+
 def test_limit_and_empty_store(tmp_path, capsys):
     db = tmp_path / "s.duckdb"
     with store.writer(db):
