@@ -63,6 +63,7 @@ from typing import NamedTuple
 import numpy as np
 
 from physics import constants as c
+from physics import groundrun
 from physics import takeoffevents
 
 #: Distance allowance of 14 CFR 25.109(a): 2 s at V1 after the stop is begun. [s]
@@ -563,36 +564,38 @@ class EngineFailureModel:
 class StopEvents:
     """The timed parts of the engine-failure cases at one trial mass (arrays over cases).
 
-    ``recognition_s`` (V_EF → V1), ``action_interval_s`` (between the stop actions), and the
-    braking regimes before the lift dumpers are in (None where no action interval is set).
+    ``recognition_s`` (V_EF → V1) and ``action_interval_s`` (between the stop actions). The
+    braking before the lift dumpers are in differs from the ground roll (takeoff thrust) only
+    in the friction, and from the full stop (idle thrust) only in the lift and drag of the
+    lift dumpers, so its accelerations are those of the two regimes plus a term each:
+
+        a_brakes(V) = a_roll(V) − (mu_b − mu_r) (g cos γ − ½ rho V² S C_L,roll/m),
+        a_idle(V)   = a_stop(V) + ½ rho V² S [(C_D,brake − C_D,roll) − mu_b (C_L,brake − C_L,roll)]/m.
     """
 
     recognition_s: np.ndarray
     action_interval_s: np.ndarray
-    brake_all_takeoff: GroundRegime = None
-    brake_all_idle: GroundRegime = None
-    brake_one_out_takeoff: GroundRegime = None
-    brake_one_out_idle: GroundRegime = None
+    mass_kg: np.ndarray
+    friction_step_mps2: np.ndarray  # (mu_b − mu_r) g cos γ [m/s²]
+    friction_lift_kg_m: np.ndarray  # ½ rho S C_L,roll (mu_b − mu_r) [kg/m]
+    dumper_kg_m: np.ndarray  # ½ rho S [(C_D,brake − C_D,roll) − mu_b (C_L,brake − C_L,roll)] [kg/m]
 
     def take(self, index):
         """The events of the cases at ``index`` (integer array)."""
-        return StopEvents(*(None if v is None else (v.take(index) if isinstance(v, GroundRegime)
-                                                    else np.asarray(v)[index])
-                            for v in (getattr(self, f.name) for f in dataclasses.fields(self))))
+        return StopEvents(*(np.asarray(getattr(self, f.name))[index] for f in dataclasses.fields(self)))
 
-    def actions(self, v1_mps, headwind_mps, engine_failure):
+    def actions(self, v1_mps, headwind_mps, accel_roll_mps2, accel_stop_mps2):
         """Speed when the lift dumpers are in and the distance from V1 to there.
 
-        ``engine_failure``: the failed engine's case (N − 1 engines) or all engines.
+        ``accel_roll_mps2``, ``accel_stop_mps2``: the ground-roll (takeoff thrust) and full-stop
+        (idle, lift dumpers) accelerations at V1 of the engine state (all engines, or N − 1).
         """
-        if self.brake_all_takeoff is None:
-            v1 = np.asarray(v1_mps, dtype=float)
-            return v1, np.zeros(v1.shape)
-        take, idle = ((self.brake_one_out_takeoff, self.brake_one_out_idle) if engine_failure
-                      else (self.brake_all_takeoff, self.brake_all_idle))
-        return takeoffevents.stop_actions(v1_mps, interval_s=self.action_interval_s,
-                                          accel_takeoff_thrust_fn=take.acceleration, accel_idle_fn=idle.acceleration,
-                                          headwind_mps=headwind_mps)
+        v1 = np.asarray(v1_mps, dtype=float)
+        v2 = v1 * v1
+        brakes = accel_roll_mps2 - self.friction_step_mps2 + self.friction_lift_kg_m * v2 / self.mass_kg
+        idle = accel_stop_mps2 + self.dumper_kg_m * v2 / self.mass_kg
+        return takeoffevents.stop_actions(v1, interval_s=self.action_interval_s, accel_brakes_mps2=brakes,
+                                          accel_idle_mps2=idle, headwind_mps=headwind_mps)
 
 
 @dataclass(frozen=True)
@@ -720,12 +723,6 @@ def engine_failure_setup(aircraft, site, shape=()):
     times[0] = np.where(multi, times[0], 0.0)  # no engine failure to recognise on a single
     times.append(b(takeoffevents.rotation_time_s(getattr(a, "rotation_pitch_deg", 0.0),
                                                   getattr(a, "rotation_rate_deg_per_s", 3.0))))
-    if np.any(times[1] > 0.0):
-        # braking before the lift dumpers are in: takeoff power first, then idle (14 CFR 25.109)
-        regimes.update({"brake_all_takeoff": terms(laws[0], cd_roll, cl_roll, mu_brake),
-                        "brake_all_idle": terms(laws[2], cd_roll, cl_roll, mu_brake),
-                        "brake_one_out_takeoff": terms(laws[1], cd_roll + eo, cl_roll, mu_brake),
-                        "brake_one_out_idle": terms(laws[3], cd_roll + eo, cl_roll, mu_brake)})
     return EngineFailureSetup(
         n, rho_b, multi, *laws,
         cd_roll, cd_roll + eo, cd_brake, cd_brake + eo, cd0 + eo, k, cl_roll, cl_brake,
@@ -776,22 +773,21 @@ def engine_failure_model(aircraft, site, mass_kg, setup=None):
     stop_one_out = GroundRegime(su.law_idle_one_out, cd=su.cd_brake_one_out, **brake, terms=t["stop_one_out"])
     events = None
     if su.timed_events:
+        a_vr = one_out.acceleration(speeds.vr_mps)
         if np.any(su.rotation_s > 0.0):  # lift-off after the rotation, one engine out
-            vlof = takeoffevents.rotation_liftoff_speed_mps(speeds.vr_mps, speeds.vlof_mps,
-                                                             one_out.acceleration(speeds.vr_mps), su.rotation_s)
+            vlof = takeoffevents.rotation_liftoff_speed_mps(speeds.vr_mps, speeds.vlof_mps, a_vr, su.rotation_s)
             speeds = dataclasses.replace(speeds, vlof_mps=vlof)
-        braking = {}
-        if "brake_all_takeoff" in t:
-            braking = {k: GroundRegime(law, cd=cd, **brake, terms=t[k]) for k, law, cd in (
-                ("brake_all_takeoff", su.law_all, su.cd_roll), ("brake_all_idle", su.law_idle_all, su.cd_roll),
-                ("brake_one_out_takeoff", su.law_one_out, su.cd_roll_one_out),
-                ("brake_one_out_idle", su.law_idle_one_out, su.cd_roll_one_out))}
-        events = StopEvents(su.recognition_s, su.action_interval_s, **braking)
+        _, cos_g = groundrun.slope_sin_cos(su.slope)
+        d_mu = su.mu_brake - su.mu_roll
+        half_rho_s = 0.5 * su.density_kg_m3 * su.wing_area_m2
+        events = StopEvents(su.recognition_s, su.action_interval_s, m, d_mu * c.G0 * cos_g,
+                            half_rho_s * su.cl_roll * d_mu,
+                            half_rho_s * ((su.cd_brake - su.cd_roll) - su.mu_brake * (su.cl_brake - su.cl_roll)))
     lo = np.maximum(speeds.vmcg_mps, w)
     hi = np.maximum(speeds.vr_mps, lo)
     if events is not None and np.any(events.recognition_s > 0.0):
         # V_EF at most VR less the speed gained in the recognition interval (V1 ≤ VR)
-        gain = events.recognition_s * one_out.acceleration(speeds.vr_mps)
+        gain = events.recognition_s * a_vr
         hi = np.where(events.recognition_s > 0.0, np.maximum(speeds.vr_mps - gain, lo), hi)
     lo = np.where(su.multi_engine, lo, hi)  # single engine: V1 = VR
     return EngineFailureModel(m, su.density_kg_m3, speeds, w, su.multi_engine, all_engines, one_out, stop_all,
@@ -875,6 +871,7 @@ class V1Search(NamedTuple):
     braking_m: np.ndarray  # all-engines stop: full braking to rest after the stop actions [m]
     to_v1_m: np.ndarray  # all engines from V_EF to V1 (0 without a recognition interval) [m]
     actions_m: np.ndarray  # all-engines stop: V1 until the lift dumpers are in [m]
+    accel_one_out_mps2: np.ndarray = None  # a_oei(V_EF) at the last evaluation [m/s²]
 
 
 def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
@@ -895,6 +892,7 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
     ev = model.events
     if ev is not None:
         out_v1, out_pre, out_act = np.full(w.shape, np.nan), np.zeros(w.shape), np.zeros(w.shape)
+        out_a = np.full(w.shape, np.nan)
     idx, oo, sa, ae, evi = None, model.one_out, model.stop_all, model.all_engines, ev
     for k in range(total):
         need = count > k
@@ -922,24 +920,25 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
         else:
             # V_EF = vi; V1 one recognition interval later; the all-engines stop from V1
             # with its stop actions (physics.takeoffevents)
+            # (accelerations of the timed pieces taken at V1, as by hand)
             a_oo = oo.acceleration(vi)
             v1i = np.clip(takeoffevents.recognition_v1_mps(vi, a_oo, evi.recognition_s), vi,
                           np.maximum(model.speeds.vr_mps[idx], vi))
             rec = evi.recognition_s > 0.0
-            a_ae = ae.acceleration(vi)
+            a_ae, a_sa = ae.acceleration(v1i), sa.acceleration(v1i)
             with np.errstate(divide="ignore", invalid="ignore"):
                 pre = np.where(rec, 0.5 * ((vi - wi) + (v1i - wi)) * (v1i - vi) / a_ae, 0.0)
-            v_act, act = evi.actions(v1i, wi, engine_failure=False)
+            v_act, act = evi.actions(v1i, wi, a_ae, a_sa)
             ss = sa.distance_m(v_act, wi)
             s_oei[idx], s_stop[idx] = so, ss
-            out_v1[idx], out_pre[idx], out_act[idx] = v1i, pre, act
+            out_v1[idx], out_pre[idx], out_act[idx], out_a[idx] = v1i, pre, act, a_oo
             if k == total - 1:
                 break
             h = base[idx] - so + pre + delay_s * (v1i - wi) + act + ss
             vg = vi - wi
             with np.errstate(divide="ignore", invalid="ignore"):
                 extra = np.where(rec, a_oo * evi.recognition_s / a_ae, 0.0) + 2.0 * evi.action_interval_s
-                dh = vg / oo.acceleration(vi) + extra + delay_s - (v_act - wi) / sa.acceleration(v_act)
+                dh = vg / a_oo + extra + delay_s - (v_act - wi) / a_sa
                 step = h / dh
         # a case stops stepping after its own number of evaluations (last step at k = count − 2)
         step = np.where(np.isfinite(step) & (dh > 0) & multi[idx] & (k < count[idx] - 1), step, 0.0)
@@ -947,7 +946,7 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
     if ev is None:
         zero = np.zeros(w.shape)
         return V1Search(v1, v1, s_oei, s_stop, zero, zero)
-    return V1Search(v1, out_v1, s_oei, s_stop, out_pre, out_act)
+    return V1Search(v1, out_v1, s_oei, s_stop, out_pre, out_act, out_a)
 
 
 def best_v1_mps(model, *, go_available_m, asda_m, v1_start_mps=None, iterations=V1_ITERATIONS,
@@ -1123,8 +1122,8 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
     if ev is not None:
         # the engine-failure stop: the recognition interval on N − 1 engines, its own stop
         # actions and braking; with timed events either stop may be the longer
-        _, recognition = takeoffevents.timed_piece(v_ef, model.one_out.acceleration(v_ef), ev.recognition_s, w)
-        v_act, act = ev.actions(v1, w, engine_failure=True)
+        _, recognition = takeoffevents.timed_piece(v_ef, found.accel_one_out_mps2, ev.recognition_s, w)
+        v_act, act = ev.actions(v1, w, model.one_out.acceleration(v1), model.stop_one_out.acceleration(v1))
         eo = to_v1 + recognition + STOP_DELAY_S * (v1 - w) + act + model.stop_one_out.distance_m(v_act, w)
         eo = np.where(multi, eo, al)
     elif both_stops:

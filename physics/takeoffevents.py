@@ -13,7 +13,8 @@ Stop actions
     apart (common flight-test practice: 1 s): brakes at V1 (thrust still at takeoff power, no
     lift dumpers), thrust to idle at Δ (spooling down: the mean of takeoff and idle thrust over
     the next interval), lift dumpers at 2Δ, then full braking with idle thrust to rest. The
-    2 s distance at V1 of 14 CFR 25.109(a) is added on top, as before.
+    2 s distance at V1 of 14 CFR 25.109(a) is added on top, as before. Both pieces take
+    their accelerations at V1.
 Rotation
     From VR the nose is raised at a pitch rate q to the lift-off attitude θ; the rotation
     takes t_rot = θ/q, and V_LOF is at least VR + a(VR) t_rot (and never below the scheduled
@@ -34,6 +35,8 @@ References
 .. [2] FAA Advisory Circular 25-7 (flight test guide), accelerate-stop time delays (1 s per
    action after V1) and rotation practice (common flight-test practice).
 .. [3] D. P. Raymer, *Aircraft Design: A Conceptual Approach*, AIAA, §17.8 (ground roll).
+.. [4] EASA Air Operations, AMC1 CAT.POL.A.205 (loss of runway length due to alignment; from
+   memory); ICAO Annex 14, Vol. I (declared distances).
 """
 
 from __future__ import annotations
@@ -123,10 +126,14 @@ def timed_piece(v_start_mps, accel_mps2, duration_s, headwind_mps=0.0):
     t = np.asarray(duration_s, dtype=float)
     w = np.asarray(headwind_mps, dtype=float)
     g0 = v0 - w
-    with np.errstate(divide="ignore", invalid="ignore"):
-        stops = (a < 0.0) & (g0 + a * t < 0.0)
-        s = np.where(stops, g0 * g0 / (2.0 * np.abs(a)), g0 * t + 0.5 * a * t * t)
-    return np.where(stops, w, v0 + a * t), s
+    v1 = v0 + a * t
+    s = g0 * t + 0.5 * a * t * t
+    stops = v1 < w  # only a deceleration can take the ground speed below zero
+    if np.any(stops):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            s = np.where(stops, g0 * g0 / (2.0 * np.abs(a)), s)
+        v1 = np.where(stops, w, v1)
+    return v1, s
 
 
 def recognition_v1_mps(v_ef_mps, accel_one_out_mps2, recognition_s):
@@ -221,7 +228,7 @@ def rotation_liftoff_speed_mps(vr_mps, scheduled_vlof_mps, accel_at_vr_mps2, rot
     return np.where(t > 0.0, np.fmax(sched, rotated), sched)
 
 
-def stop_actions(v1_mps, *, interval_s, accel_takeoff_thrust_fn, accel_idle_fn, headwind_mps=0.0):
+def stop_actions(v1_mps, *, interval_s, accel_brakes_mps2, accel_idle_mps2, headwind_mps=0.0):
     """Speed and distance from V1 until the last stop action (lift dumpers) is in.
 
     Parameters
@@ -230,10 +237,10 @@ def stop_actions(v1_mps, *, interval_s, accel_takeoff_thrust_fn, accel_idle_fn, 
         V1, where the brakes go on. [m/s]
     interval_s : array_like
         Time between actions Δ. [s]
-    accel_takeoff_thrust_fn : callable
-        ``f(v) -> a``: braking, no lift dumpers, takeoff thrust. [m/s²]
-    accel_idle_fn : callable
-        ``f(v) -> a``: braking, no lift dumpers, idle thrust. [m/s²]
+    accel_brakes_mps2 : array_like
+        Acceleration at V1 braking without lift dumpers at takeoff thrust. [m/s²]
+    accel_idle_mps2 : array_like
+        Acceleration at V1 braking without lift dumpers at idle thrust. [m/s²]
     headwind_mps : array_like, optional
         Headwind. [m/s]
 
@@ -246,9 +253,9 @@ def stop_actions(v1_mps, *, interval_s, accel_takeoff_thrust_fn, accel_idle_fn, 
 
     Notes
     -----
-    First piece (brakes, takeoff thrust): a₁ at V1 for Δ; second piece (thrust spooling down,
-    taken as the mean of the takeoff-thrust and idle accelerations at its start) for Δ; each
-    by :func:`timed_piece`.
+    First piece (brakes, takeoff thrust) at a₁ for Δ; second piece (thrust spooling down)
+    at the mean of the takeoff-thrust and idle accelerations for Δ; both accelerations taken
+    at V1 (the speed changes by a few m/s over the two pieces); each by :func:`timed_piece`.
 
     References
     ----------
@@ -256,9 +263,9 @@ def stop_actions(v1_mps, *, interval_s, accel_takeoff_thrust_fn, accel_idle_fn, 
     """
     v1 = np.asarray(v1_mps, dtype=float)
     dt = np.asarray(interval_s, dtype=float)
-    v_a, s_a = timed_piece(v1, accel_takeoff_thrust_fn(v1), dt, headwind_mps)
-    a_b = 0.5 * (accel_takeoff_thrust_fn(v_a) + accel_idle_fn(v_a))
-    v_b, s_b = timed_piece(v_a, a_b, dt, headwind_mps)
+    a_1 = np.asarray(accel_brakes_mps2, dtype=float)
+    v_a, s_a = timed_piece(v1, a_1, dt, headwind_mps)
+    v_b, s_b = timed_piece(v_a, 0.5 * (a_1 + np.asarray(accel_idle_mps2, dtype=float)), dt, headwind_mps)
     some = dt > 0.0
     return np.where(some, v_b, v1), np.where(some, s_a + s_b, 0.0)
 
