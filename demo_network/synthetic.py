@@ -19,10 +19,17 @@ Spreads (invented, chosen to look like a real continent's network):
   latitude; a quarter of the 15 … 35° band is hot desert (+5 °C, dry). Wet-day share from
   dry desert to wet high latitudes.
 * Wind roses: 16 sectors × 3 speed classes (1.5–5, 5–10, 10–25 m/s) plus calm, a von Mises
-  distribution around a prevailing direction, Weibull (shape 2) speeds.
+  distribution around a prevailing direction, Weibull (shape 2) speeds
+  (:func:`rose_frequencies`).
 * Aircraft types: the demo network's eight (``n_types`` < 8 picks a spread of them, more
-  than 8 adds scaled variants). Routes: as many as airfields, between near neighbours,
-  flown by a type suited to the distance.
+  than 8 adds variants with masses and thrust scaled by 0.8 … 1.2). Routes: as many as
+  airfields, between near neighbours, flown by a type suited to the distance (none for a
+  single airfield).
+
+Every value drawn is kept inside the limits of :mod:`schemas.tables` and the rules across
+columns of :mod:`schemas.validate` whatever the seed: unbounded draws are clipped where they
+are used (each clip says why), and the tables are checked against the column limits before
+anything is written (:func:`_check_specs`; a failure is a bug here, never written out).
 """
 
 from __future__ import annotations
@@ -39,10 +46,16 @@ import pyarrow.parquet as pq
 
 from demo_network.build_demo import AIRCRAFT, AIRCRAFT_COLUMNS
 from schemas.caution import CAUTION
+from schemas.tables import TABLES
 
 SPEED_CLASSES = ((1.5, 5.0), (5.0, 10.0), (10.0, 25.0))
 CALM_MPS = 1.5
 SECTORS = 16
+RAYLEIGH_MEAN_OVER_SCALE = 0.8862
+"""Mean / scale of a Weibull distribution of shape 2 (Rayleigh): Γ(1.5) = 0.88623."""
+MIN_SCALE_MPS = 0.01
+"""Smallest Weibull scale used [m/s]: a calmer site (mean speed 0 included) is taken at this
+scale, where every wind above the calm threshold already falls in the lowest class."""
 
 
 def _designator(heading_true, variation):
@@ -114,11 +127,17 @@ def _runways(rng, ids):
 def _climate(rng, lat, elev, desert):
     n = lat.size
     alat = np.abs(lat)
-    tmean = (31.0 - 0.42 * np.maximum(alat - 12.0, 0.0) - 6.5e-3 * elev + 5.0 * desert
-             + rng.normal(0, 1.5, n))
+    # At most 39.5 °C: the hottest places on Earth have an annual mean daily maximum near
+    # 40 °C (from memory), and validation flags a whole year at 30 or more with a mean
+    # above 40 as probably °F. Reached only beyond +3σ in the hot-desert band.
+    tmean = np.minimum(31.0 - 0.42 * np.maximum(alat - 12.0, 0.0) - 6.5e-3 * elev
+                       + 5.0 * desert + rng.normal(0, 1.5, n), 39.5)
     amp = np.clip(1.0 + 0.22 * alat + 2.0 * desert + rng.normal(0, 1.0, n), 0.5, 15.0)
     sd = np.clip(1.4 + 0.05 * alat + rng.normal(0, 0.3, n), 0.8, 6.0)
-    qnh = 1013.0 + rng.normal(0, 3.0, n)
+    # 990 … 1036 hPa, ±7.7σ of the draw (never reached by an ordinary seed): about the span
+    # of monthly mean sea-level pressure over the world (from memory), and inside the
+    # allowed 870 … 1090 hPa with the seasonal ±3 hPa whatever the seed.
+    qnh = np.clip(1013.0 + rng.normal(0, 3.0, n), 990.0, 1036.0)
     wet = np.where(desert, rng.uniform(0.01, 0.05, n),
                    np.clip(0.08 + 0.005 * alat + rng.normal(0, 0.06, n), 0.02, 0.6))
     peak = np.where(lat >= 0, 7.3, 1.3)
@@ -133,30 +152,105 @@ def _climate(rng, lat, elev, desert):
                 wet_day_share=np.round(w, 2).ravel())
 
 
+def speed_class_shares(scale_mps, classes=SPEED_CLASSES):
+    """Share of each speed class among the winds above the calm threshold (Rayleigh speeds).
+
+    Parameters
+    ----------
+    scale_mps : array_like
+        Scale c of the Weibull distribution of shape 2 of the wind speed; any value ≥ 0.
+        [m/s]
+    classes : sequence of (float, float)
+        Contiguous speed classes (low, high), ascending; the top class is taken as open
+        ended. [m/s]
+
+    Returns
+    -------
+    numpy.ndarray
+        Shares, shape ``scale_mps.shape + (len(classes),)``, finite, ≥ 0 and summing to 1.
+        [–]
+
+    Notes
+    -----
+    With the survival function S(v) = exp(−(v/c)²) and v0 the lowest class bound, the share
+    of class k among winds of at least v0 is
+
+        S(lo_k)/S(v0) − S(hi_k)/S(v0) = exp(−a_k) (1 − exp(−(b_k − a_k))),
+        a_k = (lo_k² − v0²)/c², b_k = (hi_k² − v0²)/c²,
+
+    evaluated with ``expm1``. The lowest class gets 1 − exp(−b_0) > 0 at any scale, so a
+    near-calm site (c → 0) puts every non-calm wind in it. Differences of the cumulative
+    distribution 1 − S(v) instead round to 1 − 1 = 0 for every class once c is below about
+    0.25 m/s, and normalising them gives 0/0 (blank frequencies).
+    """
+    c = np.maximum(np.asarray(scale_mps, dtype=float), MIN_SCALE_MPS)[..., None]
+    lo = np.array([k[0] for k in classes], dtype=float)
+    hi = np.array([k[1] for k in classes], dtype=float)
+    hi[-1] = np.inf
+    a = (lo ** 2 - lo[0] ** 2) / c ** 2
+    b = (hi ** 2 - lo[0] ** 2) / c ** 2
+    share = np.exp(-a) * -np.expm1(a - b)
+    return share / share.sum(axis=-1, keepdims=True)
+
+
+def rose_frequencies(mean_speed_mps, prevailing_deg, kappa, calm_share):
+    """One month's wind rose: calm share and the share of each sector and speed class.
+
+    Parameters
+    ----------
+    mean_speed_mps : array_like
+        Mean wind speed; any value ≥ 0. [m/s]
+    prevailing_deg : array_like
+        Prevailing direction the wind blows from, true. [deg]
+    kappa : array_like
+        Concentration of the von Mises-like spread of directions around it (0: uniform). [–]
+    calm_share : array_like
+        Share of calm observations (below ``CALM_MPS``), 0.01 … 0.5. [–]
+
+    Returns
+    -------
+    calm : numpy.ndarray
+        Calm share, shape of the broadcast inputs, rounded to 5 decimals. [–]
+    freq : numpy.ndarray
+        Shares by sector (``SECTORS`` centres 0, 22.5, … °) and speed class
+        (``SPEED_CLASSES``), shape ``(..., SECTORS, len(SPEED_CLASSES))``, rounded to 5
+        decimals; with ``calm`` they sum to 1 within 5e-6. [–]
+
+    Notes
+    -----
+    Direction weight 0.25/16 + 0.75 exp(κ cos(θ − θ_prevailing)), normalised; speeds
+    Weibull of shape 2 with scale mean / Γ(1.5), 25 % stronger from the prevailing
+    direction and 25 % weaker from the opposite one (:func:`speed_class_shares`).
+    """
+    speed = np.asarray(mean_speed_mps, dtype=float)
+    centres = np.arange(SECTORS) * 360.0 / SECTORS
+    diff = np.deg2rad(centres - np.asarray(prevailing_deg, dtype=float)[..., None])
+    p_dir = 0.25 / SECTORS + 0.75 * np.exp(np.asarray(kappa, dtype=float)[..., None]
+                                           * np.cos(diff))
+    p_dir /= p_dir.sum(axis=-1, keepdims=True)
+    scale = speed[..., None] / RAYLEIGH_MEAN_OVER_SCALE * (1.0 + 0.25 * np.cos(diff))
+    p_cls = speed_class_shares(scale)
+    calm = np.asarray(calm_share, dtype=float)
+    freq = np.round((1.0 - calm)[..., None, None] * p_dir[..., None] * p_cls, 5)
+    calm_f = np.round(1.0 - freq.sum(axis=(-2, -1)), 5)
+    return calm_f, freq
+
+
 def _wind(rng, n, lat):
     prevailing = rng.uniform(0, 360, n)
+    # Gamma: any mean speed ≥ 0 gives valid shares (speed_class_shares), no clip needed
     mean_speed = rng.gamma(6.0, 5.0 / 6.0, n)
     calm = rng.uniform(0.02, 0.20, n)
     kappa = rng.uniform(0.3, 2.0, n)
     m = np.arange(1, 13)
     winter = np.cos(2 * np.pi * (m[None, :] - np.where(lat >= 0, 1.0, 7.0)[:, None]) / 12.0)
-    prev_m = (prevailing[:, None] + 20.0 * winter)[:, :, None]          # (n, 12, 1)
-    speed_m = (mean_speed[:, None] * (1.0 + 0.15 * winter))[:, :, None]
+    prev_m = prevailing[:, None] + 20.0 * winter                          # (n, 12)
+    speed_m = mean_speed[:, None] * (1.0 + 0.15 * winter)
     calm_m = np.clip(calm[:, None] * (1.0 - 0.4 * winter), 0.01, 0.5)
+    calm_f, freq = rose_frequencies(speed_m, prev_m, kappa[:, None], calm_m)  # (n, 12, 16, 3)
     centres = np.arange(SECTORS) * 360.0 / SECTORS
-    diff = np.deg2rad(centres[None, None, :] - prev_m)                  # (n, 12, 16)
-    p_dir = 0.25 / SECTORS + 0.75 * np.exp(kappa[:, None, None] * np.cos(diff))
-    p_dir /= p_dir.sum(axis=2, keepdims=True)
-    scale = speed_m / 0.8862 * (1.0 + 0.25 * np.cos(diff))
     lo = np.array([c[0] for c in SPEED_CLASSES])
     hi = np.array([c[1] for c in SPEED_CLASSES])
-    cdf_lo = 1.0 - np.exp(-(lo / scale[..., None]) ** 2)               # (n, 12, 16, 3)
-    cdf_hi = 1.0 - np.exp(-(hi / scale[..., None]) ** 2)
-    cdf_hi[..., -1] = 1.0
-    p_cls = cdf_hi - cdf_lo
-    p_cls /= p_cls.sum(axis=3, keepdims=True)
-    freq = np.round((1.0 - calm_m)[:, :, None, None] * p_dir[..., None] * p_cls, 5)
-    calm_f = np.round(1.0 - freq.sum(axis=(2, 3)), 5)                   # (n, 12)
     per_month = 1 + SECTORS * len(SPEED_CLASSES)
     rows = n * 12 * per_month
     direction = np.full((n, 12, per_month), np.nan)
@@ -184,7 +278,11 @@ def _aircraft(n_types: int) -> pd.DataFrame:
         return base.iloc[pick].reset_index(drop=True)
     rows = [base]
     for v in range(2, int(np.ceil(n_types / len(base))) + 1):
-        f = 1.0 + 0.04 * (v - 1) * (1 if v % 2 else -1)
+        # 0.96, 1.08, 0.88, 1.16, 0.80, then again from 1.04, 0.92, …: the scale repeats
+        # every ten variants and stays within ±20 %, so the scaled masses and thrust stay
+        # inside their allowed ranges (the largest type's thrust × 1.38 would pass 600 kN,
+        # the smallest type's MTOW × 0.26 fall under 300 kg) for any number of types
+        f = 1.0 + 0.04 * (1 + (v - 2) % 5) * (1 if v % 2 else -1)
         var = base.copy()
         var["aircraft_type_id"] = var["aircraft_type_id"] + f"-v{v}"
         var["name"] = var["name"] + f" (variant {v})"
@@ -253,11 +351,13 @@ def generate_network(n_airfields: int, seed: int, out_dir, n_types: int = 8,
     Parameters
     ----------
     n_airfields : int
-        Number of airfields (≥ 2).
-    seed : int
-        Random seed; the same seed gives the same tables.
+        Number of airfields (≥ 1; a single airfield gets no routes table).
+    seed : int or numpy.random.Generator
+        Random seed (≥ 0); the same seed gives the same tables. A generator is used as it
+        is (the tests pass one whose draws sit in the tails).
     out_dir : str or Path
-        Folder to write (created if needed); existing table files are replaced.
+        Folder to write (created if needed); existing table files are replaced (an old
+        routes table removed when none is written).
     n_types : int, optional
         Number of aircraft types (default 8, the demo network's types).
     fmt : {'csv', 'parquet'}, optional
@@ -268,12 +368,11 @@ def generate_network(n_airfields: int, seed: int, out_dir, n_types: int = 8,
     dict of str to Path
         Table name -> file written.
     """
-    if n_airfields < 2:
-        raise ValueError("n_airfields must be at least 2")
+    if n_airfields < 1:
+        raise ValueError("n_airfields must be at least 1")
     if fmt not in ("csv", "parquet"):
         raise ValueError("fmt must be 'csv' or 'parquet'")
     out = Path(out_dir)
-    out.mkdir(parents=True, exist_ok=True)
     rng = np.random.default_rng(seed)
     af, desert = _airfields(rng, n_airfields)
     ids = af["airfield_id"]
@@ -287,18 +386,61 @@ def generate_network(n_airfields: int, seed: int, out_dir, n_types: int = 8,
     wind_cols = {"airfield_id": pa.DictionaryArray.from_arrays(
         pa.array(wind.pop("af_index"), pa.int32()), dict_ids).cast(pa.string()), **wind}
     types = _aircraft(n_types)
-    routes = _routes(rng, af, types)
+    # a route joins two different airfields: a single airfield has none (routes are optional)
+    routes = _routes(rng, af, types) if n_airfields >= 2 else None
+    tables = {"airfields": af, "runways": rw, "climate_monthly": cl, "wind_rose": wind_cols,
+              "routes": routes, "aircraft_types": {c: types[c].to_numpy() for c in types}}
+    for name, cols in tables.items():
+        if cols is not None:
+            _check_specs(name, cols)
+    out.mkdir(parents=True, exist_ok=True)
     written = {}
-    for name, cols in (("airfields", af), ("runways", rw), ("climate_monthly", cl),
-                       ("wind_rose", wind_cols), ("routes", routes)):
-        written[name] = _write(_arrow(cols), out / name, fmt)
-    types_tab = pa.Table.from_pandas(types, preserve_index=False)
-    written["aircraft_types"] = _write(types_tab, out / "aircraft_types", fmt)
-    for name, path in written.items():  # never leave the other format's file behind
-        other = path.with_suffix(".csv" if path.suffix == ".parquet" else ".parquet")
-        if other.exists():
-            other.unlink()
+    for name, cols in tables.items():
+        if name == "aircraft_types":
+            written[name] = _write(pa.Table.from_pandas(types, preserve_index=False),
+                                   out / name, fmt)
+        elif cols is not None:
+            written[name] = _write(_arrow(cols), out / name, fmt)
+    for name in tables:  # never leave the other format's file (or an old table) behind
+        for suffix in (".csv", ".parquet"):
+            stale = (out / name).with_suffix(suffix)
+            if stale != written.get(name) and stale.exists():
+                stale.unlink()
     return written
+
+
+def _check_specs(name: str, cols: dict) -> None:
+    """Raise if a generated column breaks its limits in :mod:`schemas.tables`.
+
+    A failure is a bug in this module: it stops the generator before anything is written.
+    Checks numeric limits, required values (no NaN, no blank) and allowed texts.
+    """
+    for col in TABLES[name].columns:
+        v = cols.get(col.name)
+        if v is None:
+            bad, first = np.array([col.required]), "(no column)"
+        elif isinstance(v, pa.Array):  # the wind rose's airfield ids, built from the ids
+            bad, first = np.array([col.required and v.null_count > 0]), "(blank)"
+        elif col.dtype in ("float", "int"):
+            x = np.asarray(v, dtype=float)
+            bad = np.isnan(x) if col.required else np.zeros(x.shape, bool)
+            with np.errstate(invalid="ignore"):
+                if col.min is not None:
+                    bad |= x < col.min
+                if col.max is not None:
+                    bad |= x > col.max
+            first = x[bad][0] if bad.any() else None
+        else:
+            t = np.asarray(v)
+            bad = (pd.isna(t) | (t == "")) if col.required else np.zeros(t.shape, bool)
+            if col.allowed is not None:
+                bad |= ~np.isin(t, col.allowed)
+            first = t[bad][0] if bad.any() else None
+        if bad.any():
+            raise RuntimeError(
+                f"synthetic {name}: {int(bad.sum())} value(s) of {col.name} blank or outside "
+                f"{col.range_text() or 'its allowed values'} (first: {first!r}); "
+                "a bug in demo_network/synthetic.py, nothing was written")
 
 
 def main(argv=None) -> int:
@@ -312,6 +454,10 @@ def main(argv=None) -> int:
     p.add_argument("--types", type=int, default=8, help="number of aircraft types (default 8)")
     p.add_argument("--format", choices=("csv", "parquet"), default="csv")
     args = p.parse_args(argv)
+    if args.airfields < 1:
+        p.error(f"--airfields must be at least 1; got {args.airfields}")
+    if args.seed < 0:
+        p.error(f"--seed must be a whole number ≥ 0; got {args.seed}")
     t0 = time.perf_counter()
     generate_network(args.airfields, args.seed, args.out, n_types=args.types, fmt=args.format)
     print(f"synthetic network of {args.airfields} airfields written to {args.out} "

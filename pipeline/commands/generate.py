@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 from pathlib import Path
 
 from pipeline.errors import BadInput
@@ -13,17 +14,24 @@ HELP = "write a synthetic invented network of N airfields (for trials and benchm
 def add_arguments(parser) -> None:
     parser.add_argument("out_dir", metavar="OUT_DIR", help="folder to write the input tables to")
     parser.add_argument("--airfields", type=int, default=200, metavar="N",
-                        help="number of airfields (default 200)")
-    parser.add_argument("--seed", type=int, default=1, help="random seed (default 1)")
+                        help="number of airfields (default 200; 1 gives no routes table)")
+    parser.add_argument("--seed", type=int, default=1,
+                        help="random seed, a whole number ≥ 0 (default 1)")
 
 
 def run(args) -> int:
     from demo_network.synthetic import generate_network
 
     if args.airfields < 1:
-        raise BadInput("--airfields must be at least 1")
+        raise BadInput(f"--airfields must be at least 1; got {args.airfields}")
+    if args.seed < 0:
+        raise BadInput(f"--seed must be a whole number ≥ 0; got {args.seed}")
     out = Path(args.out_dir)
-    out.mkdir(parents=True, exist_ok=True)
+    if out.exists() and not out.is_dir():
+        raise BadInput(f"{out} exists and is not a folder: give a folder for the tables")
+    t0 = time.perf_counter()
     generate_network(args.airfields, args.seed, out)
-    print(f"wrote a synthetic network of {args.airfields} airfields to {out}")
+    fields = "airfield" if args.airfields == 1 else "airfields"
+    print(f"wrote a synthetic network of {args.airfields} {fields} to {out} "
+          f"in {time.perf_counter() - t0:.1f} s")
     return 0

@@ -7,8 +7,9 @@ import sys
 
 import numpy as np
 import pandas as pd
+import pytest
 
-from demo_network.synthetic import generate_network
+from demo_network.synthetic import generate_network, rose_frequencies, speed_class_shares
 from schemas.load import load_folder
 from schemas.validate import validate_folder
 
@@ -57,3 +58,129 @@ def test_command_line(tmp_path):
     assert validate_folder(out) == []
     assert pd.read_parquet(out / "airfields.parquet").shape[0] == 30
     assert np.isfinite(pd.read_parquet(out / "wind_rose.parquet")["frequency"]).all()
+
+
+# --- valid output whatever the seed (issue 20) --------------------------------------------
+
+def test_speed_class_shares_match_the_rayleigh_distribution():
+    # Rayleigh (Weibull shape 2) survival S(v) = exp(-(v/c)^2) (textbook definition, common
+    # practice); share of a class among winds >= 1.5 m/s is (S(lo) - S(hi)) / S(1.5), the top
+    # class open-ended. With c = 5 m/s: lowest class 1 - exp(-(25 - 2.25)/25) = 0.59748.
+    c = 5.0
+    s = lambda v: np.exp(-(v / c) ** 2)
+    expected = np.array([s(1.5) - s(5.0), s(5.0) - s(10.0), s(10.0)]) / s(1.5)
+    np.testing.assert_allclose(speed_class_shares(c), expected, rtol=1e-12)
+    np.testing.assert_allclose(speed_class_shares(c)[0], 0.59748, atol=5e-6)
+
+
+def test_near_calm_wind_gives_finite_shares_in_the_lowest_class():
+    # the issue's case: a mean speed of 0.304 m/s (0.258 m/s in its calmest month) gave
+    # 0/0 in the speed classes and blank frequencies; a mean speed of 0 is the limit
+    scale = np.array([0.0, 1e-300, 1e-9, 0.01, 0.1, 0.22, 0.25, 0.3, 1.0, 1e6])
+    shares = speed_class_shares(scale)
+    assert np.isfinite(shares).all() and (shares >= 0).all()
+    np.testing.assert_allclose(shares.sum(axis=-1), 1.0, rtol=0, atol=1e-12)
+    # below 0.3 m/s the next class bound (5 m/s) is beyond 16 scales: all in the lowest class
+    np.testing.assert_array_equal(shares[:8, 0], 1.0)
+
+
+def test_rose_frequencies_sum_to_one_for_any_mean_speed():
+    speed = np.array([0.0, 1e-12, 1e-3, 0.05, 0.3039 * 0.85, 0.3039, 0.5, 5.0, 25.0, 200.0])
+    calm, freq = rose_frequencies(speed, prevailing_deg=np.linspace(0, 350, speed.size),
+                                  kappa=np.linspace(0.3, 2.0, speed.size), calm_share=0.05)
+    assert freq.shape == (speed.size, 16, 3)
+    assert np.isfinite(calm).all() and np.isfinite(freq).all()
+    assert (freq >= 0).all() and (calm > 0).all()
+    # each share rounded to 5 decimals, the calm share takes the rest: the sum is 1 within
+    # the rounding of the calm share (validation asks for 1 ± 0.01)
+    np.testing.assert_allclose(calm + freq.sum(axis=(1, 2)), 1.0, rtol=0, atol=5e-6)
+    np.testing.assert_allclose(calm, 0.05, atol=49 * 5e-6)
+    # near calm: every non-calm wind in the lowest speed class
+    assert (freq[:6, :, 1:] == 0).all()
+
+
+@pytest.mark.parametrize("seed", range(5))
+@pytest.mark.parametrize("n", [1, 7, 300])
+def test_generated_networks_pass_validation(tmp_path, n, seed):
+    written = generate_network(n, seed, tmp_path)
+    assert validate_folder(tmp_path) == []
+    # a route joins two different airfields: a single airfield has no routes table
+    assert ("routes" in written) == (n >= 2)
+    assert not (n == 1 and any(tmp_path.glob("routes.*")))
+
+
+def test_a_single_airfield_removes_an_older_routes_table(tmp_path):
+    generate_network(5, 0, tmp_path)
+    assert (tmp_path / "routes.csv").exists()
+    generate_network(1, 0, tmp_path, fmt="parquet")
+    assert sorted(p.name for p in tmp_path.iterdir()) == [
+        "aircraft_types.parquet", "airfields.parquet", "climate_monthly.parquet",
+        "runways.parquet", "wind_rose.parquet"]
+    assert validate_folder(tmp_path) == []
+
+
+class _TailRng(np.random.Generator):
+    """Draws pushed into the tails: each element at random the lowest value, a value far
+    beyond anything a real seed gives (±40σ, 20 × the mean) or an ordinary draw."""
+
+    def _side(self, size):
+        return super().integers(0, 3, size)
+
+    def _mix(self, low, high, ordinary):
+        side = self._side(np.shape(ordinary))
+        return np.where(side == 0, low, np.where(side == 1, high, ordinary))
+
+    def uniform(self, low=0.0, high=1.0, size=None):
+        return self._mix(low, np.nextafter(high, low), super().uniform(low, high, size))
+
+    def random(self, size=None):
+        return self._mix(0.0, np.nextafter(1.0, 0.0), super().random(size))
+
+    def normal(self, loc=0.0, scale=1.0, size=None):
+        return self._mix(loc - 40 * scale, loc + 40 * scale, super().normal(loc, scale, size))
+
+    def lognormal(self, mean=0.0, sigma=1.0, size=None):
+        return np.exp(self.normal(mean, sigma, size))
+
+    def exponential(self, scale=1.0, size=None):
+        return self._mix(0.0, 40 * scale, super().exponential(scale, size))
+
+    def gamma(self, shape, scale=1.0, size=None):
+        return self._mix(0.0, 20 * shape * scale, super().gamma(shape, scale, size))
+
+
+def test_draws_in_the_tails_still_give_valid_tables(tmp_path):
+    # what 100 000 airfields (or an unlucky seed) reach now and then, here in 60 airfields
+    rng = _TailRng(np.random.PCG64(20))
+    generate_network(60, rng, tmp_path)
+    assert validate_folder(tmp_path) == []
+    t = load_folder(tmp_path)
+    wind = pd.read_csv(tmp_path / "wind_rose.csv")
+    windy = wind[wind["speed_low_mps"] >= 5.0].groupby(["airfield_id", "month"])["frequency"]
+    assert (windy.sum() == 0).any()            # a calm site (mean speed 0) was drawn
+    qnh = t.climate_monthly["qnh_pa"] / 100.0
+    assert qnh.min() < 990.0 and qnh.max() > 1036.0   # clipped base ± the seasonal swing
+    # the hottest site's annual mean stays at or below 39.5 °C (not read as °F)
+    hot = t.climate_monthly.groupby("airfield_id")["mean_daily_max_k"].mean() - 273.15
+    assert 39.0 < hot.max() <= 39.55
+
+
+def test_many_aircraft_type_variants_stay_in_range(tmp_path):
+    # 200 types = 25 scaled copies of each demo type: the scale stays within ±20 %
+    generate_network(2, 0, tmp_path, n_types=200)
+    assert validate_folder(tmp_path) == []
+    types = load_folder(tmp_path).aircraft_types
+    assert len(types) == 200 and types["aircraft_type_id"].is_unique
+    ratio = types["mtow_kg"].to_numpy().reshape(25, 8) / types["mtow_kg"].to_numpy()[:8]
+    assert ratio.min() >= 0.8 - 1e-3 and ratio.max() <= 1.2 + 1e-3
+
+
+def test_generate_command_bad_options_and_one_airfield(tmp_path, capsys):
+    from pipeline.cli import main
+
+    assert main(["generate", str(tmp_path / "neg"), "--airfields", "3", "--seed", "-1"]) == 2
+    assert "--seed must be a whole number ≥ 0; got -1" in capsys.readouterr().err
+    assert not (tmp_path / "neg").exists()
+    assert main(["generate", str(tmp_path / "one"), "--airfields", "1", "--seed", "4"]) == 0
+    assert "1 airfield to" in capsys.readouterr().out
+    assert validate_folder(tmp_path / "one") == []
