@@ -499,23 +499,25 @@ class GroundRegime:
             new._root = None
         return new
 
-    def acceleration(self, v):
-        """Acceleration at true airspeeds.
+    def acceleration(self, v, slope=False):
+        """Acceleration at true airspeeds (and its slope dA/dV).
 
         Parameters
         ----------
         v : array_like
             True airspeed per case, shape (n,). [m/s]
+        slope : bool, optional
+            Also return dA/dV. [–]
 
         Returns
         -------
         numpy.ndarray
-            a(V). [m/s²]
+            a(V) [m/s²]; with ``slope``, the pair (a, da/dV) [m/s², 1/s].
 
         Notes
         -----
-        a = a0 + a1 V + a2 V|V| terms (reverse-flow a2 below 0); propeller above the kink:
-        eta P/(m V) + a0' + a2 V².
+        a = a0 + a1 V + a2 V|V| terms (reverse-flow a2 below 0), da/dV = a1 + 2 a2 V;
+        propeller above the kink: eta P/(m V) + a0' + a2 V², da/dV = −eta P/(m V²) + 2 a2 V.
 
         References
         ----------
@@ -526,14 +528,22 @@ class GroundRegime:
         if self.a2_reverse is not None:
             a2 = np.where(v < 0.0, self.a2_reverse, a2)
         out = a0 + (a1 + a2 * v) * v
+        if slope:
+            d_out = a1 + 2.0 * a2 * v
         if self.prop.size:
             i = self.prop
             vi = v[i]
+            above_kink = vi > self.kink[i]
             with np.errstate(divide="ignore", invalid="ignore"):
                 above = self._p_m / vi + self._a0n + self._a2p * vi * vi
+                if slope:
+                    d_above = -self._p_m / (vi * vi) + 2.0 * self._a2p * vi
             out = np.array(out, copy=True)
-            out[i] = np.where(vi > self.kink[i], above, out[i])
-        return out
+            out[i] = np.where(above_kink, above, out[i])
+            if slope:
+                d_out = np.array(d_out, copy=True)
+                d_out[i] = np.where(above_kink, d_above, d_out[i])
+        return (out, d_out) if slope else out
 
 
 @dataclass(frozen=True)
@@ -584,18 +594,25 @@ class StopEvents:
         """The events of the cases at ``index`` (integer array)."""
         return StopEvents(*(np.asarray(getattr(self, f.name))[index] for f in dataclasses.fields(self)))
 
-    def actions(self, v1_mps, headwind_mps, accel_roll_mps2, accel_stop_mps2):
+    def actions(self, v1_mps, headwind_mps, accel_roll_mps2, accel_stop_mps2, slopes=None):
         """Speed when the lift dumpers are in and the distance from V1 to there.
 
         ``accel_roll_mps2``, ``accel_stop_mps2``: the ground-roll (takeoff thrust) and full-stop
         (idle, lift dumpers) accelerations at V1 of the engine state (all engines, or N − 1).
+        ``slopes``: their da/dV at V1; then also d(speed)/dV1 and d(distance)/dV1.
         """
         v1 = np.asarray(v1_mps, dtype=float)
         v2 = v1 * v1
         brakes = accel_roll_mps2 - self.friction_step_mps2 + self.friction_lift_kg_m * v2 / self.mass_kg
         idle = accel_stop_mps2 + self.dumper_kg_m * v2 / self.mass_kg
-        return takeoffevents.stop_actions(v1, interval_s=self.action_interval_s, accel_brakes_mps2=brakes,
-                                          accel_idle_mps2=idle, headwind_mps=headwind_mps)
+        out = takeoffevents.stop_actions(v1, interval_s=self.action_interval_s, accel_brakes_mps2=brakes,
+                                         accel_idle_mps2=idle, headwind_mps=headwind_mps)
+        if slopes is None:
+            return out
+        d_brakes = slopes[0] + 2.0 * self.friction_lift_kg_m * v1 / self.mass_kg
+        d_idle = slopes[1] + 2.0 * self.dumper_kg_m * v1 / self.mass_kg
+        return out + takeoffevents.stop_actions_slope(interval_s=self.action_interval_s, accel_brakes_mps2=brakes,
+                                                      accel_brakes_slope=d_brakes, accel_idle_slope=d_idle)
 
 
 @dataclass(frozen=True)
@@ -921,14 +938,16 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
             # V_EF = vi; V1 one recognition interval later; the all-engines stop from V1
             # with its stop actions (physics.takeoffevents)
             # (accelerations of the timed pieces taken at V1, as by hand)
-            a_oo = oo.acceleration(vi)
-            v1i = np.clip(takeoffevents.recognition_v1_mps(vi, a_oo, evi.recognition_s), vi,
+            a_oo, d_oo = oo.acceleration(vi, slope=True)
+            t_r = evi.recognition_s
+            v1i = np.clip(takeoffevents.recognition_v1_mps(vi, a_oo, t_r), vi,
                           np.maximum(model.speeds.vr_mps[idx], vi))
-            rec = evi.recognition_s > 0.0
-            a_ae, a_sa = ae.acceleration(v1i), sa.acceleration(v1i)
+            rec = t_r > 0.0
+            (a_ae, d_ae), (a_sa1, d_sa1) = ae.acceleration(v1i, slope=True), sa.acceleration(v1i, slope=True)
+            gap, mid = v1i - vi, 0.5 * ((vi - wi) + (v1i - wi))
             with np.errstate(divide="ignore", invalid="ignore"):
-                pre = np.where(rec, 0.5 * ((vi - wi) + (v1i - wi)) * (v1i - vi) / a_ae, 0.0)
-            v_act, act = evi.actions(v1i, wi, a_ae, a_sa)
+                pre = np.where(rec, mid * gap / a_ae, 0.0)
+            v_act, act, dv_act, d_act = evi.actions(v1i, wi, a_ae, a_sa1, slopes=(d_ae, d_sa1))
             ss = sa.distance_m(v_act, wi)
             s_oei[idx], s_stop[idx] = so, ss
             out_v1[idx], out_pre[idx], out_act[idx], out_a[idx] = v1i, pre, act, a_oo
@@ -936,9 +955,14 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
                 break
             h = base[idx] - so + pre + delay_s * (v1i - wi) + act + ss
             vg = vi - wi
+            a_sa = np.where(evi.action_interval_s > 0.0, sa.acceleration(v_act), a_sa1)
             with np.errstate(divide="ignore", invalid="ignore"):
-                extra = np.where(rec, a_oo * evi.recognition_s / a_ae, 0.0) + 2.0 * evi.action_interval_s
-                dh = vg / a_oo + extra + delay_s - (v_act - wi) / a_sa
+                # dh/dV_EF through V1 = V_EF + a(V_EF) t_r (exact for the hand pieces, so that
+                # the search converges as fast as without them)
+                dv1 = np.where(rec, 1.0 + d_oo * t_r, 1.0)
+                d_pre = np.where(rec, (0.5 * (1.0 + dv1) * gap + mid * (dv1 - 1.0)) / a_ae
+                                 - mid * gap * d_ae * dv1 / (a_ae * a_ae), 0.0)
+                dh = (vg / a_oo + d_pre + delay_s * dv1) + d_act * dv1 - (v_act - wi) / a_sa * dv_act * dv1
                 step = h / dh
         # a case stops stepping after its own number of evaluations (last step at k = count − 2)
         step = np.where(np.isfinite(step) & (dh > 0) & multi[idx] & (k < count[idx] - 1), step, 0.0)

@@ -270,6 +270,44 @@ def stop_actions(v1_mps, *, interval_s, accel_brakes_mps2, accel_idle_mps2, head
     return np.where(some, v_b, v1), np.where(some, s_a + s_b, 0.0)
 
 
+def stop_actions_slope(*, interval_s, accel_brakes_mps2, accel_brakes_slope, accel_idle_slope):
+    """How the end speed and distance of :func:`stop_actions` move with V1.
+
+    Parameters
+    ----------
+    interval_s : array_like
+        Time between actions Δ. [s]
+    accel_brakes_mps2 : array_like
+        Acceleration at V1 braking at takeoff thrust, a₁ (unused: kept for symmetry). [m/s²]
+    accel_brakes_slope, accel_idle_slope : array_like
+        da/dV of the two accelerations at V1. [1/s]
+
+    Returns
+    -------
+    speed_slope : numpy.ndarray
+        dv_end/dV1 (1 where Δ = 0). [–]
+    distance_slope : numpy.ndarray
+        ds/dV1 (0 where Δ = 0). [s]
+
+    Notes
+    -----
+    With ā = ½ (a₁ + a_idle) and primes for d/dV1: v_a = V1 + a₁ Δ, s_a = (V1 − w) Δ + ½ a₁ Δ²,
+    v_b = v_a + ā Δ, s_b = (v_a − w) Δ + ½ ā Δ²; so dv_b/dV1 = 1 + (a₁' + ā') Δ and
+    ds/dV1 = Δ + ½ a₁' Δ² + (1 + a₁' Δ) Δ + ½ ā' Δ² (no stop inside the pieces).
+
+    References
+    ----------
+    .. [1] 14 CFR 25.109(a). .. [2] FAA AC 25-7.
+    """
+    dt = np.asarray(interval_s, dtype=float)
+    d1 = np.asarray(accel_brakes_slope, dtype=float)
+    d_mean = 0.5 * (d1 + np.asarray(accel_idle_slope, dtype=float))
+    some = dt > 0.0
+    speed = np.where(some, 1.0 + (d1 + d_mean) * dt, 1.0)
+    dist = np.where(some, dt + 0.5 * d1 * dt * dt + (1.0 + d1 * dt) * dt + 0.5 * d_mean * dt * dt, 0.0)
+    return speed, dist
+
+
 def available_after_lineup_m(declared_m, lineup_allowance_m):
     """A declared distance less the runway used to line up.
 
