@@ -423,19 +423,28 @@ def _check_specs(name: str, cols: dict) -> None:
             bad, first = np.array([col.required and v.null_count > 0]), "(blank)"
         elif col.dtype in ("float", "int"):
             x = np.asarray(v, dtype=float)
+            # one pass each for the least and largest value (NaN propagates through min/max
+            # and is skipped by fmin/fmax); the masks only when something is wrong
+            if col.required:
+                lo, hi = np.min(x, initial=np.inf), np.max(x, initial=-np.inf)
+            else:
+                lo, hi = np.fmin.reduce(x, initial=np.inf), np.fmax.reduce(x, initial=-np.inf)
+            if (not np.isnan(lo) and not np.isnan(hi) and (col.min is None or lo >= col.min)
+                    and (col.max is None or hi <= col.max)):
+                continue
             bad = np.isnan(x) if col.required else np.zeros(x.shape, bool)
             with np.errstate(invalid="ignore"):
                 if col.min is not None:
                     bad |= x < col.min
                 if col.max is not None:
                     bad |= x > col.max
-            first = x[bad][0] if bad.any() else None
+            first = float(x[bad][0]) if bad.any() else None
         else:
             t = np.asarray(v)
             bad = (pd.isna(t) | (t == "")) if col.required else np.zeros(t.shape, bool)
             if col.allowed is not None:
                 bad |= ~np.isin(t, col.allowed)
-            first = t[bad][0] if bad.any() else None
+            first = str(t[bad][0]) if bad.any() else None
         if bad.any():
             raise RuntimeError(
                 f"synthetic {name}: {int(bad.sum())} value(s) of {col.name} blank or outside "

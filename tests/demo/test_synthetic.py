@@ -7,9 +7,11 @@ import sys
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 import pytest
 
-from demo_network.synthetic import generate_network, rose_frequencies, speed_class_shares
+from demo_network.synthetic import (_check_specs, generate_network, rose_frequencies,
+                                    speed_class_shares)
 from schemas.load import load_folder
 from schemas.validate import validate_folder
 
@@ -173,6 +175,26 @@ def test_many_aircraft_type_variants_stay_in_range(tmp_path):
     assert len(types) == 200 and types["aircraft_type_id"].is_unique
     ratio = types["mtow_kg"].to_numpy().reshape(25, 8) / types["mtow_kg"].to_numpy()[:8]
     assert ratio.min() >= 0.8 - 1e-3 and ratio.max() <= 1.2 + 1e-3
+
+
+def test_a_generated_value_outside_its_limits_stops_before_writing():
+    good = dict(airfield_id=np.array(["syn-1", "syn-2"]), name=np.array(["a", "b"]),
+                latitude_deg=np.array([10.0, 20.0]), longitude_deg=np.array([0.0, 5.0]),
+                elevation_m=np.array([0.0, 100.0]))
+    _check_specs("airfields", good)
+    for col, value, shown in (("elevation_m", np.nan, "nan"), ("longitude_deg", 180.5, "180.5"),
+                              ("airfield_id", "", "''")):
+        cols = {k: v.copy() for k, v in good.items()}
+        cols[col] = cols[col].astype(object) if col == "airfield_id" else cols[col]
+        cols[col][1] = value
+        with pytest.raises(RuntimeError, match=rf"1 value\(s\) of {col} .*first: {shown}\)"):
+            _check_specs("airfields", cols)
+    wind = {"frequency": np.array([0.5, np.nan])}
+    with pytest.raises(RuntimeError, match="frequency blank or outside 0 … 100"):
+        _check_specs("wind_rose", {**wind, "airfield_id": pa.array(["a", "a"]),
+                                   "month": np.array([1, 1]),
+                                   "speed_low_mps": np.array([0.0, 1.5]),
+                                   "speed_high_mps": np.array([1.5, 5.0])})
 
 
 def test_generate_command_bad_options_and_one_airfield(tmp_path, capsys):
