@@ -9,6 +9,7 @@ No formulas here: every number comes from :mod:`physics`; this module only forma
 
 from __future__ import annotations
 
+import dataclasses
 import os
 from dataclasses import dataclass
 
@@ -145,7 +146,7 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
     ExplainedCase
         The text and the headline figures.
     """
-    from physics import atmosphere, climb, constants, enginefailure, fieldlength, limits, thrust
+    from physics import atmosphere, climb, constants, enginefailure, fieldlength, limits, takeoffevents, thrust
     from physics import weightlimit as wl
 
     if input_dir is None:
@@ -195,6 +196,13 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
     L.add("rolling / braking friction", f"{_f(s.mu_roll):.3f} / {_f(s.mu_brake):.3f}", "–")
     L.add("screen height", _num(_f(s.screen_height_m) / constants.FT_M, 0), "ft",
           "35 ft dry, 15 ft wet (14 CFR 25.113)")
+    lineup = _f(a.lineup_allowance_m)
+    if lineup > 0:
+        s = dataclasses.replace(s, **{k: takeoffevents.available_after_lineup_m(getattr(s, k), lineup)
+                                      for k in ("tora_m", "toda_m", "asda_m")})
+        L.add("line-up allowance", _num(lineup), "m", "runway used to align, off each declared distance")
+        L.add("available after line-up", f"{_num(s.tora_m)} / {_num(s.toda_m)} / {_num(s.asda_m)}", "m",
+              "TORA / TODA / ASDA used below")
 
     at = "the limit mass" if np.isfinite(limit) else "OEW (no mass meets every requirement)"
     L.head(f"3. Speeds at {at}: {_num(mass)} kg")
@@ -209,6 +217,19 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
     _speed(L, "V2 (takeoff safety speed)", sp.v2_mps, rho)
     if bool(np.ravel(sp.vmcg_limited)[0]):
         L.text("  VR was below VMCG: VR, VLOF and V2 raised in proportion to VMCG (14 CFR 25.107).")
+
+    L.head("3a. Event sequence (14 CFR 25.107, 25.109; delays: common flight-test practice)")
+    t_r, t_a = _f(a.engine_failure_recognition_s), _f(a.stop_action_interval_s)
+    t_rot = _f(takeoffevents.rotation_time_s(a.rotation_pitch_deg, a.rotation_rate_deg_per_s))
+    if _f(a.engine_count) > 1:
+        _speed(L, "VEF (engine failure)", ef.v_ef_mps, rho)
+        L.add("recognition time, VEF to V1", _num(t_r, 1), "s", "on the remaining engines" if t_r else
+              "0: failure recognised at V1")
+    L.add("time between stop actions", _num(t_a, 1), "s",
+          "brakes at V1, thrust to idle, then lift dumpers" if t_a else "0: all actions at V1")
+    L.add("rotation", _num(t_rot, 2), "s",
+          f"{_num(_f(a.rotation_pitch_deg), 1)}° at {_num(_f(a.rotation_rate_deg_per_s), 1)}°/s; "
+          "VLOF at least VR plus the speed gained" if t_rot else "0: VLOF from its ratio")
 
     L.head("4. Thrust")
     n_eng = _f(a.engine_count)
@@ -239,7 +260,8 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
               f"ASDA {_num(s.asda_m)} m")
     L.add("accelerate-stop, all engines" + ("" if n_eng > 1 else " (stop from VR)"),
           _num(ef.accelerate_stop_all_engines_m), "m", f"ASDA {_num(s.asda_m)} m")
-    L.text("  accelerate-stop: all engines to V1, 2 s at V1, then braking at idle thrust, no reverse "
+    L.text("  accelerate-stop: to V1 (engine failure: all engines to VEF, then the recognition time), "
+           "the stop actions one interval apart, 2 s at V1, braking at idle thrust, no reverse "
            "(14 CFR 25.109).")
     if n_eng > 1:
         bfl, bv1 = enginefailure.balanced_field_length_m(a, s, np.asarray([_f(a.mtow_kg)]))

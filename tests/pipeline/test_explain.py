@@ -55,3 +55,28 @@ def test_explain_cli_runs(capsys):
     out = capsys.readouterr().out
     assert "all engines, 14 CFR 23.65(a)" in out
     assert CAUTION in out
+
+
+def test_explain_shows_the_event_sequence_and_the_lineup(tmp_path):
+    import shutil
+
+    import pandas as pd
+
+    from demo_network import demo_path
+
+    r = explain_case(None, "saltmere", "08", 7, "narrowbody-180", "dry")
+    for needle in ("VEF (engine failure)", "recognition time, VEF to V1", "time between stop actions",
+                   "rotation"):
+        assert needle in r.text, needle
+    # defaults (blank columns): 1 s, 1 s and 8° at 3°/s = 2.67 s (common flight-test practice)
+    assert re.search(r"recognition time, VEF to V1\s+1\.0 s", r.text)
+    assert re.search(r"rotation\s+2\.67 s", r.text)
+    folder = tmp_path / "net"
+    shutil.copytree(demo_path(), folder)
+    types = pd.read_csv(folder / "aircraft_types.csv", dtype=str, keep_default_na=False)
+    types.loc[types["aircraft_type_id"] == "narrowbody-180", "lineup_allowance_m"] = "60"
+    types.to_csv(folder / "aircraft_types.csv", index=False)
+    lined = explain_case(folder, "saltmere", "08", 7, "narrowbody-180", "dry")
+    assert "line-up allowance" in lined.text
+    # saltmere 08: TORA 3400, TODA 3680, ASDA 3460 (demo), less 60 m each
+    assert re.search(r"available after line-up\s+3,340 / 3,620 / 3,400 m", lined.text)
