@@ -22,7 +22,7 @@ import pipeline.settings  # noqa: F401  (offline Prefect defaults first)
 from pipeline.errors import FieldlimitsError
 from schemas.caution import CAUTION
 
-ORDER = ("run", "check", "sql", "export", "report", "explain", "serve", "generate")
+ORDER = ("run", "check", "calibrate", "runs", "sql", "export", "report", "explain", "serve", "generate")
 DESCRIPTION = (
     "Takeoff-weight limits and route payloads for every runway direction, month and "
     "aircraft type of an airline network, stored run by run in DuckDB."
