@@ -1,7 +1,9 @@
 """Rebuild the bundled demo network (``demo_network/data/*.csv``) from compact definitions.
 
 Everything here is invented: the region, its airfields, their climate and winds, the
-aircraft types and the routes. Coordinates sit mostly over open ocean on purpose.
+aircraft types, the routes and the reference points (the model's own field lengths and
+climb-limited masses for the demo types, moved by up to 1 % and rounded: see
+``REFERENCE_CONDITIONS``). Coordinates sit mostly over open ocean on purpose.
 
     python -m demo_network.build_demo            # rewrite demo_network/data/
     python -m demo_network.build_demo --out DIR  # write elsewhere
@@ -256,6 +258,27 @@ ROUTES = [
     ("pinecairn", "north-tarn", "light-single-4", 1.02, _, 80, 45, 90),
 ]
 
+# --------------------------------------------------------------------------------------
+# reference points for `fieldlimits calibrate` (invented): the model's own figures for the
+# demo types above at these conditions, each moved by a fixed pseudo-random share of at most
+# REFERENCE_SPREAD and rounded (field lengths to 10 m, masses to 10 kg), so that a fit has
+# something to absorb. They are not chart readings of any real type.
+# (point id, kind, mass as a share of MTOW, pressure altitude m, OAT °C, condition)
+REFERENCE_CONDITIONS = [
+    ("sl-isa-mtow", "field_length", 1.00, 0, 15, "dry"),
+    ("sl-isa-90", "field_length", 0.90, 0, 15, "dry"),
+    ("sl-isa-80", "field_length", 0.80, 0, 15, "dry"),
+    ("sl-hot-mtow", "field_length", 1.00, 0, 40, "dry"),
+    ("1500m-warm-90", "field_length", 0.90, 1500, 25, "dry"),
+    ("sl-isa-mtow-wet", "field_length", 1.00, 0, 15, "wet"),
+]
+# the climb-limited mass at the first of these (pressure altitude m, OAT °C) where it is
+# below MTOW
+CLIMB_CONDITIONS = [(1500, 40), (2500, 30), (3000, 35), (4000, 30)]
+REFERENCE_SPREAD = 0.01
+REFERENCE_SEED = 2615
+REFERENCE_SOURCE = "invented: demo model, moved by up to 1 %"
+
 SPEED_CLASSES = ((1.5, 4.0), (4.0, 8.0), (8.0, 13.0), (13.0, 25.0))
 CALM_MPS = 1.5
 SECTORS = 16
@@ -364,10 +387,61 @@ def build_frames(seed: int = 20261) -> dict[str, pd.DataFrame]:
             "aircraft_types": types, "routes": routes}
 
 
+def reference_point_frame(aircraft_si: pd.DataFrame) -> pd.DataFrame:
+    """The invented reference points of the demo types (user units), from the model.
+
+    ``aircraft_si`` is ``schemas.load.load_folder(...).aircraft_types`` of the demo.
+    """
+    import dataclasses
+
+    from physics import calibration
+    from physics.weightlimit import Aircraft
+
+    names = [f.name for f in dataclasses.fields(Aircraft)]
+    rows = []
+    for _, t in aircraft_si.iterrows():
+        aircraft = Aircraft(**{f: float(t[f]) for f in names})
+        conds = [(pid, kind, share * t["mtow_kg"], alt, oat, cond)
+                 for pid, kind, share, alt, oat, cond in REFERENCE_CONDITIONS]
+        conds += [(f"climb-{alt}m-{oat}c", "climb_limited_mass", np.nan, alt, oat, "dry")
+                  for alt, oat in CLIMB_CONDITIONS]
+        pts = calibration.reference_points(
+            kind=[c[1] for c in conds], mass_kg=[c[2] for c in conds],
+            pressure_altitude_m=[c[3] for c in conds],
+            temperature_k=[c[4] + 273.15 for c in conds], reported_headwind_mps=0.0, slope=0.0,
+            surface="paved", condition=[c[5] for c in conds], published=np.ones(len(conds)))
+        values, _ = calibration.model_values(aircraft, pts)
+        climb_done = False
+        for (pid, kind, mass, alt, oat, cond), v in zip(conds, values):
+            if not np.isfinite(v):
+                continue
+            if kind == "climb_limited_mass":
+                if climb_done or not t["oew_kg"] < v < t["mtow_kg"]:
+                    continue
+                climb_done = True
+            rows.append({"aircraft_type_id": t["aircraft_type_id"], "point_id": pid, "kind": kind,
+                         "mass_kg": round(float(mass)) if kind == "field_length" else v,
+                         "field_length_m": v if kind == "field_length" else None,
+                         "pressure_altitude_m": float(alt), "oat_c": float(oat),
+                         "condition": cond, "source": REFERENCE_SOURCE})
+    out = pd.DataFrame(rows)
+    moved = 1.0 + REFERENCE_SPREAD * np.random.default_rng(REFERENCE_SEED).uniform(-1.0, 1.0, len(out))
+    fl = out["kind"] == "field_length"
+    out["field_length_m"] = np.where(fl, np.round(out["field_length_m"].astype(float) * moved, -1), np.nan)
+    out["mass_kg"] = np.where(fl, out["mass_kg"], np.round(out["mass_kg"].astype(float) * moved, -1))
+    return out
+
+
 def write(out: Path) -> None:
+    from schemas.load import load_folder
+
     out.mkdir(parents=True, exist_ok=True)
+    (out / "reference_points.csv").unlink(missing_ok=True)  # rebuilt from the tables below
     for name, df in build_frames().items():
         df.to_csv(out / f"{name}.csv", index=False, lineterminator="\n", float_format="%.6g")
+    points = reference_point_frame(load_folder(out).aircraft_types)
+    points.to_csv(out / "reference_points.csv", index=False, lineterminator="\n",
+                  float_format="%.6g")
 
 
 def main(argv=None) -> int:

@@ -20,6 +20,7 @@ from pathlib import Path
 import pandas as pd
 
 from schemas.tables import TABLES, THRUST_MODELS, TableSpec
+from schemas.typeclasses import defaulted_columns, fill_class_defaults
 from schemas.validate import InputError, Problem, check_folder
 
 #: Field order of ``physics.weightlimit.Aircraft`` (DEVELOPERS.md); the SI aircraft frame
@@ -52,12 +53,15 @@ class Tables(Mapping):
 
     Attributes
     ----------
-    airfields, runways, climate_monthly, wind_rose, aircraft_types, routes : DataFrame
+    airfields, runways, climate_monthly, wind_rose, aircraft_types, routes, reference_points : DataFrame
         SI units (``runways.slope`` rise over run, ``climate_monthly.*_k`` kelvin,
         ``qnh_pa`` pascal, ``aircraft_types`` fields of ``physics.weightlimit.Aircraft``
         with ``thrust_model`` as its integer code, ``routes.contingency_fraction``,
         ``alternate_distance_m``, ``final_reserve_s``). ``routes`` is empty (with its
-        columns) when the folder has no routes table. Wind-rose frequencies are shares.
+        columns) when the folder has no routes table, ``reference_points`` likewise (SI:
+        ``temperature_k``, ``headwind_mps`` as reported, ``slope``). Wind-rose frequencies
+        are shares. Blank ``aircraft_types`` coefficients hold their class defaults
+        (:mod:`schemas.typeclasses`).
         ``cruise_tsfc_kg_per_n_s`` is NaN for propeller types, ``cruise_psfc_kg_per_w_s``
         NaN for jets.
     user : dict of str to DataFrame
@@ -69,6 +73,8 @@ class Tables(Mapping):
         The folder read.
     files : dict of str to Path
         The file read for each table.
+    class_defaults : dict of str to tuple of str
+        Aircraft type id → the columns filled from its class defaults.
     """
 
     airfields: pd.DataFrame
@@ -77,10 +83,12 @@ class Tables(Mapping):
     wind_rose: pd.DataFrame
     aircraft_types: pd.DataFrame
     routes: pd.DataFrame
+    reference_points: pd.DataFrame
     user: dict[str, pd.DataFrame] = field(default_factory=dict)
     warnings: list[Problem] = field(default_factory=list)
     source: Path | None = None
     files: dict[str, Path] = field(default_factory=dict)
+    class_defaults: dict[str, tuple[str, ...]] = field(default_factory=dict)
 
     def table(self, name: str) -> pd.DataFrame:
         """SI frame of a table by name."""
@@ -127,11 +135,14 @@ def load_folder(path) -> Tables:
         frame = check.frames.get(name)
         if frame is None:
             frame = _empty(spec)
+        if name == "aircraft_types":  # blank coefficients: the class defaults
+            frame, defaulted = fill_class_defaults(frame)
+            class_defaults = defaulted_columns(frame, defaulted)
         user[name] = user_frame(frame, spec)
         si[name] = si_frame(user[name], spec)
     return Tables(**si, user=user,
                   warnings=[p for p in check.problems if p.severity == "warning"],
-                  source=Path(path), files=dict(check.files))
+                  source=Path(path), files=dict(check.files), class_defaults=class_defaults)
 
 
 def _empty(spec: TableSpec) -> pd.DataFrame:

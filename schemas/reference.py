@@ -12,6 +12,7 @@ import sys
 from pathlib import Path
 
 from schemas.tables import FILE_SUFFIXES, TABLES, TableSpec
+from schemas.typeclasses import DEFAULTED_COLUMNS
 
 START = "<!-- input-reference:start -->"
 END = "<!-- input-reference:end -->"
@@ -36,6 +37,8 @@ def table_markdown(spec: TableSpec) -> str:
     for c in spec.columns:
         req = "yes" if c.required else (f"no (blank = {c.default:g})"
                                         if isinstance(c.default, float) else "no")
+        if spec.name == "aircraft_types" and c.name in DEFAULTED_COLUMNS:
+            req = "no (blank = class default)"
         out.append("| " + " | ".join(_cell(x) for x in (
             f"`{c.name}`", c.dtype, c.unit or "", req, c.range_text(), c.typical,
             c.description)) + " |")
@@ -49,7 +52,9 @@ def markdown() -> str:
     """The whole input reference (without the start/end markers)."""
     parts = [
         "Put one file per table in a folder (`"
-        + "`, `".join(TABLES) + "`; `routes` is optional), as "
+        + "`, `".join(TABLES) + "`; "
+        + " and ".join(f"`{t.name}`" for t in TABLES.values() if not t.required_file)
+        + " are optional), as "
         + " or ".join(f"`{s}`" for s in FILE_SUFFIXES) + ". Units are in the column names. "
         "Identifiers are free text without spaces (letters, digits, `-`, `_`, `.`). Row "
         "numbers in error messages count data rows: row 1 is the first row below the header "

@@ -27,6 +27,8 @@ try:  # the friction table owns the surface names once it exists
 except Exception:  # pragma: no cover - physics/friction.py not written yet
     _SURFACES = ("paved", "gravel", "grass", "dirt")
 
+from schemas.typeclasses import CLASS_NAMES
+
 try:
     from physics.thrust import MODEL_CODES as _MODEL_CODES
 except Exception:  # pragma: no cover - physics/thrust.py not written yet
@@ -151,6 +153,10 @@ def _c(name, dtype, unit, required, description, **kw) -> Column:
 
 
 _ID = dict(pattern=ID_PATTERN)
+
+# an aerodynamic or configuration coefficient of aircraft_types: optional, a blank cell takes
+# the class default of the type (schemas.typeclasses)
+_CLASS = False
 
 AIRFIELDS = TableSpec(
     name="airfields",
@@ -287,7 +293,11 @@ AIRCRAFT_TYPES = TableSpec(
     name=_AC,
     description=(
         "One row per aircraft type: every parameter the takeoff, climb and route-fuel models "
-        "need. All figures are the user's planning figures for the type."
+        "need. All figures are the user's planning figures for the type. The aerodynamic "
+        "and configuration coefficients (required \"no (blank = class default)\") may be "
+        "left blank: they then take the typical value of the type's class (`type_class`; "
+        "the values and their sources are in `schemas/typeclasses.py`), and `fieldlimits "
+        "calibrate` can fit them to published field lengths. A value given always wins."
     ),
     columns=(
         _c("aircraft_type_id", "str", "", True, "Identifier of the type, unique.", **_ID),
@@ -306,29 +316,29 @@ AIRCRAFT_TYPES = TableSpec(
         _c("wing_area_m2", "float", "m²", True, "Reference wing area.", min=5, max=1000,
            typical="15 … 450"),
         _c("wing_span_m", "float", "m", True, "Wing span.", min=5, max=90, typical="10 … 65"),
-        _c("wing_height_m", "float", "m", True,
+        _c("wing_height_m", "float", "m", _CLASS,
            "Height of the wing above the runway during the ground roll (ground effect).",
            min=0.3, max=10, typical="1 … 5"),
-        _c("cd0_clean", "float", "–", True, "Zero-lift drag coefficient, clean.",
+        _c("cd0_clean", "float", "–", _CLASS, "Zero-lift drag coefficient, clean.",
            min=0.01, max=0.1, typical="0.015 … 0.03"),
-        _c("cd0_gear", "float", "–", True, "Zero-lift drag increment of the extended gear.",
+        _c("cd0_gear", "float", "–", _CLASS, "Zero-lift drag increment of the extended gear.",
            min=0, max=0.05, typical="0.01 … 0.02"),
-        _c("cd0_takeoff_flaps", "float", "–", True,
+        _c("cd0_takeoff_flaps", "float", "–", _CLASS,
            "Zero-lift drag increment of takeoff flaps.", min=0, max=0.08,
            typical="0.005 … 0.02"),
-        _c("oswald_efficiency", "float", "–", True, "Span (Oswald) efficiency e.",
+        _c("oswald_efficiency", "float", "–", _CLASS, "Span (Oswald) efficiency e.",
            min=0.5, max=1.0, typical="0.7 … 0.85"),
-        _c("cl_ground_roll", "float", "–", True,
+        _c("cl_ground_roll", "float", "–", _CLASS,
            "Lift coefficient during the ground roll (takeoff flaps, three wheels down).",
            min=0, max=1.5, typical="0.1 … 0.8"),
-        _c("cl_max_takeoff", "float", "–", True,
+        _c("cl_max_takeoff", "float", "–", _CLASS,
            "Maximum lift coefficient with takeoff flaps (sets the stall speed).",
            min=1.0, max=3.5, typical="1.6 … 2.6"),
-        _c("vr_over_vs", "float", "–", True, "Rotation speed / stall speed.",
+        _c("vr_over_vs", "float", "–", _CLASS, "Rotation speed / stall speed.",
            min=1.0, max=1.5, typical="1.05 … 1.15"),
-        _c("vlof_over_vs", "float", "–", True, "Lift-off speed / stall speed.",
+        _c("vlof_over_vs", "float", "–", _CLASS, "Lift-off speed / stall speed.",
            min=1.0, max=1.6, typical="1.1 … 1.2"),
-        _c("v2_over_vs", "float", "–", True,
+        _c("v2_over_vs", "float", "–", _CLASS,
            "Speed at the screen height (V2) / stall speed.", min=1.05, max=1.6,
            typical="1.13 … 1.3"),
         _c("engine_count", "int", "–", True, "Number of engines.", min=1, max=4),
@@ -362,20 +372,20 @@ AIRCRAFT_TYPES = TableSpec(
         _c("propeller_efficiency", "float", "–", False,
            "Propeller model: propulsive efficiency at takeoff speeds (required for "
            "`propeller`); blank = 0.", min=0, max=0.95, default=0.0, typical="0.6 … 0.85"),
-        _c("engine_out_drag_cd", "float", "–", True,
+        _c("engine_out_drag_cd", "float", "–", _CLASS,
            "Drag coefficient increment of a failed engine (windmilling or feathered "
            "propeller and trim); 0 for single-engine types.",
            min=0, max=0.05, typical="0.002 … 0.01"),
-        _c("vmcg_kt", "float", "kt", True,
+        _c("vmcg_kt", "float", "kt", _CLASS,
            "Minimum control speed on the ground (CAS); 0 for single-engine types.",
            min=0, max=160, typical="60 … 125", si_name="vmcg_mps", si_scale=KT_TO_MPS),
-        _c("braking_cl", "float", "–", True,
+        _c("braking_cl", "float", "–", _CLASS,
            "Lift coefficient during braking (lift dumpers deployed).",
            min=-0.5, max=1.5, typical="0 … 0.4"),
-        _c("braking_cd_increment", "float", "–", True,
+        _c("braking_cd_increment", "float", "–", _CLASS,
            "Drag coefficient added during braking (lift dumpers, spoilers).",
            min=0, max=0.1, typical="0 … 0.04"),
-        _c("idle_thrust_fraction", "float", "–", True,
+        _c("idle_thrust_fraction", "float", "–", _CLASS,
            "Idle thrust as a share of static thrust (during the stop).",
            min=0, max=0.2, typical="0.03 … 0.08"),
         _c("tailwind_limit_kt", "float", "kt", True, "Maximum tailwind component for takeoff.",
@@ -421,9 +431,17 @@ AIRCRAFT_TYPES = TableSpec(
         _c("lineup_allowance_m", "float", "m", False,
            "Runway used to line up, subtracted from TORA, TODA and ASDA.",
            min=0, max=500, default=0.0, typical="0 … 60"),
+        _c("type_class", "str", "", False,
+           "Class whose typical coefficients fill the blank cells. Blank: jets with 1 … 19 "
+           "seats `business_jet`, other jets `transport_jet`; propeller types above 5 700 kg "
+           "MTOW `regional_turboprop`, lighter ones `light_twin` (two or more engines) or "
+           "`light_single`.",
+           allowed=CLASS_NAMES),
     ),
     key=("aircraft_type_id",),
     rules=(
+        "Blank coefficient cells take their class defaults first; the checks below see "
+        "the values used (a message on such a cell says it holds the class default).",
         "`oew_kg` < `mtow_kg`; `oew_kg` + `max_payload_kg` ≤ `mtow_kg`; "
         "`oew_kg` < `max_landing_mass_kg` ≤ `mtow_kg` (errors).",
         "`oew_kg` + `max_payload_kg` ≤ `max_landing_mass_kg` and `oew_kg` + `max_fuel_kg` ≤ "
@@ -492,9 +510,64 @@ ROUTES = TableSpec(
     ),
 )
 
+REFERENCE_POINT_KINDS = ("field_length", "climb_limited_mass")
+"""Kinds of reference point (``physics.calibration.KINDS``)."""
+
+REFERENCE_POINTS = TableSpec(
+    name="reference_points",
+    description=(
+        "Optional, for `fieldlimits calibrate`: published figures of a type read from the "
+        "manufacturer's airport-planning charts, one row per point. `field_length`: the "
+        "takeoff field length needed at `mass_kg` on a runway without clearway or stopway. "
+        "`climb_limited_mass`: the largest mass meeting the takeoff climb gradient at the "
+        "pressure altitude and temperature (give it in `mass_kg`). A run ignores the table "
+        "(but `check` and `run` check it when it is there)."
+    ),
+    columns=(
+        _c("aircraft_type_id", "str", "", True, "Aircraft type the point belongs to.", **_ID),
+        _c("point_id", "str", "", True,
+           "Identifier of the point, unique within the type (e.g. `tofl-sl-isa-mtow`).", **_ID),
+        _c("kind", "str", "", True, "What the point gives.", allowed=REFERENCE_POINT_KINDS),
+        _c("mass_kg", "float", "kg", True,
+           "`field_length`: the takeoff mass; `climb_limited_mass`: the published "
+           "climb-limited mass.", min=300, max=700000, typical="OEW … MTOW"),
+        _c("field_length_m", "float", "m", False,
+           "`field_length`: the published takeoff field length (metres, not feet); blank "
+           "for `climb_limited_mass`.", min=100, max=8000, typical="600 … 4 000"),
+        _c("pressure_altitude_m", "float", "m", True,
+           "Pressure altitude of the point (the airfield elevation on a standard-pressure "
+           "day; metres, not feet).", min=-500, max=5000, typical="0 … 3 000"),
+        _c("oat_c", "float", "°C", True, "Outside air temperature.", min=-60, max=60,
+           typical="ISA … ISA + 30", si_name="temperature_k", si_offset=273.15),
+        _c("headwind_kt", "float", "kt", False,
+           "Reported wind component along the runway, + headwind, − tailwind; factored as in "
+           "a run (50 % of a headwind, 150 % of a tailwind); blank = 0.",
+           min=-20, max=50, default=0.0, typical="0", si_name="headwind_mps",
+           si_scale=KT_TO_MPS),
+        _c("slope_pct", "float", "%", False, "Runway slope, + uphill; blank = 0.", min=-5, max=5,
+           default=0.0, typical="0", si_name="slope", si_scale=0.01),
+        _c("surface", "str", "", False, "Runway surface; blank = paved.", allowed=SURFACES,
+           default="paved"),
+        _c("condition", "str", "", False,
+           "Runway condition: `dry` (35 ft screen) or `wet` (15 ft screen, never shorter "
+           "than dry); blank = dry.", allowed=("dry", "wet"), default="dry"),
+        _c("source", "str", "", False,
+           "Where the figure comes from (chart and page), shown in the fit report."),
+    ),
+    key=("aircraft_type_id", "point_id"),
+    foreign_keys=(ForeignKey(("aircraft_type_id",), "aircraft_types", ("aircraft_type_id",)),),
+    required_file=False,
+    rules=(
+        "`field_length` rows need `field_length_m`; `climb_limited_mass` rows leave it blank.",
+        "`fieldlimits calibrate` also refuses a mass outside the type's `oew_kg` … "
+        "`mtow_kg` and a tailwind above its `tailwind_limit_kt`.",
+    ),
+)
+
 TABLES: dict[str, TableSpec] = {
     t.name: t
-    for t in (AIRFIELDS, RUNWAYS, CLIMATE_MONTHLY, WIND_ROSE, AIRCRAFT_TYPES, ROUTES)
+    for t in (AIRFIELDS, RUNWAYS, CLIMATE_MONTHLY, WIND_ROSE, AIRCRAFT_TYPES, ROUTES,
+              REFERENCE_POINTS)
 }
 """Table name -> definition, in the order a user fills them in."""
 

@@ -41,6 +41,7 @@ import numpy as np
 import pandas as pd
 
 from schemas.tables import FILE_SUFFIXES, TABLES, TableSpec
+from schemas.typeclasses import fill_class_defaults, shown_values
 
 MAX_ROWS_PER_CHECK = 50
 """At most this many rows are listed for one check of one column; the rest are counted."""
@@ -630,6 +631,9 @@ _RANGE_HINTS = {
     "tora_m": _feet_hint,
     "toda_m": _feet_hint,
     "asda_m": _feet_hint,
+    "field_length_m": _feet_hint,
+    "pressure_altitude_m": _feet_hint,
+    "oat_c": _fahrenheit_hint,
 }
 
 
@@ -658,6 +662,8 @@ def _cross_checks(check: FolderCheck) -> None:
         _aircraft_checks(f["aircraft_types"], _fname(check, "aircraft_types"), pr)
     if "routes" in f:
         _route_checks(f["routes"], _fname(check, "routes"), pr)
+    if "reference_points" in f:
+        _reference_point_checks(f["reference_points"], _fname(check, "reference_points"), pr)
     for name, df in f.items():
         for fk in TABLES[name].foreign_keys:
             ref = f.get(fk.ref_table)
@@ -1020,8 +1026,11 @@ def _speed_classes(df, p, am_all, file, pr) -> None:
 
 
 def _aircraft_checks(df, file, pr) -> None:
+    # blank coefficients take their class defaults first (schemas.typeclasses): the checks see
+    # the values a run uses, and a message on such a cell says where its value comes from
+    df, defaulted = fill_class_defaults(df)
     g = {c: df[c].to_numpy() for c in df.columns if c not in ("aircraft_type_id", "name",
-                                                              "thrust_model")}
+                                                              "thrust_model", "type_class")}
     idx = df.index
     with np.errstate(invalid="ignore"):
         _report(pr, "error", file, idx, g["oew_kg"] >= g["mtow_kg"], "oew_kg", g["oew_kg"],
@@ -1043,11 +1052,14 @@ def _aircraft_checks(df, file, pr) -> None:
                 "max_fuel_kg", g["max_fuel_kg"], "oew_kg + max_fuel_kg ≤ mtow_kg",
                 "full tanks with no payload exceed MTOW")
         _report(pr, "error", file, idx, g["vr_over_vs"] > g["vlof_over_vs"], "vlof_over_vs",
-                g["vlof_over_vs"], "≥ vr_over_vs", "lift-off speed below rotation speed")
+                shown_values(df, defaulted, "vlof_over_vs", "vr_over_vs"),
+                "≥ vr_over_vs", "lift-off speed below rotation speed")
         _report(pr, "error", file, idx, g["vlof_over_vs"] > g["v2_over_vs"], "v2_over_vs",
-                g["v2_over_vs"], "≥ vlof_over_vs", "V2 below lift-off speed")
+                shown_values(df, defaulted, "v2_over_vs", "vlof_over_vs"),
+                "≥ vlof_over_vs", "V2 below lift-off speed")
         _report(pr, "error", file, idx, g["cl_ground_roll"] >= g["cl_max_takeoff"],
-                "cl_ground_roll", g["cl_ground_roll"], "< cl_max_takeoff",
+                "cl_ground_roll", shown_values(df, defaulted, "cl_ground_roll", "cl_max_takeoff"),
+                "< cl_max_takeoff",
                 "ground-roll lift coefficient not below the maximum")
         multi = g["engine_count"] >= 2
         _report(pr, "error", file, idx, multi & ~(g["vmcg_kt"] > 0), "vmcg_kt", g["vmcg_kt"],
@@ -1070,6 +1082,16 @@ def _aircraft_checks(df, file, pr) -> None:
     _report(pr, "error", file, idx, jet & np.isnan(g["cruise_tsfc_g_per_kn_s"]),
             "cruise_tsfc_g_per_kn_s", g["cruise_tsfc_g_per_kn_s"],
             "a value for jet types", "jet type needs its cruise fuel consumption")
+
+
+def _reference_point_checks(df, file, pr) -> None:
+    kind, length = df["kind"].to_numpy(), df["field_length_m"].to_numpy()
+    _report(pr, "error", file, df.index, (kind == "field_length") & np.isnan(length),
+            "field_length_m", length, "the published takeoff field length",
+            "field_length point without its field length")
+    _report(pr, "error", file, df.index, (kind == "climb_limited_mass") & ~np.isnan(length),
+            "field_length_m", length, "blank (the climb-limited mass goes in mass_kg)",
+            "climb_limited_mass point with a field length")
 
 
 def _route_checks(df, file, pr) -> None:

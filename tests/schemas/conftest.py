@@ -21,6 +21,11 @@ def small_network(tmp_path_factory) -> Path:
         df = pd.read_csv(src / f"{name}.csv", dtype=str, keep_default_na=False)
         df[df["airfield_id"].isin(KEEP)].to_csv(out / f"{name}.csv", index=False)
     shutil.copy(src / "aircraft_types.csv", out / "aircraft_types.csv")
+    # the reference points of every type but the first (tests rename the first type's id and
+    # mend the routes that refer to it)
+    points = pd.read_csv(src / "reference_points.csv", dtype=str, keep_default_na=False)
+    first = pd.read_csv(src / "aircraft_types.csv", dtype=str).loc[0, "aircraft_type_id"]
+    points[points["aircraft_type_id"] != first].to_csv(out / "reference_points.csv", index=False)
     routes = pd.read_csv(src / "routes.csv", dtype=str, keep_default_na=False)
     keep = routes["origin_id"].isin(KEEP) & routes["destination_id"].isin(KEEP)
     routes[keep].to_csv(out / "routes.csv", index=False)
