@@ -13,13 +13,16 @@ name                      code  meaning
 ``no_takeoff``            7     a requirement fails even at OEW (no mass is possible)
 ``invalid_input``         8     the case is outside the model's input contract
                                 (``physics.caseinput``: NaN, OEW > MTOW, TODA < TORA, …)
+``obstacle_clearance``    9     the net takeoff flight path does not clear an obstacle by
+                                35 ft (14 CFR 25.111, 25.115; ``physics.flightpath``)
 ========================  ====  ===========================================================
 
 Codes are stable: new factors are appended, never renumbered.
 
 References
 ----------
-.. [1] 14 CFR Part 25, §§25.109, 25.113, 25.121 (EASA CS-25 identical in these provisions).
+.. [1] 14 CFR Part 25, §§25.109, 25.111, 25.113, 25.115, 25.121 (EASA CS-25 identical in these
+   provisions).
 """
 
 from __future__ import annotations
@@ -36,6 +39,7 @@ FACTORS = (
     "crosswind_limit",
     "no_takeoff",
     "invalid_input",
+    "obstacle_clearance",
 )
 
 _CODE = {n: i for i, n in enumerate(FACTORS)}

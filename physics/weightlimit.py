@@ -59,6 +59,7 @@ from physics import climb
 from physics import constants as const
 from physics import enginefailure
 from physics import fieldlength
+from physics import flightpath
 from physics import groundrun
 from physics import limits
 from physics import takeoffevents
@@ -118,6 +119,12 @@ class Aircraft:
     rotation_pitch_deg: np.ndarray = 0.0
     rotation_rate_deg_per_s: np.ndarray = 3.0
     lineup_allowance_m: np.ndarray = 0.0
+    # the takeoff flight path over obstacles (physics.flightpath; used only with obstacles)
+    gear_retraction_s: np.ndarray = 6.0
+    acceleration_height_m: np.ndarray = 400.0 * const.FT_M
+    max_acceleration_height_m: np.ndarray = 1000.0 * const.FT_M
+    mct_share: np.ndarray = 0.9
+    cl_max_clean: np.ndarray = 1.5
 
 
 @dataclass(frozen=True)
@@ -169,6 +176,11 @@ class WeightLimit:
     climb_gradient : numpy.ndarray
         Takeoff climb gradient at V2 (second segment; all engines for single-engine types;
         NaN with ``rules="all_engines"``). [–]
+    obstacle_clearance_m, acceleration_height_m : numpy.ndarray
+        With obstacles: the net path's height over the governing obstacle less the obstacle
+        and 35 ft, and the acceleration height used (NaN without obstacles). [m]
+    governing_obstacle : numpy.ndarray
+        Index of the governing obstacle in the case's row of ``obstacles`` (NaN none). [–]
     """
 
     tow_limit_kg: np.ndarray
@@ -181,6 +193,9 @@ class WeightLimit:
     v2_mps: np.ndarray
     v_lof_mps: np.ndarray
     climb_gradient: np.ndarray
+    obstacle_clearance_m: np.ndarray
+    acceleration_height_m: np.ndarray
+    governing_obstacle: np.ndarray
 
 
 _RESULT_FIELDS = tuple(f.name for f in fields(WeightLimit) if f.name not in ("tow_limit_kg", "limiting_factor"))
@@ -302,6 +317,16 @@ def _lazy_getattr(self, name):
     return val
 
 
+class _LazyField:
+    """A field of a lazily taken :class:`Aircraft`/:class:`Site` that has a class default."""
+
+    def __init__(self, name):
+        self.name = name
+
+    def __get__(self, obj, objtype=None):
+        return self if obj is None else _lazy_getattr(obj, self.name)
+
+
 def _lazy_take(obj, index):
     """``obj`` (an :class:`Aircraft` or :class:`Site` of arrays) at ``index``, each field
     indexed on first use: a search reads only the fields its requirements need."""
@@ -312,7 +337,10 @@ def _lazy_take(obj, index):
         parent = obj
     cls = _LAZY_CLASSES.get(type(parent))
     if cls is None:
-        cls = type(type(parent).__name__, (type(parent),), {"__getattr__": _lazy_getattr, "__slots__": ()})
+        # fields with a default are class attributes, found before __getattr__ is asked: a
+        # descriptor of the subclass hides them until the field is taken
+        hide = {f.name: _LazyField(f.name) for f in fields(parent) if f.default is not dataclasses.MISSING}
+        cls = type(type(parent).__name__, (type(parent),), {"__getattr__": _lazy_getattr, "__slots__": (), **hide})
         _LAZY_CLASSES[type(parent)] = cls
     new = object.__new__(cls)
     object.__setattr__(new, "_lazy_parent", parent)
@@ -555,7 +583,12 @@ RULES = {"transport": TRANSPORT_REQUIREMENTS, "all_engines": ALL_ENGINES_REQUIRE
 #: to add one.
 REQUIREMENTS = list(TRANSPORT_REQUIREMENTS)
 
-_ENGINE_FAILURE_MARGINS = {r.margin for r in ENGINE_FAILURE_REQUIREMENTS}
+#: The net takeoff flight path clears every obstacle by 35 ft (added by
+#: :func:`solve_takeoff_weight` for the cases given obstacles).
+OBSTACLE_REQUIREMENT = Requirement("obstacle_clearance", flightpath.obstacle_clearance_margin,
+                                   flightpath.obstacle_report)
+
+_ENGINE_FAILURE_MARGINS = {r.margin for r in ENGINE_FAILURE_REQUIREMENTS} | {OBSTACLE_REQUIREMENT.margin}
 
 
 # ---------------------------------------------------------------------------------------------
@@ -597,7 +630,8 @@ def requirement_margins(cases, mass_kg, requirements=None):
     return margins, memo
 
 
-def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules="transport", figures=True):
+def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules="transport", figures=True,
+                         obstacles=None):
     """Largest takeoff mass between OEW and MTOW meeting every requirement, per case.
 
     Parameters
@@ -617,6 +651,10 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
         ``"transport"`` (default: all-engines 115 % distances, one-engine-inoperative
         distances and accelerate-stop at the best V1, second-segment climb) or
         ``"all_engines"`` (the all-engines pair only). [–]
+    obstacles : physics.flightpath.Obstacles, optional
+        Obstacles past the end of TODA of each case's runway direction, shape (n, K), NaN
+        padded. Cases with obstacles also meet ``OBSTACLE_REQUIREMENT`` (net takeoff flight
+        path clears each by 35 ft); cases without are solved exactly as without the argument. [m]
     figures : bool, optional
         False: only the limit mass is wanted (e.g. grid nodes to interpolate). The search is
         the same, so the mass is too; the distances, speeds and gradients are left NaN and,
@@ -652,6 +690,7 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
     ----------
     .. [3] Numerical Recipes §9.1. .. [1] 14 CFR 25.109(b), 25.113.
     """
+    transport = requirements is None and rules == "transport"
     if requirements is None:
         if rules not in RULES:
             raise ValueError(f"unknown rules {rules!r}; expected one of {sorted(RULES)}")
@@ -660,16 +699,56 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
     n = case_count(aircraft, site)
     refused = caseinput.refusal_codes(aircraft, site, n)
     keep = np.flatnonzero(refused < 0)
-    if keep.size == n:
+    with_obstacles = None
+    if obstacles is not None and transport:
+        with_obstacles = np.broadcast_to(obstacles.present, (n,))[keep]
+        if not with_obstacles.any():
+            with_obstacles = None
+    if keep.size == n and with_obstacles is None:
         return _solve_accepted(aircraft, site, tol_kg, reqs, figures)
     # cases outside the input contract: NaN and their reason; the others solved as a batch
+    # (those with obstacles in a batch of their own, with the obstacle requirement)
     out = {f.name: np.full(n, np.nan) for f in fields(WeightLimit)}
     out["limiting_factor"] = refused
-    if keep.size:
-        solved = _solve_accepted(_gather(aircraft, keep, n), _gather(site, keep, n), tol_kg, reqs, figures)
-        for f in fields(WeightLimit):
-            out[f.name][keep] = getattr(solved, f.name)
+    parts, cleared = [(keep, reqs, None)], None
+    if with_obstacles is not None:
+        obs = keep[with_obstacles]
+        # obstacles the net path clears at MTOW never bind (the margin falls as the mass
+        # rises): those cases are solved without the requirement, to the bit as without them
+        top = requirement_margins(_obstacle_cases(aircraft, site, obs, n, obstacles),
+                                  np.broadcast_to(np.asarray(aircraft.mtow_kg, dtype=float), (n,))[obs],
+                                  [OBSTACLE_REQUIREMENT])[0][0]
+        binding = ~(top >= 0.0)
+        cleared = obs[~binding]
+        plain = np.sort(np.concatenate([keep[~with_obstacles], cleared]))
+        parts = [(plain, reqs, None), (obs[binding], reqs + [OBSTACLE_REQUIREMENT], obstacles.take_cases(obs[binding]))]
+    for index, part_reqs, part_obstacles in parts:
+        if index.size:
+            solved = _solve_accepted(_gather(aircraft, index, n), _gather(site, index, n), tol_kg, part_reqs,
+                                     figures, part_obstacles)
+            for f in fields(WeightLimit):
+                out[f.name][index] = getattr(solved, f.name)
+    if figures and cleared is not None and cleared.size:
+        # the clearance at the limit of the cases whose obstacles do not bind
+        done = cleared[np.isfinite(out["tow_limit_kg"][cleared])]
+        if done.size:
+            cases = _obstacle_cases(aircraft, site, done, n, obstacles)
+            cases._cache["engine_failure_final"] = True
+            _, memo = requirement_margins(cases, out["tow_limit_kg"][done], [OBSTACLE_REQUIREMENT])
+            for key, val in flightpath.obstacle_report(cases, out["tow_limit_kg"][done], memo).items():
+                out[key][done] = val
     return WeightLimit(**out)
+
+
+def _obstacle_cases(aircraft, site, index, n, obstacles):
+    """Prepared cases at ``index`` (with the line-up taken off) and their obstacles."""
+    a, s = _gather(aircraft, index, n), _gather(site, index, n)
+    if np.any(a.lineup_allowance_m > 0.0):
+        s = dataclasses.replace(s, **{k: takeoffevents.available_after_lineup_m(getattr(s, k), a.lineup_allowance_m)
+                                      for k in ("tora_m", "toda_m", "asda_m")})
+    cases = prepare_cases(a, s, vmcg_floor=True)
+    cases._cache["obstacles"] = obstacles.take_cases(index)
+    return cases
 
 
 def _gather(obj, index, n):
@@ -678,13 +757,13 @@ def _gather(obj, index, n):
                         for f in fields(obj)})
 
 
-def _solve_accepted(aircraft, site, tol_kg, reqs, figures):
+def _solve_accepted(aircraft, site, tol_kg, reqs, figures, obstacles=None):
     """:func:`solve_takeoff_weight` for cases inside the input contract."""
     if np.any(np.asarray(aircraft.lineup_allowance_m) > 0.0):  # the runway used to line up
         lineup = aircraft.lineup_allowance_m
         site = dataclasses.replace(site, **{k: takeoffevents.available_after_lineup_m(getattr(site, k), lineup)
                                             for k in ("tora_m", "toda_m", "asda_m")})
-    result = _solve(aircraft, site, tol_kg, reqs, figures)
+    result = _solve(aircraft, site, tol_kg, reqs, figures, obstacles)
     dry_roll = np.asarray(site.mu_roll_dry if site.mu_roll_dry is not None else np.nan, dtype=float)
     dry_brake = np.asarray(site.mu_brake_dry if site.mu_brake_dry is not None else np.nan, dtype=float)
     n = result.tow_limit_kg.shape[0]
@@ -702,7 +781,8 @@ def _solve_accepted(aircraft, site, tol_kg, reqs, figures):
                        "mu_brake": np.broadcast_to(dry_brake, (n,))[idx],
                        "screen_height_m": np.full(idx.size, const.SCREEN_HEIGHT_35FT_M),
                        "mu_roll_dry": math.nan, "mu_brake_dry": math.nan})
-    dry = _solve(take(aircraft), dry_site, tol_kg, reqs, figures)
+    dry = _solve(take(aircraft), dry_site, tol_kg, reqs, figures,
+                 None if obstacles is None else obstacles.take_cases(idx))
     w_lim = result.tow_limit_kg[idx]
     lower = ~np.isnan(w_lim) & (np.isnan(dry.tow_limit_kg) | (dry.tow_limit_kg < w_lim))
     out = {}
@@ -1023,9 +1103,11 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     return lo_out, hi_out, mhi_out, none_out, j, v1_state
 
 
-def _solve(aircraft, site, tol_kg, reqs, figures=True):
+def _solve(aircraft, site, tol_kg, reqs, figures=True, obstacles=None):
     engine_failure = any(r.margin in _ENGINE_FAILURE_MARGINS for r in reqs)
     cases = prepare_cases(aircraft, site, vmcg_floor=engine_failure)
+    if obstacles is not None:
+        cases._cache["obstacles"] = obstacles
     a = cases.aircraft
 
     def margins_fn(cs, mass):

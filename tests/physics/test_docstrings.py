@@ -8,7 +8,7 @@ import re
 import pytest
 
 CORE = ["constants", "atmosphere", "wind", "friction", "aerodynamics", "thrust", "groundrun", "airborne",
-        "fieldlength", "limits", "weightlimit", "select", "caseinput"]
+        "fieldlength", "limits", "weightlimit", "select", "caseinput", "takeoffevents", "flightpath"]
 # Small non-physics helpers (bookkeeping, no formula) are exempt from Notes/References.
 EXEMPT = {"case_count"}
 
@@ -39,7 +39,8 @@ def test_numpydoc_sections_and_units(modname):
 
 
 NOT_PHYSICAL = ("callable", "ThrustLaw", "Aircraft", "Site", "Cases", "dict", "object", "list of", "nodes",
-                "WeightLimit", "GroundRun", "TakeoffResult", "AccelerationCoefficients", "**", "bool")
+                "WeightLimit", "GroundRun", "TakeoffResult", "AccelerationCoefficients", "**", "bool",
+                "FlightPath", "PathInputs")
 
 
 def _blocks(doc, section):
