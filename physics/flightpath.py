@@ -25,8 +25,8 @@ path (1 500 ft) belong to the en-route climb and are not checked here.
 A mass is obstacle limited when no acceleration height between the type's default and its
 maximum lets the net path clear every obstacle; the search (``physics.weightlimit``) uses
 :func:`obstacle_clearance_margin`, the best over those heights of the least clearance margin
-(available/required − 1 with available = net height over the obstacle, required = obstacle
-height + 35 ft).
+(:func:`obstacle_margins`: the net height over the obstacle less the obstacle and 35 ft, scaled
+by the required height).
 
 References
 ----------
@@ -362,12 +362,13 @@ def obstacle_margins(path, obstacles_x_m, obstacles_h_m):
     Returns
     -------
     numpy.ndarray
-        (h_net(x) − h_obs − 35 ft)/(h_obs + 35 ft) = h_net/(h_obs + 35 ft) − 1; +inf for padding
+        (h_net(x) − h_req)/(max(h_req, 0) + 35 ft) with h_req = h_obs + 35 ft; +inf for padding
         and for obstacles past the end of the path. [–]
 
     Notes
     -----
-    Required height h_obs + 35 ft (14 CFR 121.189(d)(2)).
+    Required height h_obs + 35 ft (14 CFR 121.189(d)(2)); the scale max(h_req, 0) + 35 ft keeps
+    the margin dimensionless for obstacles below the runway end too.
 
     References
     ----------
@@ -376,7 +377,7 @@ def obstacle_margins(path, obstacles_x_m, obstacles_h_m):
     h = path.height_at(obstacles_x_m)
     req = np.asarray(obstacles_h_m, dtype=float) + OBSTACLE_CLEARANCE_M
     with np.errstate(invalid="ignore", divide="ignore"):
-        m = h / req - 1.0
+        m = (h - req) / (np.fmax(req, 0.0) + OBSTACLE_CLEARANCE_M)
     past = np.asarray(obstacles_x_m) > path.x_m[..., -1:]
     return np.where(np.isnan(req) | past, np.inf, np.where(np.isnan(m), -1.0, m))
 
@@ -501,7 +502,7 @@ def obstacle_clearance_margin(cases, mass_kg, memo):
     Returns
     -------
     numpy.ndarray
-        h_net/(h_obs + 35 ft) − 1 at the governing obstacle, best acceleration height; ≥ 0
+        :func:`obstacle_margins` at the governing obstacle, best acceleration height; ≥ 0
         where every obstacle is cleared; +inf without obstacles in reach. [–]
 
     Notes
