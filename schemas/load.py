@@ -41,6 +41,7 @@ AIRCRAFT_FIELDS: tuple[str, ...] = (
     "cruise_psfc_kg_per_w_s", "taxi_fuel_kg",
     "engine_failure_recognition_s", "stop_action_interval_s", "rotation_pitch_deg",
     "rotation_rate_deg_per_s", "lineup_allowance_m",
+    "gear_retraction_s", "acceleration_height_m", "max_acceleration_height_m", "mct_share", "cl_max_clean",
 )
 
 

@@ -431,6 +431,25 @@ AIRCRAFT_TYPES = TableSpec(
         _c("lineup_allowance_m", "float", "m", False,
            "Runway used to line up, subtracted from TORA, TODA and ASDA.",
            min=0, max=500, default=0.0, typical="0 … 60"),
+        # the takeoff flight path over obstacles (physics.flightpath; used where a runway
+        # direction has obstacles)
+        _c("gear_retraction_s", "float", "s", False,
+           "Time from the screen height to gear up (first segment of the takeoff path; common "
+           "practice, from memory).", min=0, max=30, default=6.0, typical="5 … 10"),
+        _c("acceleration_height_ft", "float", "ft", False,
+           "Height of the level acceleration one engine out (at least 400 ft, 14 CFR 25.111(c)(2)).",
+           min=400, max=1500, default=400.0, typical="400 … 1 000",
+           si_name="acceleration_height_m", si_scale=0.3048),
+        _c("max_acceleration_height_ft", "float", "ft", False,
+           "Highest acceleration height the type may use to clear obstacles (takeoff-thrust time "
+           "limit; from memory).", min=400, max=3000, default=1000.0, typical="800 … 1 500",
+           si_name="max_acceleration_height_m", si_scale=0.3048),
+        _c("mct_share", "float", "–", False,
+           "Maximum continuous thrust (or power) as a share of takeoff thrust (final segment; from "
+           "memory).", min=0.5, max=1.0, default=0.9, typical="0.85 … 0.95"),
+        _c("cl_max_clean", "float", "–", False,
+           "Maximum lift coefficient, clean (final takeoff speed 1.25 VS clean, 14 CFR 25.121(c); "
+           "Raymer §12, from memory).", min=0.8, max=2.5, default=1.5, typical="1.2 … 1.6"),
         _c("type_class", "str", "", False,
            "Class whose typical coefficients fill the blank cells. Blank: jets with 1 … 19 "
            "seats `business_jet`, other jets `transport_jet`; propeller types above 5 700 kg "
