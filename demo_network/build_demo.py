@@ -400,7 +400,7 @@ def reference_point_frame(aircraft_si: pd.DataFrame) -> pd.DataFrame:
     names = [f.name for f in dataclasses.fields(Aircraft)]
     rows = []
     for _, t in aircraft_si.iterrows():
-        aircraft = Aircraft(**{f: float(t[f]) for f in names})
+        aircraft = Aircraft(**{f: float(t[f]) for f in names if f in t.index})
         conds = [(pid, kind, share * t["mtow_kg"], alt, oat, cond)
                  for pid, kind, share, alt, oat, cond in REFERENCE_CONDITIONS]
         conds += [(f"climb-{alt}m-{oat}c", "climb_limited_mass", np.nan, alt, oat, "dry")

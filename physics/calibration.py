@@ -79,6 +79,9 @@ KINDS = ("field_length", "climb_limited_mass")
 FIELD_LENGTH = 0
 CLIMB_LIMITED_MASS = 1
 
+#: Limiting factors of the requirements a runway length satisfies.
+DISTANCE_FACTORS = ("takeoff_distance", "takeoff_run", "accelerate_stop")
+
 #: Posterior/prior standard-deviation share below which the points determine a coefficient
 #: (posterior information ≥ 4 × prior, i.e. the points add at least three priors' worth). [–]
 DETERMINED_SHARE = 0.5
@@ -184,8 +187,9 @@ def reference_points(*, kind, mass_kg, pressure_altitude_m, temperature_k, repor
     Returns
     -------
     ReferencePoints
-        SI, the friction of the surface and condition, the screen height of the condition
-        and, for wet points, the dry friction of the same runway.
+        The points in SI units, with the friction of the surface and condition, the screen
+        height of the condition and, for wet points, the dry friction of the same runway.
+        [SI]
 
     Notes
     -----
@@ -262,17 +266,19 @@ def distance_requirements(rules="transport"):
     Returns
     -------
     list of Requirement
-        The rule set without its climb requirement.
+        The rule set's requirements on takeoff distance, takeoff run and accelerate-stop
+        distance.
 
     Notes
     -----
-    The climb gradient does not depend on the runway; the field length is set by the rest.
+    The climb gradient and obstacle clearance do not scale with the runway length; the
+    field length is set by the distance requirements (:data:`DISTANCE_FACTORS`).
 
     References
     ----------
     .. [1] 14 CFR 25.109, 25.113.
     """
-    return [r for r in wl.RULES[rules] if r.factor != "climb_gradient"]
+    return [r for r in wl.RULES[rules] if r.factor in DISTANCE_FACTORS]
 
 
 def _shortest_runway_m(aircraft, points, mass_kg, reqs):
@@ -313,7 +319,7 @@ def takeoff_field_length_m(aircraft, points, mass_kg, *, rules="transport"):
         Type fields, broadcastable to the points (:class:`physics.weightlimit.Aircraft`).
     points : ReferencePoints
         Day, runway condition, slope and factored wind per case (``kind`` and ``published``
-        unused).
+        unused). [SI]
     mass_kg : array_like
         Takeoff mass. [kg]
     rules : str, optional
@@ -322,7 +328,7 @@ def takeoff_field_length_m(aircraft, points, mass_kg, *, rules="transport"):
     Returns
     -------
     FieldLength
-        Length per case [m] and the binding requirement's factor code.
+        Length per case and the binding requirement's factor code. [m], [–]
 
     Notes
     -----
@@ -374,7 +380,7 @@ def climb_limited_mass_kg(aircraft, points):
     aircraft : Aircraft
         Type fields, broadcastable to the points.
     points : ReferencePoints
-        Pressure and temperature per case (the rest unused).
+        Pressure and temperature per case (the rest unused). [SI]
 
     Returns
     -------
@@ -408,7 +414,7 @@ def model_values(aircraft, points, *, rules="transport"):
     aircraft : Aircraft
         Type fields, broadcastable to the points.
     points : ReferencePoints
-        The points.
+        The points. [SI]
     rules : str, optional
         Requirement set for field lengths. [–]
 
@@ -418,7 +424,7 @@ def model_values(aircraft, points, *, rules="transport"):
         Field length [m] or climb-limited mass [kg], by kind; NaN where the model has none.
     factor : numpy.ndarray of int
         Binding requirement of field-length points (``physics.limits`` code), the
-        ``climb_gradient`` code for climb points.
+        ``climb_gradient`` code for climb points. [–]
 
     Notes
     -----
@@ -597,9 +603,9 @@ def fit_coefficients(aircraft, points, coefficients, *, point_share_sd=POINT_SHA
     aircraft : Aircraft
         The type, every field a scalar (SI); the fitted fields start at ``Coefficient.start``.
     points : ReferencePoints
-        Its reference points.
+        Its reference points. [SI]
     coefficients : list of Coefficient
-        What to fit, each with its prior and hard limits (start inside the limits).
+        What to fit, each with its prior and hard limits (start inside the limits). [SI]
     point_share_sd : float or array_like, optional
         Relative standard uncertainty of each published value. [–]
     rules : str, optional
@@ -610,7 +616,7 @@ def fit_coefficients(aircraft, points, coefficients, *, point_share_sd=POINT_SHA
     Returns
     -------
     Fit
-        Coefficients before and after, their uncertainty, and every point's residual.
+        Coefficients before and after, their uncertainty, and every point's residual. [SI]
 
     Notes
     -----
@@ -660,7 +666,9 @@ def fit_coefficients(aircraft, points, coefficients, *, point_share_sd=POINT_SHA
     share = np.sqrt(np.clip(np.diag(posterior), 0.0, None))
     singular = np.linalg.svd(jf, compute_uv=False)
     at_bound = (z <= lo + 1e-9) | (z >= hi - 1e-9)
-    value = model.mu + model.sd * z
+    lower = np.array([c_.lower for c_ in coefficients])
+    upper = np.array([c_.upper for c_ in coefficients])
+    value = np.clip(model.mu + model.sd * z, lower, upper)  # no rounding past a limit
     return Fit(model.names, start, value, model.sd.copy(), model.sd * share, share < DETERMINED_SHARE, at_bound,
                model.published.copy(), model_start, v[0], f[0], residual, singular, bool(sol.success),
                str(sol.message), model.batches)
@@ -672,7 +680,7 @@ def determined_combinations(fit):
     Parameters
     ----------
     fit : Fit
-        A fit result.
+        A fit result. [–]
 
     Returns
     -------
