@@ -122,6 +122,23 @@ def _speed(lines, label, tas, density):
               f"EAS {_num(eas, 2)} m/s, TAS {_num(tas, 2)} m/s")
 
 
+def _class_defaults_line(tables, aircraft_type_id) -> str:
+    """Which coefficients of the type are class defaults (``schemas.typeclasses``)."""
+    from schemas.typeclasses import describe
+
+    users = getattr(tables, "user", {}).get("aircraft_types")
+    cls = ""
+    if users is not None and "type_class" in users.columns:
+        mine = users[users["aircraft_type_id"].astype(str) == aircraft_type_id]
+        cls = str(mine["type_class"].iloc[0]) if len(mine) else ""
+    defaulted = getattr(tables, "class_defaults", {}).get(aircraft_type_id, ())
+    if not defaulted:
+        return f"Type class {cls}: every coefficient is given in the table."
+    lines = [f"Type class {cls}: {len(defaulted)} coefficient(s) are class defaults (blank in the table):"]
+    lines += [f"  {c:<22} {describe(cls, c)}" for c in defaulted]
+    return "\n".join(lines)
+
+
 def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft_type_id="", condition="dry",
                  temperature_offset_k=0.0) -> ExplainedCase:
     """Solve one case and explain every step (plain function behind ``fieldlimits explain``).
@@ -174,6 +191,7 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
     L.text(f"fieldlimits explain — {airfield_id} runway {runway_id}, month {int(month)}, "
            f"{aircraft_type_id} ({row.get('name', '')}), {condition} runway, design day")
     L.text(CAUTION)
+    L.text(_class_defaults_line(tables, aircraft_type_id))
 
     L.head("1. Atmosphere (design day: mean daily maximum, calm)")
     L.add("airfield elevation", _num(airfield["elevation_m"], 0), "m")
