@@ -8,7 +8,8 @@ import re
 import pytest
 
 CORE = ["constants", "atmosphere", "wind", "friction", "aerodynamics", "thrust", "groundrun", "airborne",
-        "fieldlength", "limits", "weightlimit", "select", "caseinput", "takeoffevents", "flightpath"]
+        "fieldlength", "limits", "weightlimit", "select", "caseinput", "takeoffevents", "flightpath",
+        "landing"]
 # Small non-physics helpers (bookkeeping, no formula) are exempt from Notes/References.
 EXEMPT = {"case_count"}
 
