@@ -33,9 +33,17 @@ Payload available is the least of four limits, and the binding one is named (cod
 - ``fuel_capacity``: ``block fuel <= max fuel`` → ``payload <= (max_fuel - taxi)/(G - 1) - OEW``;
 - ``landing_mass``: ``m_L <= max landing mass`` → ``payload <= MLM (1 - c E)/A - OEW``.
 
+A fifth limit comes from the destination runway when it was checked (``physics.landing``):
+``m_L <= landing-mass limit`` → ``payload <= m_land (1 - c E)/A - OEW``, named by what sets the
+landing limit (``landing_distance``, ``approach_climb``, ``landing_climb``); where it equals
+the structural maximum landing mass the route keeps ``landing_mass``. The planned landing mass
+carries the reserves (alternate, final reserve, contingency) on board: they are not burnt
+when the aircraft lands at its destination.
+
 A route whose fuel alone breaks a limit (the least limit is below zero payload), whose origin
-gives no takeoff mass (NaN), or whose type has no usable cruise figures is not possible:
-payload NaN, ``possible`` False and the reason in ``limiting_factor``.
+gives no takeoff mass (NaN), whose destination allows no landing mass (``no_landing``) or
+whose type has no usable cruise figures is not possible: payload NaN, ``possible`` False and
+the reason in ``limiting_factor``.
 
 Not modelled (planning simplifications): en-route wind, climb and descent fuel beyond what the
 cruise figures and the route factor absorb, step climbs, maximum ramp mass and maximum
@@ -68,6 +76,10 @@ ROUTE_LIMITS: tuple[str, ...] = (
     "landing_mass",     # the destination structural landing mass binds
     "no_takeoff",       # the origin gives no takeoff mass at all (NaN limit)
     "no_cruise_data",   # the type has no usable cruise speed / L/D / fuel consumption
+    "landing_distance",  # the destination runway's landing distance binds
+    "approach_climb",   # the destination's approach climb (one engine out) binds
+    "landing_climb",    # the destination's landing climb (all engines) binds
+    "no_landing",       # the destination allows no landing mass at all
 )
 
 #: Default reserve policy and passenger mass (common practice; see module docstring).
@@ -536,6 +548,13 @@ class RoutePayload:
         to ``payload_kg`` is what the origin's takeoff limit costs. [kg]
     plan : FuelPlan
         Fuel and masses at the available payload (NaN where not possible).
+    payload_destination_kg : numpy.ndarray
+        Payload the destination's landing-mass limit alone would allow (+inf where the
+        destination was not checked). [kg]
+    payload_without_destination_kg : numpy.ndarray
+        Payload available if the destination's landing limit were its structural maximum
+        landing mass (NaN where not possible so); the difference to ``payload_kg`` is what
+        the destination runway costs. [kg]
     """
 
     payload_kg: np.ndarray
@@ -546,6 +565,8 @@ class RoutePayload:
     payload_landing_mass_kg: np.ndarray
     payload_at_mtow_kg: np.ndarray
     plan: FuelPlan
+    payload_destination_kg: np.ndarray | None = None
+    payload_without_destination_kg: np.ndarray | None = None
 
 
 def _least_payload(takeoff_mass_limit, oew, max_payload, max_fuel, max_landing, taxi, g, a,
@@ -565,7 +586,8 @@ def _least_payload(takeoff_mass_limit, oew, max_payload, max_fuel, max_landing, 
 
 def payload_available(tow_limit_kg, oew_kg, max_payload_kg, max_fuel_kg, max_landing_mass_kg,
                       taxi_fuel_kg, range_coefficient_per_m, distance_m, cruise_tas_mps,
-                      policy: ReservePolicy = ReservePolicy(), mtow_kg=np.nan) -> RoutePayload:
+                      policy: ReservePolicy = ReservePolicy(), mtow_kg=np.nan,
+                      destination_limit_kg=np.inf, destination_code=None) -> RoutePayload:
     """Payload a route can carry: the least of the structural, takeoff, fuel and landing limits.
 
     Parameters
@@ -592,6 +614,12 @@ def payload_available(tow_limit_kg, oew_kg, max_payload_kg, max_fuel_kg, max_lan
         Reserve policy: contingency share [-], alternate distance [m], final reserve [s].
     mtow_kg : array_like, optional
         Maximum takeoff mass, for ``payload_at_mtow_kg``. [kg]
+    destination_limit_kg : array_like, optional
+        Landing-mass limit of the destination runway (``physics.landing``); +inf where the
+        destination is not checked (the default), NaN where no landing mass is possible. [kg]
+    destination_code : array_like of int, optional
+        Code of :data:`ROUTE_LIMITS` naming the destination limit where it binds (default
+        ``landing_distance``). [-]
 
     Returns
     -------
@@ -602,10 +630,13 @@ def payload_available(tow_limit_kg, oew_kg, max_payload_kg, max_fuel_kg, max_lan
     Notes
     -----
     ``payload = min(max_payload, TOW/G - OEW, (max_fuel - taxi)/(G - 1) - OEW,
-    MLM (1 - c E)/A - OEW)`` (module docstring). Each limit is exact because the fuel scales
-    with the zero-fuel mass. If the least limit is below zero the route is not possible and
-    the limit that fails is the reason; ``no_takeoff`` where the origin limit is NaN and
-    ``no_cruise_data`` where ``k`` is not usable.
+    MLM (1 - c E)/A - OEW, m_land (1 - c E)/A - OEW)`` (module docstring); the destination's
+    limit is named only where it is strictly the least. Each limit is exact because the fuel
+    scales with the zero-fuel mass. If the least limit is below zero the route is not
+    possible and the limit that fails is the reason; ``no_takeoff`` where the origin limit
+    is NaN, ``no_landing`` where the destination limit is NaN and ``no_cruise_data`` where
+    ``k`` is not usable. With the destination not checked (+inf) the results are those of
+    the four limits to the bit.
 
     References
     ----------
@@ -627,6 +658,21 @@ def payload_available(tow_limit_kg, oew_kg, max_payload_kg, max_fuel_kg, max_lan
     least_mtow, _, _, _, _ = _least_payload(
         np.asarray(mtow_kg, dtype=float), oew, max_payload, max_fuel, max_landing, taxi, g, a,
         one_minus_ce)
+    dest = np.asarray(destination_limit_kg, dtype=float)
+    no_landing = np.isnan(dest)
+    checked = ~np.isposinf(dest)
+    without_dest = least
+    if np.any(checked):  # the destination runway: a fifth limit, strictly the least to bind
+        with np.errstate(invalid="ignore"):
+            p_dest = dest * one_minus_ce / a - oew
+        dest_code = (np.full(np.shape(p_dest), route_limit_code("landing_distance"))
+                     if destination_code is None else np.asarray(destination_code, dtype=np.int64))
+        binds = p_dest < least
+        least = np.where(binds, p_dest, least)
+        index = np.where(binds, dest_code, index)
+        least_mtow = np.where(p_dest < least_mtow, p_dest, least_mtow)
+    else:
+        p_dest = np.broadcast_to(np.inf, np.shape(least))
 
     no_cruise = ~np.isfinite(k)
     diverges = ~no_cruise & ~np.isfinite(one_minus_ce)  # contingency never converges
@@ -635,11 +681,14 @@ def payload_available(tow_limit_kg, oew_kg, max_payload_kg, max_fuel_kg, max_lan
         no_cruise, route_limit_code("no_cruise_data"),
         np.where(no_takeoff, route_limit_code("no_takeoff"),
                  np.where(diverges, route_limit_code("fuel_capacity"), index)))
-    possible = ~no_cruise & ~no_takeoff & ~diverges & np.isfinite(least) & (least >= 0.0)
+    if np.any(no_landing):
+        code = np.where(~no_cruise & ~no_takeoff & ~diverges & no_landing, route_limit_code("no_landing"), code)
+    possible = ~no_cruise & ~no_takeoff & ~diverges & ~no_landing & np.isfinite(least) & (least >= 0.0)
+    ok_without = (~no_cruise & ~no_takeoff & ~diverges & np.isfinite(without_dest) & (without_dest >= 0.0))
     payload = np.where(possible, least, np.nan)
     plan = fuel_plan(oew + payload, k, distance_m, cruise_tas_mps, taxi, policy)
     mtow_ok = np.isfinite(np.asarray(mtow_kg, dtype=float)) & ~no_cruise & ~diverges
-    at_mtow = np.where(mtow_ok & np.isfinite(least_mtow) & (least_mtow >= 0), least_mtow, np.nan)
+    at_mtow = np.where(mtow_ok & ~no_landing & np.isfinite(least_mtow) & (least_mtow >= 0), least_mtow, np.nan)
     return RoutePayload(
         payload_kg=payload,
         limiting_factor=code.astype(np.int64),
@@ -650,6 +699,9 @@ def payload_available(tow_limit_kg, oew_kg, max_payload_kg, max_fuel_kg, max_lan
         payload_at_mtow_kg=np.broadcast_to(np.where(mtow_ok, at_mtow, np.nan),
                                            payload.shape).copy(),
         plan=plan,
+        payload_destination_kg=np.broadcast_to(p_dest, payload.shape).copy(),
+        payload_without_destination_kg=np.broadcast_to(np.where(ok_without, without_dest, np.nan),
+                                                       payload.shape).copy(),
     )
 
 

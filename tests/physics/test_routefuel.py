@@ -279,3 +279,60 @@ def test_docstrings_follow_the_house_style():
     from tests.physics.test_docstrings import test_numpydoc_sections_and_units
 
     test_numpydoc_sections_and_units("routefuel")
+
+
+# --- the destination runway's landing-mass limit -------------------------------------------
+
+def _dest_payload(tow_kg, distance_m, dest_kg, code=None):
+    a = JET
+    return rf.payload_available(
+        tow_kg, a["oew_kg"], a["max_payload_kg"], a["max_fuel_kg"], a["max_landing_mass_kg"],
+        a["taxi_fuel_kg"], jet_k(), distance_m, a["cruise_tas_mps"], mtow_kg=a["mtow_kg"],
+        destination_limit_kg=dest_kg, destination_code=code)
+
+
+def test_unchecked_destination_keeps_the_four_limits_to_the_bit():
+    # +inf (no landing check) is the default: every field identical to the bit
+    rng = np.random.default_rng(3)
+    tow = rng.uniform(45_000.0, 72_000.0, 2_000)
+    s = rng.uniform(50e3, 8_000e3, 2_000)
+    tow[::37] = np.nan
+    old = jet_payload(tow, s)
+    new = _dest_payload(tow, s, np.full(2_000, np.inf))
+    for name in ("payload_kg", "limiting_factor", "possible", "payload_takeoff_limit_kg",
+                 "payload_fuel_capacity_kg", "payload_landing_mass_kg", "payload_at_mtow_kg"):
+        np.testing.assert_array_equal(getattr(new, name), getattr(old, name), err_msg=name)
+    for f in ("takeoff_mass_kg", "landing_mass_kg", "trip_fuel_kg", "block_fuel_kg"):
+        np.testing.assert_array_equal(getattr(new.plan, f), getattr(old.plan, f), err_msg=f)
+    np.testing.assert_array_equal(new.payload_without_destination_kg, old.payload_kg)
+
+
+def test_destination_limit_binds_lands_exactly_there_and_is_named():
+    code = rf.route_limit_code("approach_climb")
+    s = 600e3
+    free = _dest_payload(70_000.0, s, np.inf)
+    r = _dest_payload(70_000.0, s, 55_000.0, code)
+    assert rf.route_limit_name(r.limiting_factor) == "approach_climb"
+    # the planned landing mass, reserves on board, is the landing limit
+    assert_allclose(r.plan.landing_mass_kg, 55_000.0, rtol=1e-12)
+    assert r.payload_kg < free.payload_kg
+    assert_allclose(r.payload_without_destination_kg, free.payload_kg, rtol=1e-15)
+    # the origin costs nothing here: payload at MTOW keeps the destination limit
+    assert_allclose(r.payload_at_mtow_kg, r.payload_kg, rtol=1e-15)
+    # a destination limit equal to the structural landing mass keeps the structural name
+    same = _dest_payload(70_000.0, 300e3, JET["max_landing_mass_kg"])
+    assert rf.route_limit_name(same.limiting_factor) != "landing_distance"
+
+
+def test_destination_limit_lowers_payload_monotonically_and_no_landing_is_not_possible():
+    dest = np.linspace(62_000.0, 40_500.0, 120)
+    r = _dest_payload(np.full(dest.size, 70_000.0), 800e3, dest)
+    ok = r.possible
+    assert np.all(np.diff(r.payload_kg[ok]) <= 0.0)
+    names = rf.route_limit_name(r.limiting_factor)
+    assert "landing_distance" in set(names[ok])
+    # below OEW plus the reserves the route is not possible, named by the destination
+    assert (~ok).any() and set(names[~ok]) == {"landing_distance"}
+    nl = _dest_payload(70_000.0, 800e3, np.nan)
+    assert not nl.possible and rf.route_limit_name(nl.limiting_factor) == "no_landing"
+    assert np.isnan(nl.payload_at_mtow_kg)
