@@ -539,8 +539,9 @@ REFERENCE_POINTS = TableSpec(
         "manufacturer's airport-planning charts, one row per point. `field_length`: the "
         "takeoff field length needed at `mass_kg` on a runway without clearway or stopway. "
         "`climb_limited_mass`: the largest mass meeting the takeoff climb gradient at the "
-        "pressure altitude and temperature (give it in `mass_kg`). A run ignores the table "
-        "(but `check` and `run` check it when it is there)."
+        "pressure altitude and temperature (give it in `mass_kg`). A run does not use the "
+        "points; `check` and `run` check the table when it is there and a run stores it with "
+        "its inputs."
     ),
     columns=(
         _c("aircraft_type_id", "str", "", True, "Aircraft type the point belongs to.", **_ID),
