@@ -42,6 +42,8 @@ AIRCRAFT_FIELDS: tuple[str, ...] = (
     "engine_failure_recognition_s", "stop_action_interval_s", "rotation_pitch_deg",
     "rotation_rate_deg_per_s", "lineup_allowance_m",
     "gear_retraction_s", "acceleration_height_m", "max_acceleration_height_m", "mct_share", "cl_max_clean",
+    # the landing configuration: fields of physics.landing.LandingConfig
+    "cl_max_landing", "cd0_landing_flaps", "landing_braking_cl", "landing_free_roll_s",
 )
 
 

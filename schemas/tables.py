@@ -197,6 +197,12 @@ RUNWAYS = TableSpec(
         _c("asda_m", "float", "m", True,
            "Accelerate-stop distance available (TORA + stopway); at least TORA.",
            min=200, max=6000, typical="TORA … TORA + 300"),
+        _c("lda_m", "float", "m", False,
+           "Landing distance available for landings in this direction (towards "
+           "`heading_true_deg`). Blank: no landing check at this runway direction (route "
+           "payloads to the airfield use only the directions that have one; an airfield "
+           "with none is `not_checked`, never taken as long).",
+           min=200, max=6000, typical="TORA − displaced threshold"),
         _c("slope_pct", "float", "%", True,
            "Effective slope in the takeoff direction, + uphill.",
            min=-5, max=5, typical="−1 … 1 (paved), up to ±3 on strips",
@@ -450,6 +456,18 @@ AIRCRAFT_TYPES = TableSpec(
         _c("cl_max_clean", "float", "–", False,
            "Maximum lift coefficient, clean (final takeoff speed 1.25 VS clean, 14 CFR 25.121(c); "
            "Raymer §12, from memory).", min=0.8, max=2.5, default=1.5, typical="1.2 … 1.6"),
+        _c("cl_max_landing", "float", "–", _CLASS,
+           "Maximum lift coefficient with landing flaps (sets the landing stall speed V_SR0 "
+           "and VREF = 1.23 V_SR0).", min=1.0, max=4.0, typical="1.8 … 3.0"),
+        _c("cd0_landing_flaps", "float", "–", _CLASS,
+           "Zero-lift drag increment of landing flaps (landing roll and landing climb).",
+           min=0, max=0.15, typical="0.05 … 0.08"),
+        _c("landing_braking_cl", "float", "–", _CLASS,
+           "Lift coefficient in the landing braking roll (landing flaps, lift dumpers "
+           "deployed where fitted).", min=-0.5, max=1.5, typical="0 … 0.5"),
+        _c("landing_free_roll_s", "float", "s", _CLASS,
+           "Time from touchdown to full braking (the free roll).", min=0, max=5,
+           typical="1 … 3"),
         _c("type_class", "str", "", False,
            "Class whose typical coefficients fill the blank cells. Blank: jets with 1 … 19 "
            "seats `business_jet`, other jets `transport_jet`; propeller types above 5 700 kg "

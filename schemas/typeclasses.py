@@ -105,6 +105,22 @@ def _common(cl_ground, cl_ground_source, clmax, clmax_range, speeds_v2=1.20):
     }
 
 
+_ROSKAM_31_L = "Roskam, Airplane Design Part I, Table 3.1 (CL,max landing {}; range from memory)"
+_ROSKAM_36_LAND = "Roskam, Airplane Design Part I, Table 3.6: landing flaps ΔCD0 0.055 … 0.075 (from memory)"
+_FREE_ROLL = "Raymer, Aircraft Design, §17.9: free roll about 1 s small, 3 s large aircraft (from memory)"
+
+
+def _landing(clmax, clmax_range, braking_cl, braking_source, free_roll_s):
+    """Landing configuration (physics.landing): C_Lmax with landing flaps, flap drag, braking
+    lift, free roll."""
+    return {
+        "cl_max_landing": Default(clmax, 0.3, _ROSKAM_31_L.format(f"{clmax_range[0]:g} … {clmax_range[1]:g}")),
+        "cd0_landing_flaps": Default(0.065, 0.01, _ROSKAM_36_LAND),
+        "landing_braking_cl": Default(braking_cl, 0.1, braking_source),
+        "landing_free_roll_s": Default(free_roll_s, 1.0, _FREE_ROLL),
+    }
+
+
 CLASS_DEFAULTS: dict[str, dict[str, Default]] = {
     "transport_jet": {
         "wing_height_m": Default(0.07, 0.25, "from memory: low wing about 7 % of the span above the runway",
@@ -116,6 +132,8 @@ CLASS_DEFAULTS: dict[str, dict[str, Default]] = {
         "braking_cl": Default(0.05, 0.1, _DUMPERS),
         "braking_cd_increment": Default(0.04, 0.015, _DUMPERS),
         "idle_thrust_fraction": Default(0.06, 0.02, _IDLE),
+        # slats and slotted flaps of airline jets: the upper half of the range (from memory)
+        **_landing(2.5, (1.8, 2.8), 0.10, "from memory: lift dumpers deployed, landing flaps", 3.0),
     },
     "business_jet": {
         "wing_height_m": Default(0.055, 0.25, "from memory: low wing about 5.5 % of the span above the runway",
@@ -127,6 +145,7 @@ CLASS_DEFAULTS: dict[str, dict[str, Default]] = {
         "braking_cl": Default(0.10, 0.1, "from memory: ground spoilers, smaller than an airliner's"),
         "braking_cd_increment": Default(0.03, 0.015, "from memory: ground spoilers"),
         "idle_thrust_fraction": Default(0.06, 0.02, _IDLE),
+        **_landing(2.1, (1.6, 2.6), 0.15, "from memory: ground spoilers deployed, landing flaps", 2.0),
     },
     "regional_turboprop": {
         "wing_height_m": Default(0.10, 0.4, "from memory: low wings about 7 %, high wings about 14 % of the span",
@@ -138,6 +157,7 @@ CLASS_DEFAULTS: dict[str, dict[str, Default]] = {
         "braking_cl": Default(0.20, 0.1, "from memory: no lift dumpers, flaps still down"),
         "braking_cd_increment": Default(0.02, 0.015, "from memory: propellers at ground idle (disc drag)"),
         "idle_thrust_fraction": Default(0.05, 0.02, "from memory: flight idle to ground idle"),
+        **_landing(2.6, (1.9, 3.3), 0.40, "from memory: no lift dumpers, landing flaps down", 2.0),
     },
     "light_twin": {
         "wing_height_m": Default(0.08, 0.3, "from memory: low wing about 8 % of the span above the runway",
@@ -149,6 +169,7 @@ CLASS_DEFAULTS: dict[str, dict[str, Default]] = {
         "braking_cl": Default(0.30, 0.1, "from memory: no lift dumpers: the ground-roll lift"),
         "braking_cd_increment": Default(0.0, 0.01, "from memory: no spoilers"),
         "idle_thrust_fraction": Default(0.05, 0.02, "from memory: idle power"),
+        **_landing(2.0, (1.6, 2.5), 0.45, "from memory: no lift dumpers, landing flaps at ground attitude", 1.0),
     },
     "light_single": {
         "wing_height_m": Default(0.09, 0.4, "from memory: low wing about 9 % of the span above the runway",
@@ -160,6 +181,7 @@ CLASS_DEFAULTS: dict[str, dict[str, Default]] = {
         "braking_cl": Default(0.30, 0.1, "from memory: no lift dumpers: the ground-roll lift"),
         "braking_cd_increment": Default(0.0, 0.01, "from memory: no spoilers"),
         "idle_thrust_fraction": Default(0.05, 0.02, "from memory: idle power"),
+        **_landing(1.9, (1.6, 2.3), 0.45, "from memory: no lift dumpers, landing flaps at ground attitude", 1.0),
     },
 }
 """Class name → column → default (user units of ``aircraft_types``)."""
