@@ -8,7 +8,8 @@ version prefix (``v1:``) that changes whenever the recipe changes.
 
 * :func:`table_hashes` -> one hash per table.
 * :func:`airfield_hashes` -> one hash per airfield over its airfield row, runway rows,
-  climate rows and wind-rose rows: a changed hash means that airfield's results must be
+  climate rows, wind-rose rows and obstacle rows (only where it has obstacles: the hash of an
+  airfield without any is unchanged): a changed hash means that airfield's results must be
   recomputed.
 * :func:`aircraft_type_hashes` -> one hash per aircraft type over its row.
 """
@@ -193,16 +194,28 @@ def table_hashes(tables) -> dict[str, str]:
 
 
 def airfield_hashes(tables) -> dict[str, str]:
-    """One hash per airfield over its airfield, runway, climate and wind-rose rows."""
+    """One hash per airfield over its airfield, runway, climate and wind-rose rows, and its
+    obstacle rows where it has any.
+
+    An airfield without obstacles hashes exactly as before the obstacles table existed (the
+    table is left out of its hash, not hashed as empty), so adding obstacles to some airfields
+    leaves the others' hashes, and their reusable results, unchanged.
+    """
     user = _user(tables)
     parts = {t: _group_hashes(user[t], t, "airfield_id")
              for t in ("airfields", "runways", "climate_monthly", "wind_rose")}
+    obstacles = user.get("obstacles")
+    obstacle_parts = ({} if obstacles is None or len(obstacles) == 0
+                      else _group_hashes(obstacles, "obstacles", "airfield_id"))
     out = {}
     for afid in user["airfields"]["airfield_id"]:
         h = hashlib.sha256(f"{VERSION}:airfield:".encode())
         for t in ("airfields", "runways", "climate_monthly", "wind_rose"):
             h.update(t.encode())
             h.update(parts[t].get(afid, b"-"))
+        if afid in obstacle_parts:
+            h.update(b"obstacles")
+            h.update(obstacle_parts[afid])
         out[afid] = f"{VERSION}:{h.hexdigest()}"
     return out
 

@@ -56,14 +56,16 @@ class Tables(Mapping):
 
     Attributes
     ----------
-    airfields, runways, climate_monthly, wind_rose, aircraft_types, routes, reference_points : DataFrame
+    airfields, runways, climate_monthly, wind_rose, aircraft_types, routes, reference_points, obstacles : DataFrame
         SI units (``runways.slope`` rise over run, ``climate_monthly.*_k`` kelvin,
         ``qnh_pa`` pascal, ``aircraft_types`` fields of ``physics.weightlimit.Aircraft``
         with ``thrust_model`` as its integer code, ``routes.contingency_fraction``,
         ``alternate_distance_m``, ``final_reserve_s``). ``routes`` is empty (with its
         columns) when the folder has no routes table, ``reference_points`` likewise (SI:
         ``temperature_k``, ``headwind_mps`` as reported, ``slope``). Wind-rose frequencies
-        are shares. Blank ``aircraft_types`` coefficients hold their class defaults
+        are shares. ``obstacles`` (empty without the table) keeps every row, those outside
+        the departure area too (``schemas.departure``; the run leaves them out). Blank
+        ``aircraft_types`` coefficients hold their class defaults
         (:mod:`schemas.typeclasses`).
         ``cruise_tsfc_kg_per_n_s`` is NaN for propeller types, ``cruise_psfc_kg_per_w_s``
         NaN for jets.
@@ -87,6 +89,7 @@ class Tables(Mapping):
     aircraft_types: pd.DataFrame
     routes: pd.DataFrame
     reference_points: pd.DataFrame
+    obstacles: pd.DataFrame
     user: dict[str, pd.DataFrame] = field(default_factory=dict)
     warnings: list[Problem] = field(default_factory=list)
     source: Path | None = None

@@ -29,7 +29,8 @@ def table_markdown(spec: TableSpec) -> str:
            f"File: `{spec.name}.csv` (UTF-8, comma-separated) or `{spec.name}.parquet`. "
            f"Key: {', '.join(f'`{k}`' for k in spec.key)} (unique).", ""]
     if spec.foreign_keys:
-        refs = "; ".join(f"`{fk.columns[0]}` → `{fk.ref_table}.{fk.ref_columns[0]}`"
+        refs = "; ".join(f"`{fk.columns[0]}` → `{fk.ref_table}.{fk.ref_columns[0]}`" if len(fk.columns) == 1
+                         else "(" + ", ".join(f"`{c}`" for c in fk.columns) + f") → `{fk.ref_table}`"
                          for fk in spec.foreign_keys)
         out += [f"References: {refs}.", ""]
     out += ["| column | type | unit | required | allowed | typical | description |",
@@ -48,12 +49,17 @@ def table_markdown(spec: TableSpec) -> str:
     return "\n".join(out)
 
 
+def _and(items: list[str]) -> str:
+    """``a``, ``a and b``, ``a, b and c``."""
+    return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " and " + items[-1]
+
+
 def markdown() -> str:
     """The whole input reference (without the start/end markers)."""
     parts = [
         "Put one file per table in a folder (`"
         + "`, `".join(TABLES) + "`; "
-        + " and ".join(f"`{t.name}`" for t in TABLES.values() if not t.required_file)
+        + _and([f"`{t.name}`" for t in TABLES.values() if not t.required_file])
         + " are optional), as "
         + " or ".join(f"`{s}`" for s in FILE_SUFFIXES) + ". Units are in the column names. "
         "Identifiers are free text without spaces (letters, digits, `-`, `_`, `.`). Row "

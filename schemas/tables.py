@@ -218,6 +218,50 @@ RUNWAYS = TableSpec(
     ),
 )
 
+OBSTACLES = TableSpec(
+    name="obstacles",
+    description=(
+        "Optional. Obstacles past the end of TODA of a runway direction (terrain, masts, "
+        "buildings, trees, ships on a fixed track): one row per obstacle. The net takeoff "
+        "flight path with one engine inoperative must clear each by 35 ft; a case whose "
+        "path cannot is limited by `obstacle_clearance`. Only obstacles inside the departure "
+        "area count: half-width 90 m + 0.125 × the distance from the end of TODA, at most "
+        "900 m, along the extended centreline (EASA Air OPS CAT.POL.A.210, from memory; "
+        "`schemas/departure.py`); one outside it gets a warning and is left out."
+    ),
+    columns=(
+        _c("airfield_id", "str", "", True, "Airfield of the runway.", **_ID),
+        _c("runway_id", "str", "", True,
+           "Takeoff direction (designator, as in runways) whose departure path the obstacle "
+           "lies under.", **_ID),
+        _c("obstacle_id", "str", "", True,
+           "Identifier of the obstacle, unique within the runway direction (shown as the "
+           "governing obstacle in the results).", **_ID),
+        _c("distance_from_toda_end_m", "float", "m", True,
+           "Ground distance from the END OF TODA (not the start of the takeoff run) along the "
+           "departure path; more than 0 (the obstacle lies past the end of TODA).",
+           max=100000, typical="100 … 15 000"),
+        _c("height_m", "float", "m", True,
+           "Height of the obstacle's top above the runway end (the elevation of the end of "
+           "TODA), not above mean sea level; negative below it.",
+           min=-500, max=3000, typical="0 … 300"),
+        _c("lateral_offset_m", "float", "m", False,
+           "Distance from the extended runway centreline, either side (sign ignored); "
+           "blank = 0 (on the centreline).",
+           min=-20000, max=20000, default=0.0, typical="0 … 600"),
+    ),
+    key=("airfield_id", "runway_id", "obstacle_id"),
+    foreign_keys=(ForeignKey(("airfield_id",), "airfields", ("airfield_id",)),
+                  ForeignKey(("airfield_id", "runway_id"), "runways", ("airfield_id", "runway_id"))),
+    required_file=False,
+    rules=(
+        "`distance_from_toda_end_m` > 0: the obstacle lies past the end of TODA (error).",
+        "(`airfield_id`, `runway_id`) is a runway direction of the runways table (error).",
+        "An obstacle outside the departure area (|`lateral_offset_m`| above 90 m + 0.125 × "
+        "`distance_from_toda_end_m`, at most 900 m) gets a warning and is left out of the run.",
+    ),
+)
+
 CLIMATE_MONTHLY = TableSpec(
     name="climate_monthly",
     description="Monthly climatology: one row per airfield and month (all 12 months).",
@@ -605,7 +649,7 @@ REFERENCE_POINTS = TableSpec(
 TABLES: dict[str, TableSpec] = {
     t.name: t
     for t in (AIRFIELDS, RUNWAYS, CLIMATE_MONTHLY, WIND_ROSE, AIRCRAFT_TYPES, ROUTES,
-              REFERENCE_POINTS)
+              REFERENCE_POINTS, OBSTACLES)
 }
 """Table name -> definition, in the order a user fills them in."""
 

@@ -664,10 +664,15 @@ def _cross_checks(check: FolderCheck) -> None:
         _route_checks(f["routes"], _fname(check, "routes"), pr)
     if "reference_points" in f:
         _reference_point_checks(f["reference_points"], _fname(check, "reference_points"), pr)
+    if "obstacles" in f:
+        _obstacle_checks(f["obstacles"], _fname(check, "obstacles"), pr)
     for name, df in f.items():
         for fk in TABLES[name].foreign_keys:
             ref = f.get(fk.ref_table)
             if ref is None:
+                continue
+            if len(fk.columns) > 1:
+                _composite_reference(df, fk, ref, _fname(check, name), _fname(check, fk.ref_table), pr)
                 continue
             col, refcol = fk.columns[0], fk.ref_columns[0]
             vals = df[col]
@@ -689,6 +694,55 @@ def _cross_checks(check: FolderCheck) -> None:
             _report(pr, "warning", _fname(check, "airfields"), ids.index, ~has, "airfield_id",
                     ids, "at least one row in runways",
                     "airfield has no runway: it gets no results")
+
+
+def _composite_reference(df, fk, ref, file, ref_file, pr) -> None:
+    """Rows whose key pair (airfield, runway) is not in the referenced table; rows whose
+    first column is itself unknown are left to that column's own reference check."""
+    first, last = fk.columns[0], fk.columns[-1]
+    known_first = set(ref[fk.ref_columns[0]].dropna())
+    pairs = pd.MultiIndex.from_frame(ref[list(fk.ref_columns)].dropna())
+    mine = df[list(fk.columns)]
+    filled = mine.notna().all(axis=1).to_numpy()
+    bad = (filled & mine[first].isin(known_first).to_numpy()
+           & ~pd.MultiIndex.from_frame(mine.astype(object)).isin(pairs))
+    if not bad.any():
+        return
+    what = (f"refers to an unknown {fk.ref_table.rstrip('s').replace('_', ' ')} of that "
+            f"{first.replace('_id', '')}")
+    by_first = ref.groupby(fk.ref_columns[0])[fk.ref_columns[-1]].agg(list)
+    owners = mine[first].to_numpy(object)
+    values = mine[last].to_numpy(object)
+    at = np.flatnonzero(bad)
+    for i in at[:MAX_ROWS_PER_CHECK]:  # each with the runways its airfield has
+        own = [str(v) for v in by_first.get(owners[i], [])]
+        hint = _suggest(values[i], own)
+        _report(pr, "error", file, df.index[i:i + 1], [True], last, values[i:i + 1],
+                f"a {last} of {owners[i]} in {ref_file}: "
+                + ", ".join(own[:12]) + (" …" if len(own) > 12 else ""),
+                what + (f"; {hint}" if hint else ""))
+    rest = np.zeros(bad.size, dtype=bool)
+    rest[at[MAX_ROWS_PER_CHECK:]] = True
+    _report(pr, "error", file, df.index, rest, last, values,
+            f"a {last} of the same {first} in {ref_file}", what)
+
+
+def _obstacle_checks(df, file, pr) -> None:
+    from schemas import departure
+
+    d = df["distance_from_toda_end_m"].to_numpy()
+    with np.errstate(invalid="ignore"):
+        _report(pr, "error", file, df.index, d <= 0, "distance_from_toda_end_m", d,
+                "> 0: the ground distance from the END of TODA along the departure path",
+                "obstacle does not lie past the end of TODA (give its distance from the end of "
+                "TODA, not from the start of the takeoff run; obstacles on the runway or the "
+                "clearway belong to the declared distances)")
+        off = df["lateral_offset_m"].to_numpy()
+        outside = (d > 0) & ~departure.in_departure_area(d, off)
+    _report(pr, "warning", file, df.index, outside, "lateral_offset_m", off,
+            f"inside the departure area: |offset| ≤ {departure.area_text()}",
+            "obstacle outside the departure area: it is left out of the run (check its "
+            "lateral offset)")
 
 
 def _suggest(v, candidates) -> str | None:
