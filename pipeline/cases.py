@@ -204,6 +204,77 @@ def block_cases(tables: dict[str, pd.DataFrame], airfield_ids, temperature_offse
     return cases
 
 
+def obstacle_arrays(cases: pd.DataFrame, obstacles: pd.DataFrame | None):
+    """The obstacles of each case's runway direction, padded into arrays of shape (n, K).
+
+    Only obstacles inside the departure area count (:func:`schemas.departure.in_departure_area`;
+    ``check`` warns about the others). Each direction's obstacles are ordered by distance,
+    then id, so a case's arrays do not depend on the row order of the table.
+
+    Parameters
+    ----------
+    cases : DataFrame
+        Cases with ``airfield_id`` and ``runway_id``.
+    obstacles : DataFrame or None
+        The ``obstacles`` table (SI = user units), any airfields.
+
+    Returns
+    -------
+    (physics.flightpath.Obstacles, numpy.ndarray) or (None, None)
+        Distances from the end of TODA and heights above the runway end (NaN padding), and
+        the ``obstacle_id`` texts in the same places (None padding); ``(None, None)`` when no
+        case has an obstacle, so those cases are solved exactly as without the table.
+    """
+    from physics.flightpath import Obstacles
+    from schemas.departure import in_departure_area
+
+    if obstacles is None or len(obstacles) == 0 or len(cases) == 0:
+        return None, None
+    d = obstacles["distance_from_toda_end_m"].to_numpy(float)
+    keep = in_departure_area(d, obstacles["lateral_offset_m"].to_numpy(float)) & (d > 0)
+    ob = obstacles.loc[keep, ["airfield_id", "runway_id", "obstacle_id", "distance_from_toda_end_m", "height_m"]]
+    directions = pd.MultiIndex.from_frame(cases[["airfield_id", "runway_id"]].astype(object))
+    ob = ob[pd.MultiIndex.from_frame(ob[["airfield_id", "runway_id"]].astype(object)).isin(directions)]
+    if len(ob) == 0:
+        return None, None
+    ob = ob.sort_values(["airfield_id", "runway_id", "distance_from_toda_end_m", "obstacle_id"],
+                        kind="stable", ignore_index=True)
+    keys = ob[["airfield_id", "runway_id"]].astype(object)
+    slot = keys.groupby(["airfield_id", "runway_id"], sort=False).cumcount().to_numpy()
+    owners = pd.MultiIndex.from_frame(keys.drop_duplicates())
+    row = owners.get_indexer(pd.MultiIndex.from_frame(keys))
+    n_dir, k = len(owners), int(slot.max()) + 1
+    # one padding row (index n_dir) for the directions without obstacles
+    dist = np.full((n_dir + 1, k), np.nan)
+    height = np.full((n_dir + 1, k), np.nan)
+    ids = np.full((n_dir + 1, k), None, dtype=object)
+    dist[row, slot] = ob["distance_from_toda_end_m"].to_numpy(float)
+    height[row, slot] = ob["height_m"].to_numpy(float)
+    ids[row, slot] = ob["obstacle_id"].to_numpy(object)
+    at = owners.get_indexer(directions)
+    at = np.where(at < 0, n_dir, at)
+    return Obstacles(dist[at], height[at]), ids[at]
+
+
+def governing_obstacle_ids(ids: np.ndarray | None, index) -> np.ndarray:
+    """``obstacle_id`` of each case's governing obstacle (None where there is none).
+
+    Parameters
+    ----------
+    ids : numpy.ndarray or None
+        From :func:`obstacle_arrays`, shape (n, K).
+    index : array_like
+        ``WeightLimit.governing_obstacle``: index into the case's K obstacles, NaN none.
+    """
+    index = np.asarray(index, dtype=float)
+    out = np.full(index.shape, None, dtype=object)
+    if ids is None:
+        return out
+    has = np.flatnonzero(np.isfinite(index))
+    out[has] = ids[has, index[has].astype(np.int64)]
+    return out
+
+
 def _atomic_write_table(table: pa.Table, path: Path) -> None:
     tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
     pq.write_table(table, tmp)

@@ -3,7 +3,8 @@
 :func:`compute_chunk` is the body of the Prefect chunk task and is called directly by tests.
 It reads its cases (one row group of ``<work>/cases.parquet``) and the aircraft table from
 the run's work folder, solves the takeoff-weight limit with
-:func:`physics.weightlimit.solve_takeoff_weight`, turns the result into ``results_direction``
+:func:`physics.weightlimit.solve_takeoff_weight` (with the obstacles of each case's runway
+direction, :func:`pipeline.cases.obstacle_arrays`), turns the result into ``results_direction``
 rows for the ``design_day`` basis and then asks the **row producers** for more rows
 (:mod:`pipeline.producers` — the single place where e.g. reliability rows are added).
 
@@ -51,7 +52,8 @@ _SITE_COLUMNS = ("tora_m", "toda_m", "asda_m", "slope", "mu_roll", "mu_brake", "
 
 # results column <- WeightLimit field, converted from m/s to knots where the name says so
 _SPEED_FIELDS = {"v1_kt": "v1_mps", "vr_kt": "vr_mps", "v2_kt": "v2_mps", "v_lof_kt": "v_lof_mps"}
-_PLAIN_FIELDS = ("takeoff_distance_m", "takeoff_run_m", "accelerate_stop_m", "climb_gradient")
+_PLAIN_FIELDS = ("takeoff_distance_m", "takeoff_run_m", "accelerate_stop_m", "climb_gradient",
+                 "obstacle_clearance_m", "acceleration_height_m")
 
 _ARROW_TYPES = {"BIGINT": pa.int64(), "VARCHAR": pa.string(), "TINYINT": pa.int8(),
                 "DOUBLE": pa.float64()}
@@ -92,14 +94,21 @@ class ChunkContext:
     def table(self, name: str) -> pd.DataFrame:
         """An input table (SI) restricted to this chunk's airfields where it has airfield_id."""
         if name not in self._tables:
-            path = self.work_dir / case_io.TABLES_DIR / f"{name}.parquet"
-            if not path.exists():
-                self._tables[name] = None
-            else:
-                schema_names = pq.read_schema(path).names
-                filters = [("airfield_id", "in", self.airfield_ids)] if "airfield_id" in schema_names else None
-                self._tables[name] = pq.read_table(path, filters=filters).to_pandas()
+            self._tables[name] = read_chunk_table(self.work_dir, name, self.airfield_ids)
         return self._tables[name]
+
+
+def read_chunk_table(work_dir: Path, name: str, airfield_ids: list[str]) -> pd.DataFrame | None:
+    """Input table ``name`` (SI) of the run's work folder, only the rows of ``airfield_ids``
+    where it has an airfield_id; None when the run has no such table."""
+    path = Path(work_dir) / case_io.TABLES_DIR / f"{name}.parquet"
+    if not path.exists():
+        return None
+    schema_names = pq.read_schema(path).names
+    # an empty table has untyped (null) text columns, which a filter cannot be bound to
+    empty = pq.ParquetFile(path).metadata.num_rows == 0
+    filters = [("airfield_id", "in", airfield_ids)] if "airfield_id" in schema_names and not empty else None
+    return pq.read_table(path, filters=filters).to_pandas()
 
 
 def chunk_key(params: dict, chunk: int, run_id: int) -> str:
@@ -134,8 +143,12 @@ def _field(result, name: str, n: int) -> np.ndarray:
     return np.broadcast_to(np.asarray(value, dtype=float), (n,))
 
 
-def design_day_rows(run_id: int, cases: pd.DataFrame, result) -> pd.DataFrame:
-    """``results_direction`` rows (basis ``design_day``) from the cases and a WeightLimit."""
+def design_day_rows(run_id: int, cases: pd.DataFrame, result, obstacle_ids=None) -> pd.DataFrame:
+    """``results_direction`` rows (basis ``design_day``) from the cases and a WeightLimit.
+
+    ``obstacle_ids`` (from :func:`pipeline.cases.obstacle_arrays`, or None) names the
+    governing obstacle of each case.
+    """
     from physics import constants, limits
 
     n = len(cases)
@@ -159,6 +172,8 @@ def design_day_rows(run_id: int, cases: pd.DataFrame, result) -> pd.DataFrame:
         rows[col] = _field(result, col, n)
     for col, src in _SPEED_FIELDS.items():
         rows[col] = _field(result, src, n) / constants.KT_MPS
+    rows["governing_obstacle_id"] = case_io.governing_obstacle_ids(obstacle_ids,
+                                                                   _field(result, "governing_obstacle", n))
     return pd.DataFrame(rows, columns=list(RESULT_COLUMNS))
 
 
@@ -292,11 +307,15 @@ def _compute_chunk_here(work_dir: str | os.PathLike, chunk: int, run_id: int, pa
     aircraft_table = pd.read_parquet(work / case_io.AIRCRAFT_FILE)
     aircraft = aircraft_arrays(aircraft_table, cases["aircraft_index"].to_numpy())
     site = site_arrays(cases)
-    result = solve_takeoff_weight(aircraft, site)
-    design = design_day_rows(run_id, cases, result)
+    # the obstacles of each case's runway direction (None: the run has none here)
+    obstacle_table = read_chunk_table(work, "obstacles", sorted(cases["airfield_id"].unique().tolist()))
+    obstacles, obstacle_ids = case_io.obstacle_arrays(cases, obstacle_table)
+    result = solve_takeoff_weight(aircraft, site, obstacles=obstacles)
+    design = design_day_rows(run_id, cases, result, obstacle_ids)
 
     context = ChunkContext(run_id=run_id, chunk=chunk, cases=cases, aircraft=aircraft, site=site,
-                           design_rows=design, params=params, work_dir=work)
+                           design_rows=design, params=params, work_dir=work,
+                           _tables={"obstacles": obstacle_table})
     direction_frames, airfield_frames = [design], []
     for produce in producers.active_producers():
         out = producers.normalise(produce(context))

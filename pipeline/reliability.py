@@ -91,7 +91,8 @@ _KEY_STRIDE = 1000.0  # contour order key: direction index x this + factored hea
 GROUP_KEYS = ("airfield_id", "month", "aircraft_type_id", "condition")
 SHARE_COLUMN = "share_days_full_mass"
 _SPEEDS = {"v1_kt": "v1_mps", "vr_kt": "vr_mps", "v2_kt": "v2_mps", "v_lof_kt": "v_lof_mps"}
-_PLAIN = ("takeoff_distance_m", "takeoff_run_m", "accelerate_stop_m", "climb_gradient")
+_PLAIN = ("takeoff_distance_m", "takeoff_run_m", "accelerate_stop_m", "climb_gradient",
+          "obstacle_clearance_m", "acceleration_height_m")
 _SITE_FIELDS = ("tora_m", "toda_m", "asda_m", "slope", "mu_roll", "mu_brake", "pressure_pa",
                 "temperature_k", "headwind_mps", "screen_height_m", "mu_roll_dry", "mu_brake_dry")
 
@@ -304,7 +305,7 @@ def reliability_rows(context):
         context.table("climate_monthly"), context.table("wind_rose"), levels=levels,
         run_id=context.run_id,
         temperature_offset_k=float(context.params.get("temperature_offset_k", 0.0) or 0.0),
-        settings=settings, aircraft_arrays=aircraft_arrays)
+        settings=settings, aircraft_arrays=aircraft_arrays, obstacles=context.table("obstacles"))
     if airfield is None:
         return None
     return ProducerRows(direction=direction, airfield=airfield)
@@ -411,7 +412,7 @@ def _node_scores(scores, mean, sd, pv, corner_k):
 def _weight_limit_fields(result, n):
     out = {"tow_limit_kg": np.broadcast_to(np.asarray(result.tow_limit_kg, float), (n,)),
            "limiting_factor": np.broadcast_to(np.asarray(result.limiting_factor), (n,))}
-    for name in _PLAIN + tuple(_SPEEDS.values()):
+    for name in _PLAIN + tuple(_SPEEDS.values()) + ("governing_obstacle",):
         v = getattr(result, name, None)
         out[name] = np.full(n, np.nan) if v is None else np.broadcast_to(np.asarray(v, float), (n,))
     return out
@@ -433,7 +434,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
                        temperature_offset_k: float = 0.0,
                        settings: ReliabilitySettings = ReliabilitySettings(),
                        solve: Callable | None = None, aircraft_arrays: Callable | None = None,
-                       site_cls=None, details: dict | None = None):
+                       site_cls=None, details: dict | None = None, obstacles: pd.DataFrame | None = None):
     """Reliability rows for the cases of complete airfields.
 
     Parameters
@@ -459,6 +460,10 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     solve, aircraft_arrays, site_cls
         The weight-limit solver, the ``Aircraft`` builder and the ``Site`` class (defaults:
         ``physics.weightlimit``); tests pass stand-ins.
+    obstacles : DataFrame, optional
+        The ``obstacles`` table (at least the chunk's airfields): every solve of a case (grid
+        nodes, refinement, binding days) gets the obstacles of its runway direction
+        (:func:`pipeline.cases.obstacle_arrays`), as the design day does.
 
     Returns
     -------
@@ -473,6 +478,16 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     n = len(cases)
     if n == 0:
         return None, None
+    from pipeline.cases import governing_obstacle_ids, obstacle_arrays
+
+    case_obstacles, obstacle_ids = obstacle_arrays(cases, obstacles)
+
+    def solve_at(case_index, ac, site, **kw):
+        """``solve`` of cases ``case_index`` (rows of ``cases``) with their obstacles."""
+        if case_obstacles is not None:
+            kw["obstacles"] = case_obstacles.take_cases(np.asarray(case_index))
+        return solve(ac, site, **kw)
+
     heading = (cases[["airfield_id", "runway_id"]]
                .merge(runways[["airfield_id", "runway_id", "heading_true_deg"]],
                       on=["airfield_id", "runway_id"], how="left")["heading_true_deg"]
@@ -539,9 +554,9 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     # tailwind, lowest pressure) are structural everywhere (the mass falls with temperature
     # and tailwind and rises with pressure): one cheap solve instead of a grid.
     ac_corner = aircraft_arrays(aircraft_table, ac_index[trk_first])
-    corner = solve(ac_corner, _site(cases, trk_first, site_cls,
-                                    temperature_k=t_nodes_fam[trk_fam, -1],
-                                    headwind_mps=h_nodes_trk[:, 0], pressure_pa=p_lo))
+    corner = solve_at(trk_first, ac_corner, _site(cases, trk_first, site_cls,
+                                                  temperature_k=t_nodes_fam[trk_fam, -1],
+                                                  headwind_mps=h_nodes_trk[:, 0], pressure_pa=p_lo))
     structural = np.asarray(corner.limiting_factor) == limits.code("structural")
     n_solves = int(n_trk)
 
@@ -571,7 +586,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
                           headwind_mps=np.concatenate([h_lo_pts.ravel(), h_hi_pts.ravel()]),
                           pressure_pa=np.concatenate([np.repeat(p_lo[lo_trk], n_g * n_h),
                                                       np.repeat(p_hi[hi_trk], n_g * sub_h.size)]))
-        solved = np.asarray(solve(ac_grid, site_grid, tol_kg=settings.grid_tol_kg, figures=False).tow_limit_kg,
+        solved = np.asarray(solve_at(rep, ac_grid, site_grid, tol_kg=settings.grid_tol_kg, figures=False).tow_limit_kg,
                             dtype=float)
         n_solves += int(rep.size)
         n_lo = lo_trk.size * n_g * n_h
@@ -640,7 +655,8 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
                       mtow_kg=np.asarray(ac.mtow_kg) * settings.bracket_high)
         site = _site(cases, case_index, site_cls, temperature_k=temperature(case_index, score),
                      headwind_mps=h_f[case_index, point_index])
-        m = np.asarray(solve(ac, site, tol_kg=settings.refine_tol_kg, figures=False).tow_limit_kg, dtype=float)
+        m = np.asarray(solve_at(case_index, ac, site, tol_kg=settings.refine_tol_kg, figures=False).tow_limit_kg,
+                       dtype=float)
         return np.where(np.isfinite(m), m, oew[case_index] * settings.bracket_low)
 
     def solve_fields(case_index, point_index, score):
@@ -649,7 +665,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         ac = aircraft_arrays(aircraft_table, ac_index[case_index])
         site = _site(cases, case_index, site_cls, temperature_k=temperature(case_index, score),
                      headwind_mps=h_f[case_index, point_index])
-        return _weight_limit_fields(solve(ac, site), int(case_index.size))
+        return _weight_limit_fields(solve_at(case_index, ac, site), int(case_index.size))
 
     def binding_rows(res, start, day_case, fallback_case):
         """Direct solve of each level's binding day; rows for groups.
@@ -742,6 +758,8 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         for k, src in _SPEEDS.items():
             frame[k] = cols[src].ravel() / constants.KT_MPS
         frame[SHARE_COLUMN] = np.repeat(res.share_days, n_lev)
+        frame["governing_obstacle_id"] = governing_obstacle_ids(
+            None if obstacle_ids is None else obstacle_ids[flat_case], cols["governing_obstacle"].ravel())
         ordered = [c for c in RESULT_COLUMNS if c in frame.columns]
         return frame[ordered + [c for c in frame.columns if c not in ordered]]
 

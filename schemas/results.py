@@ -112,6 +112,9 @@ _RESULT_COMMON = (
     _c("v_lof_kt", "DOUBLE", "kt", "lift-off speed at the limit mass"),
     _c("climb_gradient", "DOUBLE", "-", "second-segment climb gradient at the limit mass (rise over run)"),
     _c("share_days_full_mass", "DOUBLE", "-", "reliability rows: share of the month's days on which MTOW is achievable (NULL for the design day)"),
+    _c("obstacle_clearance_m", "DOUBLE", "m", "runway directions with obstacles: height of the net takeoff flight path over the governing obstacle less the obstacle and 35 ft, at the limit mass (0 where obstacle_clearance limits; NULL without obstacles)"),
+    _c("acceleration_height_m", "DOUBLE", "m", "runway directions with obstacles: acceleration height of the takeoff path used (the lowest from the type's default to its maximum that clears every obstacle; NULL without obstacles)"),
+    _c("governing_obstacle_id", "VARCHAR", "text", "runway directions with obstacles: obstacle_id the net takeoff flight path clears by the least margin (NULL without obstacles)"),
 )
 
 ROUTE_PAYLOAD = (

@@ -28,7 +28,7 @@ def test_result_columns_follow_the_contract():
         "reliability", "oat_c", "pressure_altitude_m", "density_altitude_m", "headwind_mps",
         "tow_limit_kg", "limiting_factor", "takeoff_distance_m", "takeoff_run_m",
         "accelerate_stop_m", "v1_kt", "vr_kt", "v2_kt", "v_lof_kt", "climb_gradient",
-        "share_days_full_mass")
+        "share_days_full_mass", "obstacle_clearance_m", "acceleration_height_m", "governing_obstacle_id")
 
 
 def test_commands_are_discovered():
