@@ -259,6 +259,9 @@ OBSTACLES = TableSpec(
         "(`airfield_id`, `runway_id`) is a runway direction of the runways table (error).",
         "An obstacle outside the departure area (|`lateral_offset_m`| above 90 m + 0.125 × "
         "`distance_from_toda_end_m`, at most 900 m) gets a warning and is left out of the run.",
+        "An obstacle higher than 446.5 m (1 500 ft less the 35 ft margin) above the runway end "
+        "gets a warning: the takeoff flight path ends at 1 500 ft, and such an obstacle is "
+        "either out of its reach or cannot be cleared.",
     ),
 )
 

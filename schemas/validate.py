@@ -743,6 +743,18 @@ def _obstacle_checks(df, file, pr) -> None:
             f"inside the departure area: |offset| ≤ {departure.area_text()}",
             "obstacle outside the departure area: it is left out of the run (check its "
             "lateral offset)")
+    from physics.flightpath import OBSTACLE_CLEARANCE_M, PATH_END_HEIGHT_M
+
+    top = PATH_END_HEIGHT_M - OBSTACLE_CLEARANCE_M
+    h = df["height_m"].to_numpy()
+    with np.errstate(invalid="ignore"):
+        high = h > top
+    _report(pr, "warning", file, df.index, high, "height_m", h,
+            f"≤ {top:.0f} m: the takeoff flight path ends at 1 500 ft above the runway end, less "
+            "the 35 ft margin",
+            "obstacle above the end of the takeoff flight path: where the net path reaches it "
+            "before 1 500 ft no mass clears it, beyond that it is not checked (the en-route "
+            "climb is not modelled); is the height above the runway end, in metres?")
 
 
 def _suggest(v, candidates) -> str | None:

@@ -165,3 +165,14 @@ def test_obstacle_rows_in_another_order_hash_alike(net):
     _obstacles(net, list(reversed(GOOD)))
     assert hashing.airfield_hashes(load_folder(net)) == h1
 
+
+
+def test_obstacle_above_the_end_of_the_takeoff_path_is_a_warning(net):
+    # 1 500 ft − 35 ft = 1 465 ft = 446.5 m above the runway end (14 CFR 25.111(a), 121.189)
+    rows = list(GOOD) + [("saltmere", "08", "peak", "15000", "447", ""),
+                         ("saltmere", "08", "hill", "15000", "446", "")]
+    _obstacles(net, rows)
+    assert errors(net) == []
+    warned = find(validate_folder(net), file="obstacles.csv", column="height_m", severity="warning")
+    assert [p.row for p in warned] == [4]
+    assert "1 500 ft" in warned[0].message and "447" == warned[0].value
