@@ -5,7 +5,8 @@ defines ``NAME``, ``HELP``, ``add_arguments(parser)`` and ``run(args) -> int``. 
 command means adding a module there; this file does not change.
 
 Errors reach the user as one line ``fieldlimits: error: …`` and an exit status: 2 for bad
-input or arguments, 1 for anything else (``FIELDLIMITS_DEBUG=1`` shows the traceback).
+input or arguments, 1 for anything else (``FIELDLIMITS_DEBUG=1`` shows the traceback). A
+reader that closes the pipe early (``| head``) ends the command quietly (status 141).
 """
 
 from __future__ import annotations
@@ -22,7 +23,8 @@ import pipeline.settings  # noqa: F401  (offline Prefect defaults first)
 from pipeline.errors import FieldlimitsError
 from schemas.caution import CAUTION
 
-ORDER = ("run", "check", "calibrate", "runs", "sql", "export", "report", "explain", "serve", "generate")
+ORDER = ("run", "check", "calibrate", "runs", "compare", "sql", "export", "report", "explain", "serve",
+         "generate")
 DESCRIPTION = (
     "Takeoff-weight limits and route payloads for every runway direction, month and "
     "aircraft type of an airline network, stored run by run in DuckDB."
@@ -87,6 +89,17 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _stop_writing() -> None:
+    """The reader of stdout has gone (``fieldlimits sql … | head``): send the rest of the
+    output, and Python's flush at exit, to /dev/null instead of printing a traceback."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        os.close(devnull)
+    except (OSError, ValueError):
+        pass
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     try:
@@ -98,7 +111,12 @@ def main(argv: list[str] | None = None) -> int:
         parser.print_help()
         return 2
     try:
-        return int(command.run(args) or 0)
+        status = int(command.run(args) or 0)
+        sys.stdout.flush()  # a closed pipe shows here, not in an ignored error at exit
+        return status
+    except BrokenPipeError:
+        _stop_writing()
+        return 141  # 128 + SIGPIPE, as a shell reports a command whose reader went away
     except FieldlimitsError as exc:
         print(f"fieldlimits: error: {exc}", file=sys.stderr)
         return exc.exit_code

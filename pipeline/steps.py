@@ -21,6 +21,7 @@ import dataclasses
 import hashlib
 import importlib
 import json
+import math
 import os
 import shutil
 import time
@@ -47,9 +48,34 @@ ROUTE_FILE = "route_payload.parquet"
 _PACKAGES = ("physics", "schemas", "pipeline", "demo_network")
 
 
+#: Largest temperature offset a scenario may add [K]: beyond it the monthly temperatures leave
+#: the range the climate table allows (−60 … 60 °C) for most climates; more is a typing slip.
+MAX_TEMPERATURE_OFFSET_K = 30.0
+
+
+def scenario_label(temperature_offset_k: float) -> str:
+    """``baseline`` (no offset) or ``temperature +2 K``: the name of a run's scenario.
+
+    The ``run_scenarios`` view spells the same (``printf('temperature %+g K', …)``); a test
+    holds the two together.
+    """
+    offset = float(temperature_offset_k or 0.0)
+    return "baseline" if offset == 0 else f"temperature {offset:+g} K"
+
+
+def _bad(message: str):
+    from pipeline.errors import BadInput
+
+    return BadInput(message)
+
+
 @dataclass(frozen=True)
 class RunParams:
-    """The parameters of a run (stored as JSON in ``runs.parameters``)."""
+    """The parameters of a run (stored as JSON in ``runs.parameters``).
+
+    Every value is checked when the object is made, so a wrong option stops the command
+    with exit status 2 before any work starts (``fieldlimits run`` and ``serve`` alike).
+    """
 
     temperature_offset_k: float = 0.0
     chunk_size: int = DEFAULT_CHUNK_SIZE
@@ -61,15 +87,52 @@ class RunParams:
     def __post_init__(self):
         bad = [c for c in self.conditions if c not in CONDITIONS]
         if bad or not self.conditions:
-            from pipeline.errors import BadInput
-
-            raise BadInput(f"conditions must be some of {', '.join(CONDITIONS)}; got {', '.join(self.conditions) or 'none'}")
+            raise _bad(f"--conditions must be some of {', '.join(CONDITIONS)}; "
+                       f"got {', '.join(self.conditions) or 'none'}")
+        if len(set(self.conditions)) != len(self.conditions):
+            raise _bad(f"--conditions lists a condition twice: {', '.join(self.conditions)}")
         extra = [c for c in self.reliability_conditions if c not in self.conditions]
         if extra:
-            from pipeline.errors import BadInput
+            raise _bad(f"--reliability-conditions must be among the run's conditions "
+                       f"({', '.join(self.conditions)}); got {', '.join(extra)}")
+        offset = self.temperature_offset_k
+        if not isinstance(offset, (int, float)) or not math.isfinite(offset) \
+                or abs(offset) > MAX_TEMPERATURE_OFFSET_K:
+            raise _bad(f"--temperature-offset must be a number of kelvin between "
+                       f"-{MAX_TEMPERATURE_OFFSET_K:g} and +{MAX_TEMPERATURE_OFFSET_K:g}; got {offset}")
+        self._check_levels()
+        if not isinstance(self.chunk_size, int) or self.chunk_size < 1:
+            raise _bad(f"--chunk-size must be a whole number of cases, at least 1; got {self.chunk_size}")
 
-            raise BadInput(f"reliability conditions must be among the run's conditions "
-                           f"({', '.join(self.conditions)}); got {', '.join(extra)}")
+    def _check_levels(self) -> None:
+        """Reliability levels are shares of days strictly between 0 and 1, each once."""
+        levels = self.reliability_levels
+        wrong = [p for p in levels if not isinstance(p, (int, float)) or not math.isfinite(p)
+                 or not 0.0 < p < 1.0]
+        if wrong:
+            shown = ", ".join(f"{p:g}" if isinstance(p, (int, float)) else repr(p) for p in levels)
+            hint = ""
+            if all(isinstance(p, (int, float)) and 5.0 <= p < 100.0 for p in wrong):
+                hint = (" (percentages? write "
+                        + ",".join(f"{p / 100:g}" for p in levels if isinstance(p, (int, float)))
+                        + ")")
+            raise _bad(f"--reliability levels are shares of days strictly between 0 and 1, e.g. "
+                       f"0.5,0.85,0.95, or 'none'; got {shown}{hint}")
+        if len(set(levels)) != len(levels):
+            raise _bad(f"--reliability lists a level twice: {', '.join(f'{p:g}' for p in levels)}")
+
+    @property
+    def scenario(self) -> str:
+        """``baseline`` or ``temperature +2 K`` (:func:`scenario_label`)."""
+        return scenario_label(self.temperature_offset_k)
+
+    def describe(self) -> str:
+        """The scenario and the options that choose the rows, in one line."""
+        levels = (", ".join(f"{p:g}" for p in self.reliability_levels) + " on "
+                  + (", ".join(self.reliability_conditions) or "no condition")
+                  if self.reliability_levels else "none")
+        return (f"{self.scenario}; conditions {', '.join(self.conditions)}; "
+                f"reliability levels {levels}")
 
     @classmethod
     def from_dict(cls, values: dict) -> "RunParams":

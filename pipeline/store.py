@@ -10,9 +10,14 @@ Layout of the file (DDL in ``pipeline/sql/``, definitions in :mod:`schemas.resul
 ``route_payload``
     route payloads, when the input has a routes table (DDL from the route engineer's
     ``pipeline/sql/create_route_payload.sql``).
-``latest_run``, ``latest_results_direction``, ``latest_results_airfield``,
-``latest_route_payload``, ``scenario_results_airfield``
-    views on the last complete run (and the last complete run of each climate scenario).
+``run_scenarios``
+    each run's scenario: ``baseline`` (no temperature offset) or ``temperature +2 K``, and the
+    conditions and reliability levels that chose its rows.
+``latest_run``, ``latest_results_direction``, ``latest_results_airfield``, ``latest_route_payload``
+    views on the last complete *baseline* run, with a ``scenario`` column; a scenario run
+    never becomes "latest".
+``latest_scenario_runs``, ``scenario_results_airfield``, ``scenario_route_payload``
+    the last complete run of each scenario, side by side.
 
 Concurrency: DuckDB lets one process hold the file read-write, and while it does no other
 process can open it, not even read-only. So the writer connects only for short moments
@@ -128,6 +133,7 @@ def reader(db_path: str | os.PathLike, wait_s: float = READER_WAIT_S) -> Iterato
     """
     con = _connect(Path(db_path), True, wait_s, {"enable_external_access": False})
     try:
+        _current_views(con)
         yield con
     finally:
         con.close()
@@ -148,6 +154,12 @@ def writer(db_path: str | os.PathLike, wait_s: float = WRITER_WAIT_S) -> Iterato
         con.close()
 
 
+#: Views created with the schema, in dependency order (``pipeline/sql/view_<name>.sql``).
+VIEWS = ("run_scenarios", "latest_run", "latest_scenario_runs", "latest_results_direction",
+         "latest_results_airfield", "latest_route_payload", "scenario_results_airfield",
+         "scenario_route_payload")
+
+
 def ensure_schema(con: duckdb.DuckDBPyConnection) -> None:
     """Create the output tables and views if missing (idempotent, one transaction)."""
     run_sql(con, "BEGIN")
@@ -155,13 +167,26 @@ def ensure_schema(con: duckdb.DuckDBPyConnection) -> None:
         for name in result_tables.TABLES:
             run_sql(con, sql(f"create_{name}"))
             _add_defined_columns(con, name)
-        for view in ("latest_run", "latest_results_direction", "latest_results_airfield",
-                     "scenario_results_airfield"):
+        for view in VIEWS:
             run_sql(con, sql(f"view_{view}"))
         run_sql(con, "COMMIT")
     except Exception:
         run_sql(con, "ROLLBACK")
         raise
+
+
+def _current_views(con: duckdb.DuckDBPyConnection) -> None:
+    """A file last written by an older version has older views (or none): give this read-only
+    connection today's as temporary views, which shadow the stored ones (nothing is written)."""
+    names = {r[0] for r in con.execute(
+        "SELECT table_name FROM information_schema.tables WHERE table_schema = 'main'").fetchall()}
+    if "runs" not in names or "run_scenarios" in names:
+        return
+    for view in VIEWS:
+        try:
+            run_sql(con, sql(f"view_{view}").replace("CREATE OR REPLACE VIEW", "CREATE OR REPLACE TEMP VIEW", 1))
+        except duckdb.Error:  # a table the view reads is missing in so old a file
+            pass
 
 
 def _add_defined_columns(con, table: str) -> None:

@@ -5,11 +5,15 @@ from __future__ import annotations
 from pipeline.commands import add_db_argument
 
 NAME = "export"
-HELP = "export a table, view or query to CSV (caution on the first line, formula-safe cells)"
+HELP = "export a table, view or query to CSV (plain CSV, caution in a last column, formula-safe cells)"
 DESCRIPTION = (
     "Write a table or view of the store (e.g. latest_results_airfield) or a SELECT query to a\n"
-    "CSV file. The first line is a comment with the caution; text cells starting with =, +, -\n"
-    "or @ get a leading single quote so a spreadsheet does not run them as formulas."
+    "CSV file that pandas, DuckDB and spreadsheets open with their default settings: the\n"
+    "header on line 1, the caution in a last column 'caution' on every row (it stays with any\n"
+    "rows copied out of the file), the run's scenario in a column 'scenario' for rows of a\n"
+    "table or view with run_id, an empty cell for a missing value, numbers rounded by the unit\n"
+    "in the column name, durations in seconds. Text cells starting with =, +, - or @ get a\n"
+    "leading single quote so a spreadsheet does not run them as formulas."
 )
 
 

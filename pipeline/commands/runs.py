@@ -121,8 +121,7 @@ def _busy(db, error) -> int:
 def run(args) -> int:
     from pipeline import store
     from pipeline.errors import BadInput, StoreBusy
-    from pipeline.export import neutralise_frame
-    from schemas.caution import CAUTION
+    from pipeline import export
 
     if args.limit < 0:
         raise BadInput(f"--limit must be 0 (all) or a positive number of runs; got {args.limit}")
@@ -133,11 +132,10 @@ def run(args) -> int:
             raise
         return _busy(args.db, exc)
     out = sys.stdout
-    if args.format == "csv":
-        out.write(f"# {CAUTION}\n")
-        neutralise_frame(frame).to_csv(out, index=False, lineterminator="\n")
+    if args.format == "csv":  # the export format: caution in a last column (pipeline.export)
+        export.to_csv(export.file_frame(frame), out)
     elif args.format == "json":
-        out.write(frame.to_json(orient="records", date_format="iso", indent=1) + "\n")
+        out.write(export.to_json(export.with_caution(export.tidy_frame(frame))) + "\n")
     elif not len(frame):
         out.write(f"no runs stored in {args.db} yet\n")
     else:

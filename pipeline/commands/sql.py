@@ -12,7 +12,12 @@ HELP = "run a read-only SQL query on the store; print a table, CSV or JSON"
 DESCRIPTION = (
     "Run one SQL query on a read-only connection to the DuckDB file: the query cannot change\n"
     "the data and cannot read or write other files. Useful views: latest_results_airfield,\n"
-    "latest_results_direction, latest_run, scenario_results_airfield, latest_route_payload."
+    "latest_results_direction, latest_route_payload and latest_run (the last complete\n"
+    "baseline run, no temperature offset), run_scenarios (each run's scenario),\n"
+    "latest_scenario_runs, scenario_results_airfield and scenario_route_payload (the last\n"
+    "complete run of each scenario). Numbers are rounded by the unit in the column name,\n"
+    "durations are in seconds; CSV and JSON carry the caution in a last column 'caution', and\n"
+    "a missing value is an empty cell (CSV), null (JSON) or '-' (table)."
 )
 
 
@@ -27,33 +32,26 @@ def add_arguments(parser) -> None:
 
 def run(args) -> int:
     import duckdb
-    import pandas as pd
 
-    from pipeline import store
-    from pipeline.export import neutralise_frame
-    from schemas.caution import CAUTION
+    from pipeline import export, store
 
+    if args.max_rows < 1:
+        raise BadInput(f"--max-rows must be at least 1; got {args.max_rows}")
     with store.reader(args.db) as con:
         try:
             relation = con.sql(args.query)
-        except duckdb.Error as exc:
-            raise BadInput(f"the query failed: {str(exc).splitlines()[0]}") from None
-        if relation is None:
-            return 0
-        try:
+            if relation is None:
+                return 0
             frame = relation.df()
         except duckdb.Error as exc:
-            raise BadInput(f"the query failed: {str(exc).splitlines()[0]}") from None
+            raise BadInput(f"the query failed: {export.query_error(exc)}") from None
     out = sys.stdout
     if args.format == "csv":
-        out.write(f"# {CAUTION}\n")
-        neutralise_frame(frame).to_csv(out, index=False, lineterminator="\n")
+        export.to_csv(export.file_frame(frame), out)
     elif args.format == "json":
-        out.write(frame.to_json(orient="records", date_format="iso", indent=1) + "\n")
+        out.write(export.to_json(export.with_caution(export.tidy_frame(frame))) + "\n")
     else:
-        with pd.option_context("display.max_columns", None, "display.width", 200):
-            shown = frame if len(frame) <= args.max_rows else frame.head(args.max_rows)
-            out.write(shown.to_string(index=False) + "\n")
-            if len(frame) > args.max_rows:
-                out.write(f"({len(frame)} rows, first {args.max_rows} shown; --max-rows to see more)\n")
+        out.write(export.text_table(frame, args.max_rows) + "\n")
+        if len(frame) > args.max_rows:
+            out.write(f"({len(frame)} rows, first {args.max_rows} shown; --max-rows to see more)\n")
     return 0

@@ -3,8 +3,10 @@
 from __future__ import annotations
 
 import hashlib
+import io
 import json
 
+import pandas as pd
 import pytest
 
 from schemas.caution import CAUTION
@@ -77,8 +79,9 @@ def test_sql_formats_and_cannot_modify(demo_db_copy):
     assert out.returncode == 0, out.stderr
     assert json.loads(out.stdout)[0]["n"] > 0
     csv = cli("sql", "SELECT run_id, status FROM runs", "--db", demo_db_copy, "--format", "csv")
-    assert csv.stdout.splitlines()[0] == f"# {CAUTION}"
-    assert csv.stdout.splitlines()[1] == "run_id,status"
+    assert csv.stdout.splitlines()[0] == "run_id,status,caution"  # a plain header first
+    parsed = pd.read_csv(io.StringIO(csv.stdout))  # default settings (issue 18)
+    assert parsed["run_id"].tolist() == [1] and (parsed["caution"] == CAUTION).all()
     for statement in ("DELETE FROM runs", "DROP TABLE results_direction",
                       "UPDATE runs SET status = 'x'", "CREATE TABLE t AS SELECT 1"):
         out = cli("sql", statement, "--db", demo_db_copy)
@@ -96,7 +99,40 @@ def test_export_via_cli(tmp_path, demo_db_copy):
     assert out.returncode == 0, out.stderr
     frame = read_export(out_csv)
     assert len(frame) > 0 and "tow_limit_kg" in frame.columns
-    assert out_csv.read_text().splitlines()[0] == f"# {CAUTION}"
+    plain = pd.read_csv(out_csv)  # default settings: the header is the header
+    assert list(plain.columns[:3]) == ["run_id", "scenario", "airfield_id"]
+    assert (plain["caution"] == CAUTION).all() and (plain["scenario"] == "baseline").all()
+    missing = cli("export", "results_airfield", "--run", "99", "-o", tmp_path / "x.csv", "--db", demo_db_copy)
+    assert missing.returncode == 2 and not (tmp_path / "x.csv").exists()
+    assert "run 99 does not exist" in missing.stderr and "stored runs: 1" in missing.stderr
+
+
+@needs_physics
+def test_sql_errors_keep_duckdbs_hints(demo_db_copy):
+    """DuckDB's own help reaches the user: the table or column it would have matched."""
+    out = cli("sql", "SELECT * FROM latest_results_airfeld", "--db", demo_db_copy)
+    assert out.returncode == 2 and "Traceback" not in out.stderr
+    assert 'Did you mean "latest_results_airfield"' in out.stderr
+    out = cli("sql", "SELECT tow_limit FROM latest_results_airfield", "--db", demo_db_copy)
+    assert out.returncode == 2 and "Candidate bindings" in out.stderr and "tow_limit_kg" in out.stderr
+
+
+@needs_physics
+def test_sql_piped_into_head_prints_no_traceback(demo_db_copy):
+    """``fieldlimits sql … | head -1``: the reader going away is no error worth a traceback."""
+    import subprocess
+    import sys
+
+    from tests.pipeline.conftest import REPO
+
+    env = {**__import__("os").environ, "PYTHONPATH": str(REPO)}
+    proc = subprocess.Popen(
+        f"{sys.executable} -m pipeline.cli sql \"SELECT * FROM latest_results_direction\" "
+        f"--db {demo_db_copy} --format csv | head -1", shell=True, cwd=REPO, env=env,
+        stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    out, err = proc.communicate(timeout=120)
+    assert out.startswith("run_id,")
+    assert err == ""  # no traceback, no "Exception ignored" line
 
 
 def test_missing_database_is_one_clear_message(tmp_path):

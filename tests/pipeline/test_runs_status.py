@@ -8,6 +8,7 @@ command only reads; the next registered run records dead runs as interrupted.
 from __future__ import annotations
 
 import hashlib
+import io
 import json
 import os
 import signal
@@ -18,9 +19,11 @@ import textwrap
 import time
 from pathlib import Path
 
+import pandas as pd
 import pytest
 
 from pipeline import cli, store
+from schemas.caution import CAUTION
 
 OTHER_HOST = "another-planning-box"  # a host name that is not this machine's
 
@@ -205,8 +208,9 @@ def test_listing_runs_writes_nothing(tmp_path, capsys):
     assert _status(db, dead)[0] == _status(db, stale)[0] == "running"
     listed = json.loads(_runs(capsys, db, "--format", "json"))
     assert {r["run_id"]: r["state"] for r in listed} == {dead: "dead", stale: "presumed dead"}
-    csv = _runs(capsys, db, "--format", "csv")
-    assert csv.startswith("# Planning estimates only")
+    csv = pd.read_csv(io.StringIO(_runs(capsys, db, "--format", "csv")))
+    assert set(csv["run_id"]) == {dead, stale}
+    assert (csv["caution"] == CAUTION).all()  # the caution on every row, default reader
 
 
 def test_busy_database_falls_back_to_the_heartbeat_files(tmp_path, capsys, monkeypatch):
