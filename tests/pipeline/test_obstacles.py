@@ -188,3 +188,36 @@ def test_reliability_binding_days_match_a_direct_solve_with_the_obstacles(runs):
     direct = solve_takeoff_weight(aircraft_arrays(t.aircraft_types.reset_index(drop=True),
                                                   pick["aircraft_index"].to_numpy()), site, obstacles=obs)
     np.testing.assert_allclose(direct.tow_limit_kg, pick["tow_limit_kg"], atol=1.5)
+
+
+def test_explain_prints_the_flight_path_and_each_obstacle(runs):
+    """explain solves the case as the run does (same limit, same clearance) and lists the four
+    segments, the gross and net breakpoints and every obstacle of the runway, the one outside
+    the departure area included."""
+    from pipeline.explain import explain_case
+
+    d = runs["with"]["results_direction"]
+    row = d[(d["basis"] == "design_day") & (d["limiting_factor"] == "obstacle_clearance")
+            & (d["airfield_id"] == "cape-tallow")].iloc[0]
+    r = explain_case(runs["with"]["folder"], "cape-tallow", "17", int(row["month"]), row["aircraft_type_id"],
+                     row["condition"])
+    assert r.limiting_factor == "obstacle_clearance"
+    assert abs(r.tow_limit_kg - row["tow_limit_kg"]) < 1e-6
+    text = r.text.split("8. Takeoff flight path")[1]
+    for needle in ("first segment", "second segment", "level acceleration", "final segment",
+                   "gross path", "net path", "acceleration height used", "1 500 ft"):
+        assert needle in text, needle
+    cliff = next(line for line in text.splitlines() if line.strip().startswith("cliff"))
+    assert "(governing)" in cliff and "cleared" in cliff
+    shed = next(line for line in text.splitlines() if line.strip().startswith("shed"))
+    assert "outside the departure area" in shed
+    # the clearance printed is the stored one (to its 0.01 m)
+    got = float(text.split("clearance of the governing obstacle at the limit")[1].split()[0])
+    assert abs(got - row["obstacle_clearance_m"]) < 0.006
+
+
+def test_explain_of_a_runway_without_obstacles_has_no_flight_path(runs):
+    from pipeline.explain import explain_case
+
+    r = explain_case(runs["with"]["folder"], "saltmere", "08", 7, "narrowbody-180", "dry")
+    assert "8. Takeoff flight path" not in r.text
