@@ -121,8 +121,8 @@ class ReliabilitySettings:
     conditions: tuple[str, ...] = ("dry",)
     score_range: tuple[float, float] = (-2.5, 2.5)
     temperature_nodes: int = 6
-    tail_nodes: int = 4
-    head_nodes: int = 6
+    tail_nodes: int = 6
+    head_nodes: int = 8
     headwind_power: float = 1.0
     pressure_tol_pa: float = 20.0
     pressure_headwind_step: int = 2
@@ -131,7 +131,7 @@ class ReliabilitySettings:
     bracket_low: float = 1.0
     bracket_high: float = 1.25
     grid_tol_kg: float = 5.0
-    refine_samples: int = 4
+    refine_samples: int = 8
     refine_risk: float = 2.0
     refine_bound_share: float = 0.002
     refine_bound_kg: float = 50.0
