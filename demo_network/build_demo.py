@@ -151,6 +151,20 @@ AIRFIELDS = [
      [("08", 75, 2800, "paved", -0.1, 200, 0, 200, 0, True)]),
 ]
 
+# landing distance available (lda_m): every direction of these airfields declares one, the
+# length less a displaced threshold where one is listed below; the other airfields give
+# none (no landing check: their rows say not_checked), among them the long-haul
+# destinations, the short island strip of Gannet Isle and the strips under 900 m (where the
+# 60 % dispatch rule leaves the demo's turboprops no landing mass)
+LDA_AIRFIELDS = {
+    "saltmere", "gullhaven", "brinewick", "cape-tallow", "harrowport", "kelpstone", "dunmarrow",
+    "ashfall-flats", "saltpan-strip", "highcrag-north", "cinder-pass", "frostwick",
+    "hollow-reach", "lastlight", "whitecliff", "eastmoor", "oakenfold", "bracken-strip",
+    "clover-field",
+}
+DISPLACED_THRESHOLD_M = {("harrowport", "06"): 300, ("brinewick", "10"): 200, ("kelpstone", "20"): 150,
+                         ("eastmoor", "26"): 250}
+
 # explicit percentiles of the daily maximum in the climate table for these airfields
 WITH_PERCENTILES = {"saltmere", "dunmarrow", "highcrag-north", "frostwick", "far-meridian",
                     "sunscar"}
@@ -186,7 +200,7 @@ AIRCRAFT = [
      61.0, 27.2, 2.0, 0.025, 0.014, 0.012, 0.82, 0.55, 2.35, 1.06, 1.12, 1.20,
      2, "propeller", 44.0, _, _, _, 30, 1950, 0.80, 0.009, 92,
      0.15, 0.025, 0.05, 10, 30, 270, 15.0, _, 0.28, 60, 70,
-     2.80, 0.065, 0.35, 2.0),
+     2.80, 0.065, 0.35, 1.5),
     ("stol-quad-tp50", "Fifty-seat four-engine short-field turboprop", 20500, 12600, 5600,
      4600, 19800,
      71.0, 28.4, 1.9, 0.028, 0.016, 0.015, 0.78, 0.70, 2.80, 1.05, 1.10, 1.18,
@@ -198,23 +212,23 @@ AIRCRAFT = [
      50.5, 21.3, 1.2, 0.020, 0.016, 0.012, 0.80, 0.25, 1.95, 1.05, 1.10, 1.20,
      2, "quadratic", 32.5, -62.0, 0.13, _, 30, _, _, 0.006, 96,
      0.10, 0.030, 0.06, 10, 24, 455, 14.5, 18.5, _, 60, 10,
-     2.30, 0.060, 0.15, 2.0),
+     2.30, 0.060, 0.15, 1.5),
     ("regional-jet90", "Ninety-seat regional twin jet", 42500, 25300, 10600, 10200, 38300,
      78.5, 27.9, 1.8, 0.021, 0.017, 0.013, 0.79, 0.30, 2.30, 1.05, 1.10, 1.20,
      2, "turbofan", 60.0, _, _, 5.0, 30, _, _, 0.006, 106,
      0.05, 0.035, 0.06, 10, 29, 440, 15.5, 17.5, _, 150, 90,
-     2.70, 0.065, 0.10, 2.5),
+     2.70, 0.065, 0.10, 2.0),
     ("narrowbody-180", "180-seat single-aisle twin jet", 74600, 41300, 18500, 18900, 64900,
      118.0, 33.4, 2.3, 0.020, 0.018, 0.014, 0.80, 0.35, 2.45, 1.05, 1.10, 1.20,
      2, "turbofan", 112.0, _, _, 5.5, 30, _, _, 0.005, 112,
      0.05, 0.040, 0.06, 15, 33, 450, 17.0, 16.5, _, 200, 180,
-     2.90, 0.070, 0.10, 3.0),
+     2.90, 0.070, 0.10, 2.0),
     ("longrange-twin300", "300-seat long-range wide-body twin jet", 286000, 152500, 52000,
      118500, 214000,
      412.0, 62.5, 4.6, 0.018, 0.016, 0.014, 0.80, 0.35, 2.25, 1.05, 1.10, 1.20,
      2, "turbofan", 435.0, _, _, 9.0, 30, _, _, 0.005, 124,
      0.05, 0.040, 0.06, 15, 35, 485, 19.0, 15.0, _, 650, 320,
-     2.70, 0.070, 0.10, 3.0),
+     2.70, 0.070, 0.10, 2.0),
 ]
 
 # --------------------------------------------------------------------------------------
@@ -359,19 +373,25 @@ def _wind_rows(afid, lat, wind) -> list[dict]:
 
 
 def _runway_rows(afid, strips) -> list[dict]:
+    def lda(des, length):
+        if afid not in LDA_AIRFIELDS:
+            return None
+        return float(length - DISPLACED_THRESHOLD_M.get((afid, des), 0))
+
     rows = []
     for (des, hdg, length, surface, slope, cwa, swa, cwb, swb, both) in strips:
         num = int(des)
         rows.append({"airfield_id": afid, "runway_id": des, "heading_true_deg": float(hdg),
                      "tora_m": float(length), "toda_m": float(length + cwa),
-                     "asda_m": float(length + swa), "slope_pct": slope, "surface": surface})
+                     "asda_m": float(length + swa), "lda_m": lda(des, length), "slope_pct": slope,
+                     "surface": surface})
         if both:
             recip = (num + 18 - 1) % 36 + 1
             rows.append({"airfield_id": afid, "runway_id": f"{recip:02d}",
                          "heading_true_deg": float((hdg + 180) % 360),
                          "tora_m": float(length), "toda_m": float(length + cwb),
-                         "asda_m": float(length + swb), "slope_pct": -slope + 0.0,
-                         "surface": surface})
+                         "asda_m": float(length + swb), "lda_m": lda(f"{recip:02d}", length),
+                         "slope_pct": -slope + 0.0, "surface": surface})
     return rows
 
 

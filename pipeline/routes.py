@@ -1,5 +1,12 @@
-"""Route payloads: join the routes table to the origin's takeoff-weight limits and call
+"""Route payloads: join the routes table to the origin's takeoff-weight limits (and, where
+given, the destination's landing-mass limits of :mod:`pipeline.landing`) and call
 :mod:`physics.routefuel` once for every route × type × month × condition × basis.
+
+The destination's limit is taken at the same month, runway condition and level (design day,
+or the same reliability level p: where the weather at the two ends is independent the
+payload is then achievable on at least 2p − 1 of the days, on p where it moves together; a
+planning convention of ours). A destination without a landing check (no ``lda_m``) keeps
+the structural maximum landing mass as its only limit, and the row says ``not_checked``.
 
 Distances are geodesics on the WGS84 ellipsoid (``pyproj.Geod(ellps="WGS84").inv``) times a
 route factor; every formula lives in :mod:`physics.routefuel`. The reserve policy and the
@@ -79,8 +86,22 @@ class RouteParams:
 ROUTE_PAYLOAD_COLUMNS: tuple[str, ...] = tuple(
     c.name for c in result_tables.ROUTE_PAYLOAD if c.name != "run_id")
 
+#: Landing factor of the destination (physics.landing) → route limit (physics.routefuel).
+_DESTINATION_CODE = {"max_landing_mass": "landing_mass", "landing_distance": "landing_distance",
+                     "approach_climb": "approach_climb", "landing_climb": "landing_climb"}
+
+#: Which end a route limit belongs to (``limiting_end``).
+_END = {"takeoff_limit": "origin", "no_takeoff": "origin", "landing_mass": "destination",
+        "landing_distance": "destination", "approach_climb": "destination", "landing_climb": "destination",
+        "no_landing": "destination", "max_payload": "aircraft", "fuel_capacity": "aircraft",
+        "no_cruise_data": "aircraft"}
+
 _REASONS = {
     "takeoff_limit": "empty mass and fuel exceed the origin takeoff-weight limit",
+    "landing_distance": "empty mass and reserve fuel exceed the destination's landing-distance limit",
+    "approach_climb": "empty mass and reserve fuel exceed the destination's approach-climb limit",
+    "landing_climb": "empty mass and reserve fuel exceed the destination's landing-climb limit",
+    "no_landing": "no landing mass at the destination",
     "fuel_capacity": "trip and reserve fuel exceed the fuel capacity",
     "landing_mass": "empty mass and reserve fuel exceed the maximum landing mass",
     "max_payload": "maximum payload is below zero",
@@ -177,7 +198,8 @@ def _aircraft_frame(tables) -> pd.DataFrame:
     return aircraft[keep].rename(columns={"taxi_fuel_kg": "aircraft_taxi_fuel_kg"})
 
 
-def route_payload_frame(tables, airfield_results_df: pd.DataFrame, params=None) -> pd.DataFrame:
+def route_payload_frame(tables, airfield_results_df: pd.DataFrame, params=None,
+                        landing: pd.DataFrame | None = None) -> pd.DataFrame:
     """Route payload for every route × type × month × condition × basis/reliability.
 
     Parameters
@@ -191,6 +213,10 @@ def route_payload_frame(tables, airfield_results_df: pd.DataFrame, params=None) 
         limiting_factor, optionally run_id and runway_id).
     params : mapping, RouteParams or None
         Run-wide reserve policy, route factor and passenger mass (:class:`RouteParams`).
+    landing : pandas.DataFrame, optional
+        Landing-mass limits of the destinations (``landing_airfield`` rows of
+        :mod:`pipeline.landing`); None or a missing row: the destination is not checked
+        (structural maximum landing mass only, the results of earlier versions to the bit).
 
     Returns
     -------
@@ -226,6 +252,7 @@ def route_payload_frame(tables, airfield_results_df: pd.DataFrame, params=None) 
                 "final_reserve_min", "passenger_mass_kg"]
     df = legs[leg_cols].merge(res[keep], on=["origin_id", "aircraft_type_id"], how="inner")
     df = df.merge(aircraft, on="aircraft_type_id", how="left")
+    dest_limit, dest_code = _destination(df, landing)
 
     k = routefuel.range_coefficient_per_m(
         df["cruise_tas_mps"].to_numpy(float), df["cruise_lift_to_drag"].to_numpy(float),
@@ -240,7 +267,8 @@ def route_payload_frame(tables, airfield_results_df: pd.DataFrame, params=None) 
         df["max_payload_kg"].to_numpy(float), df["max_fuel_kg"].to_numpy(float),
         df["max_landing_mass_kg"].to_numpy(float), df["aircraft_taxi_fuel_kg"].to_numpy(float),
         k, df["air_distance_km"].to_numpy(float) * 1000.0, df["cruise_tas_mps"].to_numpy(float),
-        policy, mtow_kg=df["mtow_kg"].to_numpy(float))
+        policy, mtow_kg=df["mtow_kg"].to_numpy(float), destination_limit_kg=dest_limit,
+        destination_code=dest_code)
 
     factor = routefuel.route_limit_name(out.limiting_factor)
     df["possible"] = out.possible
@@ -254,6 +282,9 @@ def route_payload_frame(tables, airfield_results_df: pd.DataFrame, params=None) 
     no_takeoff = factor == "no_takeoff"
     reason[no_takeoff] = (reason[no_takeoff] + " ("
                           + df.loc[no_takeoff, "origin_limiting_factor"].astype(str) + ")")
+    no_landing = factor == "no_landing"
+    reason[no_landing] = (reason[no_landing] + " ("
+                          + df.loc[no_landing, "destination_limiting_factor"].astype(str) + ")")
     df["not_possible_reason"] = reason.where(~out.possible, None)
     df["payload_at_mtow_kg"] = out.payload_at_mtow_kg
     lost = out.payload_at_mtow_kg - np.where(out.possible, out.payload_kg, 0.0)
@@ -268,12 +299,48 @@ def route_payload_frame(tables, airfield_results_df: pd.DataFrame, params=None) 
     df["taxi_fuel_kg"] = df["aircraft_taxi_fuel_kg"]
     df["block_fuel_kg"] = plan.block_fuel_kg
     df["max_passengers"] = max_pax
+    df["limiting_end"] = pd.Series(factor, index=df.index).map(_END)
+    lost_at_destination = out.payload_without_destination_kg - np.where(out.possible, out.payload_kg, 0.0)
+    df["payload_landing_restriction_kg"] = np.where(np.isfinite(lost_at_destination),
+                                                    np.maximum(lost_at_destination, 0.0), np.nan)
     df = df[columns].sort_values(
         ["route_id", "aircraft_type_id", "month", "condition", "basis", "reliability"],
         na_position="first", kind="mergesort").reset_index(drop=True)
     df["month"] = df["month"].astype("int64")
     df["possible"] = df["possible"].astype(bool)
     return df
+
+
+def _destination(df: pd.DataFrame, landing: pd.DataFrame | None):
+    """The destination's landing limit of each route row, in place: the columns
+    ``destination_runway_id``, ``destination_landing_limit_kg`` and
+    ``destination_limiting_factor``; returns the limit for :func:`physics.routefuel.payload_available`
+    (+inf: not checked, NaN: no landing possible) and its route-limit code."""
+    keys = ["destination_id", "aircraft_type_id", "month", "condition", "basis", "reliability"]
+    cols = {"runway_id": "destination_runway_id", "landing_limit_kg": "destination_landing_limit_kg",
+            "limiting_factor": "destination_limiting_factor"}
+    if landing is not None and len(landing):
+        dest = landing.rename(columns={"airfield_id": "destination_id", **cols})
+        dest = dest[keys + list(cols.values())].copy()
+        dest["destination_id"] = dest["destination_id"].astype(str)
+        dest["aircraft_type_id"] = dest["aircraft_type_id"].astype(str)
+        dest["month"] = dest["month"].astype("int64")
+        merged = df[keys].assign(month=df["month"].astype("int64")).merge(
+            dest, on=keys, how="left", validate="many_to_one")
+        for c in cols.values():
+            df[c] = merged[c].to_numpy()
+    else:
+        df["destination_runway_id"] = None
+        df["destination_landing_limit_kg"] = np.nan
+        df["destination_limiting_factor"] = None
+    factor = df["destination_limiting_factor"].where(df["destination_limiting_factor"].notna(), "not_checked")
+    df["destination_limiting_factor"] = factor.to_numpy(object)
+    limit = pd.to_numeric(df["destination_landing_limit_kg"], errors="coerce").to_numpy(float)
+    unchecked = (factor == "not_checked").to_numpy()
+    limit = np.where(unchecked, np.inf, limit)
+    codes = {name: routefuel.route_limit_code(route) for name, route in _DESTINATION_CODE.items()}
+    code = factor.map(codes).fillna(routefuel.route_limit_code("no_landing")).to_numpy(np.int64)
+    return limit, code
 
 
 def level_label(basis, reliability) -> str:
@@ -317,6 +384,11 @@ def payload_planning_frame(route_payload: pd.DataFrame) -> pd.DataFrame:
         f"payload_limiting_factor_{tag}": ref["payload_limiting_factor"],
         f"not_possible_reason_{tag}": ref["not_possible_reason"],
         f"origin_tow_limit_{tag}_kg": ref["origin_tow_limit_kg"],
+        f"limiting_end_{tag}": ref["limiting_end"] if "limiting_end" in ref else None,
+        f"destination_landing_limit_{tag}_kg": (ref["destination_landing_limit_kg"]
+                                                 if "destination_landing_limit_kg" in ref else np.nan),
+        f"destination_limiting_factor_{tag}": (ref["destination_limiting_factor"]
+                                                if "destination_limiting_factor" in ref else None),
         f"takeoff_mass_{tag}_kg": ref["takeoff_mass_kg"],
         f"trip_fuel_{tag}_kg": ref["trip_fuel_kg"],
         f"block_fuel_{tag}_kg": ref["block_fuel_kg"],

@@ -82,6 +82,12 @@ class RunParams:
     conditions: tuple[str, ...] = CONDITIONS
     reliability_levels: tuple[float, ...] = DEFAULT_RELIABILITY_LEVELS
     reliability_conditions: tuple[str, ...] = ("dry",)  # runway conditions with reliability rows
+    # the dispatch rule for landing at the destination (pipeline.landing): the dry landing
+    # distance may use this share of the LDA (14 CFR 121.195(b): 0.6; propeller types 0.7
+    # where the operator uses that rule, 121.195(c)); wet: the required distance +15 % (d)
+    landing_jet_share: float = 0.6
+    landing_turboprop_share: float = 0.6
+    landing_wet_increase: float = 0.15
     reuse: bool = True  # reuse unchanged airfield × type results of an earlier run
 
     def __post_init__(self):
@@ -91,6 +97,7 @@ class RunParams:
                        f"got {', '.join(self.conditions) or 'none'}")
         if len(set(self.conditions)) != len(self.conditions):
             raise _bad(f"--conditions lists a condition twice: {', '.join(self.conditions)}")
+        self._check_landing_rule()
         extra = [c for c in self.reliability_conditions if c not in self.conditions]
         if extra:
             raise _bad(f"--reliability-conditions must be among the run's conditions "
@@ -133,6 +140,21 @@ class RunParams:
                   if self.reliability_levels else "none")
         return (f"{self.scenario}; conditions {', '.join(self.conditions)}; "
                 f"reliability levels {levels}")
+
+    def _check_landing_rule(self) -> None:
+        """Landing shares in (0, 1], the wet increase from 0 to 1 (100 %)."""
+        from pipeline.errors import BadInput
+
+        for name in ("landing_jet_share", "landing_turboprop_share"):
+            v = getattr(self, name)
+            if not isinstance(v, (int, float)) or not 0.0 < float(v) <= 1.0:
+                raise BadInput(f"--{name.replace('_', '-')} is the share of the landing distance "
+                               f"available the dry landing distance may use, above 0 and at most 1 "
+                               f"(0.6 for jets, 14 CFR 121.195(b); 0.7 for turboprops under the 70 % rule); got {v}")
+        v = self.landing_wet_increase
+        if not isinstance(v, (int, float)) or not 0.0 <= float(v) <= 1.0:
+            raise BadInput(f"--landing-wet-increase is a share from 0 to 1 (0.15 = +15 %, 14 CFR "
+                           f"121.195(d)); got {v}")
 
     @classmethod
     def from_dict(cls, values: dict) -> "RunParams":
@@ -442,7 +464,7 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
         return None
     airfield = _route_airfield_rows(tables["routes"], [Path(best_path)] + sorted(
         (Path(work) / chunks.PARTS_DIR).glob("*.airfield.parquet")))
-    frame = func(tables, airfield, prepared.params.as_dict())
+    frame = func(tables, airfield, prepared.params.as_dict(), landing=landing_rows(prepared, work))
     if frame is None:
         return None
     out = Path(work) / ROUTE_FILE
@@ -450,6 +472,33 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
     frame.to_parquet(tmp, index=False)
     os.replace(tmp, out)
     return out
+
+
+LANDING_FILES = ("landing_direction.parquet", "landing_airfield.parquet")
+
+
+def landing_rows(prepared: PreparedRun, work: Path) -> pd.DataFrame:
+    """Landing-mass limits of the route destinations (:mod:`pipeline.landing`) written to
+    ``<work>/landing_*.parquet``; returns the airfield rows for the route payloads."""
+    from pipeline import landing
+
+    tables = prepared.inputs.tables
+    rose = tables.get("wind_rose")
+    if rose is None and prepared.params.reliability_levels:  # released: its Parquet copy
+        rose = landing.read_wind_rose(Path(work) / case_io.TABLES_DIR / "wind_rose.parquet",
+                                      tables["routes"]["destination_id"])
+    frames = landing.landing_frames(tables, prepared.params.as_dict(), wind_rose=rose)
+    for frame, name in zip((frames.direction, frames.airfield), LANDING_FILES):
+        out = Path(work) / name
+        tmp = out.with_name(f".{out.name}.tmp")
+        frame.to_parquet(tmp, index=False)
+        os.replace(tmp, out)
+    return frames.airfield
+
+
+def _landing_frame(prepared: PreparedRun, run_id: int, name: str) -> pd.DataFrame | None:
+    path = work_dir(prepared, run_id) / name
+    return pd.read_parquet(path) if path.exists() else None
 
 
 def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], best_path: Path,
@@ -466,6 +515,8 @@ def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], bes
                         + ([reused[1]] if reused else [])),
         inputs=inputs,
         route_payload=pd.read_parquet(route_path) if route_path else None,
+        landing_direction=_landing_frame(prepared, run_id, LANDING_FILES[0]),
+        landing_airfield=_landing_frame(prepared, run_id, LANDING_FILES[1]),
         hashes=prepared.hashes,
     )
     return store.load_run(prepared.db_path, spec)

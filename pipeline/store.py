@@ -521,6 +521,8 @@ class LoadSpec:
     airfield_parts: Sequence[str] = ()
     inputs: Sequence[InputTable] = ()
     route_payload: pd.DataFrame | None = None
+    landing_direction: pd.DataFrame | None = None  # landing limits of the route destinations
+    landing_airfield: pd.DataFrame | None = None
     hashes: pd.DataFrame | None = None  # columns kind, key, sha256 (run_hashes)
 
 
@@ -634,6 +636,21 @@ def _load_results_airfield(con, spec: LoadSpec) -> None:
         run_sql(con, sql("load_results_airfield"), {"files": [str(p) for p in spec.airfield_parts]})
 
 
+def _load_landing(con, spec: LoadSpec) -> None:
+    """The landing-mass limits of the route destinations (``landing_direction``,
+    ``landing_airfield``; :mod:`pipeline.landing`)."""
+    for table, frame in (("landing_direction", spec.landing_direction),
+                         ("landing_airfield", spec.landing_airfield)):
+        if frame is None or not len(frame):
+            continue
+        frame = frame.copy()
+        if "run_id" in frame.columns:
+            frame["run_id"] = spec.run_id
+        else:
+            frame.insert(0, "run_id", spec.run_id)
+        _append_frame(con, table, frame, sql(f"create_{table}"))
+
+
 def _load_route_payload(con, spec: LoadSpec) -> int:
     if spec.route_payload is None:
         return 0
@@ -663,6 +680,7 @@ def load_run(db_path: str | os.PathLike, spec: LoadSpec) -> dict[str, int]:
                 _load_results_airfield(con, spec)
                 _load_inputs(con, spec.run_id, spec.inputs)
                 _load_hashes(con, spec)
+                _load_landing(con, spec)
                 rows_route = _load_route_payload(con, spec)
                 rows_dir, rows_af = con.execute(sql("count_run_rows"), {"run_id": spec.run_id}).fetchall()[0]
                 counts = {"rows_direction": int(rows_dir), "rows_airfield": int(rows_af),

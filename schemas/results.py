@@ -23,6 +23,13 @@ The tables:
 ``route_payload``
     Payload available per run × route × aircraft type × month × condition × basis, with the
     binding limit and the fuel plan (built by :mod:`pipeline.routes`).
+``landing_direction``
+    Landing-mass limit per run × destination runway direction × month × aircraft type ×
+    condition on the design day (route destinations and the types flown there;
+    :mod:`pipeline.landing`).
+``landing_airfield``
+    The best landing direction per run × destination × month × type × condition × basis
+    (design day and reliability levels), the destination limit of the route payloads.
 
 No primary keys on the big tables: a key makes bulk inserts about ten times slower in
 DuckDB 2 and the writer guarantees uniqueness by construction (one load per run).
@@ -124,7 +131,7 @@ ROUTE_PAYLOAD = (
     _c("destination_id", "VARCHAR", "text", "arrival airfield id", True),
     _c("aircraft_type_id", "VARCHAR", "text", "aircraft type id", True),
     _c("month", "TINYINT", "1-12", "calendar month", True),
-    _c("condition", "VARCHAR", "text", "runway condition at the origin: dry or wet", True),
+    _c("condition", "VARCHAR", "text", "runway condition at the origin and the destination: dry or wet", True),
     _c("basis", "VARCHAR", "text", "design_day or reliability (as results_airfield)", True),
     _c("reliability", "DOUBLE", "-", "share of days the origin limit is achieved; NULL for the design day"),
     _c("great_circle_km", "DOUBLE", "km", "geodesic distance origin to destination on the WGS84 ellipsoid"),
@@ -136,7 +143,7 @@ ROUTE_PAYLOAD = (
     _c("possible", "BOOLEAN", "-", "the route can be flown with zero or more payload", True),
     _c("payload_kg", "DOUBLE", "kg", "payload available (NULL when not possible)"),
     _c("passengers", "DOUBLE", "count", "whole passengers at passenger_mass_kg, capped by the seats"),
-    _c("payload_limiting_factor", "VARCHAR", "text", "binding limit: max_payload, takeoff_limit, fuel_capacity, landing_mass (or no_takeoff, no_cruise_data)", True),
+    _c("payload_limiting_factor", "VARCHAR", "text", "binding limit: max_payload, takeoff_limit, fuel_capacity, landing_mass, landing_distance, approach_climb, landing_climb (or no_takeoff, no_landing, no_cruise_data)", True),
     _c("not_possible_reason", "VARCHAR", "text", "why the route is not possible (NULL when possible)"),
     _c("payload_at_mtow_kg", "DOUBLE", "kg", "payload available if the origin allowed MTOW"),
     _c("payload_restriction_kg", "DOUBLE", "kg", "payload lost to the origin takeoff limit (payload_at_mtow_kg − payload_kg)"),
@@ -154,6 +161,38 @@ ROUTE_PAYLOAD = (
     _c("alternate_distance_km", "DOUBLE", "km", "destination-to-alternate distance used"),
     _c("final_reserve_min", "DOUBLE", "min", "final reserve holding time used"),
     _c("passenger_mass_kg", "DOUBLE", "kg", "standard mass per passenger with baggage used"),
+    _c("destination_runway_id", "VARCHAR", "text", "best landing direction at the destination (NULL when not checked)"),
+    _c("destination_landing_limit_kg", "DOUBLE", "kg", "landing-mass limit at the destination, same condition and level (NULL when not checked or no landing possible)"),
+    _c("destination_limiting_factor", "VARCHAR", "text", "what sets the destination limit (physics.landing.LANDING_FACTORS; not_checked: no lda_m at the destination)"),
+    _c("limiting_end", "VARCHAR", "text", "which end limits the payload: origin (takeoff), destination (landing) or aircraft (payload, fuel, cruise figures)"),
+    _c("payload_landing_restriction_kg", "DOUBLE", "kg", "payload lost to the destination runway's landing limit (against its structural landing mass alone)"),
+)
+
+LANDING_COMMON = (
+    _c("run_id", "BIGINT", "-", "run number", True),
+    _c("airfield_id", "VARCHAR", "text", "destination airfield id", True),
+    _c("runway_id", "VARCHAR", "text", "runway direction of the landing (NULL: none checked, or no day usable)"),
+    _c("aircraft_type_id", "VARCHAR", "text", "aircraft type id", True),
+    _c("month", "TINYINT", "1-12", "calendar month", True),
+    _c("condition", "VARCHAR", "text", "runway condition: dry or wet", True),
+    _c("basis", "VARCHAR", "text", "design_day (mean daily maximum, calm) or reliability", True),
+    _c("reliability", "DOUBLE", "-", "share of days the landing limit is achieved; NULL for the design day"),
+    _c("oat_c", "DOUBLE", "degC", "outside air temperature used"),
+    _c("pressure_altitude_m", "DOUBLE", "m", "pressure altitude of the station"),
+    _c("density_altitude_m", "DOUBLE", "m", "density altitude of the station"),
+    _c("headwind_mps", "DOUBLE", "m/s", "factored headwind component used (negative = tailwind)"),
+    _c("lda_m", "DOUBLE", "m", "landing distance available (NULL: no landing check at this direction)"),
+    _c("landing_limit_kg", "DOUBLE", "kg", "landing-mass limit (NULL when not checked or no landing possible)"),
+    _c("limiting_factor", "VARCHAR", "text", "what sets the limit (physics.landing.LANDING_FACTORS)", True),
+    _c("distance_limited_mass_kg", "DOUBLE", "kg", "largest mass whose required landing distance fits the LDA, at most the maximum landing mass"),
+    _c("approach_climb_limited_mass_kg", "DOUBLE", "kg", "approach-climb limited mass (one engine out, 14 CFR 25.121(d)), at most the maximum landing mass"),
+    _c("landing_climb_limited_mass_kg", "DOUBLE", "kg", "landing-climb limited mass (all engines, 14 CFR 25.119), at most the maximum landing mass"),
+    _c("landing_distance_m", "DOUBLE", "m", "actual landing distance from 50 ft at the limit mass"),
+    _c("required_landing_distance_m", "DOUBLE", "m", "required landing distance at the limit mass (dispatch factors of the run)"),
+    _c("vref_kt", "DOUBLE", "kt", "reference landing speed VREF (1.23 V_SR0, EAS) at the limit mass"),
+    _c("approach_climb_gradient", "DOUBLE", "-", "approach-climb gradient at the limit mass (NULL for single-engine types)"),
+    _c("landing_climb_gradient", "DOUBLE", "-", "landing-climb gradient at the limit mass"),
+    _c("share_days_full_mass", "DOUBLE", "-", "reliability rows: share of the month's days on which the maximum landing mass can land (NULL for the design day)"),
 )
 
 TABLES: dict[str, tuple[ResultColumn, ...]] = {
@@ -163,6 +202,8 @@ TABLES: dict[str, tuple[ResultColumn, ...]] = {
     "results_direction": _RESULT_COMMON,
     "results_airfield": _RESULT_COMMON,
     "route_payload": ROUTE_PAYLOAD,
+    "landing_direction": LANDING_COMMON,
+    "landing_airfield": LANDING_COMMON,
 }
 
 DESCRIPTIONS: dict[str, str] = {
@@ -172,6 +213,8 @@ DESCRIPTIONS: dict[str, str] = {
     "results_direction": "takeoff-weight limit per run, runway direction, month, aircraft type, condition and basis",
     "results_airfield": "best runway direction per run, airfield, month, aircraft type, condition and basis",
     "route_payload": "payload available per run, route, aircraft type, month, origin condition and basis",
+    "landing_direction": "landing-mass limit per run, destination runway direction, month, aircraft type and condition (design day)",
+    "landing_airfield": "best landing direction per run, destination, month, aircraft type, condition and basis",
 }
 
 RESULT_COLUMNS: tuple[str, ...] = tuple(c.name for c in _RESULT_COMMON)
