@@ -320,6 +320,24 @@ def _routes(rng, af, types: pd.DataFrame):
                 aircraft_type_id=types["aircraft_type_id"].to_numpy()[t])
 
 
+#: Share of runway directions that declare a landing distance available; of those, the
+#: share with a displaced threshold (60 … 300 m off the length). The rest give none (no
+#: landing check, as a planner without the figure would leave it blank).
+LDA_SHARE, DISPLACED_SHARE = 0.85, 0.15
+
+
+def _landing_distances(seed, tora_m) -> np.ndarray:
+    """lda_m of each runway direction, from a stream of its own (the other tables do not
+    change with it): TORA, less a displaced threshold for some, blank (NaN) for others."""
+    base = int(seed) if isinstance(seed, (int, np.integer)) else 0
+    rng = np.random.default_rng([base, 17])
+    tora = np.asarray(tora_m, dtype=float)
+    u = rng.random(tora.size)
+    displaced = np.round(rng.uniform(60.0, 300.0, tora.size), -1)
+    lda = np.where(u < LDA_SHARE * DISPLACED_SHARE, tora - displaced, tora)
+    return np.where(u < LDA_SHARE, lda, np.nan)
+
+
 def _arrow(cols: dict) -> pa.Table:
     arrays = {}
     for k, v in cols.items():
@@ -377,6 +395,7 @@ def generate_network(n_airfields: int, seed: int, out_dir, n_types: int = 8,
     af, desert = _airfields(rng, n_airfields)
     ids = af["airfield_id"]
     rw = _runways(rng, ids)
+    rw["lda_m"] = _landing_distances(seed, rw["tora_m"])
     cl = _climate(rng, af["latitude_deg"], af["elevation_m"], desert)
     cl = {"airfield_id": np.repeat(ids, 12), **cl}
     for c in ("p50_daily_max_c", "p85_daily_max_c", "p95_daily_max_c"):

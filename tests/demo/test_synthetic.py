@@ -206,3 +206,15 @@ def test_generate_command_bad_options_and_one_airfield(tmp_path, capsys):
     assert main(["generate", str(tmp_path / "one"), "--airfields", "1", "--seed", "4"]) == 0
     assert "1 airfield to" in capsys.readouterr().out
     assert validate_folder(tmp_path / "one") == []
+
+
+def test_runways_declare_landing_distances_some_blank(tmp_path):
+    # lda_m: TORA, or TORA less a displaced threshold of 60 … 300 m, blank for about 15 % of
+    # the directions (no landing check); drawn from a stream of its own
+    generate_network(300, 11, tmp_path)
+    rw = pd.read_csv(tmp_path / "runways.csv")
+    lda, tora = rw["lda_m"].to_numpy(float), rw["tora_m"].to_numpy(float)
+    given = np.isfinite(lda)
+    assert 0.05 < 1 - given.mean() < 0.30
+    assert np.all(lda[given] <= tora[given]) and np.all(lda[given] >= tora[given] - 300.0)
+    assert np.any(lda[given] < tora[given])
