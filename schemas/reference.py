@@ -62,7 +62,10 @@ def markdown() -> str:
         + _and([f"`{t.name}`" for t in TABLES.values() if not t.required_file])
         + " are optional), as "
         + " or ".join(f"`{s}`" for s in FILE_SUFFIXES) + ". Units are in the column names. "
-        "Identifiers are free text without spaces (letters, digits, `-`, `_`, `.`). Row "
+        "Identifiers start with a letter or digit, then letters, digits, `-`, `_` or `.` "
+        "(no spaces); they are kept as written, so `NA`, `null` or `None` is an identifier "
+        "like any other (in a number column these spellings, like an empty cell, mean "
+        "blank). Row "
         "numbers in error messages count data rows: row 1 is the first row below the header "
         "(sheet line 2). A blank optional cell takes the default shown; an unknown column is "
         "ignored with a warning.",

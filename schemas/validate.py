@@ -11,6 +11,23 @@ Row numbers
 file opened in a spreadsheet, data row N is on sheet line N + 1 (the header is line 1); the
 message says both. Blank lines in a CSV file count as rows, so numbers match the file.
 
+Text cells
+----------
+Text columns (identifiers, names) keep the text as written: ``NA``, ``null``, ``None`` or
+``nan`` are identifiers like any other; only an empty cell is blank. In number columns
+those spellings (and ``N/A``, ``#N/A``) mean blank.
+
+Large tables
+------------
+:func:`check_folder` reads and checks the wind rose in blocks of whole airfield-months;
+with ``frames=False`` (the ``check`` command) it keeps only the table's row count and
+month coverage, so memory stays bounded whatever the size of the network, as long as each
+airfield-month's rows are together in the file (any file sorted by airfield and month, as
+``generate`` writes it; a stray row of another airfield inside one is fine); otherwise
+that table is checked whole. Each check lists at most
+:data:`MAX_ROWS_PER_CHECK` rows over all blocks and counts the rest, in the same order
+whatever the block size.
+
 Heuristics for unit mistakes (stated so a user can judge them)
 ---------------------------------------------------------------
 * Elevation above 5 000 m that would be −500 … 5 000 m if read as feet: "looks like feet".
@@ -32,10 +49,13 @@ from __future__ import annotations
 import codecs
 import csv
 import difflib
-import io
+import errno
+import os
 import re
+import stat
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Callable
 
 import numpy as np
 import pandas as pd
@@ -46,8 +66,25 @@ from schemas.typeclasses import fill_class_defaults, shown_values
 MAX_ROWS_PER_CHECK = 50
 """At most this many rows are listed for one check of one column; the rest are counted."""
 
+VALUE_CHARS = 60
+"""A value longer than this (plus a little) is shown cut: its start and its length."""
+
 _MISSING = {"", "nan", "na", "n/a", "null", "none", "#n/a"}
+"""Spellings of a blank cell in a number column (any case). Text columns keep them."""
 _DECIMAL_COMMA = re.compile(r"^[+-]?\d+,\d+$")
+ID_RULE = ("a letter or digit first, then letters, digits, '-', '_' or '.'; no spaces")
+"""What :data:`schemas.tables.ID_PATTERN` allows, in words."""
+
+Progress = Callable[[int, int, str], None]
+"""``progress(done, total, file)``: bytes of the table files read so far, of all of them."""
+
+
+def shorten(text: str, limit: int = VALUE_CHARS) -> str:
+    """``text``, or its first ``limit`` characters and its length when much longer."""
+    text = str(text)
+    if len(text) <= limit + 20:
+        return text
+    return f"{text[:limit]}… ({len(text)} characters)"
 
 
 @dataclass
@@ -65,7 +102,7 @@ class Problem:
     column : str or None
         Column name.
     value : str or None
-        The offending value as text.
+        The offending value as text (a long one cut, see :func:`shorten`).
     expected : str or None
         What was expected.
     message : str
@@ -80,6 +117,10 @@ class Problem:
     expected: str | None
     message: str
 
+    def __post_init__(self):
+        if self.value is not None:
+            self.value = shorten(self.value)
+
     def __str__(self) -> str:
         where = self.file
         if self.row is not None:
@@ -88,7 +129,7 @@ class Problem:
             else:
                 where += f", row {self.row}"
         if self.column:
-            where += f", column '{self.column}'"
+            where += f", column '{shorten(self.column)}'"
         text = f"{self.severity.upper()} {where}: {self.message}"
         extra = []
         if self.value is not None:
@@ -119,11 +160,16 @@ class InputError(ValueError):
 
 @dataclass
 class FolderCheck:
-    """Result of checking a folder: typed frames (user units) and problems."""
+    """Result of checking a folder: typed frames (user units), row counts and problems.
+
+    ``frames`` lacks a table that could not be read, or that was checked in blocks
+    (``check_folder(frames=False)``); ``rows`` has the data rows of every table read.
+    """
 
     frames: dict[str, pd.DataFrame] = field(default_factory=dict)
     files: dict[str, Path] = field(default_factory=dict)
     problems: list[Problem] = field(default_factory=list)
+    rows: dict[str, int] = field(default_factory=dict)
 
     @property
     def ok(self) -> bool:
@@ -142,55 +188,169 @@ def validate_folder(path) -> list[Problem]:
     Returns
     -------
     list of Problem
-        Errors and warnings, in table order; empty when everything is fine. Never raises
-        for bad data (a missing folder is reported as a problem too).
+        Errors and warnings, file by file, then those across tables (months missing,
+        airfields without runways); empty when everything is fine. Never raises for bad
+        data (a missing or unreadable folder or file is reported as a problem too).
     """
-    return check_folder(path).problems
+    return check_folder(path, frames=False).problems
 
 
-def check_folder(path) -> FolderCheck:
-    """Read and check a folder; return typed frames in user units and the problems."""
+#: Tables read and checked in blocks of whole groups (the group columns whose rows a block
+#: keeps together): the one that grows to tens of millions of rows.
+STREAMED = {"wind_rose": ("airfield_id", "month")}
+
+_READ_ROWS = 1 << 20
+"""Rows read at a time when a table is checked in blocks."""
+
+_WAITING_BLOCKS = 4
+"""A table waits at most this many blocks (plus 65 536 rows) for a group to end, then it
+is checked whole."""
+
+
+def check_folder(path, *, frames: bool = True, progress: Progress | None = None) -> FolderCheck:
+    """Read and check a folder; return typed frames in user units and the problems.
+
+    Parameters
+    ----------
+    path : str or Path
+        The input folder.
+    frames : bool
+        True keeps every table's typed frame (what :func:`schemas.load.load_folder`
+        needs). False keeps, of the tables of :data:`STREAMED`, only their row counts and
+        month coverage: the same problems, in bounded memory. Either way those tables are
+        read and checked in blocks of whole groups.
+    progress : callable or None
+        Called as ``progress(done, total, file)`` (bytes of the table files) after each
+        block and table.
+    """
     folder = Path(path)
     out = FolderCheck()
-    if not folder.is_dir():
+    trouble = _folder_trouble(folder)
+    if trouble:
         out.problems.append(Problem("error", str(folder), None, None, None,
-                                    "a folder of input tables",
-                                    "input folder not found"))
+                                    "a folder of input tables", trouble))
         return out
     for name, spec in TABLES.items():
         located = _locate(folder, spec, out.problems)
-        if located is None:
-            continue
-        out.files[name] = located
-        raw = _read(located, out.problems)
-        if raw is None:
-            continue
-        frame = _typed_frame(raw, spec, located.name, out.problems)
-        del raw
-        if frame is None:
-            continue
-        out.frames[name] = frame
-    _cross_checks(out)
+        if located is not None:
+            out.files[name] = located
+    meter = _Meter(progress, out.files)
+    coverage: dict[str, pd.DataFrame] = {}
+    for name, located in out.files.items():
+        _check_table(name, located, out, coverage, meter,
+                     keep=frames or name not in STREAMED)
+        meter.finished(located)
+    _completeness(out, coverage)
     return out
 
 
+class _Meter:
+    """Bytes read of all table files, for the progress callback."""
+
+    def __init__(self, progress: Progress | None, files: dict[str, Path]):
+        self.progress = progress
+        self.sizes = {}
+        for p in files.values():
+            try:
+                self.sizes[p] = p.stat().st_size
+            except OSError:
+                self.sizes[p] = 0
+        self.total = sum(self.sizes.values())
+        self.done = 0
+
+    def at(self, path: Path, position: int) -> None:
+        if self.progress is not None:
+            self.progress(self.done + min(position, self.sizes.get(path, 0)), self.total,
+                          path.name)
+
+    def finished(self, path: Path) -> None:
+        self.done += self.sizes.get(path, 0)
+        if self.progress is not None:
+            self.progress(self.done, self.total, path.name)
+
+
 # ---------------------------------------------------------------------------------------
-# reading
+# finding the files
+
+def _folder_trouble(folder: Path) -> str | None:
+    """What keeps the input folder from being read, or None."""
+    try:
+        st = os.stat(folder)
+    except OSError as exc:
+        if exc.errno == errno.ELOOP:
+            return (f"input folder {folder} is a symbolic link that loops back on itself; "
+                    "point it at the folder of input tables")
+        if os.path.islink(folder):
+            return (f"input folder {folder} is a symbolic link to {os.readlink(folder)}, "
+                    "which does not exist")
+        if exc.errno == errno.ENOENT:
+            return "input folder not found"
+        return f"input folder {folder} cannot be read ({exc.strerror})"
+    if not stat.S_ISDIR(st.st_mode):
+        return f"{folder} is a file, not a folder: give the folder that holds the tables"
+    try:
+        os.listdir(folder)
+    except OSError as exc:
+        return f"input folder {folder} cannot be listed ({exc.strerror})"
+    return None
+
+
+def _file_trouble(path: Path) -> str | None:
+    """What keeps an existing directory entry from being read as a table file, or None."""
+    name = path.name
+    try:
+        st = os.stat(path)  # follows symbolic links
+    except OSError as exc:
+        if exc.errno == errno.ELOOP:
+            return (f"{name} is a symbolic link that loops (it leads back to itself, "
+                    "directly or through other links): replace it with the table file or "
+                    "a link to it")
+        if os.path.islink(path) and exc.errno in (errno.ENOENT, errno.ENOTDIR):
+            return (f"{name} is a symbolic link to {os.readlink(path)}, which does not "
+                    "exist: point it at the table file or replace it with the file")
+        if exc.errno in (errno.EACCES, errno.EPERM):
+            return f"{name} cannot be reached: permission denied"
+        return f"{name} cannot be read ({exc.strerror})"
+    if stat.S_ISDIR(st.st_mode):
+        return f"{name} is a folder, not a file: put the table itself under this name"
+    if not stat.S_ISREG(st.st_mode):
+        return (f"{name} is not a regular file (a pipe, socket or device): put the table "
+                "itself under this name")
+    try:
+        os.close(os.open(path, os.O_RDONLY))
+    except OSError as exc:
+        if exc.errno in (errno.EACCES, errno.EPERM):
+            return (f"{name} cannot be read: permission denied; make it readable for this "
+                    "user (e.g. chmod a+r)")
+        return f"{name} cannot be opened ({exc.strerror})"
+    return None
+
 
 def _locate(folder: Path, spec: TableSpec, problems: list[Problem]) -> Path | None:
-    found = [folder / f"{spec.name}{s}" for s in FILE_SUFFIXES if (folder / f"{spec.name}{s}").is_file()]
+    entries = [folder / f"{spec.name}{s}" for s in FILE_SUFFIXES]
+    found = [p for p in entries if os.path.lexists(p)]
     if len(found) > 1:
         problems.append(Problem(
             "error", found[0].name, None, None, None, "one file per table",
             f"both {found[0].name} and {found[1].name} exist; keep only one of them"))
         return None
     if found:
-        return found[0]
+        trouble = _file_trouble(found[0])
+        if trouble is None:
+            return found[0]
+        problems.append(Problem("error", found[0].name, None, None, None,
+                                f"a readable {found[0].suffix[1:].upper()} file",
+                                trouble))
+        return None
     if not spec.required_file:
         return None
-    near = [p.name for p in sorted(folder.iterdir())
-            if p.is_file() and (p.stem.lower() in (spec.name, spec.name.rstrip("s"))
-                                or p.name.lower() in (f"{spec.name}.csv", f"{spec.name}.parquet"))]
+    try:
+        near = [p.name for p in sorted(folder.iterdir())
+                if p.is_file() and (p.stem.lower() in (spec.name, spec.name.rstrip("s"))
+                                    or p.name.lower() in (f"{spec.name}.csv",
+                                                          f"{spec.name}.parquet"))]
+    except OSError:
+        near = []
     hint = f"; found {', '.join(near)}: rename it to {spec.name}.csv" if near else ""
     problems.append(Problem(
         "error", f"{spec.name}.csv", None, None, None,
@@ -199,163 +359,555 @@ def _locate(folder: Path, spec: TableSpec, problems: list[Problem]) -> Path | No
     return None
 
 
-def _read(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
-    if path.suffix == ".parquet":
-        return _read_parquet(path, problems)
-    return _read_csv(path, problems)
+# ---------------------------------------------------------------------------------------
+# problems gathered over the blocks of a table
+
+class _Listing:
+    """The problems of one check: the first rows listed, the others counted."""
+
+    __slots__ = ("problems", "more", "more_rows", "summary")
+
+    def __init__(self, summary):
+        self.problems: list[Problem] = []
+        self.more = 0
+        self.more_rows: list[int] = []
+        self.summary = summary
+
+    @property
+    def room(self) -> int:
+        return max(0, MAX_ROWS_PER_CHECK - len(self.problems))
+
+    def count(self, rows) -> None:
+        """Count rows beyond the listed ones (the first ten are named in the summary)."""
+        rows = np.asarray(rows, dtype=np.int64)
+        self.more += int(rows.size)
+        if len(self.more_rows) < 10:
+            self.more_rows.extend(int(r) for r in rows[:10 - len(self.more_rows)])
+
+    def close(self) -> list[Problem]:
+        if self.more and self.summary is not None:
+            return [*self.problems, self.summary(self.more, self.more_rows)]
+        return self.problems
 
 
-def _read_parquet(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
-    try:
-        df = pd.read_parquet(path)
-    except Exception as exc:  # any reader failure is a problem for the user, not a crash
-        problems.append(Problem("error", path.name, None, None, None, "a Parquet file",
-                                f"cannot read the file as Parquet ({type(exc).__name__}: {exc})"))
-        return None
-    if df.shape[0] == 0:
-        problems.append(Problem("error", path.name, None, None, None, "at least one data row",
-                                "the file has no data rows"))
-        return None
-    df = df.reset_index(drop=True)
-    df.columns = [str(c).strip() for c in df.columns]
-    return df
+class _Problems:
+    """The problems of one table, gathered check by check over its blocks.
+
+    Each check (severity, file, column, message, expected) keeps its own listing; the
+    listings come out in the order the checks first ran. Every check runs on every block,
+    with or without findings, so that order is the order of the code and does not depend
+    on the block size.
+    """
+
+    def __init__(self):
+        self._checks: dict = {}
+
+    def listing(self, key, summary=None) -> _Listing:
+        found = self._checks.get(key)
+        if found is None:
+            found = self._checks[key] = _Listing(summary)
+        return found
+
+    def append(self, problem: Problem) -> None:
+        """A problem of its own (a file or header problem)."""
+        self.listing(("single", len(self._checks))).problems.append(problem)
+
+    def extend(self, problems) -> None:
+        for p in problems:
+            self.append(p)
+
+    def close(self) -> list[Problem]:
+        out = []
+        for listing in self._checks.values():
+            out.extend(listing.close())
+        return out
 
 
-def _read_csv(path: Path, problems: list[Problem]) -> pd.DataFrame | None:
-    name = path.name
-    data = path.read_bytes()
-    if not data.strip():
-        problems.append(Problem("error", name, None, None, None, "a header line and data rows",
-                                "the file is empty"))
-        return None
-    magic = {b"PK\x03\x04": "an Excel workbook or other zip archive",
-             b"PAR1": "a Parquet file", b"\xd0\xcf\x11\xe0": "an old Excel workbook"}
-    for head, what in magic.items():
-        if data.startswith(head):
-            problems.append(Problem("error", name, None, None, None, "comma-separated UTF-8 text",
-                                    f"the file is {what}, not CSV text; export it as "
-                                    "'CSV UTF-8 (comma delimited)'"))
-            return None
-    if data.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
-        problems.append(Problem("error", name, None, None, None, "UTF-8 text",
-                                "the file is encoded as UTF-16; save it as 'CSV UTF-8'"))
-        return None
-    try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = data[: exc.start].count(b"\n") + 1
+def _rows_summary(severity, file, column, expected):
+    def summary(more, rows):
+        return Problem(severity, file, None, column, None, expected,
+                       f"... and {more} more rows with the same problem "
+                       f"(rows {', '.join(map(str, rows))}{', …' if more > 10 else ''})")
+    return summary
+
+
+# ---------------------------------------------------------------------------------------
+# reading
+
+class _Unreadable(Exception):
+    """The file cannot be parsed; the problem is already reported."""
+
+
+class _NotNumbers(Exception):
+    """A number column holds text: read the file again as text to name each bad cell."""
+
+
+class _NotGrouped(Exception):
+    """The rows of some group are not together: the table is checked whole."""
+
+
+@dataclass
+class _Header:
+    names: list[str]            # column names, in file order (duplicates included)
+    keep: list[int]             # positions of the columns used (first of each name)
+    blank: list[str]            # kept columns without a header name
+
+
+def _check_table(name: str, path: Path, out: FolderCheck, coverage: dict, meter: _Meter,
+                 keep: bool) -> None:
+    """Read, convert and check one table; its problems go to ``out.problems``."""
+    pre = _Problems()  # problems of the file as a whole, found once
+    names = None
+    if path.suffix != ".parquet":
         try:
-            data.decode("cp1252")
-            guess = "it looks like Windows-1252 / Latin-1"
-        except UnicodeDecodeError:
-            guess = "the encoding is unknown"
-        problems.append(Problem(
-            "error", name, line - 1 if line > 1 else None, None,
-            f"byte 0x{data[exc.start]:02x}", "UTF-8 text",
-            f"the file is not UTF-8 (first invalid byte on line {line}; {guess}); "
-            "save it as 'CSV UTF-8'"))
-        return None
-    if "\x00" in text:
-        problems.append(Problem("error", name, None, None, None, "CSV text",
-                                "the file contains NUL bytes: it is binary, not CSV text"))
-        return None
-    first = text.split("\n", 1)[0].rstrip("\r")
-    if "," not in first and (";" in first or "\t" in first):
-        sep = "';'" if ";" in first else "tabs"
-        problems.append(Problem("error", name, None, None, first[:80], "comma-separated columns",
-                                f"the columns are separated by {sep}; save the file with commas"))
-        return None
+            names = _csv_header(path, pre)
+        except _Unreadable:
+            out.problems.extend(pre.close())
+            return
+    blocks = name in STREAMED
+    text = False
+    while True:
+        pr = _Problems()
+        try:
+            frame, rows, months = _check_table_pass(name, path, names, out, pr, meter,
+                                                    blocks, keep, text)
+        except _NotNumbers:
+            text = True
+            continue
+        except _NotGrouped:
+            blocks = False
+            continue
+        except _Unreadable:
+            frame = rows = months = None
+        break
+    out.problems.extend(pre.close())
+    out.problems.extend(pr.close())
+    if rows is None:
+        return
+    out.rows[name] = rows
+    if frame is not None and keep:
+        out.frames[name] = frame
+    if months is not None:
+        coverage[name] = months
+
+
+def _check_table_pass(name, path, names, out, pr, meter, blocks, keep, text):
+    """One reading of a table: ``(frame or None, data rows, month coverage or None)``.
+
+    Raises :class:`_NotNumbers` or :class:`_NotGrouped` to ask for another reading (as
+    text, or whole), :class:`_Unreadable` when the file cannot be used.
+    """
+    spec = TABLES[name]
+    file = path.name
+    size = _READ_ROWS if blocks else None
+    if path.suffix == ".parquet":
+        names, raw_blocks = _parquet_blocks(path, pr, size, meter)
+        empty = "the file has no data rows"
+    else:
+        raw_blocks = _csv_blocks(path, names, spec, pr, size, text, meter)
+        empty = "the file has a header but no data rows"
+    groups = _Groups(STREAMED[name]) if blocks else None
+    header = None
+    typed_blocks, coverage = [], []
+    rows = 0
+    for raw in raw_blocks:
+        if header is None:
+            if len(raw) == 0:
+                continue
+            header = _header_checks(names, spec, file, pr)
+        raw = raw.iloc[:, header.keep]
+        raw.columns = [names[i] for i in header.keep]
+        rows += len(raw)
+        typed = _typed_block(raw, spec, file, pr, header)
+        del raw
+        if groups is None:
+            typed_blocks.append(typed)
+            continue
+        whole = groups.add(typed)
+        del typed
+        if whole is not None:
+            checked, months = _checked_block(name, whole, file, out, pr)
+            coverage.append(months)
+            if keep:
+                typed_blocks.append(checked)
+    if header is None:
+        pr.append(Problem("error", file, None, None, None, "at least one data row", empty))
+        raise _Unreadable
+    if groups is not None:
+        rest = groups.rest()
+        if rest is not None:
+            checked, months = _checked_block(name, rest, file, out, pr)
+            coverage.append(months)
+            if keep:
+                typed_blocks.append(checked)
+        months = pd.concat(coverage, ignore_index=True).drop_duplicates()
+        return (_join_blocks(typed_blocks) if keep else None), rows, months
+    frame = typed_blocks[0] if len(typed_blocks) == 1 else pd.concat(typed_blocks)
+    del typed_blocks
+    frame = _table_checks(name, frame, file, out, pr)
+    months = _month_pairs(frame) if name in _MONTHLY else None
+    return frame, rows, months
+
+
+_MONTHLY = ("climate_monthly", "wind_rose")
+
+
+def _checked_block(name, df, file, out, pr):
+    """Check a block of whole groups; return it (as checked) and its month coverage."""
+    df = _table_checks(name, df, file, out, pr)
+    return df, _month_pairs(df)
+
+
+def _join_blocks(parts: list[pd.DataFrame]) -> pd.DataFrame:
+    """One frame of blocks, column by column (each block's column freed once copied)."""
+    if len(parts) == 1:
+        return parts[0]
+    out = pd.DataFrame(index=pd.Index(np.concatenate([p.index.to_numpy() for p in parts])))
+    for c in list(parts[0].columns):
+        dtype = parts[0][c].dtype
+        out[c] = pd.Series(np.concatenate([p[c].to_numpy() for p in parts]), index=out.index,
+                           dtype=dtype, copy=False)
+        for p in parts:
+            del p[c]
+    return out
+
+
+class _Groups:
+    """Cuts typed blocks, read in file order, into blocks of whole groups.
+
+    A group is one value of the group columns (an airfield-month); rows with a blank group
+    column belong to none. A block ends where no group before the cut has rows after it
+    (a stray row of another group inside a group is fine); what follows the last such cut
+    waits for the next block. Raises :class:`_NotGrouped` when a group's rows turn out to
+    be in two blocks, or when no cut is found in :data:`_WAITING_BLOCKS` blocks.
+    """
+
+    def __init__(self, columns: tuple[str, str]):
+        self.columns = columns
+        self.pending: pd.DataFrame | None = None
+        self.ids: dict = {}
+        self.closed: set[int] = set()
+
+    def _keys(self, df: pd.DataFrame):
+        """Positions of the rows in a group and one int key per such row."""
+        ident, month = (df[c] for c in self.columns)
+        m = month.to_numpy(dtype=float)
+        valid = ident.notna().to_numpy() & ~np.isnan(m)
+        pos = np.flatnonzero(valid)
+        codes, uniq = pd.factorize(ident.iloc[pos])
+        ids = self.ids
+        gid = np.fromiter((ids.setdefault(u, len(ids)) for u in uniq), dtype=np.int64,
+                          count=len(uniq))
+        m = m[pos]
+        whole = (m >= 1) & (m <= 12) & (m == np.round(m))
+        # months outside 1 … 12 share code 13: a mix-up only makes the check read whole
+        mcode = np.where(whole, m, 13).astype(np.int64)
+        return pos, gid[codes] * 16 + mcode
+
+    def _close(self, keys: np.ndarray) -> None:
+        done = set(np.unique(keys).tolist())
+        if not self.closed.isdisjoint(done):
+            raise _NotGrouped
+        self.closed |= done
+
+    def add(self, typed: pd.DataFrame) -> pd.DataFrame | None:
+        df = typed if self.pending is None else pd.concat([self.pending, typed])
+        pos, keys = self._keys(df)
+        if keys.size == 0:
+            self.pending = None
+            return df
+        code, uniq = pd.factorize(keys)
+        last = np.full(uniq.size, -1, dtype=np.int64)
+        np.maximum.at(last, code, np.arange(code.size, dtype=np.int64))
+        reach = np.maximum.accumulate(last[code])  # last row of any group begun so far
+        # a cut before keyed row s keeps every group whole when reach[s - 1] == s - 1
+        cuts = np.flatnonzero(reach[:-1] == np.arange(code.size - 1)) + 1
+        if cuts.size == 0:
+            if len(df) > _WAITING_BLOCKS * _READ_ROWS + 65536:
+                raise _NotGrouped
+            self.pending = df
+            return None
+        s = int(cuts[-1])
+        self._close(keys[:s])
+        cut = int(pos[s])
+        self.pending = df.iloc[cut:]
+        return df.iloc[:cut]
+
+    def rest(self) -> pd.DataFrame | None:
+        df, self.pending = self.pending, None
+        if df is None or len(df) == 0:
+            return None
+        pos, keys = self._keys(df)
+        self._close(keys)
+        return df
+
+
+def _header_checks(names: list[str], spec: TableSpec, file: str, pr: _Problems) -> _Header:
+    """Duplicate, unknown and missing columns; raises :class:`_Unreadable` when a required
+    column is missing."""
+    seen: set[str] = set()
+    keep = []
+    for i, c in enumerate(names):
+        if c in seen:
+            pr.append(Problem("error", file, None, c, None, "each column once",
+                              f"column '{shorten(c)}' appears more than once in the header; "
+                              "keep one"))
+            continue
+        seen.add(c)
+        keep.append(i)
+    known = set(spec.names)
+    blank = []
+    for i in keep:
+        c = names[i]
+        if c in known:
+            continue
+        if c.startswith("Unnamed:") or c == "":
+            blank.append(c)
+            pr.listing(("blank column", c))  # its place in the listing; filled if it holds values
+            continue
+        guess = difflib.get_close_matches(c, spec.names, n=1, cutoff=0.6)
+        hint = f"; did you mean '{guess[0]}'?" if guess else ""
+        if c.lower().endswith("_ft"):
+            hint += " Give lengths in metres (ft × 0.3048) in the '_m' column."
+        if c.lower().endswith("_f"):
+            hint += " Give temperatures in °C ((°F − 32) × 5/9) in the '_c' column."
+        pr.append(Problem("warning", file, None, c, None,
+                          ", ".join(spec.names), f"unknown column, ignored{hint}"))
+    present = {names[i] for i in keep}
+    missing = [c for c in spec.columns if c.required and c.name not in present]
+    for c in missing:
+        pr.append(Problem("error", file, None, c.name, None, c.description,
+                          f"required column '{c.name}' is missing"))
+    if missing:
+        raise _Unreadable
+    return _Header(names, keep, blank)
+
+
+def _typed_block(raw: pd.DataFrame, spec: TableSpec, file: str, pr: _Problems,
+                 header: _Header) -> pd.DataFrame:
+    """The table's columns, converted (user units), of one block of raw rows."""
+    for c in header.blank:
+        listing = pr.listing(("blank column", c))
+        if not listing.problems and (_as_text(raw[c]) != "").any():
+            listing.problems.append(Problem(
+                "warning", file, None, c or "(blank)", None, None,
+                "a column without a header holds values; it is ignored"))
+    out = pd.DataFrame(index=raw.index)  # column by column: no 2-D copy of a large block
+    for col in spec.columns:
+        if col.name in raw.columns:
+            series = raw[col.name]
+        else:
+            series = pd.Series([None] * len(raw), index=raw.index, dtype=object)
+        out[col.name] = _convert_column(series, col, file, pr)
+    return out
+
+
+def _parquet_blocks(path: Path, pr: _Problems, size: int | None, meter: _Meter):
+    """Column names and a generator of raw blocks (all of them at once when size is None)."""
+    import pyarrow.parquet as pq
+
     try:
-        header = next(csv.reader([first]))
-    except csv.Error as exc:
-        problems.append(Problem("error", name, None, None, first[:80], "a CSV header line",
-                                f"the header line is not valid CSV ({exc})"))
-        return None
-    names = [h.strip() for h in header]
-    spec = TABLES.get(path.stem)
-    df = None
-    if spec is not None and len(set(names)) == len(names):
-        # neither the decoded text nor the bytes are held while parsing (the file is read
-        # again by the parser); decoded again only when the slow path needs them
-        text = data = None
-        df = _read_csv_typed(path, names, spec)
-        if df is None:
-            text = path.read_bytes().decode("utf-8-sig")
-    del data
+        pf = pq.ParquetFile(path)
+        schema = pf.schema_arrow
+        index_cols = (schema.pandas_metadata or {}).get("index_columns", [])
+        names = [n for n in schema.names if n not in index_cols]
+        n_rows = pf.metadata.num_rows
+    except Exception as exc:  # any reader failure is a problem for the user, not a crash
+        pr.append(_parquet_problem(path, exc))
+        raise _Unreadable from None
+
+    def blocks():
+        start = 0
+        try:
+            if size is None:
+                parts = [pf.read(columns=names)]
+            else:
+                parts = pf.iter_batches(batch_size=size, columns=names)
+            for part in parts:
+                df = part.to_pandas()
+                df.columns = list(range(len(names)))
+                df.index = pd.RangeIndex(start, start + len(df))
+                start += len(df)
+                yield df
+                meter.at(path, int(meter.sizes.get(path, 0) * start / max(n_rows, 1)))
+        except _Unreadable:
+            raise
+        except Exception as exc:
+            pr.append(_parquet_problem(path, exc))
+            raise _Unreadable from None
+
+    return [str(n).strip() for n in names], blocks()
+
+
+def _parquet_problem(path: Path, exc: Exception) -> Problem:
+    return Problem("error", path.name, None, None, None, "a Parquet file",
+                   f"cannot read the file as Parquet ({type(exc).__name__}: "
+                   f"{shorten(exc, 200)})")
+
+
+_SCAN_BYTES = 1 << 24
+_MAGIC = {b"PK\x03\x04": "an Excel workbook or other zip archive",
+          b"PAR1": "a Parquet file", b"\xd0\xcf\x11\xe0": "an old Excel workbook"}
+
+
+def _csv_header(path: Path, pr: _Problems) -> list[str]:
+    """Check that a file is comma-separated UTF-8 text; return its header's column names.
+
+    Reads the file once in pieces of :data:`_SCAN_BYTES` (never the whole file at once).
+    Raises :class:`_Unreadable` after reporting what is wrong.
+    """
+    name = path.name
+
+    def fail(message, expected, value=None, row=None):
+        pr.append(Problem("error", name, row, None, value, expected, message))
+        raise _Unreadable
+
     try:
-        if df is None:
-            df = pd.read_csv(io.StringIO(text), dtype=str, keep_default_na=False,
-                             na_filter=False, skip_blank_lines=False, engine="c")
-    except pd.errors.EmptyDataError:
-        problems.append(Problem("error", name, None, None, None, "a header line and data rows",
-                                "the file is empty"))
-        return None
-    except (pd.errors.ParserError, csv.Error, ValueError) as exc:
-        _locate_csv_error(text, name, len(header), problems, exc)
-        return None
-    if len(df.columns) != len(header):  # pragma: no cover - defensive
-        header = list(df.columns)
-    df.columns = names
-    # blank lines stay as rows so numbers match the file; drop them now (index keeps numbers)
-    blank = (df.isna() | (df == "")).all(axis=1)
-    df = df[~blank]
-    if df.shape[0] == 0:
-        problems.append(Problem("error", name, None, None, None, "at least one data row",
-                                "the file has a header but no data rows"))
-        return None
-    return df
+        with open(path, "rb") as fh:
+            piece = fh.read(_SCAN_BYTES)
+            first = piece
+            for head, what in _MAGIC.items():
+                if piece.startswith(head):
+                    fail(f"the file is {what}, not CSV text; export it as "
+                         "'CSV UTF-8 (comma delimited)'", "comma-separated UTF-8 text")
+            if piece.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
+                fail("the file is encoded as UTF-16; save it as 'CSV UTF-8'", "UTF-8 text")
+            decoder = codecs.getincrementaldecoder("utf-8")()
+            if piece.startswith(codecs.BOM_UTF8):
+                piece = piece[len(codecs.BOM_UTF8):]
+            lines = 0
+            blank = True
+            while piece:
+                if blank and piece.strip():
+                    blank = False
+                if piece.find(b"\x00") >= 0:
+                    fail("the file contains NUL bytes: it is binary, not CSV text", "CSV text")
+                held = decoder.getstate()[0]
+                if held or not piece.isascii():
+                    try:
+                        decoder.decode(piece)
+                    except UnicodeDecodeError as exc:
+                        _encoding_problem(name, held + piece, exc.start, lines, pr)
+                        raise _Unreadable from None
+                lines += piece.count(b"\n")
+                piece = fh.read(_SCAN_BYTES)
+            try:
+                decoder.decode(b"", final=True)
+            except UnicodeDecodeError as exc:
+                _encoding_problem(name, decoder.getstate()[0], exc.start, lines, pr)
+                raise _Unreadable from None
+    except OSError as exc:
+        fail(f"the file cannot be read ({exc.strerror or exc})", "a readable file")
+    if blank:
+        fail("the file is empty", "a header line and data rows")
+    text = first.split(b"\n", 1)[0].decode("utf-8-sig", errors="replace").rstrip("\r")
+    if "," not in text and (";" in text or "\t" in text):
+        sep = "';'" if ";" in text else "tabs"
+        fail(f"the columns are separated by {sep}; save the file with commas",
+             "comma-separated columns", value=text[:80])
+    try:
+        header = next(csv.reader([text]))
+    except (csv.Error, StopIteration) as exc:
+        fail(f"the header line is not valid CSV ({exc})", "a CSV header line", value=text[:80])
+    return [h.strip() for h in header]
+
+
+def _encoding_problem(name, data: bytes, start: int, lines_before: int, pr) -> None:
+    line = lines_before + data[:start].count(b"\n") + 1
+    try:
+        data.decode("cp1252")
+        guess = "it looks like Windows-1252 / Latin-1"
+    except UnicodeDecodeError:
+        guess = "the encoding is unknown"
+    pr.append(Problem(
+        "error", name, line - 1 if line > 1 else None, None,
+        f"byte 0x{data[start]:02x}" if start < len(data) else "a cut-off character",
+        "UTF-8 text",
+        f"the file is not UTF-8 (first invalid byte on line {line}; {guess}); "
+        "save it as 'CSV UTF-8'"))
 
 
 _NA_VALUES = sorted({v for m in _MISSING for v in (m, m.upper(), m.capitalize())}
                     | {"NaN", "N/A", "#N/A"})
 
 
-def _read_csv_typed(text: str | bytes | Path, names: list[str], spec: TableSpec) -> pd.DataFrame | None:
-    """Fast path: parse numeric columns as numbers directly; None when any cell is not one.
+def _csv_blocks(path: Path, names: list[str], spec: TableSpec, pr: _Problems,
+                size: int | None, text: bool, meter: _Meter):
+    """Raw blocks of a CSV file (index: 0-based data row), blank lines dropped.
 
-    The slower text path then finds and reports each bad cell. ``text`` may be the file's
-    UTF-8 bytes (preferred for large files: ``io.StringIO`` holds 4 bytes per character).
+    Numbers are parsed as numbers directly (``text=False``) and text columns kept as
+    written; a number column holding text raises :class:`_NotNumbers` so that the file is
+    read again as text, where each bad cell is found and named.
     """
     known = {c.name: c for c in spec.columns}
-    dtypes = {i: (float if n in known and known[n].dtype != "str" else str)
-              for i, n in enumerate(names)}
+    numeric = [i for i, n in enumerate(names) if n in known and known[n].dtype != "str"]
+    kw = dict(header=0, names=list(range(len(names))), skip_blank_lines=False,
+              engine="c", encoding="utf-8-sig")
+    if text:
+        kw.update(dtype=str, keep_default_na=False, na_filter=False)
+    else:
+        kw.update(dtype={i: (float if i in numeric else str) for i in range(len(names))},
+                  keep_default_na=False, na_values={i: _NA_VALUES for i in numeric})
     try:
-        if isinstance(text, Path):
-            source = text
+        if size is None:
+            parts = [pd.read_csv(path, **kw)]
+            fh = None
         else:
-            source = io.BytesIO(text if isinstance(text, bytes) else text.encode("utf-8"))
-        df = pd.read_csv(source, header=0, names=list(range(len(names))),
-                         dtype=dtypes, keep_default_na=False, na_values=_NA_VALUES,
-                         skip_blank_lines=False, engine="c", encoding="utf-8-sig")
-    except (ValueError, pd.errors.ParserError, csv.Error):
-        return None
-    if df.shape[1] != len(names):
-        return None
-    return df
+            fh = open(path, "rb")
+            parts = pd.read_csv(fh, chunksize=size, **kw)
+        try:
+            for df in parts:
+                if df.shape[1] != len(names):  # pragma: no cover - defensive
+                    raise pd.errors.ParserError("field count differs from the header")
+                blank = (df.isna() | (df == "")).all(axis=1).to_numpy()
+                if blank.any():
+                    df = df[~blank]
+                yield df
+                if fh is not None:
+                    meter.at(path, fh.tell())
+        finally:
+            if fh is not None:
+                fh.close()
+    except (pd.errors.ParserError, csv.Error) as exc:
+        _locate_csv_error(path, len(names), pr, exc)
+        raise _Unreadable from None
+    except pd.errors.EmptyDataError:
+        return
+    except ValueError as exc:
+        if not text:
+            raise _NotNumbers from None
+        _locate_csv_error(path, len(names), pr, exc)
+        raise _Unreadable from None
+    except OSError as exc:
+        pr.append(Problem("error", path.name, None, None, None, "a readable file",
+                          f"the file cannot be read ({exc.strerror or exc})"))
+        raise _Unreadable from None
 
 
-def _locate_csv_error(text, name, n_header, problems, exc) -> None:
+def _locate_csv_error(path: Path, n_header, problems, exc) -> None:
     """Find the lines whose field count differs from the header (only on the error path)."""
+    name = path.name
     found = 0
     try:
-        for i, fields in enumerate(csv.reader(io.StringIO(text), strict=True)):
-            if i == 0 or not fields:
-                continue
-            if len(fields) != n_header:
-                found += 1
-                if found <= MAX_ROWS_PER_CHECK:
-                    problems.append(Problem(
-                        "error", name, i, None, f"{len(fields)} fields",
-                        f"{n_header} fields like the header",
-                        "row has a different number of fields than the header "
-                        "(a stray comma or an unquoted comma in a name?)"))
+        with open(path, encoding="utf-8-sig", newline="") as fh:
+            for i, fields in enumerate(csv.reader(fh, strict=True)):
+                if i == 0 or not fields:
+                    continue
+                if len(fields) != n_header:
+                    found += 1
+                    if found <= MAX_ROWS_PER_CHECK:
+                        problems.append(Problem(
+                            "error", name, i, None, f"{len(fields)} fields",
+                            f"{n_header} fields like the header",
+                            "row has a different number of fields than the header "
+                            "(a stray comma or an unquoted comma in a name?)"))
     except csv.Error as err:
         problems.append(Problem("error", name, None, None, None, "valid CSV",
                                 f"the file is not valid CSV ({err}); an unclosed quote?"))
         return
     if found == 0:
         problems.append(Problem("error", name, None, None, None, "valid CSV",
-                                f"the file is not valid CSV ({exc})"))
+                                f"the file is not valid CSV ({shorten(exc, 200)})"))
     elif found > MAX_ROWS_PER_CHECK:
         problems.append(Problem("error", name, None, None, None, None,
                                 f"... and {found - MAX_ROWS_PER_CHECK} more rows with the "
@@ -371,25 +923,38 @@ def _rows(index) -> np.ndarray:
 
 def _report(problems, severity, file, frame_index, mask, column, values, expected, message,
             hint=None) -> None:
-    """Add one problem per masked row (at most MAX_ROWS_PER_CHECK, then a summary)."""
+    """List the masked rows (at most MAX_ROWS_PER_CHECK per check, the rest counted).
+
+    ``problems`` is the table's :class:`_Problems` (the listing goes on over its blocks)
+    or a plain list (this call is the whole check: summary at once).
+    """
+    if not isinstance(problems, _Problems):
+        one = _Problems()
+        _report(one, severity, file, frame_index, mask, column, values, expected, message,
+                hint)
+        problems.extend(one.close())
+        return
+    listing = problems.listing((severity, file, column, message, expected),
+                               _rows_summary(severity, file, column, expected))
     mask = np.asarray(mask, dtype=bool)
     if not mask.any():
         return
-    rows = _rows(frame_index)[mask]
-    vals = np.asarray(values)[mask].astype(object)
-    for r, v in zip(rows[:MAX_ROWS_PER_CHECK], vals[:MAX_ROWS_PER_CHECK]):
+    at = np.flatnonzero(mask)
+    rows = _rows(frame_index)[at]
+    room = listing.room
+    shown = at[:room]
+    vals = np.asarray(values.iloc[shown] if isinstance(values, pd.Series)
+                      else np.asarray(values)[shown], dtype=object)
+    for r, v in zip(rows[:room], vals):
         msg = message
         if hint is not None:
             h = hint(v)
             if h:
                 msg = f"{message}; {h}"
-        problems.append(Problem(severity, file, int(r), column, _text(v), expected, msg))
-    if rows.size > MAX_ROWS_PER_CHECK:
-        more = rows[MAX_ROWS_PER_CHECK:]
-        problems.append(Problem(
-            severity, file, None, column, None, expected,
-            f"... and {more.size} more rows with the same problem "
-            f"(rows {', '.join(map(str, more[:10]))}{', …' if more.size > 10 else ''})"))
+        listing.problems.append(Problem(severity, file, int(r), column, _text(v), expected,
+                                        msg))
+    if rows.size > room:
+        listing.count(rows[room:])
 
 
 def _text(v) -> str | None:
@@ -420,55 +985,6 @@ def _scalar_text(v) -> str:
     return str(v)
 
 
-def _typed_frame(raw: pd.DataFrame, spec: TableSpec, file: str,
-                 problems: list[Problem]) -> pd.DataFrame | None:
-    cols = list(raw.columns)
-    seen: set[str] = set()
-    keep = []
-    for i, c in enumerate(cols):
-        if c in seen:
-            problems.append(Problem("error", file, None, c, None, "each column once",
-                                    f"column '{c}' appears more than once in the header; "
-                                    "keep one"))
-            continue
-        seen.add(c)
-        keep.append(i)
-    raw = raw.iloc[:, keep]
-    known = set(spec.names)
-    for c in raw.columns:
-        if c in known:
-            continue
-        if c.startswith("Unnamed:") or c == "":
-            if (_as_text(raw[c]) == "").all():
-                continue
-            problems.append(Problem("warning", file, None, c or "(blank)", None, None,
-                                    "a column without a header holds values; it is ignored"))
-            continue
-        guess = difflib.get_close_matches(c, spec.names, n=1, cutoff=0.6)
-        hint = f"; did you mean '{guess[0]}'?" if guess else ""
-        if c.lower().endswith("_ft"):
-            hint += " Give lengths in metres (ft × 0.3048) in the '_m' column."
-        if c.lower().endswith("_f"):
-            hint += " Give temperatures in °C ((°F − 32) × 5/9) in the '_c' column."
-        problems.append(Problem("warning", file, None, c, None,
-                                ", ".join(spec.names), f"unknown column, ignored{hint}"))
-    missing = [c for c in spec.columns if c.required and c.name not in raw.columns]
-    for c in missing:
-        problems.append(Problem("error", file, None, c.name, None, c.description,
-                                f"required column '{c.name}' is missing"))
-    if missing:
-        return None
-
-    out = pd.DataFrame(index=raw.index)
-    for col in spec.columns:
-        if col.name in raw.columns:
-            series = raw[col.name]
-        else:
-            series = pd.Series([None] * len(raw), index=raw.index, dtype=object)
-        out[col.name] = _convert_column(series, col, file, problems)
-    return out
-
-
 def _convert_column(series: pd.Series, col, file, problems) -> pd.Series:
     idx = series.index
     if col.dtype == "str":
@@ -476,7 +992,7 @@ def _convert_column(series: pd.Series, col, file, problems) -> pd.Series:
         codes, uniq = pd.factorize(series if pd.api.types.is_string_dtype(series)
                                    else series.astype(object), use_na_sentinel=False)
         utext = _as_text(pd.Series(uniq, dtype=object))
-        ublank = utext.str.lower().isin(_MISSING).to_numpy()
+        ublank = (utext == "").to_numpy()  # 'NA', 'null', 'None' are text like any other
         text = pd.Series(utext.to_numpy()[codes], index=idx, dtype=object)
         blank = ublank[codes]
         if col.required:
@@ -491,7 +1007,7 @@ def _convert_column(series: pd.Series, col, file, problems) -> pd.Series:
         if col.pattern is not None:
             bad = ok & ~utext.str.match(col.pattern).to_numpy(dtype=bool)[codes]
             _report(problems, "error", file, idx, bad, col.name, text,
-                    "letters, digits, '-', '_' or '.', no spaces",
+                    ID_RULE,
                     "not a valid identifier")
         result = text.where(ok, None)
         if col.default is not None:
@@ -521,10 +1037,9 @@ def _convert_column(series: pd.Series, col, file, problems) -> pd.Series:
     inf = np.isinf(values.to_numpy())
     badtype = badtype | inf
     values = values.where(~inf, np.nan)
-    if badtype.any():
-        _report(problems, "error", file, idx, badtype, col.name, text,
-                "a whole number" if col.dtype == "int" else "a number",
-                "not a number", hint=_number_hint)
+    _report(problems, "error", file, idx, badtype, col.name, text,
+            "a whole number" if col.dtype == "int" else "a number",
+            "not a number", hint=_number_hint)
     if col.required:
         _report(problems, "error", file, idx, blank, col.name, text, col.description,
                 "required value is blank or NaN")
@@ -540,9 +1055,8 @@ def _convert_column(series: pd.Series, col, file, problems) -> pd.Series:
             bad_range |= present & (v < col.min)
         if col.max is not None:
             bad_range |= present & (v > col.max)
-    if bad_range.any():
-        _report(problems, "error", file, idx, bad_range, col.name, v, col.range_text(),
-                "value out of range", hint=_RANGE_HINTS.get(col.name))
+    _report(problems, "error", file, idx, bad_range, col.name, v, col.range_text(),
+            "value out of range", hint=_RANGE_HINTS.get(col.name))
     if col.default is not None:
         values = values.where(present | badtype, float(col.default))
     return values
@@ -645,125 +1159,76 @@ def _fname(check: FolderCheck, table: str) -> str:
     return p.name if p is not None else f"{table}.csv"
 
 
-def _cross_checks(check: FolderCheck) -> None:
+_TABLE_CHECKS = {}  # table name -> its checks across columns (filled below)
+
+
+def _table_checks(name: str, df: pd.DataFrame, file: str, check: FolderCheck,
+                  pr) -> pd.DataFrame:
+    """Keys, the table's own rules and its references, on the whole table or on a block
+    of whole groups; returns the frame (the wind rose with shares for percentages)."""
+    _duplicate_keys(df, TABLES[name], file, pr)
+    rule = _TABLE_CHECKS.get(name)
+    if rule is not None:
+        checked = rule(df, file, pr)
+        if checked is not None:
+            df = checked
+    for fk in TABLES[name].foreign_keys:
+        ref = check.frames.get(fk.ref_table)
+        if ref is None:
+            continue
+        if len(fk.columns) > 1:
+            _composite_reference(df, fk, ref, file, _fname(check, fk.ref_table), pr)
+            continue
+        col, refcol = fk.columns[0], fk.ref_columns[0]
+        vals = df[col]
+        known = ref[refcol].dropna()
+        bad = vals.notna().to_numpy() & ~vals.isin(set(known)).to_numpy()
+        _report(pr, "error", file, df.index, bad, col, vals,
+                f"an {refcol} listed in {_fname(check, fk.ref_table)}",
+                f"refers to an unknown {fk.ref_table.rstrip('s').replace('_', ' ')}",
+                hint=lambda v, r=known: _suggest(v, r.tolist()))
+    return df
+
+
+def _month_pairs(df: pd.DataFrame) -> pd.DataFrame:
+    """The distinct (airfield_id, month) pairs with a month 1 … 12."""
+    months = df[["airfield_id", "month"]].dropna()
+    return months[(months["month"] >= 1) & (months["month"] <= 12)].drop_duplicates()
+
+
+def _completeness(check: FolderCheck, coverage: dict) -> None:
+    """Checks across tables: every airfield's twelve months, and a runway."""
     f = check.frames
     pr = check.problems
-    for name, df in f.items():
-        _duplicate_keys(df, TABLES[name], _fname(check, name), pr)
-    if "runways" in f:
-        _runway_checks(f["runways"], _fname(check, "runways"), pr)
-    if "airfields" in f:
-        _airfield_checks(f["airfields"], _fname(check, "airfields"), pr)
-    if "climate_monthly" in f:
-        _climate_checks(f["climate_monthly"], _fname(check, "climate_monthly"), pr)
-    if "wind_rose" in f:
-        f["wind_rose"] = _wind_rose_checks(f["wind_rose"], _fname(check, "wind_rose"), pr)
-    if "aircraft_types" in f:
-        _aircraft_checks(f["aircraft_types"], _fname(check, "aircraft_types"), pr)
-    if "routes" in f:
-        _route_checks(f["routes"], _fname(check, "routes"), pr)
-    if "reference_points" in f:
-        _reference_point_checks(f["reference_points"], _fname(check, "reference_points"), pr)
-    if "obstacles" in f:
-        _obstacle_checks(f["obstacles"], _fname(check, "obstacles"), pr)
-    for name, df in f.items():
-        for fk in TABLES[name].foreign_keys:
-            ref = f.get(fk.ref_table)
-            if ref is None:
-                continue
-            if len(fk.columns) > 1:
-                _composite_reference(df, fk, ref, _fname(check, name), _fname(check, fk.ref_table), pr)
-                continue
-            col, refcol = fk.columns[0], fk.ref_columns[0]
-            vals = df[col]
-            bad = vals.notna().to_numpy() & ~vals.isin(set(ref[refcol].dropna())).to_numpy()
-            _report(pr, "error", _fname(check, name), df.index, bad, col, vals,
-                    f"an {refcol} listed in {_fname(check, fk.ref_table)}",
-                    f"refers to an unknown {fk.ref_table.rstrip('s').replace('_', ' ')}",
-                    hint=lambda v, r=ref[refcol].dropna().tolist():
-                        _suggest(v, r))
-    if "airfields" in f:
-        af = f["airfields"]
-        ids = af["airfield_id"].dropna()
-        for table in ("climate_monthly", "wind_rose"):
-            if table in f:
-                _months_complete(af, f[table], table, _fname(check, table),
-                                 _fname(check, "airfields"), pr)
-        if "runways" in f:
-            has = ids.isin(set(f["runways"]["airfield_id"].dropna())).to_numpy()
-            _report(pr, "warning", _fname(check, "airfields"), ids.index, ~has, "airfield_id",
-                    ids, "at least one row in runways",
-                    "airfield has no runway: it gets no results")
-
-
-def _composite_reference(df, fk, ref, file, ref_file, pr) -> None:
-    """Rows whose key pair (airfield, runway) is not in the referenced table; rows whose
-    first column is itself unknown are left to that column's own reference check."""
-    first, last = fk.columns[0], fk.columns[-1]
-    known_first = set(ref[fk.ref_columns[0]].dropna())
-    pairs = pd.MultiIndex.from_frame(ref[list(fk.ref_columns)].dropna())
-    mine = df[list(fk.columns)]
-    filled = mine.notna().all(axis=1).to_numpy()
-    bad = (filled & mine[first].isin(known_first).to_numpy()
-           & ~pd.MultiIndex.from_frame(mine.astype(object)).isin(pairs))
-    if not bad.any():
+    if "airfields" not in f:
         return
-    what = (f"refers to an unknown {fk.ref_table.rstrip('s').replace('_', ' ')} of that "
-            f"{first.replace('_id', '')}")
-    by_first = ref.groupby(fk.ref_columns[0])[fk.ref_columns[-1]].agg(list)
-    owners = mine[first].to_numpy(object)
-    values = mine[last].to_numpy(object)
-    at = np.flatnonzero(bad)
-    for i in at[:MAX_ROWS_PER_CHECK]:  # each with the runways its airfield has
-        own = [str(v) for v in by_first.get(owners[i], [])]
-        hint = _suggest(values[i], own)
-        _report(pr, "error", file, df.index[i:i + 1], [True], last, values[i:i + 1],
-                f"a {last} of {owners[i]} in {ref_file}: "
-                + ", ".join(own[:12]) + (" …" if len(own) > 12 else ""),
-                what + (f"; {hint}" if hint else ""))
-    rest = np.zeros(bad.size, dtype=bool)
-    rest[at[MAX_ROWS_PER_CHECK:]] = True
-    _report(pr, "error", file, df.index, rest, last, values,
-            f"a {last} of the same {first} in {ref_file}", what)
-
-
-def _obstacle_checks(df, file, pr) -> None:
-    from schemas import departure
-
-    d = df["distance_from_toda_end_m"].to_numpy()
-    with np.errstate(invalid="ignore"):
-        _report(pr, "error", file, df.index, d <= 0, "distance_from_toda_end_m", d,
-                "> 0: the ground distance from the END of TODA along the departure path",
-                "obstacle does not lie past the end of TODA (give its distance from the end of "
-                "TODA, not from the start of the takeoff run; obstacles on the runway or the "
-                "clearway belong to the declared distances)")
-        off = df["lateral_offset_m"].to_numpy()
-        outside = (d > 0) & ~departure.in_departure_area(d, off)
-    _report(pr, "warning", file, df.index, outside, "lateral_offset_m", off,
-            f"inside the departure area: |offset| ≤ {departure.area_text()}",
-            "obstacle outside the departure area: it is left out of the run (check its "
-            "lateral offset)")
-    from physics.flightpath import OBSTACLE_CLEARANCE_M, PATH_END_HEIGHT_M
-
-    top = PATH_END_HEIGHT_M - OBSTACLE_CLEARANCE_M
-    h = df["height_m"].to_numpy()
-    with np.errstate(invalid="ignore"):
-        high = h > top
-    _report(pr, "warning", file, df.index, high, "height_m", h,
-            f"≤ {top:.0f} m: the takeoff flight path ends at 1 500 ft above the runway end, less "
-            "the 35 ft margin",
-            "obstacle above the end of the takeoff flight path: where the net path reaches it "
-            "before 1 500 ft no mass clears it, beyond that it is not checked (the en-route "
-            "climb is not modelled); is the height above the runway end, in metres?")
+    af = f["airfields"]
+    for table in ("climate_monthly", "wind_rose"):
+        if table in coverage:
+            _months_complete(af, coverage[table], table, _fname(check, table),
+                             _fname(check, "airfields"), pr)
+    if "runways" in f:
+        ids = af["airfield_id"].dropna()
+        has = ids.isin(set(f["runways"]["airfield_id"].dropna())).to_numpy()
+        _report(pr, "warning", _fname(check, "airfields"), ids.index, ~has, "airfield_id",
+                ids, "at least one row in runways",
+                "airfield has no runway: it gets no results")
 
 
 def _suggest(v, candidates) -> str | None:
     guess = difflib.get_close_matches(str(v), candidates, n=1, cutoff=0.75)
-    return f"did you mean '{guess[0]}'?" if guess else None
+    return f"did you mean '{shorten(guess[0])}'?" if guess else None
 
 
 def _duplicate_keys(df, spec: TableSpec, file, pr) -> None:
     key = list(spec.key)
+    if not isinstance(pr, _Problems):
+        one = _Problems()
+        _duplicate_keys(df, spec, file, one)
+        pr.extend(one.close())
+        return
+    listing = pr.listing(("duplicate key", file), lambda more, rows: Problem(
+        "error", file, None, key[-1], None, None, f"... and {more} more duplicate keys"))
     valid = df[[k for k in key if spec.column(k).required]].notna().all(axis=1)
     sub = df if valid.all() else df[valid]
     if sub.empty:
@@ -775,15 +1240,16 @@ def _duplicate_keys(df, spec: TableSpec, file, pr) -> None:
         [sub[k] for k in key], dropna=False).transform("min")
     rows = _rows(sub.index)[dup]
     firsts = (first.to_numpy() + 1)[dup]
+    room = listing.room
     texts = [", ".join(_text(v) or "(blank)" for v in row)
-             for row in sub[key][dup].head(MAX_ROWS_PER_CHECK).itertuples(index=False)]
-    for r, fr, t in list(zip(rows, firsts, texts))[:MAX_ROWS_PER_CHECK]:
-        pr.append(Problem("error", file, int(r), key[-1], t,
-                          f"a unique ({', '.join(key)})",
-                          f"duplicate key: the same ({', '.join(key)}) is on row {int(fr)}"))
-    if rows.size > MAX_ROWS_PER_CHECK:
-        pr.append(Problem("error", file, None, key[-1], None, None,
-                          f"... and {rows.size - MAX_ROWS_PER_CHECK} more duplicate keys"))
+             for row in sub[key][dup].head(room).itertuples(index=False)]
+    for r, fr, t in zip(rows[:room], firsts[:room], texts):
+        listing.problems.append(Problem("error", file, int(r), key[-1], t,
+                                        f"a unique ({', '.join(key)})",
+                                        f"duplicate key: the same ({', '.join(key)}) is on "
+                                        f"row {int(fr)}"))
+    if rows.size > room:
+        listing.count(rows[room:])
 
 
 def _airfield_checks(df, file, pr) -> None:
@@ -831,17 +1297,16 @@ def _climate_checks(df, file, pr) -> None:
     first_row = pd.Series(df.index, index=df.index).groupby(df["airfield_id"]).min() + 1
     for afid in list(fahr_range)[:MAX_ROWS_PER_CHECK]:
         pr.append(Problem("error", file, int(first_row[afid]), "mean_daily_max_c", str(afid),
-                          "°C", f"the temperatures of airfield '{afid}' look like °F: "
-                          "convert with (°F − 32) × 5/9"))
+                          "°C", f"the temperatures of airfield '{shorten(afid)}' look like "
+                          "°F: convert with (°F − 32) × 5/9"))
     for afid in list(fahr_warm)[:MAX_ROWS_PER_CHECK]:
         pr.append(Problem("warning", file, int(first_row[afid]), "mean_daily_max_c", str(afid),
-                          "°C", f"every month of airfield '{afid}' is at least 30 with an annual "
-                          f"mean of {stats.loc[afid, 'mean']:.1f}: are these °F?"))
+                          "°C", f"every month of airfield '{shorten(afid)}' is at least 30 "
+                          f"with an annual mean of {stats.loc[afid, 'mean']:.1f}: are these °F?"))
 
 
-def _months_complete(af, df, table, file, af_file, pr) -> None:
-    months = df[["airfield_id", "month"]].dropna()
-    months = months[(months["month"] >= 1) & (months["month"] <= 12)].drop_duplicates()
+def _months_complete(af, months, table, file, af_file, pr) -> None:
+    """``months``: the table's distinct (airfield_id, month) pairs (:func:`_month_pairs`)."""
     count = months.groupby("airfield_id")["month"].size()
     ids = af["airfield_id"]
     n_have = ids.map(count).fillna(0).to_numpy()
@@ -854,13 +1319,14 @@ def _months_complete(af, df, table, file, af_file, pr) -> None:
         if have == 0:
             pr.append(Problem("error", file, None, "airfield_id", str(afid),
                               "12 months for every airfield",
-                              f"airfield '{afid}' (row {i + 1} of {af_file}) has no rows"))
+                              f"airfield '{shorten(afid)}' (row {i + 1} of {af_file}) has "
+                              "no rows"))
         else:
             got = set(months.loc[months["airfield_id"] == afid, "month"].astype(int))
             miss = sorted(set(range(1, 13)) - got)
             pr.append(Problem("error", file, None, "month", str(afid),
                               "months 1 … 12 for every airfield",
-                              f"airfield '{afid}' is missing month(s) "
+                              f"airfield '{shorten(afid)}' is missing month(s) "
                               f"{', '.join(map(str, miss))}"))
     if n > MAX_ROWS_PER_CHECK:
         pr.append(Problem("error", file, None, "month", None, None,
@@ -897,16 +1363,18 @@ def _wind_rose_checks(df, file, pr) -> pd.DataFrame:
     first = _first_position(am, pos)  # position of each row's group's first row
     valid_grp = df["airfield_id"].notna().to_numpy() & df["month"].notna().to_numpy()
     share_ok = np.abs(sums - 1.0) <= 0.01
-    pct = np.abs(sums - 100.0) <= 1.0
+    # rows without an airfield or month belong to no airfield-month: never percentages
+    pct = valid_grp & (np.abs(sums - 100.0) <= 1.0)
     freq = df["frequency"].to_numpy().copy()
     freq[pct] = freq[pct] / 100.0
-    if (pct & valid_grp).any():
-        n_pct = len(set(zip(df["airfield_id"][pct], df["month"][pct])))
-        pr.append(Problem("warning", file, None, "frequency", None, "shares summing to 1",
-                          f"frequencies of {n_pct} airfield-month(s) sum to 100: read as "
-                          "percentages and converted to shares"))
+    counted = pr.listing(("percentages", file), lambda more, rows: Problem(
+        "warning", file, None, "frequency", None, "shares summing to 1",
+        f"frequencies of {more} airfield-month(s) sum to 100: read as percentages and "
+        "converted to shares"))
+    if pct.any():
+        counted.more += int(np.unique(am[pct]).size)
     with np.errstate(invalid="ignore"):
-        _report(pr, "error", file, idx, (freq > 1.0) & ~pct, "frequency", freq,
+        _report(pr, "error", file, idx, (freq > 1.0) & ~pct & valid_grp, "frequency", freq,
                 "a share 0 … 1 (or percentages summing to 100)", "frequency above 1")
     bad_sum = valid_grp & ~share_ok & ~pct & (pos == first)
     del share_ok, first
@@ -986,8 +1454,6 @@ def _sector_coverage(df, p, am_all, file, pr) -> None:
         keep &= ~np.isnan(v[p])
     p = p[keep]
     del keep
-    if p.size == 0:
-        return
     nidx = df.index[p]
     w_all, d_all = cols["sector_width_deg"], cols["direction_deg"]
     lo_all, hi_all = cols["speed_low_mps"], cols["speed_high_mps"]
@@ -1025,30 +1491,30 @@ def _sector_coverage(df, p, am_all, file, pr) -> None:
     _report(pr, "error", file, nidx, dup, "direction_deg", d_all[p],
             "each sector once per speed class",
             "sector appears twice in the same speed class: sectors overlap")
+    listing = pr.listing(("missing sectors", file), lambda more, rows: Problem(
+        "error", file, None, "direction_deg", None, None,
+        f"... and {more} more speed classes with missing sectors"))
     if short.any():
         sub = df.iloc[p[short]]
         groups = sub.groupby(["airfield_id", "month", "speed_low_mps", "speed_high_mps"],
                              sort=False)
-        n = 0
-        for (a, m, slo, shi), g in groups:
-            n += 1
-            if n > MAX_ROWS_PER_CHECK:
-                continue
+        room = listing.room
+        if groups.ngroups > room:
+            listing.more += groups.ngroups - room
+        for n, ((a, m, slo, shi), g) in enumerate(groups):
+            if n >= room:
+                break
             wid = g["sector_width_deg"].iloc[0]
             base = g["direction_deg"].min() % wid
             full = {round((base + j * wid) % 360.0, 6) for j in range(int(round(360 / wid)))}
             have = {round(x % 360.0, 6) for x in g["direction_deg"]}
             miss = sorted(full - have)
-            pr.append(Problem(
+            listing.problems.append(Problem(
                 "error", file, int(g.index.min()) + 1, "direction_deg",
                 None, f"{int(round(360 / wid))} sectors of {wid:g}° in every speed class",
-                f"airfield '{a}' month {int(m)} speed class {slo:g}–{shi:g} m/s misses "
-                f"sector(s) {', '.join(f'{x:g}' for x in miss[:12])}"
+                f"airfield '{shorten(a)}' month {int(m)} speed class {slo:g}–{shi:g} m/s "
+                f"misses sector(s) {', '.join(f'{x:g}' for x in miss[:12])}"
                 f"{' …' if len(miss) > 12 else ''} (the row is the class's first)"))
-        if n > MAX_ROWS_PER_CHECK:
-            pr.append(Problem("error", file, None, "direction_deg", None, None,
-                              f"... and {n - MAX_ROWS_PER_CHECK} more speed classes with "
-                              "missing sectors"))
 
 
 def _speed_classes(df, p, am_all, file, pr) -> None:
@@ -1058,37 +1524,38 @@ def _speed_classes(df, p, am_all, file, pr) -> None:
     calm = np.isnan(df["direction_deg"].to_numpy()[p])
     # first row of each (airfield, month, speed class) among the non-calm rows
     q = p[~calm]
-    if q.size == 0:
-        return
-    parts = []
+    parts = [np.empty(0, dtype=np.int64)]
     for rows, am, _ in _group_blocks(q, am_all):
         cls = _group_code(am, lo_all[rows], hi_all[rows])
         parts.append(rows[_first_position(cls, rows) == rows])
     firsts = np.sort(np.concatenate(parts))
     del parts
-    classes = (df.iloc[firsts][["airfield_id", "month", "speed_low_mps", "speed_high_mps"]]
-               .sort_values(["airfield_id", "month", "speed_low_mps", "speed_high_mps"]))
-    prev_hi = classes.groupby(["airfield_id", "month"])["speed_high_mps"].shift()
+    key = ["airfield_id", "month", "speed_low_mps", "speed_high_mps"]
+    classes = df.iloc[firsts][key].sort_values(key)
+    prev_hi = classes.groupby(["airfield_id", "month"])["speed_high_mps"].shift().to_numpy()
     lo = classes["speed_low_mps"].to_numpy()
     with np.errstate(invalid="ignore"):
-        overlap = lo < prev_hi.to_numpy() - 1e-9
-        gap = lo > prev_hi.to_numpy() + 1e-9
-    _report(pr, "error", file, classes.index, overlap, "speed_low_mps", lo,
-            "speed classes that do not overlap",
+        overlap = lo < prev_hi - 1e-9
+        gap = lo > prev_hi + 1e-9
+    # reported in row order, like every other check (and so whatever the block size)
+    order = np.argsort(classes.index.to_numpy(), kind="stable")
+    _report(pr, "error", file, classes.index[order], overlap[order], "speed_low_mps",
+            lo[order], "speed classes that do not overlap",
             "speed class overlaps the class below it in the same airfield and month")
-    _report(pr, "warning", file, classes.index, gap, "speed_low_mps", lo,
-            "contiguous speed classes",
+    _report(pr, "warning", file, classes.index[order], gap[order], "speed_low_mps",
+            lo[order], "contiguous speed classes",
             "gap between this speed class and the one below it")
     lowest = classes.groupby(["airfield_id", "month"])["speed_low_mps"].min()
     calms = df.iloc[p[calm]]
-    if not calms.empty:
+    bad = np.zeros(len(calms), dtype=bool)
+    if not calms.empty and not lowest.empty:
         keyidx = pd.MultiIndex.from_arrays([calms["airfield_id"], calms["month"]])
         low_cls = lowest.reindex(keyidx).to_numpy()
         with np.errstate(invalid="ignore"):
             bad = calms["speed_high_mps"].to_numpy() > low_cls + 1e-9
-        _report(pr, "warning", file, calms.index, bad, "speed_high_mps",
-                calms["speed_high_mps"], "calm threshold ≤ the lowest speed class",
-                "calm threshold overlaps the lowest speed class")
+    _report(pr, "warning", file, calms.index, bad, "speed_high_mps",
+            calms["speed_high_mps"], "calm threshold ≤ the lowest speed class",
+            "calm threshold overlaps the lowest speed class")
 
 
 def _aircraft_checks(df, file, pr) -> None:
@@ -1173,3 +1640,70 @@ def _route_checks(df, file, pr) -> None:
         _report(pr, "error", file, sub.index, bad, col, sub[col],
                 "the same value on every row of the route",
                 f"rows of the same route_id disagree on {col}")
+
+
+def _composite_reference(df, fk, ref, file, ref_file, pr) -> None:
+    """Rows whose key pair (airfield, runway) is not in the referenced table; rows whose
+    first column is itself unknown are left to that column's own reference check."""
+    first, last = fk.columns[0], fk.columns[-1]
+    known_first = set(ref[fk.ref_columns[0]].dropna())
+    pairs = pd.MultiIndex.from_frame(ref[list(fk.ref_columns)].dropna())
+    mine = df[list(fk.columns)]
+    filled = mine.notna().all(axis=1).to_numpy()
+    bad = (filled & mine[first].isin(known_first).to_numpy()
+           & ~pd.MultiIndex.from_frame(mine.astype(object)).isin(pairs))
+    if not bad.any():
+        return
+    what = (f"refers to an unknown {fk.ref_table.rstrip('s').replace('_', ' ')} of that "
+            f"{first.replace('_id', '')}")
+    by_first = ref.groupby(fk.ref_columns[0])[fk.ref_columns[-1]].agg(list)
+    owners = mine[first].to_numpy(object)
+    values = mine[last].to_numpy(object)
+    at = np.flatnonzero(bad)
+    for i in at[:MAX_ROWS_PER_CHECK]:  # each with the runways its airfield has
+        own = [str(v) for v in by_first.get(owners[i], [])]
+        hint = _suggest(values[i], own)
+        _report(pr, "error", file, df.index[i:i + 1], [True], last, values[i:i + 1],
+                f"a {last} of {owners[i]} in {ref_file}: "
+                + ", ".join(own[:12]) + (" …" if len(own) > 12 else ""),
+                what + (f"; {hint}" if hint else ""))
+    rest = np.zeros(bad.size, dtype=bool)
+    rest[at[MAX_ROWS_PER_CHECK:]] = True
+    _report(pr, "error", file, df.index, rest, last, values,
+            f"a {last} of the same {first} in {ref_file}", what)
+
+
+def _obstacle_checks(df, file, pr) -> None:
+    from schemas import departure
+
+    d = df["distance_from_toda_end_m"].to_numpy()
+    with np.errstate(invalid="ignore"):
+        _report(pr, "error", file, df.index, d <= 0, "distance_from_toda_end_m", d,
+                "> 0: the ground distance from the END of TODA along the departure path",
+                "obstacle does not lie past the end of TODA (give its distance from the end of "
+                "TODA, not from the start of the takeoff run; obstacles on the runway or the "
+                "clearway belong to the declared distances)")
+        off = df["lateral_offset_m"].to_numpy()
+        outside = (d > 0) & ~departure.in_departure_area(d, off)
+    _report(pr, "warning", file, df.index, outside, "lateral_offset_m", off,
+            f"inside the departure area: |offset| ≤ {departure.area_text()}",
+            "obstacle outside the departure area: it is left out of the run (check its "
+            "lateral offset)")
+    from physics.flightpath import OBSTACLE_CLEARANCE_M, PATH_END_HEIGHT_M
+
+    top = PATH_END_HEIGHT_M - OBSTACLE_CLEARANCE_M
+    h = df["height_m"].to_numpy()
+    with np.errstate(invalid="ignore"):
+        high = h > top
+    _report(pr, "warning", file, df.index, high, "height_m", h,
+            f"≤ {top:.0f} m: the takeoff flight path ends at 1 500 ft above the runway end, less "
+            "the 35 ft margin",
+            "obstacle above the end of the takeoff flight path: where the net path reaches it "
+            "before 1 500 ft no mass clears it, beyond that it is not checked (the en-route "
+            "climb is not modelled); is the height above the runway end, in metres?")
+
+
+_TABLE_CHECKS.update(airfields=_airfield_checks, runways=_runway_checks,
+                     climate_monthly=_climate_checks, wind_rose=_wind_rose_checks,
+                     aircraft_types=_aircraft_checks, routes=_route_checks,
+                     reference_points=_reference_point_checks, obstacles=_obstacle_checks)

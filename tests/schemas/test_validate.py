@@ -7,6 +7,9 @@ DataFrame index i of a table written with ``to_csv(index=False)`` is row i + 1.
 from __future__ import annotations
 
 import codecs
+import errno
+import os
+import re
 
 import numpy as np
 import pandas as pd
@@ -591,3 +594,214 @@ def test_many_bad_rows_are_summarised(net):
     assert len(probs) == 50
     summary = only(errors(net), file="wind_rose.csv", column="speed_low_mps", text="more rows")
     assert str(len(df) - 50) in summary.message
+
+
+# ---------------------------------------------------------------------------------------
+# table files that exist but cannot be read: an error naming the file and what is wrong
+
+def _replace_with_folder(net, name):
+    (net / name).unlink()
+    (net / name).mkdir()
+
+
+def test_optional_table_as_a_folder(net):
+    _replace_with_folder(net, "routes.csv")
+    p = only(errors(net), file="routes.csv", text="is a folder, not a file")
+    assert p.row is None
+
+
+def test_required_table_as_a_folder(net):
+    _replace_with_folder(net, "runways.csv")
+    probs = errors(net)
+    only(probs, file="runways.csv", text="is a folder, not a file")
+    assert not find(probs, file="runways.csv", text="missing")
+
+
+def test_parquet_table_as_a_folder(net):
+    (net / "routes.csv").unlink()
+    (net / "routes.parquet").mkdir()
+    only(errors(net), file="routes.parquet", text="is a folder")
+
+
+def test_optional_table_as_a_symlink_loop(net):
+    (net / "routes.csv").unlink()
+    (net / "routes.csv").symlink_to("routes.csv")
+    only(errors(net), file="routes.csv", text="symbolic link that loops")
+
+
+def test_required_table_as_a_symlink_loop_is_not_called_missing(net):
+    (net / "airfields.csv").unlink()
+    (net / "airfields.csv").symlink_to("other.csv")
+    (net / "other.csv").symlink_to("airfields.csv")
+    probs = errors(net)
+    only(probs, file="airfields.csv", text="loops")
+    assert not find(probs, file="airfields.csv", text="missing")
+
+
+def test_dangling_symlink(net):
+    (net / "routes.csv").unlink()
+    (net / "routes.csv").symlink_to(net / "gone" / "routes.csv")
+    p = only(errors(net), file="routes.csv", text="which does not exist")
+    assert str(net / "gone" / "routes.csv") in p.message
+
+
+def test_symlink_to_a_good_file_is_read(net, tmp_path):
+    (net / "routes.csv").rename(tmp_path / "kept_routes.csv")
+    (net / "routes.csv").symlink_to(tmp_path / "kept_routes.csv")
+    assert validate_folder(net) == []
+
+
+def test_table_that_is_a_pipe(net):
+    (net / "routes.csv").unlink()
+    os.mkfifo(net / "routes.csv")
+    only(errors(net), file="routes.csv", text="not a regular file")
+
+
+def test_table_without_read_permission_reported(net, monkeypatch):
+    # the permission check opens the file; we run as root in CI, where chmod cannot deny
+    # reading, so the refusal the system would give is simulated here (the test below
+    # does it for real when not root)
+    import schemas.validate as validate
+
+    real_open = os.open
+
+    def refuse(path, flags, *args, **kw):
+        if os.fspath(path).endswith("routes.csv"):
+            raise PermissionError(errno.EACCES, "Permission denied", os.fspath(path))
+        return real_open(path, flags, *args, **kw)
+
+    monkeypatch.setattr(validate.os, "open", refuse)
+    only(errors(net), file="routes.csv", text="cannot be read: permission denied")
+
+
+@pytest.mark.skipif(not hasattr(os, "geteuid") or os.geteuid() == 0,
+                    reason="root reads any file: chmod cannot make it unreadable")
+def test_table_without_read_permission(net):
+    (net / "routes.csv").chmod(0)
+    only(errors(net), file="routes.csv", text="permission denied")
+
+
+def test_unreadable_table_stops_load(net):
+    _replace_with_folder(net, "routes.csv")
+    with pytest.raises(InputError, match="routes.csv: routes.csv is a folder"):
+        load_folder(net)
+
+
+def test_input_folder_that_is_a_file(tmp_path):
+    (tmp_path / "tables.csv").write_text("a,b\n")
+    only(validate_folder(tmp_path / "tables.csv"), text="is a file, not a folder")
+
+
+# ---------------------------------------------------------------------------------------
+# identifiers and other text: kept as written; messages that say the true rule
+
+NA_SPELLINGS = ["null", "NA", "None", "nan", "N/A", "NULL", "#N/A"]
+
+
+@pytest.mark.parametrize("spelling", NA_SPELLINGS)
+def test_id_spelled_like_a_missing_value_is_kept(net, spelling):
+    # pandas reads these as missing by default; here they are identifiers like any other
+    for table in ("airfields", "runways", "climate_monthly", "wind_rose"):
+        df = read(net, table)
+        df.loc[df["airfield_id"] == "frostwick", "airfield_id"] = spelling
+        write(net, table, df)
+    df = read(net, "routes")
+    for col in ("origin_id", "destination_id"):
+        df.loc[df[col] == "frostwick", col] = spelling
+    write(net, "routes", df)
+    probs = validate_folder(net)
+    if spelling in ("N/A", "#N/A"):  # '/' and '#' are not allowed in identifiers
+        p = only(probs, file="airfields.csv", row=3, column="airfield_id",
+                 text="not a valid identifier")
+        assert p.value == spelling
+        assert not find(probs, text="blank")
+        return
+    assert probs == []
+    tables = load_folder(net)
+    assert spelling in set(tables.airfields["airfield_id"])
+    assert (tables.runways["airfield_id"] == spelling).sum() == (
+        read(net, "runways")["airfield_id"] == spelling).sum()
+    assert spelling in set(tables.wind_rose["airfield_id"])
+
+
+@pytest.mark.parametrize("spelling", NA_SPELLINGS)
+def test_name_spelled_like_a_missing_value_is_kept(net, spelling):
+    df = read(net, "aircraft_types")
+    df.loc[2, "name"] = spelling
+    write(net, "aircraft_types", df)
+    assert validate_folder(net) == []
+    assert load_folder(net).aircraft_types["name"].iloc[2] == spelling
+
+
+@pytest.mark.parametrize("spelling", ["null", "NA", "None", "N/A"])
+def test_missing_value_spelling_in_a_number_column_is_blank(net, spelling):
+    df = read(net, "airfields")
+    df.loc[0, "elevation_m"] = spelling
+    write(net, "airfields", df)
+    only(errors(net), file="airfields.csv", row=1, column="elevation_m", text="blank")
+
+
+@pytest.mark.parametrize("text", ["NA", "null"])
+def test_missing_value_spelling_in_an_allowed_values_column_is_named(net, text):
+    df = read(net, "runways")
+    df.loc[1, "surface"] = text
+    write(net, "runways", df)
+    p = only(errors(net), file="runways.csv", row=2, column="surface", text="unknown value")
+    assert p.value == text
+
+
+def test_id_starting_with_a_dash_is_refused_with_the_true_rule(net):
+    df = read(net, "aircraft_types")
+    df.loc[0, "aircraft_type_id"] = "-jet"
+    write(net, "aircraft_types", df)
+    p = only(errors(net), file="aircraft_types.csv", row=1, column="aircraft_type_id",
+             text="not a valid identifier")
+    assert p.value == "-jet"
+    assert "letter or digit first" in p.expected
+    # the rule in words is the pattern the tables use
+    from schemas.tables import ID_PATTERN
+    from schemas.validate import ID_RULE
+
+    assert ID_RULE in p.expected
+    assert re.match(ID_PATTERN, "jet-2") and not re.match(ID_PATTERN, "-jet")
+    assert not re.match(ID_PATTERN, "_jet") and not re.match(ID_PATTERN, ".jet")
+
+
+@pytest.mark.parametrize("value", ["a-b", "a_b", "a.b", "9a", "A"])
+def test_ids_the_rule_allows_are_accepted(net, value):
+    df = read(net, "aircraft_types")
+    old = df.loc[0, "aircraft_type_id"]
+    df.loc[0, "aircraft_type_id"] = value
+    write(net, "aircraft_types", df)
+    routes = read(net, "routes")
+    routes.loc[routes["aircraft_type_id"] == old, "aircraft_type_id"] = value
+    write(net, "routes", routes)
+    assert errors(net) == []
+
+
+def test_long_value_is_cut_in_messages(net):
+    long_id = "saltmere " + "x" * 200_000
+    df = read(net, "airfields")
+    df.loc[0, "airfield_id"] = long_id
+    write(net, "airfields", df)
+    df = read(net, "runways")
+    df.loc[0, "tora_m"] = "9" * 200_000 + " m"
+    write(net, "runways", df)
+    probs = validate_folder(net)
+    p = only(probs, file="airfields.csv", row=1, column="airfield_id",
+             text="not a valid identifier")
+    assert p.value == long_id[:60] + f"… ({len(long_id)} characters)"
+    q = only(probs, file="runways.csv", row=1, column="tora_m", text="not a number")
+    assert q.value.endswith("… (200002 characters)")
+    # and no message anywhere echoes the value in full (months-missing names the airfield)
+    only(probs, file="climate_monthly.csv", text="has no rows")
+    assert all(len(str(x)) < 1000 for x in probs), max(len(str(x)) for x in probs)
+
+
+def test_short_values_are_shown_whole():
+    from schemas.validate import shorten
+
+    assert shorten("x" * 80) == "x" * 80  # within the allowance: nothing gained by a cut
+    assert shorten("y" * 81) == "y" * 60 + "… (81 characters)"
+    p = Problem("error", "a.csv", 1, "c", "z" * 500, None, "bad")
+    assert p.value == "z" * 60 + "… (500 characters)"
