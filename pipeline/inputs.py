@@ -54,9 +54,16 @@ def problem_text(problems) -> str:
 
 def check_folder(folder: str | os.PathLike) -> list:
     """Every problem in an input folder (errors and warnings), via :mod:`schemas.validate`."""
-    from schemas.validate import validate_folder
+    return list(check_inputs(folder).problems)
 
-    return list(validate_folder(Path(folder)))
+
+def check_inputs(folder: str | os.PathLike, progress=None):
+    """Check an input folder without loading it (``schemas.validate.FolderCheck``: the
+    problems and each table's row count); the wind rose is read in blocks, so memory stays
+    bounded. ``progress(done, total, file)`` is called as the table files are read."""
+    from schemas.validate import check_folder as check
+
+    return check(Path(folder), frames=False, progress=progress)
 
 
 def errors_only(problems) -> list:

@@ -45,7 +45,8 @@ def _start_prefect_server(input_dir):
 
     The flow would start it anyway on its first call; starting it now overlaps the ~15-25 s
     start-up with validation. Only when no ``PREFECT_API_URL`` is set. The thread is joined
-    before the flow runs, so the flow finds the server up (or starts it itself if this failed).
+    before the flow runs, so the flow finds the server up (or starts it itself if this failed);
+    bad input is reported without waiting for it.
     """
     import threading
 
@@ -132,11 +133,11 @@ def run(args) -> int:
     from pipeline.steps import prepare_run
 
     warm_up = None if args.no_prefect else _start_prefect_server(input_dir)
-    try:
-        prepare_run(input_dir, args.db, params, args.work_dir)  # bad input: exit 2 before the flow
-    finally:
-        if warm_up is not None:
-            warm_up.join()
+    # bad input: exit 2 before the flow, reported at once: the server's start-up thread is
+    # not waited for (a daemon; Prefect stops the server's process at exit)
+    prepare_run(input_dir, args.db, params, args.work_dir)
+    if warm_up is not None:
+        warm_up.join()
     if args.no_prefect:
         if args.cluster:
             raise BadInput("--cluster needs Prefect; drop --no-prefect")
