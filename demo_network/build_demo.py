@@ -1,9 +1,10 @@
 """Rebuild the bundled demo network (``demo_network/data/*.csv``) from compact definitions.
 
 Everything here is invented: the region, its airfields, their climate and winds, the
-aircraft types, the routes and the reference points (the model's own field lengths and
-climb-limited masses for the demo types, moved by up to 1 % and rounded: see
-``REFERENCE_CONDITIONS``). Coordinates sit mostly over open ocean on purpose.
+aircraft types, the routes, the obstacles past some runway ends and the reference points
+(the model's own field lengths and climb-limited masses for the demo types, moved by up to
+1 % and rounded: see ``REFERENCE_CONDITIONS``). Coordinates sit mostly over open ocean on
+purpose.
 
     python -m demo_network.build_demo            # rewrite demo_network/data/
     python -m demo_network.build_demo --out DIR  # write elsewhere
@@ -282,6 +283,26 @@ ROUTES = [
 ]
 
 # --------------------------------------------------------------------------------------
+# obstacles past the end of TODA (invented): terrain in the Kessel Highlands, masts, cliffs
+# and cranes on the Varrow Coast, chosen so that some months and types are obstacle limited.
+# (airfield, runway direction, obstacle id, distance from the end of TODA m, height above the
+#  runway end m, lateral offset m; all inside the departure area, all below 1 465 ft)
+OBSTACLES = [
+    ("windgap", "07", "ridge", 3000, 60, 0),
+    ("windgap", "07", "mast", 1200, 12, -150),
+    ("stonebridge", "03", "pine-hill", 4500, 90, 200),
+    ("stonebridge", "03", "pylon", 2000, 30, -250),
+    ("highcrag-south", "11", "spur", 2500, 40, 100),
+    ("highcrag-north", "14", "antenna", 5200, 75, 500),
+    ("cinder-pass", "10", "crest", 1800, 30, 0),
+    ("cape-tallow", "17", "cliff", 700, 28, 40),
+    ("kelpstone", "02", "headland", 2200, 50, -120),
+    ("kelpstone", "20", "harbour-crane", 900, 20, 80),
+    ("gannet-isle", "13", "lighthouse", 900, 22, 60),
+    ("gannet-isle", "31", "sea-stack", 1500, 35, -180),
+]
+
+# --------------------------------------------------------------------------------------
 # reference points for `fieldlimits calibrate` (invented): the model's own figures for the
 # demo types above at these conditions, each moved by a fixed pseudo-random share of at most
 # REFERENCE_SPREAD and rounded (field lengths to 10 m, masses to 10 kg), so that a fit has
@@ -411,9 +432,12 @@ def build_frames(seed: int = 20261) -> dict[str, pd.DataFrame]:
           "route_factor": rf, "contingency_pct": cp, "alternate_distance_km": alt,
           "final_reserve_min": fr, "passenger_mass_kg": pm}
          for (o, d, t, rf, cp, alt, fr, pm) in ROUTES])
+    obstacles = pd.DataFrame(OBSTACLES, columns=["airfield_id", "runway_id", "obstacle_id",
+                                                 "distance_from_toda_end_m", "height_m", "lateral_offset_m"])
     return {"airfields": pd.DataFrame(af), "runways": pd.DataFrame(rw),
             "climate_monthly": pd.DataFrame(cl), "wind_rose": pd.DataFrame(wr),
-            "aircraft_types": types, "routes": routes}
+            "aircraft_types": types, "routes": routes, "obstacles": obstacles.astype(
+                {c: float for c in ("distance_from_toda_end_m", "height_m", "lateral_offset_m")})}
 
 
 def reference_point_frame(aircraft_si: pd.DataFrame) -> pd.DataFrame:

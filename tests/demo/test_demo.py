@@ -109,3 +109,15 @@ def test_routes_reach_long_range_distances(demo):
                                          d["longitude_deg"].to_numpy(),
                                          d["latitude_deg"].to_numpy())
     assert dist.max() > 5_000_000 and dist.min() < 300_000
+
+
+def test_obstacles_at_highland_and_coastal_airfields(demo):
+    ob = demo.obstacles
+    af = demo.airfields.set_index("airfield_id")
+    elevation = af.loc[ob["airfield_id"], "elevation_m"].to_numpy()
+    assert (elevation > 1000).sum() >= 3 and (elevation < 50).sum() >= 3
+    # every obstacle on a runway direction of its airfield, past the end of TODA
+    directions = set(zip(demo.runways["airfield_id"], demo.runways["runway_id"]))
+    assert set(zip(ob["airfield_id"], ob["runway_id"])) <= directions
+    assert (ob["distance_from_toda_end_m"] > 0).all()
+    assert ob["airfield_id"].nunique() >= 6

@@ -193,3 +193,24 @@ def test_row_producers_add_direction_and_airfield_rows(tmp_path, demo_dir, monke
     assert counts["reliability"] == counts["design_day"]
     assert af["reliability"] == af["design_day"]  # supplied at airfield level, not re-derived
     assert nulls == 0
+
+
+def test_demo_has_some_obstacle_limited_months_and_types(frames):
+    """The demo's invented obstacles (demo_network/build_demo.py) limit some months and types,
+    not all: the design day has obstacle_clearance rows, each naming an obstacle of its runway."""
+    tables, direction, airfield, *_ = frames
+    design = direction[direction["basis"] == "design_day"]
+    lim = design[design["limiting_factor"] == "obstacle_clearance"]
+    assert len(lim) > 0
+    ob = tables.obstacles
+    named = set(zip(ob["airfield_id"], ob["runway_id"], ob["obstacle_id"]))
+    assert set(zip(lim["airfield_id"], lim["runway_id"], lim["governing_obstacle_id"])) <= named
+    on_obstacle_runways = design.set_index(["airfield_id", "runway_id"]).index.isin(
+        list(zip(ob["airfield_id"], ob["runway_id"])))
+    assert len(lim) < on_obstacle_runways.sum()  # some months and types only
+    assert lim["aircraft_type_id"].nunique() >= 3 and lim["month"].nunique() >= 6
+    # without obstacles the new columns stay empty
+    free = design[~on_obstacle_runways]
+    assert free["governing_obstacle_id"].isna().all() and free["obstacle_clearance_m"].isna().all()
+    assert (airfield["limiting_factor"] == "obstacle_clearance").any()
+
