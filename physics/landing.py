@@ -401,6 +401,59 @@ def stall_speed_landing_mps(mass_kg, density_kg_m3, wing_area_m2, cl_max_landing
     return np.sqrt(2.0 * _f(mass_kg) * c.G0 / (_f(density_kg_m3) * _f(wing_area_m2) * _f(cl_max_landing)))
 
 
+def flare_radius_m(speed_mps, flare_load_factor=FLARE_LOAD_FACTOR):
+    """Radius of the circular flare at a speed and load factor.
+
+    Parameters
+    ----------
+    speed_mps : array_like
+        Speed in the flare (VREF), true airspeed. [m/s]
+    flare_load_factor : float, optional
+        Load factor in the flare, > 1. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        R = V²/(g (n − 1)). [m]
+
+    Notes
+    -----
+    Centripetal acceleration V²/R = (n − 1) g.
+
+    References
+    ----------
+    .. [4] Raymer, §17.9 (R = V_f²/(0.2 g) at n = 1.2; from memory).
+    """
+    v = _f(speed_mps)
+    return v * v / (c.G0 * (float(flare_load_factor) - 1.0))
+
+
+def flare_height_m(radius_m, approach_angle_deg=APPROACH_ANGLE_DEG):
+    """Height at which the flare begins: where the circular arc meets the approach path.
+
+    Parameters
+    ----------
+    radius_m : array_like
+        Flare radius. [m]
+    approach_angle_deg : float, optional
+        Approach path angle. [deg]
+
+    Returns
+    -------
+    numpy.ndarray
+        h_f = R (1 − cos θ). [m]
+
+    Notes
+    -----
+    Geometry of a circle tangent to the approach path and to the runway.
+
+    References
+    ----------
+    .. [4] Raymer, §17.9 (from memory).
+    """
+    return _f(radius_m) * (1.0 - math.cos(math.radians(float(approach_angle_deg))))
+
+
 def airborne_distance_m(vref_mps, headwind_mps=0.0, *, screen_height_m=LANDING_SCREEN_HEIGHT_M,
                         approach_angle_deg=APPROACH_ANGLE_DEG, flare_load_factor=FLARE_LOAD_FACTOR):
     """Ground distance from the 50 ft screen to touchdown: straight approach and circular flare.
@@ -437,8 +490,8 @@ def airborne_distance_m(vref_mps, headwind_mps=0.0, *, screen_height_m=LANDING_S
     v = _f(vref_mps)
     theta = math.radians(float(approach_angle_deg))
     h = float(screen_height_m)
-    radius = v * v / (c.G0 * (float(flare_load_factor) - 1.0))
-    flare_h = radius * (1.0 - math.cos(theta))
+    radius = flare_radius_m(v, flare_load_factor)
+    flare_h = flare_height_m(radius, approach_angle_deg)
     straight = (h - flare_h) / math.tan(theta) + radius * math.sin(theta)
     with np.errstate(invalid="ignore"):
         short = np.sqrt(np.maximum(radius * radius - (radius - h) ** 2, 0.0))
@@ -577,6 +630,37 @@ def braking_distance_m(terms, *, mass_kg, touchdown_mps, headwind_mps=0.0):
     aero = terms.drag_term_kg_m / m
     reverse = (t2m + aero) if np.any(w < 0.0) else None
     return groundrun.segment_distance_quadratic_m(a0, a1, t2m - aero, touchdown_mps, w, w, a2_reverse=reverse)
+
+
+def braking_deceleration_mps2(terms, *, mass_kg, airspeed_mps):
+    """Deceleration of the braking roll at an airspeed (positive when slowing down).
+
+    Parameters
+    ----------
+    terms : BrakingTerms
+        From :func:`braking_terms`. [N, N/(m/s), N/(m/s)², kg/m, m/s²]
+    mass_kg : array_like
+        Mass. [kg]
+    airspeed_mps : array_like
+        True airspeed (≥ 0). [m/s]
+
+    Returns
+    -------
+    numpy.ndarray
+        −a(V) = g (μ cos γ + sin γ) + ½ρS(C_D − μC_L) V²/m − T_idle(V)/m. [m/s²]
+
+    Notes
+    -----
+    The equation of motion of :func:`braking_distance_m` at one speed.
+
+    References
+    ----------
+    .. [5] Anderson (1999), Eq. 6.85.
+    """
+    m = _f(mass_kg)
+    v = _f(airspeed_mps)
+    thrust_n = terms.t0_n + (terms.t1_n_per_mps + terms.t2_n_per_mps2 * v) * v
+    return terms.resistance_mps2 + terms.drag_term_kg_m * v * v / m - thrust_n / m
 
 
 class LandingDistance(NamedTuple):

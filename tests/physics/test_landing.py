@@ -351,3 +351,19 @@ def test_light_aircraft_landing_inside_the_flight_safety_factors():
     vref = landing.VREF_OVER_VSR0 * np.sqrt(2 * 1150 * c.G0 / (c.RHO0_KG_M3 * 16.0 * 1.9))
     tail = _light_distance(headwind_mps=-0.1 * vref * 1.5) / base  # reported 10 % of VREF, factored 150 %
     assert 1.0 < tail and abs(tail - 1.20) <= 0.2
+
+
+def test_flare_helpers_and_deceleration_by_hand():
+    # R = V²/(0.2 g), h_f = R (1 − cos 3°) (Raymer §17.9, from memory): 70 m/s → 2498.30 m,
+    # 3.4238 m (hand computation, as above)
+    assert_allclose(landing.flare_radius_m(70.0), 2498.3047, rtol=1e-7)
+    assert_allclose(landing.flare_height_m(2498.3047), 3.42384, rtol=1e-5)
+    # the deceleration is −a(V) of the integrated roll: a finite difference of the distance
+    a, lc, s = _one("turbofan")
+    prep = landing._prepare(a, lc, s)
+    m, v, dv = 55_000.0, 60.0, 1e-3
+    d1 = landing.braking_distance_m(prep.brake, mass_kg=m, touchdown_mps=v + dv)
+    d0 = landing.braking_distance_m(prep.brake, mass_kg=m, touchdown_mps=v - dv)
+    # ds/dV = V / decel at the start speed (calm): decel = V / (ds/dV)
+    decel = v / ((d1 - d0) / (2 * dv))
+    assert_allclose(landing.braking_deceleration_mps2(prep.brake, mass_kg=m, airspeed_mps=v), decel, rtol=1e-6)

@@ -15,6 +15,7 @@ from physics import landing as physics_landing
 from pipeline import landing, routes
 from pipeline.errors import BadInput
 from pipeline.steps import RunParams, run_local
+from schemas.caution import CAUTION
 from schemas.load import load_folder
 from tests.pipeline.conftest import needs_physics
 
@@ -263,3 +264,39 @@ def test_reliability_levels_against_direct_solves_of_every_wind_point(demo_table
     for _, g in rows.groupby(list(landing.GROUP_KEYS)):
         assert np.all(np.diff(g.sort_values("reliability")["landing_limit_kg"].to_numpy()) <= 0)
     assert set(frame["limiting_factor"]) <= set(physics_landing.LANDING_FACTORS)
+
+
+# ------------------------------------------------------------------------------------------
+# explain --landing
+
+
+def test_explain_landing_matches_the_run_and_shows_every_step(demo_run):
+    from pipeline.explain_landing import explain_landing
+
+    db, _ = demo_run
+    ld = _read(db, "landing_direction")
+    row = ld[(ld["airfield_id"] == "kelpstone") & (ld["runway_id"] == "02") & (ld["month"] == 7)
+             & (ld["aircraft_type_id"] == "regional-jet90") & (ld["condition"] == "dry")].iloc[0]
+    out = explain_landing(None, "kelpstone", "02", 7, "regional-jet90", "dry")
+    assert out.limiting_factor == row["limiting_factor"] == "landing_distance"
+    assert out.landing_limit_kg == pytest.approx(row["landing_limit_kg"], abs=1e-6)
+    assert out.vref_kt == pytest.approx(row["vref_kt"], rel=1e-9)
+    for part in ("1. Atmosphere", "2. Runway direction", "VREF = 1.23 V_SR0", "flare radius", "free roll",
+                 "braking roll to rest", "required landing distance", "approach climb", "landing climb",
+                 "landing-mass limit", "14 CFR 121.195", CAUTION):
+        assert part in out.text, part
+    # a direction without LDA says it is not checked
+    blank = explain_landing(None, "southreach", "13", 7, "longrange-twin300", "wet")
+    assert blank.limiting_factor == "not_checked" and "not_checked" in blank.text
+
+
+def test_explain_landing_command_line():
+    from tests.pipeline.conftest import cli
+
+    r = cli("explain", "--airfield", "lastlight", "--runway", "34", "--month", "1", "--type", "regional-tp70",
+            "--landing", "--landing-turboprop-share", "0.7")
+    assert r.returncode == 0, r.stderr
+    assert "0.7" in r.stdout and "landing-mass limit" in r.stdout
+    bad = cli("explain", "--airfield", "lastlight", "--runway", "34", "--month", "1", "--type", "regional-tp70",
+              "--landing", "--landing-jet-share", "1.5")
+    assert bad.returncode == 2 and "landing-jet-share" in bad.stderr
