@@ -25,6 +25,8 @@ Spreads (invented, chosen to look like a real continent's network):
   than 8 adds variants with masses and thrust scaled by 0.8 … 1.2). Routes: as many as
   airfields, between near neighbours, flown by a type suited to the distance (none for a
   single airfield).
+* Obstacles: a share of the runway directions (``obstacle_share``, 10 % by default) get 1 to
+  10 obstacles past the end of TODA, inside the departure area (:func:`_obstacles`).
 
 Every value drawn is kept inside the limits of :mod:`schemas.tables` and the rules across
 columns of :mod:`schemas.validate` whatever the seed: unbounded draws are clipped where they
@@ -338,6 +340,42 @@ def _landing_distances(seed, tora_m) -> np.ndarray:
     return np.where(u < LDA_SHARE, lda, np.nan)
 
 
+#: Share of runway directions with obstacles past the end of TODA (default), and how many
+#: each gets (1 … 10, uniform).
+OBSTACLE_SHARE, MAX_OBSTACLES = 0.1, 10
+
+
+def _obstacles(rng, runways, share) -> dict | None:
+    """Obstacles past the end of TODA for a share of the runway directions (None: none).
+
+    Each chosen direction gets 1 … 10 obstacles: distance log-uniform 150 … 12 000 m from the
+    end of TODA (10 m steps), height above the runway end distance × 0.2 … 2.5 % plus
+    2 … 15 m (terrain rising from the runway end, masts and trees near it; at most 440 m,
+    under the end of the takeoff path), lateral offset up to 90 % of the departure area's
+    half-width either side (``schemas.departure``), so every one counts and ``check`` stays
+    silent whatever the draws.
+    """
+    from schemas.departure import half_width_m
+
+    if share <= 0:
+        return None
+    n_dir = runways["airfield_id"].size
+    chosen = np.flatnonzero(rng.random(n_dir) < share)
+    if chosen.size == 0:
+        return None
+    count = rng.integers(1, MAX_OBSTACLES + 1, chosen.size)
+    d = np.repeat(chosen, count)
+    k = np.arange(d.size) - np.repeat(np.cumsum(count) - count, count)
+    m = d.size
+    dist = np.round(10.0 ** rng.uniform(np.log10(150.0), np.log10(12000.0), m), -1)
+    dist = np.clip(dist, 150.0, 12000.0)  # rounding and the tails stay inside
+    height = np.minimum(dist * rng.uniform(0.002, 0.025, m) + rng.uniform(2.0, 15.0, m), 440.0)
+    offset = np.trunc(rng.uniform(-0.9, 0.9, m) * half_width_m(dist))
+    return dict(airfield_id=runways["airfield_id"][d], runway_id=runways["runway_id"][d],
+                obstacle_id=np.char.add("obs-", np.char.zfill((k + 1).astype(str), 2)),
+                distance_from_toda_end_m=dist, height_m=np.round(height, 1), lateral_offset_m=offset + 0.0)
+
+
 def _arrow(cols: dict) -> pa.Table:
     arrays = {}
     for k, v in cols.items():
@@ -363,7 +401,7 @@ def _write(table: pa.Table, path_stem: Path, fmt: str) -> Path:
 
 
 def generate_network(n_airfields: int, seed: int, out_dir, n_types: int = 8,
-                     fmt: str = "csv") -> dict[str, Path]:
+                     fmt: str = "csv", obstacle_share: float = OBSTACLE_SHARE) -> dict[str, Path]:
     """Write a synthetic invented network of ``n_airfields`` airfields.
 
     Parameters
@@ -380,6 +418,9 @@ def generate_network(n_airfields: int, seed: int, out_dir, n_types: int = 8,
         Number of aircraft types (default 8, the demo network's types).
     fmt : {'csv', 'parquet'}, optional
         File format of the tables.
+    obstacle_share : float, optional
+        Share of runway directions with 1 … 10 obstacles (default 0.1; 0: no obstacles
+        table). Drawn after every other table, so those do not change with it.
 
     Returns
     -------
@@ -390,6 +431,8 @@ def generate_network(n_airfields: int, seed: int, out_dir, n_types: int = 8,
         raise ValueError("n_airfields must be at least 1")
     if fmt not in ("csv", "parquet"):
         raise ValueError("fmt must be 'csv' or 'parquet'")
+    if not 0.0 <= obstacle_share <= 1.0:
+        raise ValueError("obstacle_share must be 0 … 1")
     out = Path(out_dir)
     rng = np.random.default_rng(seed)
     af, desert = _airfields(rng, n_airfields)
@@ -407,8 +450,13 @@ def generate_network(n_airfields: int, seed: int, out_dir, n_types: int = 8,
     types = _aircraft(n_types)
     # a route joins two different airfields: a single airfield has none (routes are optional)
     routes = _routes(rng, af, types) if n_airfields >= 2 else None
+    # obstacles last, from a stream of their own for a numeric seed: the other tables do not
+    # change with them
+    obstacle_rng = rng if isinstance(seed, np.random.Generator) else np.random.default_rng([int(seed), 16])
+    obstacles = _obstacles(obstacle_rng, rw, obstacle_share)
     tables = {"airfields": af, "runways": rw, "climate_monthly": cl, "wind_rose": wind_cols,
-              "routes": routes, "aircraft_types": {c: types[c].to_numpy() for c in types}}
+              "routes": routes, "aircraft_types": {c: types[c].to_numpy() for c in types},
+              "obstacles": obstacles}
     for name, cols in tables.items():
         if cols is not None:
             _check_specs(name, cols)
@@ -481,13 +529,19 @@ def main(argv=None) -> int:
     p.add_argument("--out", type=Path, required=True, help="folder to write")
     p.add_argument("--types", type=int, default=8, help="number of aircraft types (default 8)")
     p.add_argument("--format", choices=("csv", "parquet"), default="csv")
+    p.add_argument("--obstacle-share", type=float, default=OBSTACLE_SHARE, metavar="S",
+                   help=f"share of runway directions with 1 … {MAX_OBSTACLES} obstacles "
+                        f"(default {OBSTACLE_SHARE}; 0: none)")
     args = p.parse_args(argv)
     if args.airfields < 1:
         p.error(f"--airfields must be at least 1; got {args.airfields}")
     if args.seed < 0:
         p.error(f"--seed must be a whole number ≥ 0; got {args.seed}")
+    if not 0.0 <= args.obstacle_share <= 1.0:
+        p.error(f"--obstacle-share must be 0 … 1; got {args.obstacle_share}")
     t0 = time.perf_counter()
-    generate_network(args.airfields, args.seed, args.out, n_types=args.types, fmt=args.format)
+    generate_network(args.airfields, args.seed, args.out, n_types=args.types, fmt=args.format,
+                     obstacle_share=args.obstacle_share)
     print(f"synthetic network of {args.airfields} airfields written to {args.out} "
           f"in {time.perf_counter() - t0:.1f} s")
     return 0

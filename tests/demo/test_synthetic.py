@@ -218,3 +218,41 @@ def test_runways_declare_landing_distances_some_blank(tmp_path):
     assert 0.05 < 1 - given.mean() < 0.30
     assert np.all(lda[given] <= tora[given]) and np.all(lda[given] >= tora[given] - 300.0)
     assert np.any(lda[given] < tora[given])
+
+
+def test_obstacles_for_a_share_of_runway_directions(tmp_path):
+    from schemas.departure import in_departure_area
+
+    generate_network(300, 4, tmp_path / "a")
+    assert validate_folder(tmp_path / "a") == []  # inside the area, under the path's end
+    t = load_folder(tmp_path / "a")
+    ob = t.obstacles
+    per = ob.groupby(["airfield_id", "runway_id"]).size()
+    share = len(per) / len(t.runways)
+    assert 0.05 < share < 0.16                    # 10 % of the directions by default
+    assert per.min() >= 1 and per.max() <= 10
+    assert in_departure_area(ob["distance_from_toda_end_m"], ob["lateral_offset_m"]).all()
+    assert (ob["distance_from_toda_end_m"] > 0).all() and (ob["height_m"] < 446.5).all()
+    # a third of the directions (the benchmark's network); the other tables do not change
+    generate_network(300, 4, tmp_path / "b", obstacle_share=1 / 3)
+    for name in ("airfields", "runways", "climate_monthly", "wind_rose", "routes", "aircraft_types"):
+        assert (tmp_path / "a" / f"{name}.csv").read_bytes() == (tmp_path / "b" / f"{name}.csv").read_bytes()
+    share = load_folder(tmp_path / "b").obstacles.groupby(["airfield_id", "runway_id"]).ngroups / len(t.runways)
+    assert 0.28 < share < 0.39
+    # none: no obstacles table, and an older one is removed
+    generate_network(300, 4, tmp_path / "b", obstacle_share=0.0)
+    assert not any((tmp_path / "b").glob("obstacles.*"))
+    with pytest.raises(ValueError, match="obstacle_share"):
+        generate_network(3, 4, tmp_path / "c", obstacle_share=1.5)
+
+
+def test_generate_command_obstacle_share(tmp_path, capsys):
+    from pipeline.cli import main
+
+    assert main(["generate", str(tmp_path / "bad"), "--airfields", "3", "--obstacle-share", "40"]) == 2
+    assert "--obstacle-share must be a share from 0 to 1; got 40" in capsys.readouterr().err
+    assert main(["generate", str(tmp_path / "none"), "--airfields", "20", "--obstacle-share", "0"]) == 0
+    assert not any((tmp_path / "none").glob("obstacles.*"))
+    assert main(["generate", str(tmp_path / "all"), "--airfields", "20", "--obstacle-share", "1"]) == 0
+    t = load_folder(tmp_path / "all")
+    assert t.obstacles.groupby(["airfield_id", "runway_id"]).ngroups == len(t.runways)
