@@ -58,6 +58,10 @@ TYPE_COLOURS = ("#2b5f8a", "#c8782a", "#4e8a4a", "#8a3f6d", "#3f8f8f", "#9a5a2e"
                 "#6b6bb0", "#7a7a3a", "#b04a5a", "#4a4a4a")
 #: Line style per result level (design day and reliability levels).
 LEVEL_STYLES = {"design_day": "-", "p50": "--", "p85": "-.", "p95": ":"}
+#: Marker of a design-day payload by the end that limits it (``route_payload.limiting_end``).
+END_MARKERS = {"origin": "^", "destination": "v", "aircraft": "o"}
+END_LABELS = {"origin": "origin limits (takeoff)", "destination": "destination limits (landing)",
+              "aircraft": "aircraft limits (payload, fuel)"}
 #: Sequential colour map for restrictions: pale sand (none) to deep wine (all).
 RESTRICTION_CMAP = LinearSegmentedColormap.from_list(
     "fieldlimits_restriction", ["#f4f1e8", "#e9cf8f", "#d9934f", "#b5523b", "#6b1f3a"])
@@ -409,6 +413,9 @@ def route_figure(payload: pd.DataFrame, route_id: str, colours,
     ``payload`` holds this route's dry-runway rows (``route_payload`` columns). Months in
     which a level is not possible are crossed in a strip under the chart, one row per level
     (design day, 50 %, 85 %, 95 % of days), so each cross says which level it belongs to.
+    The design-day marker says which end limits the payload that month: ▲ the origin's
+    takeoff limit, ▼ the destination's landing limit, ● the aircraft (structural payload,
+    fuel); the title says when the destination has no landing check.
     """
     rp = payload.assign(level=[routes.level_label(b, r)
                                for b, r in zip(payload["basis"], payload["reliability"])])
@@ -424,9 +431,15 @@ def route_figure(payload: pd.DataFrame, route_id: str, colours,
         first = None
         for lvl, part in by.groupby("level", sort=False):
             y = _monthly(part, "payload_kg") / 1000.0
+            ends = (part.groupby("month")["limiting_end"].first().reindex(range(1, 13)).to_numpy(object)
+                    if lvl == "design_day" and "limiting_end" in part else None)
             (h,) = ax.plot(months, y, LEVEL_STYLES.get(lvl, "--"), color=c,
                            linewidth=2.0 if lvl == "design_day" else 1.2,
-                           marker="o" if lvl == "design_day" else None, markersize=4)
+                           marker="o" if lvl == "design_day" and ends is None else None, markersize=4)
+            if ends is not None:  # the end that limits the payload, month by month
+                for end, mk in END_MARKERS.items():
+                    at = (ends == end) & np.isfinite(y)
+                    ax.plot(months[at], y[at], linestyle="none", marker=mk, color=c, markersize=5)
             first = first or h
             present = _monthly(part.assign(_one=1.0), "_one") == 1.0
             none = present & ~np.isfinite(y)
@@ -445,17 +458,21 @@ def route_figure(payload: pd.DataFrame, route_id: str, colours,
         first_row = rp.iloc[0]
         title = (f"{route_id}: {first_row['origin_id']} to {first_row['destination_id']}, "
                  f"{first_row['air_distance_km']:,.0f} km flown, dry runway")
+        if "destination_limiting_factor" in rp and (rp["destination_limiting_factor"] == "not_checked").all():
+            title += "\ndestination not checked for landing (no LDA given)"
     else:
         title = route_id
     ax.set_title(title, fontsize=11)
     _impossible_strip(fig, (0.1, 0.2, 0.62, strip_h),
                       [(level_name(lvl), impossible[lvl]) for lvl in levels],
                       "Not possible, by level")
-    entries = [(LEVEL_STYLES.get(lvl, "--"), "o" if lvl == "design_day" else None,
+    entries = [(LEVEL_STYLES.get(lvl, "--"), "o" if lvl == "design_day" and "limiting_end" not in rp else None,
                 2.0 if lvl == "design_day" else 1.2,
                 "design day" if lvl == "design_day" else f"on {lvl[1:]} % of days")
                for lvl in levels]
     entries += [((0, (6, 3)), None, 0.9, "max payload")]
+    if "limiting_end" in rp:
+        _style_legend(fig, [("none", mk, 1.0, END_LABELS[end]) for end, mk in END_MARKERS.items()], y=0.075)
     _style_legend(fig, entries)
     ax.legend([h for h, _ in handles], [lb for _, lb in handles], loc="upper left",
               bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
@@ -726,6 +743,10 @@ def route_summary(data: ReportData, route_ids) -> pd.DataFrame:
             "months restricted by takeoff limit (design day)":
                 int((pd.to_numeric(dd["payload_restriction_kg"], errors="coerce") > 0.5).sum()),
         }
+        if "limiting_end" in dd:
+            row["months limited at the destination (design day)"] = int((dd["limiting_end"] == "destination").sum())
+            row["destination landing check"] = (
+                "not checked (no LDA)" if (dd["destination_limiting_factor"] == "not_checked").all() else "checked")
         for lvl in levels:
             part = g[g["level"] == lvl]
             row[f"months not possible ({level_name(lvl)})"] = int((~part["possible"].astype(bool)).sum())

@@ -100,6 +100,16 @@ def add_arguments(parser) -> None:
                              "the code are unchanged since the last complete run with the same "
                              "parameters is copied from it)")
     parser.add_argument("--quiet", action="store_true", help="no progress lines")
+    # the dispatch rule for landing at route destinations (pipeline.landing)
+    parser.add_argument("--landing-jet-share", type=float, default=0.6, metavar="S",
+                        help="share of the landing distance available a jet's dry landing "
+                             "distance may use (default 0.6: 14 CFR 121.195(b))")
+    parser.add_argument("--landing-turboprop-share", type=float, default=0.6, metavar="S",
+                        help="the same for propeller types (default 0.6; 0.7 where the operator "
+                             "uses the turboprop rule, 14 CFR 121.195(c))")
+    parser.add_argument("--landing-wet-increase", type=float, default=0.15, metavar="F",
+                        help="increase of the required landing distance on a wet runway "
+                             "(default 0.15 = +15 %%, 14 CFR 121.195(d))")
 
 
 def run(args) -> int:
@@ -127,6 +137,9 @@ def run(args) -> int:
         reliability_levels=_floats(args.reliability),
         reliability_conditions=reliability_conditions,
         reuse=not args.no_reuse,
+        landing_jet_share=args.landing_jet_share,
+        landing_turboprop_share=args.landing_turboprop_share,
+        landing_wet_increase=args.landing_wet_increase,
     )
     if not args.quiet:
         progress.set_reporter(progress.StderrProgress())

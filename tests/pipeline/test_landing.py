@@ -300,3 +300,45 @@ def test_explain_landing_command_line():
     bad = cli("explain", "--airfield", "lastlight", "--runway", "34", "--month", "1", "--type", "regional-tp70",
               "--landing", "--landing-jet-share", "1.5")
     assert bad.returncode == 2 and "landing-jet-share" in bad.stderr
+
+
+def test_run_command_takes_the_landing_rule(tmp_path):
+    import json
+
+    from tests.pipeline.conftest import cli
+
+    db = tmp_path / "rule.duckdb"
+    r = cli("run", "--no-prefect", "--quiet", "--db", db, "--reliability", "none", "--conditions", "dry",
+            "--landing-turboprop-share", "0.7")
+    assert r.returncode == 0, r.stderr
+    with duckdb.connect(str(db), read_only=True) as con:
+        params = json.loads(con.sql("SELECT parameters FROM runs").fetchall()[0][0])
+        lastlight = con.sql("SELECT landing_limit_kg FROM landing_airfield WHERE airfield_id = 'lastlight' "
+                            "AND month = 1").fetchall()
+    assert params["landing_turboprop_share"] == 0.7 and params["landing_jet_share"] == 0.6
+    assert lastlight and all(v[0] is not None for v in lastlight)
+    bad = cli("run", "--no-prefect", "--quiet", "--db", tmp_path / "bad.duckdb", "--landing-wet-increase", "2")
+    assert bad.returncode == 2 and "landing-wet-increase" in bad.stderr
+    assert not (tmp_path / "bad.duckdb").exists()
+
+
+def test_report_route_charts_and_table_say_which_end_limits(demo_run, tmp_path):
+    from pipeline import report
+
+    db, _ = demo_run
+    data = report.load_report_data(db)
+    table = report.route_summary(data, ["saltmere-kelpstone", "saltmere-southreach"]).set_index("route")
+    assert table.loc["saltmere-kelpstone", "months limited at the destination (design day)"] == 12
+    assert table.loc["saltmere-kelpstone", "destination landing check"] == "checked"
+    assert table.loc["saltmere-southreach", "destination landing check"] == "not checked (no LDA)"
+    rp = data.route_payload
+    part = rp[(rp["route_id"] == "saltmere-kelpstone") & (rp["condition"] == "dry")]
+    fig = report.route_figure(part, "saltmere-kelpstone", {"regional-jet90": "#336699"})
+    ax = fig.axes[0]
+    down = [ln for ln in ax.get_lines() if ln.get_marker() == report.END_MARKERS["destination"]]
+    assert down and sum(len(ln.get_xdata()) for ln in down) == 12  # every design-day month
+    texts = [t.get_text() for leg in fig.legends for t in leg.get_texts()]
+    assert report.END_LABELS["destination"] in texts
+    far = rp[(rp["route_id"] == "saltmere-southreach") & (rp["condition"] == "dry")]
+    assert "not checked" in report.route_figure(far, "saltmere-southreach", {"longrange-twin300": "#669933"}
+                                                ).axes[0].get_title()
