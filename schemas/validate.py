@@ -435,7 +435,9 @@ def _rows_summary(severity, file, column, expected):
 # reading
 
 class _Unreadable(Exception):
-    """The file cannot be parsed; the problem is already reported."""
+    """The table cannot be used. Raised with a list of problems, those replace what the
+    blocks read so far found (a file that cannot be parsed gets only those, as when it is
+    read whole); raised bare, the problems are already reported."""
 
 
 class _NotNumbers(Exception):
@@ -477,7 +479,10 @@ def _check_table(name: str, path: Path, out: FolderCheck, coverage: dict, meter:
         except _NotGrouped:
             blocks = False
             continue
-        except _Unreadable:
+        except _Unreadable as exc:
+            if exc.args:
+                pr = _Problems()
+                pr.extend(exc.args[0])
             frame = rows = months = None
         break
     out.problems.extend(pre.close())
@@ -504,7 +509,7 @@ def _check_table_pass(name, path, names, out, pr, meter, blocks, keep, text):
         names, raw_blocks = _parquet_blocks(path, pr, size, meter)
         empty = "the file has no data rows"
     else:
-        raw_blocks = _csv_blocks(path, names, spec, pr, size, text, meter)
+        raw_blocks = _csv_blocks(path, names, spec, size, text, meter)
         empty = "the file has a header but no data rows"
     groups = _Groups(STREAMED[name]) if blocks else None
     header = None
@@ -730,11 +735,8 @@ def _parquet_blocks(path: Path, pr: _Problems, size: int | None, meter: _Meter):
                 start += len(df)
                 yield df
                 meter.at(path, int(meter.sizes.get(path, 0) * start / max(n_rows, 1)))
-        except _Unreadable:
-            raise
         except Exception as exc:
-            pr.append(_parquet_problem(path, exc))
-            raise _Unreadable from None
+            raise _Unreadable([_parquet_problem(path, exc)]) from None
 
     return [str(n).strip() for n in names], blocks()
 
@@ -831,8 +833,8 @@ _NA_VALUES = sorted({v for m in _MISSING for v in (m, m.upper(), m.capitalize())
                     | {"NaN", "N/A", "#N/A"})
 
 
-def _csv_blocks(path: Path, names: list[str], spec: TableSpec, pr: _Problems,
-                size: int | None, text: bool, meter: _Meter):
+def _csv_blocks(path: Path, names: list[str], spec: TableSpec, size: int | None, text: bool,
+                meter: _Meter):
     """Raw blocks of a CSV file (index: 0-based data row), blank lines dropped.
 
     Numbers are parsed as numbers directly (``text=False``) and text columns kept as
@@ -869,19 +871,23 @@ def _csv_blocks(path: Path, names: list[str], spec: TableSpec, pr: _Problems,
             if fh is not None:
                 fh.close()
     except (pd.errors.ParserError, csv.Error) as exc:
-        _locate_csv_error(path, len(names), pr, exc)
-        raise _Unreadable from None
+        raise _Unreadable(_csv_error(path, len(names), exc)) from None
     except pd.errors.EmptyDataError:
         return
     except ValueError as exc:
         if not text:
             raise _NotNumbers from None
-        _locate_csv_error(path, len(names), pr, exc)
-        raise _Unreadable from None
+        raise _Unreadable(_csv_error(path, len(names), exc)) from None
     except OSError as exc:
-        pr.append(Problem("error", path.name, None, None, None, "a readable file",
-                          f"the file cannot be read ({exc.strerror or exc})"))
-        raise _Unreadable from None
+        raise _Unreadable([Problem("error", path.name, None, None, None, "a readable file",
+                                   f"the file cannot be read ({exc.strerror or exc})")]
+                          ) from None
+
+
+def _csv_error(path: Path, n_header: int, exc) -> list[Problem]:
+    found: list[Problem] = []
+    _locate_csv_error(path, n_header, found, exc)
+    return found
 
 
 def _locate_csv_error(path: Path, n_header, problems, exc) -> None:

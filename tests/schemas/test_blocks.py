@@ -183,6 +183,22 @@ def test_check_in_blocks_of_text_in_number_columns(net, monkeypatch):
     assert any("decimal separator" in t for t in _texts(blocks))
 
 
+def test_check_in_blocks_of_a_file_that_breaks_late(net, monkeypatch):
+    """A row with a field too many near the end: only that is reported, as when whole."""
+    w = _broken_grouped_wind_rose(net)
+    lines = (net / "wind_rose.csv").read_text().splitlines()
+    lines[len(w) - 5] += ",7"
+    (net / "wind_rose.csv").write_text("\n".join(lines) + "\n")
+    whole = _whole(net, monkeypatch)
+    monkeypatch.setattr(validate, "_READ_ROWS", 64)
+    blocks = validate.check_folder(net, frames=False)
+    assert _texts(blocks) == _texts(whole)
+    wind = [p for p in blocks.problems if p.file == "wind_rose.csv"]
+    assert [p.row for p in wind] == [len(w) - 5]  # lines[0] is the header
+    assert "number of fields" in wind[0].message
+    assert "wind_rose" not in blocks.rows
+
+
 def test_check_in_blocks_of_a_parquet_wind_rose(net, monkeypatch):
     w = _broken_grouped_wind_rose(net)
     typed = w.replace("", np.nan)
