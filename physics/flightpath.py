@@ -53,6 +53,10 @@ OBSTACLE_CLEARANCE_M = 35.0 * c.FT_M
 PATH_END_HEIGHT_M = 1500.0 * c.FT_M
 #: Final takeoff speed over the clean stall speed, 14 CFR 25.121(c) (V_FTO ≥ 1.25 V_SR). [–]
 FINAL_SPEED_RATIO = 1.25
+#: Least gradient of the height line behind the screen (an obstacle the one-engine-out takeoff
+#: distance runs past is under an aircraft still below the screen height; such a mass fails
+#: TODA anyway, but the margin must keep falling as the mass rises). [–]
+BEHIND_SCREEN_GRADIENT = 0.05
 #: Acceleration heights tried between the type's default and its maximum (evenly spaced). [–]
 ACCELERATION_HEIGHT_STEPS = 4
 
@@ -196,15 +200,20 @@ class FlightPath:
     def height_at(self, x_m):
         """Height of the path at ground distances ``x_m`` (shape (..., K)); NaN past its end.
 
-        Before the screen the first segment's line is extended backwards (below the screen).
+        Before the screen the height falls backwards at the first segment's gradient, at
+        least :data:`BEHIND_SCREEN_GRADIENT` (below the screen, whatever that gradient).
         """
         xs, hs = self.x_m, self.h_m
         x = np.asarray(x_m, dtype=float)
         out = np.full(np.broadcast_shapes(x.shape, xs.shape[:-1] + (1,)), np.nan)
         out = np.broadcast_to(hs[..., :1], out.shape) + 0.0  # default: the screen height
         with np.errstate(invalid="ignore", divide="ignore"):
+            # before the screen (an obstacle the takeoff distance runs past) the aircraft is
+            # lower than the screen: a line falling backwards at least BEHIND_SCREEN_GRADIENT,
+            # so the height there never rises as the takeoff distance grows
             slope0 = (hs[..., 1:2] - hs[..., :1]) / (xs[..., 1:2] - xs[..., :1])
-            out = np.where(x < xs[..., :1], hs[..., :1] + slope0 * (x - xs[..., :1]), out)
+            back = np.fmax(np.where(np.isfinite(slope0), slope0, 0.0), BEHIND_SCREEN_GRADIENT)
+            out = np.where(x < xs[..., :1], hs[..., :1] + back * (x - xs[..., :1]), out)
             for j in range(xs.shape[-1] - 1):
                 x0, x1 = xs[..., j:j + 1], xs[..., j + 1:j + 2]
                 h0, h1 = hs[..., j:j + 1], hs[..., j + 1:j + 2]

@@ -707,37 +707,36 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
     if keep.size == n and with_obstacles is None:
         return _solve_accepted(aircraft, site, tol_kg, reqs, figures)
     # cases outside the input contract: NaN and their reason; the others solved as a batch
-    # (those with obstacles in a batch of their own, with the obstacle requirement)
     out = {f.name: np.full(n, np.nan) for f in fields(WeightLimit)}
     out["limiting_factor"] = refused
-    parts, cleared = [(keep, reqs, None)], None
+    _solve_into(out, aircraft, site, keep, n, tol_kg, reqs, figures)
     if with_obstacles is not None:
+        # The obstacle margin falls as the mass rises: where the net path clears every
+        # obstacle at the limit found without them they do not bind, and that limit stands
+        # (to the bit); the others are solved again with the obstacle requirement.
         obs = keep[with_obstacles]
-        # obstacles the net path clears at MTOW never bind (the margin falls as the mass
-        # rises): those cases are solved without the requirement, to the bit as without them
-        top = requirement_margins(_obstacle_cases(aircraft, site, obs, n, obstacles),
-                                  np.broadcast_to(np.asarray(aircraft.mtow_kg, dtype=float), (n,))[obs],
-                                  [OBSTACLE_REQUIREMENT])[0][0]
-        binding = ~(top >= 0.0)
-        cleared = obs[~binding]
-        plain = np.sort(np.concatenate([keep[~with_obstacles], cleared]))
-        parts = [(plain, reqs, None), (obs[binding], reqs + [OBSTACLE_REQUIREMENT], obstacles.take_cases(obs[binding]))]
-    for index, part_reqs, part_obstacles in parts:
-        if index.size:
-            solved = _solve_accepted(_gather(aircraft, index, n), _gather(site, index, n), tol_kg, part_reqs,
-                                     figures, part_obstacles)
-            for f in fields(WeightLimit):
-                out[f.name][index] = getattr(solved, f.name)
-    if figures and cleared is not None and cleared.size:
-        # the clearance at the limit of the cases whose obstacles do not bind
-        done = cleared[np.isfinite(out["tow_limit_kg"][cleared])]
-        if done.size:
-            cases = _obstacle_cases(aircraft, site, done, n, obstacles)
+        obs = obs[np.isfinite(out["tow_limit_kg"][obs])]
+        if obs.size:
+            cases = _obstacle_cases(aircraft, site, obs, n, obstacles)
             cases._cache["engine_failure_final"] = True
-            _, memo = requirement_margins(cases, out["tow_limit_kg"][done], [OBSTACLE_REQUIREMENT])
-            for key, val in flightpath.obstacle_report(cases, out["tow_limit_kg"][done], memo).items():
-                out[key][done] = val
+            mass = out["tow_limit_kg"][obs]
+            margin, memo = requirement_margins(cases, mass, [OBSTACLE_REQUIREMENT])
+            for key, val in flightpath.obstacle_report(cases, mass, memo).items():
+                out[key][obs] = val
+            binding = obs[~(margin[0] >= 0.0)]
+            if binding.size:
+                _solve_into(out, aircraft, site, binding, n, tol_kg, reqs + [OBSTACLE_REQUIREMENT], figures,
+                            obstacles.take_cases(binding))
     return WeightLimit(**out)
+
+
+def _solve_into(out, aircraft, site, index, n, tol_kg, reqs, figures, obstacles=None):
+    """Solve the cases at ``index`` and write their results into ``out`` (field → array)."""
+    if index.size:
+        solved = _solve_accepted(_gather(aircraft, index, n), _gather(site, index, n), tol_kg, reqs, figures,
+                                 obstacles)
+        for f in fields(WeightLimit):
+            out[f.name][index] = getattr(solved, f.name)
 
 
 def _obstacle_cases(aircraft, site, index, n, obstacles):
