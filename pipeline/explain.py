@@ -177,7 +177,7 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
                                  temperature_offset_k)
     from pipeline import cases as case_io
 
-    obstacles, obstacle_ids = case_io.obstacle_arrays(case, tables["obstacles"])  # as a run does
+    obstacles, _ = case_io.obstacle_arrays(case, tables["obstacles"])  # as a run does
     res = wl.solve_takeoff_weight(a, s, obstacles=obstacles)
     factor = str(limits.name(int(res.limiting_factor[0])))
     limit = _f(res.tow_limit_kg)
@@ -313,123 +313,83 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
         shown = ("not applicable" if np.isposinf(m) else "impossible" if np.isneginf(m) or m <= -1
                  else _num(100 * m, 2))
         L.add(f"  {label}", shown, "" if np.isposinf(m) else "%")
-    _flight_path_section(L, tables, airfield_id, str(runway_id), a, s, mass, at, res, obstacles, obstacle_ids,
-                         rho)
+    _flight_path_section(L, tables, airfield_id, str(runway_id), int(month), aircraft_type_id, condition,
+                         temperature_offset_k, at)
     L.text("")
     L.text(CAUTION)
     v1_kt = _f(atmosphere.equivalent_airspeed_mps(ef.v1_mps, rho) / kt)
     return ExplainedCase("\n".join(L.out), limit, factor, v1_kt)
 
 
-_SEGMENTS = ("1. first segment: V2, gear down, takeoff flaps",
-             "2. second segment: V2, gear up, takeoff flaps",
-             "3. level acceleration to the final takeoff speed",
-             "4. final segment: clean, maximum continuous thrust")
-_POINTS = ("screen height", "gear up", "acceleration height", "final speed reached", "1 500 ft")
 
-
-def _flight_path_section(L, tables, airfield_id, runway_id, a, s, mass, at, res, obstacles, obstacle_ids, rho):
+def _flight_path_section(L, tables, airfield_id, runway_id, month, aircraft_type_id, condition,
+                         temperature_offset_k, at):
     """Section 8 for a runway direction with obstacles: the one-engine-inoperative takeoff
-    flight path segment by segment (gross and net) and each obstacle's clearance."""
-    from physics import atmosphere, climb, constants, enginefailure, flightpath as fp
-    from physics import weightlimit as wl
+    flight path segment by segment (gross and net) and each obstacle's clearance
+    (:func:`pipeline.obstacle_path.flight_path_view`)."""
+    from physics import atmosphere, constants
+    from pipeline.obstacle_path import POINTS, SEGMENTS, flight_path_view
 
-    table = tables["obstacles"]
-    mine = table[(table["airfield_id"].astype(str) == airfield_id) & (table["runway_id"].astype(str) == runway_id)]
-    if len(mine) == 0:
+    v = flight_path_view(tables, airfield_id, runway_id, month, aircraft_type_id, condition, temperature_offset_k)
+    if v is None:
         return
-    ft, kt = constants.FT_M, constants.KT_MPS
+    ft = constants.FT_M
     L.head("8. Takeoff flight path over the obstacles (one engine inoperative; 14 CFR 25.111, 25.115, 25.121)")
-    if obstacles is None:
-        L.text(f"  all {len(mine)} obstacle(s) of runway {runway_id} lie outside the departure area "
+    ob = v.obstacles
+    if not ob["in_area"].any():
+        L.text(f"  all {len(ob)} obstacle(s) of runway {runway_id} lie outside the departure area "
                "(schemas/departure.py): none is checked.")
         return
-    m = np.asarray([mass])
-    cases = wl.prepare_cases(a, s, vmcg_floor=True)
-    cases.cached("obstacles", lambda cs: obstacles)
-    cases.cached("engine_failure_final", lambda cs: True)  # the converged V1, as the results
-    memo = {}
-    found = fp.weight_limit_flight_path(cases, m, memo)
-    n_eng = _f(a.engine_count)
-    if n_eng > 1:
-        r = enginefailure.weight_limit_engine_failure(cases, m, memo)
-        tod, v2 = r.takeoff_distance_m, r.speeds.v2_mps
-    else:
-        aeo = wl.all_engines(cases, m, memo)
-        tod, v2 = aeo.takeoff_distance_m, aeo.v2_mps
-    law = climb.climb_thrust_law(a, s.pressure_pa, s.temperature_k)
-    inp = fp.path_inputs(a, mass_kg=m, density_kg_m3=cases.density_kg_m3, v2_mps=v2, thrust_fn=law.thrust_n)
-    h_acc = found["height_m"]
-    red = fp.net_gradient_reduction(a.engine_count)
-    kw = dict(screen_m=s.screen_height_m, v2_mps=inp.v2_mps, v_final_mps=inp.v_final_mps,
-              headwind_mps=s.headwind_mps, gradient_gear_down=inp.gradient_gear_down,
-              gradient_second=inp.gradient_second, accel_mps2=inp.accel_mps2,
-              gradient_final=inp.gradient_final, gear_time_s=a.gear_retraction_s, acceleration_height_m=h_acc)
-    gross = fp.takeoff_flight_path(**kw)
-    net = fp.takeoff_flight_path(**kw, reduction=red)
-    start = _f(tod) - _f(s.toda_m)  # the path's start, from the end of TODA (negative: before it)
-
-    L.text(f"  at {at}: {_num(mass)} kg; {'one engine inoperative' if n_eng > 1 else 'single engine: all engines'}, "
-           f"from the end of the takeoff distance ({_num(tod)} m), {_num(_f(s.screen_height_m) / ft)} ft above "
-           f"the runway, {_num(abs(start))} m {'past' if start >= 0 else 'before'} the end of TODA")
-    _speed(L, "V2", inp.v2_mps, rho)
-    _speed(L, "final takeoff speed (1.25 VS clean)", inp.v_final_mps, rho)
-    L.add("gear retraction time", _num(_f(a.gear_retraction_s), 1), "s")
-    L.add("acceleration height used", _num(_f(h_acc) / ft), "ft",
-          f"{_num(h_acc)} m; type default {_num(_f(a.acceleration_height_m) / ft)} ft, up to "
-          f"{_num(_f(a.max_acceleration_height_m) / ft)} ft where that helps")
-    L.add("net gradient reduction", _num(100 * _f(red), 1), "%",
-          f"{int(n_eng)} engine(s), 14 CFR 25.115(b); level acceleration less g × that")
+    L.text(f"  at {at}: {_num(v.mass_kg)} kg; "
+           f"{'one engine inoperative' if v.engine_count > 1 else 'single engine: all engines'}, from the end "
+           f"of the takeoff distance ({_num(v.takeoff_distance_m)} m), {_num(v.screen_height_m / ft)} ft above the "
+           f"runway, {_num(abs(v.start_m))} m {'past' if v.start_m >= 0 else 'before'} the end of TODA")
+    _speed(L, "V2", v.v2_mps, v.density_kg_m3)
+    _speed(L, "final takeoff speed (1.25 VS clean)", v.v_final_mps, v.density_kg_m3)
+    L.add("gear retraction time", _num(v.gear_retraction_s, 1), "s")
+    L.add("acceleration height used", _num(v.acceleration_height_m / ft), "ft",
+          f"{_num(v.acceleration_height_m)} m; type default {_num(v.default_acceleration_height_m / ft)} ft, "
+          f"up to {_num(v.max_acceleration_height_m / ft)} ft where that helps")
+    L.add("net gradient reduction", _num(100 * v.reduction, 1), "%",
+          f"{v.engine_count} engine(s), 14 CFR 25.115(b); level acceleration less g × that")
     L.text("")
-    L.text(f"  {'segment':<50} {'gross':>9} {'net':>9}")
-    grads = (inp.gradient_gear_down, inp.gradient_second, None, inp.gradient_final)
-    for name, g in zip(_SEGMENTS, grads):
+    L.text(f"  {'segment':<53} {'gross':>9} {'net':>9}")
+    g1, g2, g4 = v.gradients
+    for j, (name, g) in enumerate(zip(SEGMENTS, (g1, g2, None, g4)), 1):
         if g is None:
-            gv, nv, unit = _f(inp.accel_mps2), _f(inp.accel_mps2) - constants.G0 * _f(red), "m/s²"
-            L.text(f"  {name:<50} {gv:>9.3f} {nv:>9.3f} {unit} (acceleration)")
+            net = v.accel_mps2 - constants.G0 * v.reduction
+            L.text(f"  {j}. {name:<50} {v.accel_mps2:>9.3f} {net:>9.3f} m/s² (acceleration)")
         else:
-            L.text(f"  {name:<50} {100 * _f(g):>9.2f} {100 * (_f(g) - _f(red)):>9.2f} %   (gradient)")
+            L.text(f"  {j}. {name:<50} {100 * g:>9.2f} {100 * (g - v.reduction):>9.2f} %   (gradient)")
     L.text("")
     L.text("  breakpoints: ground distance past the end of TODA / height above the runway end")
     L.text(f"  {'':<22} {'gross path':>24} {'net path':>24}")
-    for j, name in enumerate(_POINTS):
+    for j, name in enumerate(POINTS):
         cells = []
-        for path in (gross, net):
-            x, h = _f(path.x_m[..., j]) + start, _f(path.h_m[..., j])
-            cells.append(f"{_num(x):>10} m {_num(h / ft):>6} ft" if np.isfinite(x) else f"{'never':>10}   {_num(h / ft):>6} ft")
+        for xs, hs in ((v.gross_x_m, v.gross_h_m), (v.net_x_m, v.net_h_m)):
+            x, h = xs[j], hs[j]
+            cells.append(f"{_num(x):>10} m {_num(h / ft):>6} ft" if np.isfinite(x)
+                         else f"{'never':>10}   {_num(h / ft):>6} ft")
         L.text(f"  {name:<22} {cells[0]:>24} {cells[1]:>24}")
     L.text("")
     L.text("  obstacles (net path must clear each by 35 ft, 14 CFR 121.189(d)(2); departure area: "
            "schemas/departure.py):")
     L.text(f"  {'obstacle':<16} {'distance m':>10} {'offset m':>9} {'height m':>9} {'net path m':>11} "
-           f"{'clearance m':>12}  ")
-    dist = np.asarray(obstacles.distance_m)[0]
-    height = np.asarray(obstacles.height_m)[0]
-    shown = set()
-    x_obs = dist + _f(s.toda_m) - _f(tod)
-    h_net = np.asarray(net.height_at(x_obs[None, :]))[0]
-    margins = np.asarray(fp.obstacle_margins(net, x_obs[None, :], height[None, :]))[0]
-    offsets = mine.set_index("obstacle_id")["lateral_offset_m"]
-    gov = found["obstacle"][0]
-    for k, oid in enumerate(obstacle_ids[0]):
-        if oid is None:
-            continue
-        shown.add(oid)
-        past = not np.isfinite(h_net[k])
-        clear = h_net[k] - height[k] - fp.OBSTACLE_CLEARANCE_M
-        note = ("beyond the end of the takeoff path: not checked" if past
-                else "cleared" if margins[k] >= 0 else "NOT cleared")
-        if np.isfinite(gov) and int(gov) == k:
+           f"{'clearance m':>12}")
+    for _, o in ob.iterrows():
+        shown = o["in_area"] and np.isfinite(o["net_height_m"])
+        note = {"cleared": "cleared", "not cleared": "NOT cleared",
+                "beyond the end of the takeoff path": "beyond the end of the takeoff path: not checked",
+                "outside the departure area": "outside the departure area: left out"}[o["status"]]
+        if o["governing"]:
             note += " (governing)"
-        L.text(f"  {str(oid):<16} {_num(dist[k]):>10} {_num(offsets.get(oid, 0.0)):>9} {_num(height[k], 1):>9} "
-               f"{'—' if past else _num(h_net[k], 1):>11} {'—' if past else _num(clear, 1):>12}  {note}")
-    for _, o in mine[~mine["obstacle_id"].isin(shown)].iterrows():
         L.text(f"  {str(o['obstacle_id']):<16} {_num(o['distance_from_toda_end_m']):>10} "
-               f"{_num(o['lateral_offset_m']):>9} {_num(o['height_m'], 1):>9} {'—':>11} {'—':>12}  "
-               "outside the departure area: left out")
-    margin = _f(found["margin"])
+               f"{_num(o['lateral_offset_m']):>9} {_num(o['height_m'], 1):>9} "
+               f"{_num(o['net_height_m'], 1) if shown else '—':>11} {_num(o['clearance_m'], 1) if shown else '—':>12}  "
+               f"{note}")
+    margin = v.least_margin
     L.add("least obstacle margin (best acceleration height)",
           "not applicable" if np.isposinf(margin) else _num(100 * margin, 2), "" if np.isposinf(margin) else "%",
           "(net height − obstacle − 35 ft) / (obstacle + 35 ft); negative = not met")
-    if np.isfinite(_f(res.obstacle_clearance_m)):
-        L.add("clearance of the governing obstacle at the limit", _num(res.obstacle_clearance_m, 2), "m")
+    if np.isfinite(v.obstacle_clearance_m):
+        L.add("clearance of the governing obstacle at the limit", _num(v.obstacle_clearance_m, 2), "m")

@@ -24,6 +24,10 @@ complete baseline run) and writes into a folder:
 ``changes-routes.png``, ``changes-airfields.png``, ``changes.csv``
     when there is an earlier run to compare with (:mod:`pipeline.compare`): payload and
     takeoff-weight limit changes by month on a diverging scale, and every changed row;
+``flightpath-<airfield>-<runway>.png``
+    per best runway direction whose design-day limit (dry) an obstacle sets: the takeoff
+    flight path with one engine inoperative, gross and net, over its obstacles
+    (:mod:`pipeline.report_obstacles`);
 ``payload_planning.csv``
     one row per route × type × month (units in headers, the run and scenario as columns,
     the caution in a last column: :mod:`pipeline.export`).
@@ -88,6 +92,7 @@ class ReportData:
     scenario_details: str | None = None  # conditions and reliability levels, in words
     comparison: object = None  # a pipeline.compare.Comparison with an earlier run, or None
     comparison_note: str | None = None  # why there is no comparison
+    flight_paths: list = field(default_factory=list)  # obstacle-limited runways (report_obstacles)
 
 
 @dataclass
@@ -183,6 +188,9 @@ def load_report_data(db_path, run_id: int | None = None, compare_with="auto") ->
         data.aircraft = aircraft
     if airfields is not None:
         data.airfields = airfields
+    from pipeline import report_obstacles
+
+    data.flight_paths = report_obstacles.load_flight_paths(db_path, int(rid))
     if compare_with is not None:
         before = None if compare_with == "auto" else int(compare_with)
         try:
@@ -872,6 +880,9 @@ def _page(data: ReportData, result_links, tables) -> str:
     for aid, name in result_links["airfields"]:
         parts.append(f'<h3 id="airfield-{e(name)}">{e(aid)}</h3><img src="{e(name)}" '
                      f'alt="takeoff-weight limit by month, airfield {e(aid)}">')
+    from pipeline import report_obstacles
+
+    parts.extend(report_obstacles.page_html(result_links.get("obstacles")))
     parts.append(f'<p class="caution">{e(CAUTION)}</p></body></html>')
     return "\n".join(p for p in parts if p) + "\n"
 
@@ -1007,6 +1018,10 @@ def build_report(data: ReportData, out_dir, airfield_ids=None, route_ids=None,
         charts.append(p)
         links["airfields"].append((aid, p.name))
         say(f"airfield {i}/{len(fields_sel)}")
+    from pipeline import report_obstacles
+
+    links["obstacles"] = report_obstacles.draw_flight_paths(data.flight_paths, fields_sel, out, footer)
+    charts.extend(out / name for _, name in links["obstacles"])
 
     csv_path = None
     if len(data.route_payload):

@@ -292,9 +292,14 @@ def test_report_command_builds_for_the_demo_network(tmp_path, demo_run):
     n_fields = con.execute("SELECT count(DISTINCT airfield_id) FROM latest_results_airfield").fetchone()[0]
     n_routes = con.execute("SELECT count(DISTINCT route_id) FROM latest_route_payload").fetchone()[0]
     n_rows = con.execute("SELECT count(DISTINCT (route_id, aircraft_type_id)) FROM latest_route_payload").fetchone()[0]
+    n_paths = con.execute("""SELECT count(DISTINCT (airfield_id, runway_id)) FROM latest_results_airfield
+                             WHERE basis = 'design_day' AND condition = 'dry'
+                               AND limiting_factor = 'obstacle_clearance'""").fetchone()[0]
     con.close()
-    assert n_fields >= 30 and n_routes >= 1
-    assert len(pngs) == n_fields + n_routes + 2  # + the two network views
+    assert n_fields >= 30 and n_routes >= 1 and n_paths >= 1
+    # + the two network views and a flight path per obstacle-limited best runway direction
+    assert len(pngs) == n_fields + n_routes + 2 + n_paths
+    assert len(list(out.glob("flightpath-*.png"))) == n_paths
     for p in pngs:
         _assert_real_image(p)
     page = (out / "index.html").read_text(encoding="utf-8")
