@@ -48,7 +48,7 @@ LANDING_COLUMNS: tuple[str, ...] = tuple(c.name for c in result_tables.LANDING_C
 GROUP_KEYS = ("airfield_id", "aircraft_type_id", "month", "condition")
 
 #: Headwind nodes below and above calm of the reliability grid. [–]
-TAIL_NODES, HEAD_NODES = 4, 6
+TAIL_NODES, HEAD_NODES = 3, 4
 #: Wind-rose points per sector and per speed class (as the takeoff reliability rows).
 DIRECTIONS_PER_SECTOR, SPEEDS_PER_CLASS = 3, 1
 #: The reliability grid is solved with the maximum landing mass raised by this factor.
@@ -135,11 +135,17 @@ def solve(cases: pd.DataFrame, aircraft_table: pd.DataFrame, rule: LandingRule, 
     a, config = aircraft_inputs(aircraft_table, cases["aircraft_index"].to_numpy()[idx])
     if cap_scale != 1.0:
         a = dataclasses.replace(a, max_landing_mass_kg=np.asarray(a.max_landing_mass_kg) * cap_scale)
-    col = lambda name: cases[name].to_numpy(float)[idx]  # noqa: E731
+    t = None if temperature_k is None else np.asarray(temperature_k, dtype=float)
+    grid = t is not None and t.ndim == 2  # (case, node): the case's fields broadcast along the nodes
+    if grid:
+        a, config = (type(x)(**{f.name: np.asarray(getattr(x, f.name))[:, None] for f in dataclasses.fields(x)})
+                     for x in (a, config))
+    col = (lambda name: cases[name].to_numpy(float)[idx][:, None]) if grid else (  # noqa: E731
+        lambda name: cases[name].to_numpy(float)[idx])
     site = landing.LandingSite(
         lda_m=col("lda_m"), slope=col("slope"), mu_brake=col("mu_brake"), mu_brake_dry=col("mu_brake_dry"),
         wet=col("wet"), pressure_pa=col("pressure_pa"),
-        temperature_k=col("temperature_k") if temperature_k is None else np.asarray(temperature_k, dtype=float),
+        temperature_k=col("temperature_k") if t is None else t,
         headwind_mps=np.zeros(idx.size) if headwind_mps is None else np.asarray(headwind_mps, dtype=float))
     share = landing.dispatch_share(a.thrust_model, rule.jet_share, rule.turboprop_share)
     return landing.landing_mass_limit(a, config, site, share=share, wet_increase=rule.wet_increase,
@@ -250,8 +256,7 @@ def reliability_frame(cases: pd.DataFrame, aircraft_table: pd.DataFrame, climate
         return None
     checked = cases["lda_m"].notna().to_numpy()
     # groups with no checked direction: not_checked rows, nothing to solve
-    grp_all = cases.groupby(list(GROUP_KEYS), sort=True)
-    any_checked = grp_all["lda_m"].transform(lambda s: s.notna().any()).to_numpy()
+    any_checked = (cases.groupby(list(GROUP_KEYS), sort=True)["lda_m"].transform("count") > 0).to_numpy()
     out = []
     none = cases[~any_checked].drop_duplicates(list(GROUP_KEYS))
     if len(none):
@@ -307,13 +312,12 @@ def _reliability_checked(cases, aircraft_table, climate, wind_rose, levels, rule
         return climatology.daily_max_temperature_k(score, t_mean[a], t_sd[a], pv)
 
     t_nodes = temperature(np.arange(n)[:, None], scores[None, :])  # (n, G)
-    # the grid: every direction × node, one vectorised solve (mass only)
-    rep = np.repeat(np.arange(n), n_g * n_h)
-    t_grid = np.repeat(t_nodes, n_h, axis=1).ravel()
-    h_grid = np.tile(h_nodes, (1, n_g)).ravel()
+    # the grid: every direction × node, one vectorised solve (mass only), (n, G·H)
+    t_grid = np.repeat(t_nodes, n_h, axis=1)
+    h_grid = np.tile(h_nodes, (1, n_g))
     # the structural cap raised so that the surface stays smooth through it (a kink between
     # two nodes would be cut off by the interpolation); reliability_masses applies the cap
-    grid = solve(cases, aircraft_table, rule, rep, temperature_k=t_grid, headwind_mps=h_grid,
+    grid = solve(cases, aircraft_table, rule, None, temperature_k=t_grid, headwind_mps=h_grid,
                  figures=False, cap_scale=GRID_CAP_SCALE).landing_limit_kg.reshape(n, n_g, n_h)
 
     grp = cases.groupby(list(GROUP_KEYS), sort=True)
