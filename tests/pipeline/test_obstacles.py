@@ -289,3 +289,20 @@ def test_report_draws_the_flight_path_of_obstacle_limited_runways(runs, tmp_path
     plain = write_report(runs["without"]["db"], tmp_path / "plain")
     assert not any(p.name.startswith("flightpath-") for p in plain.charts)
 
+
+
+def test_adding_obstacles_recomputes_only_their_airfields(runs, tmp_path):
+    """A rerun after obstacles were added reuses every airfield without obstacles (their
+    hashes are unchanged) and gives the same rows as a fresh run."""
+    from pipeline.steps import RunParams, run_local
+
+    db = tmp_path / "reuse.duckdb"
+    shutil.copyfile(runs["without"]["db"], db)
+    summary = run_local(runs["with"]["folder"], db, RunParams(reliability_levels=LEVELS), progress=lambda *a: None)
+    d = runs["with"]["results_direction"]
+    design = d[d["basis"] == "design_day"]
+    free = ~design["airfield_id"].isin(OBSTACLES["airfield_id"])
+    assert summary.reused_cases == int(free.sum()) > 0
+    with store.reader(db) as con:
+        again = con.sql("SELECT * FROM latest_results_direction ORDER BY ALL").df()
+    _same_to_the_bit(again, d, [c for c in d.columns if c not in ("run_id", "scenario")])

@@ -176,3 +176,32 @@ def test_obstacle_above_the_end_of_the_takeoff_path_is_a_warning(net):
     warned = find(validate_folder(net), file="obstacles.csv", column="height_m", severity="warning")
     assert [p.row for p in warned] == [4]
     assert "1 500 ft" in warned[0].message and "447" == warned[0].value
+
+
+def test_flight_path_columns_of_aircraft_types_blank_and_given(net):
+    """Blank = the documented defaults (6 s, 400 ft, 1 000 ft, 0.9, 1.5); feet converted to
+    metres (1 ft = 0.3048 m exactly, by definition)."""
+    types = pd.read_csv(net / "aircraft_types.csv", dtype=str, keep_default_na=False)
+    for c in ("gear_retraction_s", "acceleration_height_ft", "max_acceleration_height_ft", "mct_share",
+              "cl_max_clean"):
+        types[c] = ""
+    types.loc[0, ["gear_retraction_s", "acceleration_height_ft", "max_acceleration_height_ft", "mct_share",
+                  "cl_max_clean"]] = ["8", "800", "1500", "0.85", "1.4"]
+    write(net, "aircraft_types", types)
+    a = load_folder(net).aircraft_types
+    np.testing.assert_allclose(a.loc[0, ["gear_retraction_s", "acceleration_height_m", "max_acceleration_height_m",
+                                         "mct_share", "cl_max_clean"]].to_numpy(float),
+                               [8.0, 243.84, 457.2, 0.85, 1.4])
+    np.testing.assert_allclose(a.loc[1, ["gear_retraction_s", "acceleration_height_m", "max_acceleration_height_m",
+                                         "mct_share", "cl_max_clean"]].to_numpy(float),
+                               [6.0, 121.92, 304.8, 0.9, 1.5])
+
+
+def test_acceleration_height_below_400_ft_is_refused(net):
+    # 14 CFR 25.111(c)(2): the acceleration height is at least 400 ft
+    types = pd.read_csv(net / "aircraft_types.csv", dtype=str, keep_default_na=False)
+    types["acceleration_height_ft"] = ""
+    types.loc[2, "acceleration_height_ft"] = "350"
+    write(net, "aircraft_types", types)
+    p = only(errors(net), file="aircraft_types.csv", row=3, column="acceleration_height_ft")
+    assert p.value == "350" and "400" in p.expected
