@@ -5,18 +5,26 @@ chunk (a few thousand cases each) to the task runner, picks the best runway dire
 route payloads and hands everything to ONE writer task. Tasks receive paths, numbers and the
 small prepared-run object, never database connections or big frames.
 
-It runs without a server: with ``PREFECT_API_URL`` unset, Prefect starts its temporary local
-API. The offline settings are applied by :mod:`pipeline.settings` before Prefect is imported.
+It runs without a server: ``fieldlimits run`` starts Prefect's temporary local API itself
+(:mod:`pipeline.prefect_api`), and with ``PREFECT_API_URL`` unset a plain call has Prefect start
+one. The offline settings are applied by :mod:`pipeline.settings` before Prefect is imported.
 A Dask cluster is used when ``cluster`` is given (``prefect-dask``; see DEVELOPERS.md).
+
+What a Prefect user sees: flow runs named after the network and the scenario
+(``demo network · baseline``, ``net2000 · temperature +2 K``; :func:`flow_run_name`), chunk
+task runs named by chunk, the run's step messages (the ``fieldlimits.run`` logger) in the
+flow run's log, which reaches the UI of a server the user points at, and the run summary as a
+markdown artifact (key ``fieldlimits-run-summary``).
 """
 
 from __future__ import annotations
 
+import logging
 import time
 
 import pipeline.settings  # noqa: F401  (offline defaults before prefect is imported)
 
-from prefect import flow, task
+from prefect import flow, get_run_logger, task
 from prefect.cache_policies import NO_CACHE
 from prefect.futures import as_completed
 from prefect.task_runners import ThreadPoolTaskRunner
@@ -25,7 +33,16 @@ from pipeline import chunks, progress, steps
 from pipeline.steps import RunParams
 
 FLOW_NAME = "fieldlimits-run"
+SUMMARY_ARTIFACT = "fieldlimits-run-summary"
 
+
+def flow_run_name() -> str:
+    """``<network> · <scenario>``, from the flow run's parameters."""
+    from prefect.runtime import flow_run
+
+    p = flow_run.parameters
+    params = RunParams.from_dict(p.get("params") or {})
+    return f"{steps.network_name(p.get('input_dir', '?'))} · {params.scenario}"
 
 @task(name="validate-and-plan", cache_policy=NO_CACHE)
 def prepare_task(input_dir: str, db_path: str, params: RunParams, work_root: str | None):
@@ -42,7 +59,7 @@ def build_cases_task(prepared, run_id: int):
     return str(steps.build_cases(prepared, run_id))
 
 
-@task(name="compute-chunk", retries=1, cache_policy=NO_CACHE)
+@task(name="compute-chunk", task_run_name="compute-chunk-{chunk}", retries=1, cache_policy=NO_CACHE)
 def compute_chunk_task(work: str, chunk: int, run_id: int, key_params: dict):
     return chunks.compute_chunk(work, chunk, run_id, key_params)
 
@@ -99,7 +116,31 @@ def _task_runner(cluster: str | None, workers: int):
     return DaskTaskRunner(address=cluster)
 
 
-@flow(name=FLOW_NAME, log_prints=False, validate_parameters=False)
+class _ToRunLog(logging.Handler):
+    """Passes the ``fieldlimits.run`` messages on to the flow run's logger (the Prefect UI)."""
+
+    def __init__(self, run_logger):
+        super().__init__(logging.INFO)
+        self.run_logger = run_logger
+
+    def emit(self, record: logging.LogRecord) -> None:
+        try:
+            self.run_logger.log(record.levelno, record.getMessage())
+        except Exception:
+            pass
+
+
+def _summary_markdown(summary, input_dir: str, db_path: str) -> str:
+    from schemas.caution import CAUTION
+
+    lines = [f"# fieldlimits run {summary.run_id}: {steps.network_name(input_dir)}, {summary.scenario}",
+             "", f"**{CAUTION}**", "", f"- inputs: `{input_dir}`", f"- database: `{db_path}`",
+             f"- scenario: {summary.description or summary.scenario}", "", "```",
+             summary.text(), "```"]
+    return "\n".join(lines)
+
+
+@flow(name=FLOW_NAME, flow_run_name=flow_run_name, log_prints=False, validate_parameters=False)
 def fieldlimits_run(input_dir: str, db_path: str = "fieldlimits.duckdb",
                     params: dict | None = None, work_root: str | None = None):
     """Compute every runway direction × month × type × condition and store the run.
@@ -109,6 +150,23 @@ def fieldlimits_run(input_dir: str, db_path: str = "fieldlimits.duckdb",
     """
     t0 = time.monotonic()
     params = RunParams.from_dict(params or {})
+    bridge = _ToRunLog(get_run_logger())
+    steps.log.addHandler(bridge)
+    try:
+        summary = _run(input_dir, db_path, params, work_root, t0)
+    finally:
+        steps.log.removeHandler(bridge)
+    from prefect.artifacts import create_markdown_artifact
+
+    create_markdown_artifact(markdown=_summary_markdown(summary, input_dir, db_path),
+                             key=SUMMARY_ARTIFACT,
+                             description=f"fieldlimits run {summary.run_id}: {summary.scenario}")
+    get_run_logger().info("%s", summary.text())
+    return summary
+
+
+def _run(input_dir: str, db_path: str, params: RunParams, work_root: str | None, t0: float):
+    """The flow's body: the steps as tasks (validate, register, chunks, store)."""
     prepared = prepare_task(input_dir, db_path, params, work_root)
     run_id = register_task(prepared)
     try:
@@ -156,12 +214,18 @@ def share_temporary_api() -> str | None:
 
 
 def run_with_prefect(input_dir, db_path, params: RunParams | None = None, *, cluster: str | None = None,
-                     workers: int | None = None, work_root=None):
-    """Run the flow (temporary local Prefect API unless PREFECT_API_URL is set)."""
+                     workers: int | None = None, work_root=None, server=None):
+    """Run the flow: against ``server`` (a :class:`pipeline.prefect_api.TemporaryServer`
+    already answering) when given, else Prefect's own temporary API unless PREFECT_API_URL is
+    set."""
+    import contextlib
     import os
 
     n = workers or int(os.environ.get("PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS", "2"))
-    runner = _task_runner(cluster, n)
-    return fieldlimits_run.with_options(task_runner=runner)(
-        str(input_dir), str(db_path), (params or RunParams()).as_dict(),
-        str(work_root) if work_root else None)
+    with server.settings() if server is not None else contextlib.nullcontext():
+        if server is not None:  # Dask workers started from here report to it too
+            os.environ["PREFECT_API_URL"] = server.api_url
+        runner = _task_runner(cluster, n)
+        return fieldlimits_run.with_options(task_runner=runner)(
+            str(input_dir), str(db_path), (params or RunParams()).as_dict(),
+            str(work_root) if work_root else None)

@@ -21,9 +21,11 @@ import dataclasses
 import hashlib
 import importlib
 import json
+import logging
 import math
 import os
 import shutil
+import threading
 import time
 from concurrent.futures import ThreadPoolExecutor, as_completed
 from dataclasses import asdict, dataclass, field
@@ -40,6 +42,11 @@ from pipeline import progress as progress_mod
 from pipeline.chunks import ChunkResult
 from pipeline.inputs import Inputs, load_inputs
 from schemas.results import CONDITIONS
+
+#: Messages about the run's steps; ``fieldlimits run`` prints them on stderr and the Prefect
+#: flow also sends them to the flow run's log (the Prefect UI).
+log = logging.getLogger("fieldlimits.run")
+log.setLevel(logging.INFO)  # shown only where a handler is attached (the CLI, the flow)
 
 DEFAULT_CHUNK_SIZE = 32000  # ~30 000 cases: numpy call overhead per case about halved vs 8 000
 DEFAULT_RELIABILITY_LEVELS = (0.50, 0.85, 0.95)
@@ -272,6 +279,20 @@ def code_version() -> str:
     return f"{version}+{h.hexdigest()[:12]}"
 
 
+def network_name(input_dir) -> str:
+    """``demo network`` for the bundled demo, else the input folder's name (flow run names,
+    progress lines)."""
+    folder = Path(str(input_dir)).resolve()
+    try:
+        from demo_network import demo_path
+
+        if folder == Path(demo_path()).resolve():
+            return "demo network"
+    except Exception:
+        pass
+    return folder.name or str(folder)
+
+
 def default_work_root(db_path: Path) -> Path:
     return db_path.with_name(db_path.name + ".work")
 
@@ -318,6 +339,32 @@ def prepare_run(input_dir, db_path, params: RunParams, work_root=None) -> Prepar
     return PreparedRun(inputs, params, plan, code, db, root, key, hashes, reuse, n_airfields)
 
 
+@dataclass
+class RunState:
+    """What this process's run has reached, for the command line's one-line stop message."""
+
+    db_path: Path | None = None
+    run_id: int | None = None
+    work_dir: Path | None = None
+    recorded: str | None = None  # how the run's end was recorded ("interrupted", "failed")
+    cleaned: threading.Event = field(default_factory=threading.Event)
+
+    def remove_work_dir(self) -> None:
+        """Remove the run's work folder again (a chunk task that was still computing when the
+        run stopped may have written a part after :func:`cleanup`)."""
+        if self.work_dir is None:
+            return
+        shutil.rmtree(self.work_dir, ignore_errors=True)
+        try:
+            self.work_dir.parent.rmdir()
+        except OSError:
+            pass
+
+
+#: The run this process works on (one at a time from the command line).
+CURRENT = RunState()
+
+
 def register(prepared: PreparedRun) -> int:
     """Record the run as running; return its run_id."""
     record = store.RunRecord(
@@ -333,8 +380,14 @@ def register(prepared: PreparedRun) -> int:
         reused_cases=prepared.reused_cases,
         reused_from_run_id=prepared.reuse.from_run_id if prepared.reuse else None,
         reuse_key=prepared.reuse_key,
+        work_root=str(prepared.work_root),
     )
-    return store.register_run(prepared.db_path, record, heartbeat=True)  # until cleanup
+    run_id = store.register_run(prepared.db_path, record, heartbeat=True)  # until cleanup
+    CURRENT.db_path, CURRENT.run_id, CURRENT.recorded = prepared.db_path, run_id, None
+    CURRENT.work_dir = work_dir(prepared, run_id)
+    CURRENT.cleaned.clear()
+    log.info("run %d registered: %s", run_id, prepared.params.describe())
+    return run_id
 
 
 def work_dir(prepared: PreparedRun, run_id: int) -> Path:
@@ -519,14 +572,22 @@ def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], bes
         landing_airfield=_landing_frame(prepared, run_id, LANDING_FILES[1]),
         hashes=prepared.hashes,
     )
+    log.info("storing run %d in %s (one transaction)", run_id, prepared.db_path)
     return store.load_run(prepared.db_path, spec)
 
 
 def fail(prepared: PreparedRun, run_id: int, exc: BaseException) -> None:
-    """Record the run as failed (no-op if the load already did)."""
+    """Record the run as failed, or as interrupted when it was stopped (Ctrl-C, SIGTERM:
+    a ``KeyboardInterrupt``; its ``reason`` says which); no-op if already recorded."""
     try:
-        store.fail_run(prepared.db_path, run_id, f"{type(exc).__name__}: {exc}")
-    except Exception:
+        if isinstance(exc, KeyboardInterrupt):
+            reason = getattr(exc, "reason", None) or "Ctrl-C"
+            store.interrupt_run(prepared.db_path, run_id, f"stopped by the user ({reason})")
+            CURRENT.recorded = "interrupted"
+        else:
+            store.fail_run(prepared.db_path, run_id, f"{type(exc).__name__}: {exc}")
+            CURRENT.recorded = "failed"
+    except BaseException:  # the record is best effort; a second Ctrl-C must not hide the first
         pass
 
 
@@ -538,6 +599,8 @@ def cleanup(prepared: PreparedRun, run_id: int) -> None:
         prepared.work_root.rmdir()
     except OSError:
         pass
+    if CURRENT.run_id == run_id:
+        CURRENT.cleaned.set()
 
 
 # --------------------------------------------------------------------------- summary
@@ -554,13 +617,19 @@ class RunSummary:
     restrictions: pd.DataFrame = field(default_factory=pd.DataFrame)
     reused_cases: int = 0
     reused_from_run_id: int | None = None
+    scenario: str = "baseline"
+    description: str = ""  # RunParams.describe()
+    wall_seconds: float | None = None  # from the command's start (set by fieldlimits run)
 
     def text(self) -> str:
         reused = (f" ({self.reused_cases} reused from run {self.reused_from_run_id})"
                   if self.reused_cases else "")
+        took = (f"{self.wall_seconds:.1f} s wall time (flow {self.seconds:.1f} s)"
+                if self.wall_seconds is not None else f"{self.seconds:.1f} s")
         lines = [
             f"run {self.run_id} complete: {self.airfields} airfields, {self.cases} cases{reused} "
-            f"in {self.chunks} chunks, {self.seconds:.1f} s",
+            f"in {self.chunks} chunks, {took}",
+            f"scenario: {self.description or self.scenario}",
             f"rows: results_direction {self.rows.get('rows_direction', 0)}, "
             f"results_airfield {self.rows.get('rows_airfield', 0)}, "
             f"route_payload {self.rows.get('rows_route_payload', 0)}",
@@ -579,7 +648,8 @@ class RunSummary:
 def summarise(prepared: PreparedRun, run_id: int, seconds: float, rows: dict[str, int]) -> RunSummary:
     return RunSummary(run_id, prepared.n_airfields, prepared.plan.n_cases + prepared.reused_cases,
                       prepared.plan.n_chunks, seconds, rows, store.run_summary(prepared.db_path, run_id),
-                      prepared.reused_cases, prepared.reuse.from_run_id if prepared.reuse else None)
+                      prepared.reused_cases, prepared.reuse.from_run_id if prepared.reuse else None,
+                      prepared.params.scenario, prepared.params.describe())
 
 
 # --------------------------------------------------------------------------- local driver
@@ -597,11 +667,14 @@ def run_local(input_dir, db_path, params: RunParams = RunParams(), progress: Pro
         key_params = prepared.chunk_params()
         results: list[ChunkResult] = []
         n = prepared.plan.n_chunks
-        with ThreadPoolExecutor(max_workers=max(1, workers)) as pool:
+        pool = ThreadPoolExecutor(max_workers=max(1, workers))
+        try:
             futures = [pool.submit(chunks.compute_chunk, work, i, run_id, key_params) for i in range(n)]
             for fut in as_completed(futures):
                 results.append(fut.result())
                 (progress or progress_mod.report)(len(results), n, time.monotonic() - t0)
+        finally:  # on a stop, chunks not yet started are dropped, not waited for
+            pool.shutdown(wait=False, cancel_futures=True)
         chunks.shutdown_pool()  # the worker processes' memory is free for the load
         results.sort(key=lambda r: r.chunk)
         reused = copy_reused(prepared, run_id, work)

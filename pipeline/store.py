@@ -216,6 +216,7 @@ class RunRecord:
     reused_from_run_id: int | None = None
     reuse_key: str | None = None
     started_at: datetime = field(default_factory=utcnow)
+    work_root: str | None = None  # the run's work folder is <work_root>/run-NNNNNN (heartbeat)
 
 
 # --------------------------------------------------------------------------- live or dead
@@ -337,13 +338,19 @@ def _remove_heartbeat(path: Path) -> None:
         pass
 
 
-def _start_heartbeat(db_path, run_id: int, started_at: datetime) -> None:
+def run_work_dir(work_root, run_id: int) -> Path:
+    """The work folder of a run: ``<work_root>/run-NNNNNN``."""
+    return Path(work_root) / f"run-{int(run_id):06d}"
+
+
+def _start_heartbeat(db_path, run_id: int, started_at: datetime, work_root=None) -> None:
     stat = _proc_stat(os.getpid())
     beat = _Heartbeat(heartbeat_path(db_path, run_id), {
         "run_id": int(run_id), "host": socket.gethostname(), "pid": os.getpid(),
         "boot_id": _boot_id(), "process_started": stat[1] if stat else None,
         "started_at": started_at.isoformat(), "beat_every_s": HEARTBEAT_EVERY_S,
-        "database": str(Path(db_path).resolve())}, HEARTBEAT_EVERY_S)
+        "database": str(Path(db_path).resolve()),
+        "work_dir": str(run_work_dir(work_root, run_id)) if work_root else None}, HEARTBEAT_EVERY_S)
     beat.start()
     with _HEARTBEATS_LOCK:
         _HEARTBEATS[(str(Path(db_path).resolve()), int(run_id))] = beat
@@ -438,7 +445,23 @@ def _mark_interrupted(con: duckdb.DuckDBPyConnection, db_path) -> list[int]:
                 "run_id": run_id, "finished_at": utcnow() - timedelta(seconds=seen or 0.0),
                 "error": f"the run's process ended before it finished (killed or crashed): {state.reason}"
                          + ("; finish time = its last heartbeat" if seen is not None else "")})
+            _remove_work_dir(read_heartbeat(db_path, run_id), run_id)
     return gone
+
+
+def _remove_work_dir(beat: dict | None, run_id: int) -> None:
+    """Remove the work folder a dead run left (named in its heartbeat file; only a folder
+    named ``run-NNNNNN`` of that very run, so nothing else can be removed)."""
+    import shutil
+
+    path = Path(beat["work_dir"]) if beat and beat.get("work_dir") else None
+    if path is None or path.name != f"run-{int(run_id):06d}" or not path.is_dir():
+        return
+    shutil.rmtree(path, ignore_errors=True)
+    try:
+        path.parent.rmdir()  # the work root, when no other run's folder is in it
+    except OSError:
+        pass
 
 
 def _tidy_heartbeats(con: duckdb.DuckDBPyConnection, db_path) -> None:
@@ -451,6 +474,21 @@ def _tidy_heartbeats(con: duckdb.DuckDBPyConnection, db_path) -> None:
         number = path.stem.removeprefix("run-")
         if number.isdigit() and int(number) not in running:
             _remove_heartbeat(path)
+
+
+def _tidy_work_dirs(con: duckdb.DuckDBPyConnection, work_root) -> None:
+    """Remove the work folders (``run-NNNNNN`` in ``work_root``) of runs no longer ``running``:
+    left by a stopped or killed process (their results were never loaded)."""
+    import shutil
+
+    root = Path(work_root)
+    if not root.is_dir():
+        return
+    running = {int(r[0]) for r in con.execute(sql("running_runs")).fetchall()}
+    for path in root.glob("run-*"):
+        number = path.name.removeprefix("run-")
+        if path.is_dir() and number.isdigit() and len(number) == 6 and int(number) not in running:
+            shutil.rmtree(path, ignore_errors=True)
 
 
 def register_run(db_path: str | os.PathLike, record: RunRecord, heartbeat: bool = False) -> int:
@@ -489,9 +527,19 @@ def register_run(db_path: str | os.PathLike, record: RunRecord, heartbeat: bool 
             run_sql(con, "ROLLBACK")
             raise
         _tidy_heartbeats(con, db_path)
+        own_root = Path(db_path).resolve().with_name(Path(db_path).name + ".work")
+        if record.work_root and Path(record.work_root).resolve() == own_root:
+            _tidy_work_dirs(con, own_root)  # a --work-dir may be shared by other databases
         if heartbeat:
-            _start_heartbeat(db_path, run_id, record.started_at)
+            _start_heartbeat(db_path, run_id, record.started_at, record.work_root)
     return run_id
+
+
+def interrupt_run(db_path: str | os.PathLike, run_id: int, reason: str) -> None:
+    """Record a running run as interrupted (stopped before it finished), in a short write."""
+    with writer(db_path) as con:
+        run_sql(con, sql("mark_interrupted"), {"run_id": run_id, "finished_at": utcnow(),
+                                               "error": reason[:4000]})
 
 
 def fail_run(db_path: str | os.PathLike, run_id: int, error: str) -> None:
@@ -691,6 +739,8 @@ def load_run(db_path: str | os.PathLike, spec: LoadSpec) -> dict[str, int]:
                 run_sql(con, "ROLLBACK")
                 raise
     except BaseException as exc:
+        if isinstance(exc, KeyboardInterrupt):  # a stop: the caller records it as interrupted
+            raise
         try:
             fail_run(db_path, spec.run_id, f"load failed: {type(exc).__name__}: {exc}")
         except Exception:  # the failure record is best effort; the original error matters

@@ -4,8 +4,10 @@ from __future__ import annotations
 
 import os
 import sys
+import threading
+import time
 
-from pipeline.commands import add_db_argument
+from pipeline.commands._run_options import add_run_options, input_folder, run_params
 from pipeline.errors import BadInput
 
 NAME = "run"
@@ -13,160 +15,244 @@ HELP = "compute takeoff-weight limits for an input folder (the demo network by d
 DESCRIPTION = (
     "Validate the input tables in DIR (the bundled demo network when DIR is omitted), compute\n"
     "every runway direction x month x aircraft type x condition (dry, wet) on the design day\n"
-    "(mean daily maximum temperature, calm wind), and store the run in one transaction in the\n"
-    "DuckDB file. Progress goes to stderr; a summary is printed at the end. Bad input exits\n"
-    "with status 2 and leaves the database as it was."
+    "(mean daily maximum temperature, calm wind) and the reliability levels, and store the run\n"
+    "in one transaction in the DuckDB file. A run with --temperature-offset is a scenario: it is\n"
+    "stored beside the baseline and never shown as the latest results (see `fieldlimits\n"
+    "compare`). Every option is checked before any work starts. Progress goes to stderr from\n"
+    "the first second; a summary with the wall time is printed at the end. Bad input exits\n"
+    "with status 2 and leaves the database as it was; Ctrl-C stops within seconds, records\n"
+    "the run as interrupted and leaves nothing behind (exit status 130)."
 )
 
-
-def _floats(text: str) -> tuple[float, ...]:
-    if text.strip().lower() in ("", "none"):
-        return ()
-    try:
-        values = tuple(float(x) for x in text.split(",") if x.strip())
-    except ValueError:
-        raise BadInput(f"expected comma-separated numbers, got {text!r}") from None
-    return values
-
-
-WARM_UP_MIN_BYTES = 5 * 2**20
-"""Inputs at least this big take seconds to validate: start Prefect's server meanwhile."""
-
-
-def _folder_bytes(folder) -> int:
-    try:
-        return sum(p.stat().st_size for p in os.scandir(folder) if p.is_file())
-    except OSError:
-        return 0
-
-
-def _start_prefect_server(input_dir):
-    """Start Prefect's temporary API server in a thread while the inputs are validated.
-
-    The flow would start it anyway on its first call; starting it now overlaps the ~15-25 s
-    start-up with validation. Only when no ``PREFECT_API_URL`` is set. The thread is joined
-    before the flow runs, so the flow finds the server up (or starts it itself if this failed);
-    bad input is reported without waiting for it.
-    """
-    import threading
-
-    if os.environ.get("PREFECT_API_URL") or _folder_bytes(input_dir) < WARM_UP_MIN_BYTES:
-        return None
-    os.environ.setdefault("PREFECT_LOGGING_LEVEL",
-                          "WARNING" if os.environ.get("FIELDLIMITS_DEBUG") else "CRITICAL")
-
-    def start():
-        try:
-            from prefect.server.api.server import SubprocessASGIServer
-
-            SubprocessASGIServer().start()
-        except Exception:  # the flow starts it (and reports any problem) itself
-            pass
-
-    thread = threading.Thread(target=start, name="prefect-server-start", daemon=True)
-    thread.start()
-    return thread
+#: After a stop, how long the engine may take to unwind once the run is recorded and its
+#: work folder removed, before the process ends without waiting for running chunk tasks [s].
+STOP_GRACE_S = 1.5
 
 
 def add_arguments(parser) -> None:
-    parser.add_argument("input_dir", nargs="?", metavar="DIR",
-                        help="folder with airfields, runways, climate_monthly, wind_rose, "
-                             "aircraft_types (and optional routes) as CSV or Parquet")
-    add_db_argument(parser)
-    parser.add_argument("--temperature-offset", type=float, default=0.0, metavar="K",
-                        help="climate scenario: add K kelvin to every monthly temperature (default 0)")
-    parser.add_argument("--conditions", default="dry,wet",
-                        help="runway conditions to compute, comma separated (default dry,wet)")
-    parser.add_argument("--reliability", default="0.5,0.85,0.95", metavar="P,P,...",
-                        help="reliability levels (shares of days) for the reliability rows "
-                             "(default 0.5,0.85,0.95; 'none' for design-day rows only)")
-    parser.add_argument("--reliability-conditions", default=None, metavar="CONDITIONS",
-                        help="runway conditions that get reliability rows, comma separated "
-                             "(default dry; dry,wet doubles the cost of the reliability step)")
-    parser.add_argument("--chunk-size", type=int, default=None, metavar="N",
-                        help="cases per chunk task (default 32000; whole airfields per chunk)")
-    parser.add_argument("--workers", type=int, default=None, metavar="N",
-                        help="parallel chunk tasks (default PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS, 2)")
-    parser.add_argument("--cluster", default=None, metavar="ADDRESS",
-                        help="run the chunk tasks on a Dask cluster (tcp://host:8786, or 'local' "
-                             "for a temporary local cluster); needs the dask extra")
-    parser.add_argument("--work-dir", default=None, metavar="PATH",
-                        help="folder for the run's temporary case and part files "
-                             "(default: next to the database; must be shared with Dask workers)")
+    add_run_options(parser)
     parser.add_argument("--no-prefect", action="store_true",
                         help="run the same steps in this process without Prefect (quick checks)")
-    parser.add_argument("--no-reuse", action="store_true",
-                        help="recompute everything (by default an airfield x type whose inputs and "
-                             "the code are unchanged since the last complete run with the same "
-                             "parameters is copied from it)")
     parser.add_argument("--quiet", action="store_true", help="no progress lines")
-    # the dispatch rule for landing at route destinations (pipeline.landing)
-    parser.add_argument("--landing-jet-share", type=float, default=0.6, metavar="S",
-                        help="share of the landing distance available a jet's dry landing "
-                             "distance may use (default 0.6: 14 CFR 121.195(b))")
-    parser.add_argument("--landing-turboprop-share", type=float, default=0.6, metavar="S",
-                        help="the same for propeller types (default 0.6; 0.7 where the operator "
-                             "uses the turboprop rule, 14 CFR 121.195(c))")
-    parser.add_argument("--landing-wet-increase", type=float, default=0.15, metavar="F",
-                        help="increase of the required landing distance on a wet runway "
-                             "(default 0.15 = +15 %%, 14 CFR 121.195(d))")
+
+
+def process_age_s() -> float | None:
+    """Seconds since this process started (Linux ``/proc``; None elsewhere)."""
+    try:
+        text = open(f"/proc/{os.getpid()}/stat").read()
+        ticks = int(text[text.rfind(")") + 2:].split()[19])
+        return time.clock_gettime(time.CLOCK_BOOTTIME) - ticks / os.sysconf("SC_CLK_TCK")
+    except (OSError, ValueError, IndexError, AttributeError):
+        return None
+
+
+_T0 = time.monotonic() - (process_age_s() or 0.0)  # the command's start on the monotonic clock
+
+
+def wall_s() -> float:
+    """Seconds since the command started (interpreter start-up included where known)."""
+    return time.monotonic() - _T0
+
+
+class Say:
+    """Progress lines on stderr, each with the seconds since the command started."""
+
+    def __init__(self, quiet: bool, stream=None):
+        self.quiet = quiet
+        self.stream = stream or sys.stderr
+        self.partial = False  # a terminal line being updated in place is open
+
+    def __call__(self, message: str) -> None:
+        if not self.quiet:
+            self.stream.write(("\n" if self.partial else "") + f"[{wall_s():5.1f} s] {message}\n")
+            self.partial = False
+            self.stream.flush()
+
+
+class Stopped(KeyboardInterrupt):
+    """Ctrl-C or SIGTERM: the run stops; ``reason`` names the signal."""
+
+    def __init__(self, reason: str):
+        super().__init__(reason)
+        self.reason = reason
+
+
+class Stopper:
+    """Turns the first Ctrl-C or SIGTERM into :class:`Stopped` and ends the command soon after.
+
+    The main thread records the run as interrupted and removes its work folder
+    (:func:`pipeline.steps.fail` and :func:`pipeline.steps.cleanup`); the command then prints
+    one line, stops Prefect's temporary server and exits with status 130. Chunk tasks still
+    computing in threads are not waited for: once the run is recorded, a watchdog ends the
+    process :data:`STOP_GRACE_S` later if the engine is still waiting for them. A second
+    Ctrl-C while stopping is ignored.
+    """
+
+    def __init__(self, say: Say):
+        self.say = say
+        self.reason: str | None = None
+        self.server = None
+        self._lock = threading.Lock()
+        self._done = False
+
+    def install(self) -> None:
+        import signal
+
+        if threading.current_thread() is not threading.main_thread():
+            return
+        signal.signal(signal.SIGINT, self._on_signal)
+        signal.signal(signal.SIGTERM, self._on_signal)
+
+    def _on_signal(self, signum, frame) -> None:
+        import signal
+
+        if self.reason is not None:
+            return  # already stopping
+        self.reason = "Ctrl-C" if signum == signal.SIGINT else signal.Signals(signum).name
+        threading.Thread(target=self._watchdog, name="fieldlimits-stop", daemon=True).start()
+        raise Stopped(self.reason)
+
+    def _watchdog(self) -> None:
+        from pipeline import steps
+
+        deadline = time.monotonic() + 30.0
+        while time.monotonic() < deadline:
+            if steps.CURRENT.run_id is None or steps.CURRENT.cleaned.is_set():
+                break
+            time.sleep(0.05)
+        time.sleep(STOP_GRACE_S)
+        self.finish()
+
+    def finish(self) -> None:
+        """One line, the server stopped, exit 130 (without waiting for worker threads)."""
+        from pipeline import steps
+
+        with self._lock:
+            if self._done:
+                return
+            self._done = True
+        if self.server is not None:
+            self.server.stop(wait_s=2.0)
+        state = steps.CURRENT
+        state.remove_work_dir()  # parts a still-running chunk task wrote after the cleanup
+        if state.run_id is None:
+            what = "before a run was registered; nothing was stored"
+        elif state.recorded == "interrupted":
+            what = f"run {state.run_id} recorded as interrupted; none of its results were stored"
+        else:
+            what = (f"run {state.run_id} not recorded yet; the next `fieldlimits run` records it "
+                    f"as interrupted")
+        try:
+            sys.stdout.flush()
+        except Exception:
+            pass
+        sys.stderr.write(f"fieldlimits: stopped ({self.reason}): {what}\n")
+        sys.stderr.flush()
+        os._exit(130)
+
+
+def _import_flow() -> None:
+    try:
+        import pipeline.flow  # noqa: F401
+    except Exception:  # the main thread imports it again and reports the error
+        pass
+
+
+def _ticker(say: Say):
+    """On a terminal, one line updated every second while the server starts; else nothing."""
+    if say.quiet or not say.stream.isatty():
+        return None
+
+    def tick(waited_s: float) -> None:
+        say.stream.write(f"\r[{wall_s():5.1f} s] waiting for Prefect's temporary server to answer "
+                         f"({waited_s:.0f} s since it started)")
+        say.partial = True
+        say.stream.flush()
+    return tick
+
+
+def _scenario_note(summary, db) -> str | None:
+    if summary.scenario == "baseline":
+        return None
+    return (f"run {summary.run_id} is a scenario run ({summary.scenario}): the latest_* views "
+            f"and `fieldlimits report` keep showing the baseline; see this run with `fieldlimits "
+            f"report --run {summary.run_id}` and what changed with `fieldlimits compare`")
 
 
 def run(args) -> int:
-    from pipeline import progress
-    from pipeline.steps import DEFAULT_CHUNK_SIZE, RunParams
+    import logging
 
-    if args.input_dir is None:
-        from demo_network import demo_path
+    from pipeline import progress, steps
 
-        input_dir = demo_path()
-    else:
-        input_dir = args.input_dir
-    chunk_size = args.chunk_size or DEFAULT_CHUNK_SIZE
-    if chunk_size < 1:
-        raise BadInput("--chunk-size must be at least 1")
-    conditions = tuple(c.strip() for c in args.conditions.split(",") if c.strip())
-    if args.reliability_conditions is None:  # default: the dry runway, when the run has it
-        reliability_conditions = tuple(c for c in ("dry",) if c in conditions)
-    else:
-        reliability_conditions = tuple(c.strip() for c in args.reliability_conditions.split(",") if c.strip())
-    params = RunParams(
-        temperature_offset_k=args.temperature_offset,
-        chunk_size=chunk_size,
-        conditions=conditions,
-        reliability_levels=_floats(args.reliability),
-        reliability_conditions=reliability_conditions,
-        reuse=not args.no_reuse,
-        landing_jet_share=args.landing_jet_share,
-        landing_turboprop_share=args.landing_turboprop_share,
-        landing_wet_increase=args.landing_wet_increase,
-    )
-    if not args.quiet:
-        progress.set_reporter(progress.StderrProgress())
-    from pipeline.steps import prepare_run
+    params = run_params(args)  # every option checked before any work (exit 2)
+    input_dir = input_folder(args)
+    if args.no_prefect and args.cluster:
+        raise BadInput("--cluster needs Prefect; drop --no-prefect")
+    say = Say(args.quiet)
+    stopper = Stopper(say)
+    stopper.install()
+    handler = logging.StreamHandler(sys.stderr)
+    handler.emit = lambda record: say(record.getMessage())  # type: ignore[method-assign]
+    steps.log.addHandler(handler)
+    steps.log.setLevel(logging.INFO)
+    steps.log.propagate = False
+    # the CLI reports errors itself in one line; Prefect's own log shows with FIELDLIMITS_DEBUG=1
+    os.environ.setdefault("PREFECT_LOGGING_LEVEL",
+                          "WARNING" if os.environ.get("FIELDLIMITS_DEBUG") else "CRITICAL")
+    server = importer = None
+    try:
+        if not args.no_prefect and not os.environ.get("PREFECT_API_URL"):
+            from pipeline.prefect_api import TemporaryServer
 
-    warm_up = None if args.no_prefect else _start_prefect_server(input_dir)
-    # bad input: exit 2 before the flow, reported at once: the server's start-up thread is
-    # not waited for (a daemon; Prefect stops the server's process at exit)
-    prepare_run(input_dir, args.db, params, args.work_dir)
-    if warm_up is not None:
-        warm_up.join()
-    if args.no_prefect:
-        if args.cluster:
-            raise BadInput("--cluster needs Prefect; drop --no-prefect")
-        from pipeline.steps import run_local
+            server = stopper.server = TemporaryServer.start()  # overlaps everything up to the flow
+            say("starting Prefect's temporary server in the background")
+        if not args.no_prefect:  # importing Prefect and the flow (about 2 s) overlaps too
+            importer = threading.Thread(target=_import_flow, name="fieldlimits-import", daemon=True)
+            importer.start()
+        say(f"checking the inputs: {steps.network_name(input_dir)} ({input_dir}); scenario "
+            f"{params.describe()}")
+        prepared = steps.prepare_run(input_dir, args.db, params, args.work_dir)
+        say(f"inputs ok: {prepared.n_airfields} airfields, "
+            f"{prepared.plan.n_cases + prepared.reused_cases} cases in {prepared.plan.n_chunks} "
+            f"chunks" + (f", {prepared.reused_cases} reused from run {prepared.reuse.from_run_id}"
+                         if prepared.reused_cases else ""))
+        if not args.quiet:
+            progress.set_reporter(progress.StderrProgress())
+        if args.no_prefect:
+            summary = steps.run_local(input_dir, args.db, params, workers=args.workers or 2,
+                                      work_root=args.work_dir)
+        else:
+            if server is not None and not server.ready():
+                say("waiting for Prefect's temporary server to answer")
+                server.wait_ready(float(os.environ.get(
+                    "PREFECT_SERVER_EPHEMERAL_STARTUP_TIMEOUT_SECONDS", "120")), tick=_ticker(say))
+            importer.join()
+            if server is not None:
+                say(f"Prefect's temporary server answered ({server.api_url}); flow run "
+                    f"\"{steps.network_name(input_dir)} · {params.scenario}\"")
+            from pipeline.flow import run_with_prefect
 
-        summary = run_local(input_dir, args.db, params, workers=args.workers or 2,
-                            work_root=args.work_dir)
-    else:
-        # the CLI reports errors itself in one line; Prefect's own log shows with FIELDLIMITS_DEBUG=1
-        os.environ.setdefault("PREFECT_LOGGING_LEVEL",
-                              "WARNING" if os.environ.get("FIELDLIMITS_DEBUG") else "CRITICAL")
-        from pipeline.flow import run_with_prefect
-
-        summary = run_with_prefect(input_dir, args.db, params, cluster=args.cluster,
-                                   workers=args.workers, work_root=args.work_dir)
+            summary = run_with_prefect(input_dir, args.db, params, cluster=args.cluster,
+                                       workers=args.workers, work_root=args.work_dir,
+                                       server=server)
+    except KeyboardInterrupt as exc:
+        if stopper.reason is None:  # a KeyboardInterrupt not raised by our handler
+            stopper.reason = getattr(exc, "reason", None) or "Ctrl-C"
+        stopper.finish()  # does not return
+        raise
+    except BaseException:
+        if server is not None:
+            server.stop(wait_s=1.0)  # an error is reported at once, not after the server's exit
+        raise
+    finally:
+        steps.log.removeHandler(handler)
+    if server is not None:
+        server.stop()
+    summary.wall_seconds = wall_s()
     print(summary.text())
-    print(f"stored in {os.path.abspath(args.db)}; query with: fieldlimits sql \"SELECT * FROM latest_results_airfield LIMIT 20\"",
-          file=sys.stdout)
+    print(f"stored in {os.path.abspath(args.db)}; query with: fieldlimits sql \"SELECT * FROM "
+          f"latest_results_airfield LIMIT 20\"")
+    note = _scenario_note(summary, args.db)
+    if note:
+        print(note)
     return 0

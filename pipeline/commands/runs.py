@@ -38,7 +38,9 @@ def _scenario(parameters: str | None, offset) -> str:
         p = json.loads(parameters) if parameters else {}
     except ValueError:
         p = {}
-    parts = ["? K" if _missing(offset) else f"{float(offset):+.1f} K"]
+    # the scenario's name as everywhere else (pipeline.steps.scenario_label, run_scenarios)
+    parts = ["?" if _missing(offset) else
+             "baseline" if float(offset) == 0 else f"temperature {float(offset):+g} K"]
     if p.get("conditions"):
         parts.append(",".join(p["conditions"]))
     if "reliability_levels" in p:

@@ -4,53 +4,60 @@ from __future__ import annotations
 
 import os
 
-from pipeline.commands import add_db_argument
+from pipeline.commands._run_options import add_run_options, input_folder, run_params
 from pipeline.errors import BadInput
 
 NAME = "serve"
 HELP = "rerun on a cron schedule (a Prefect deployment; needs `prefect server start`)"
 DESCRIPTION = (
     "Serve the run flow as a Prefect deployment on a cron schedule. This is a long-running\n"
-    "process. Schedules do not run on Prefect's temporary server, so first start a server and\n"
-    "point at it:\n\n"
+    "process. It takes the same run options as `fieldlimits run`, checked (with the cron\n"
+    "schedule) before anything starts. Schedules do not run on Prefect's temporary server, so\n"
+    "first start a server and point at it; each run's flow run is named after the network and\n"
+    "the scenario, its log and its summary (an artifact) are in the server's UI:\n\n"
     "  prefect server start &                       # keeps running; UI on port 4200\n"
     "  export PREFECT_API_URL=http://127.0.0.1:4200/api\n"
     "  fieldlimits serve --cron \"0 3 * * 1\" /data/network --db /data/fieldlimits.duckdb"
 )
 
+CRON_HELP = ("five fields: minute (0-59), hour (0-23), day of month (1-31), month (1-12), day of "
+             "week (0-6, 0 = Sunday), e.g. \"0 3 * * 1\" for 03:00 on Mondays")
+
 
 def add_arguments(parser) -> None:
-    parser.add_argument("input_dir", nargs="?", metavar="DIR",
-                        help="input folder (default: the demo network)")
-    parser.add_argument("--cron", required=True, help="cron schedule, e.g. \"0 3 * * 1\" (03:00 on Mondays)")
-    add_db_argument(parser)
+    add_run_options(parser, serve=True)
+    parser.add_argument("--cron", required=True, help=f"cron schedule: {CRON_HELP}")
     parser.add_argument("--name", default="fieldlimits-scheduled", help="deployment name")
-    parser.add_argument("--temperature-offset", type=float, default=0.0, metavar="K",
-                        help="climate scenario offset for every scheduled run (default 0)")
+
+
+def check_cron(text: str) -> str:
+    """The schedule as Prefect will read it, or BadInput saying how a cron string looks."""
+    from prefect.client.schemas.schedules import CronSchedule
+
+    try:
+        CronSchedule(cron=text)
+    except ValueError:  # pydantic's ValidationError, Prefect's own check
+        raise BadInput(f"--cron {text!r} is not a valid cron schedule; {CRON_HELP}") from None
+    return text
 
 
 def run(args) -> int:
+    params = run_params(args)  # the same checks as `fieldlimits run` (exit 2)
+    input_dir = input_folder(args)
+    if not args.name.strip():
+        raise BadInput("--name must not be empty")
+    check_cron(args.cron)
     if not os.environ.get("PREFECT_API_URL"):
         raise BadInput(
             "schedules need a running Prefect server: run `prefect server start` in another "
             "shell, then `export PREFECT_API_URL=http://127.0.0.1:4200/api` and try again")
-    try:
-        from croniter import croniter  # installed with prefect
+    from pipeline.flow import _task_runner, fieldlimits_run
 
-        if not croniter.is_valid(args.cron):
-            raise BadInput(f"not a valid cron schedule: {args.cron!r} (five fields, e.g. \"0 3 * * 1\")")
-    except ImportError:
-        pass
-    if args.input_dir is None:
-        from demo_network import demo_path
-
-        input_dir = str(demo_path())
-    else:
-        input_dir = os.path.abspath(args.input_dir)
-    from pipeline.flow import fieldlimits_run
-    from pipeline.steps import RunParams
-
-    params = RunParams(temperature_offset_k=args.temperature_offset)
-    fieldlimits_run.serve(name=args.name, cron=args.cron, parameters={
-        "input_dir": input_dir, "db_path": os.path.abspath(args.db), "params": params.as_dict()})
+    flow = fieldlimits_run
+    if args.cluster or args.workers:
+        n = args.workers or int(os.environ.get("PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS", "2"))
+        flow = flow.with_options(task_runner=_task_runner(args.cluster, n))
+    flow.serve(name=args.name, cron=args.cron, parameters={
+        "input_dir": input_dir, "db_path": os.path.abspath(args.db), "params": params.as_dict(),
+        "work_root": os.path.abspath(args.work_dir) if args.work_dir else None})
     return 0

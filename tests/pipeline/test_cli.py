@@ -142,6 +142,42 @@ def test_missing_database_is_one_clear_message(tmp_path):
     assert len(out.stderr.strip().splitlines()) == 1
 
 
+@pytest.mark.parametrize("option, value, expected", [
+    ("--reliability", "1.5", "strictly between 0 and 1"),
+    ("--reliability", "50,85", "percentages? write 0.5,0.85"),
+    ("--reliability", "0.5,0.5", "lists a level twice"),
+    ("--reliability", "lots", "comma-separated numbers"),
+    ("--temperature-offset", "nan", "--temperature-offset"),
+    ("--temperature-offset", "45", "between -30 and +30"),
+    ("--conditions", "dry,icy", "--conditions must be some of dry, wet"),
+    ("--chunk-size", "0", "--chunk-size"),
+    ("--workers", "0", "--workers must be at least 1"),
+])
+def test_run_options_are_checked_before_any_work(tmp_path, option, value, expected):
+    """A wrong option stops at the door with exit 2 and says what to write; no database
+    is created and nothing is computed (issue 18)."""
+    db = tmp_path / "never.duckdb"
+    out = cli("run", "--db", db, "--no-prefect", option, value)
+    assert out.returncode == 2, out.stderr
+    assert expected in out.stderr and "Traceback" not in out.stderr
+    assert len(out.stderr.strip().splitlines()) == 1
+    assert not db.exists()
+
+
+def test_serve_checks_the_cron_and_offers_the_run_options():
+    out = cli("serve", "--cron", "61 * * * *", env={"PREFECT_API_URL": "http://127.0.0.1:9/api"})
+    assert out.returncode == 2
+    assert "not a valid cron schedule" in out.stderr and "minute (0-59)" in out.stderr
+    assert "validation error" not in out.stderr.lower() and "pydantic" not in out.stderr
+    bad = cli("serve", "--cron", "0 3 * * 1", "--reliability", "1.5")
+    assert bad.returncode == 2 and "strictly between 0 and 1" in bad.stderr
+    run_help = cli("run", "--help").stdout
+    serve_help = cli("serve", "--help").stdout
+    run_options = {w for w in run_help.split() if w.startswith("--")} - {"--no-prefect", "--quiet",
+                                                                         "--help"}
+    assert run_options <= {w for w in serve_help.split() if w.startswith("--")}
+
+
 def test_serve_without_a_server_says_how(tmp_path):
     out = cli("serve", "--cron", "0 3 * * 1", env={"PREFECT_API_URL": ""})
     assert out.returncode == 2

@@ -103,7 +103,7 @@ def test_a_killed_run_shows_as_dead_until_the_next_run_records_it_interrupted(tm
     assert f"run {run_id} dead: process {pid} on this machine" in out
     assert "has ended" in out
     assert "records dead and presumed dead runs as" in out and "interrupted" in out
-    assert "+1.5 K dry rel 0.85" in out  # the scenario in brief
+    assert "temperature +1.5 K dry rel 0.85" in out  # the scenario in brief, as run_scenarios names it
     assert _status(db, run_id)[0] == "running"  # the listing changed nothing
 
     store.register_run(db, _record())
