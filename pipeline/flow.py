@@ -64,9 +64,9 @@ def compute_chunk_task(work: str, chunk: int, run_id: int, key_params: dict):
     return chunks.compute_chunk(work, chunk, run_id, key_params)
 
 
-@task(name="copy-reused-results", cache_policy=NO_CACHE)
-def copy_reused_task(prepared, run_id: int, work: str):
-    return steps.copy_reused(prepared, run_id, work)
+@task(name="reference-reused-results", cache_policy=NO_CACHE)
+def reference_reused_task(prepared, run_id: int, work: str):
+    return steps.reference_reused(prepared, run_id, work)
 
 
 @task(name="best-directions", cache_policy=NO_CACHE)
@@ -180,7 +180,7 @@ def _run(input_dir: str, db_path: str, params: RunParams, work_root: str | None,
             progress.report(done, n, time.monotonic() - t0)
         chunks.shutdown_pool()  # the worker processes' memory is free for the load
         results.sort(key=lambda r: r.chunk)
-        reused = copy_reused_task(prepared, run_id, work)
+        reused = reference_reused_task(prepared, run_id, work)
         best = best_directions_task(work, results)
         route = route_payloads_task(prepared, work, best)
         rows = load_task(prepared, run_id, results, best, route, reused)

@@ -6,6 +6,7 @@ A run, step by step::
     register           record the run as 'running'                       (short DB write)
     build_cases        case arrays → <work>/cases.parquet, one row group per chunk
     compute_chunk      per chunk: solve, write parts/part-NNNNN.*.parquet (pipeline.chunks)
+    reference_reused   which earlier run's stored rows each unchanged airfield × type reads
     best_directions    best runway direction per airfield → <work>/airfield_best.parquet
     route_payloads     routes → <work>/route_payload.parquet (when a routes table exists)
     load               everything into DuckDB in ONE transaction, run marked complete
@@ -217,11 +218,13 @@ class PreparedRun:
 
 @dataclass(frozen=True)
 class ReusePlan:
-    """Which results of an earlier run a rerun copies instead of computing (issue 8)."""
+    """Which results of an earlier run a rerun reuses instead of computing (issue 8): stored
+    by reference, never copied (:func:`reference_reused`)."""
 
     from_run_id: int
     skip: case_io.Skip
     cases: int  # design-day direction cases reused
+    routes_from_run_id: int | None = None  # whole input unchanged: that run's route results
 
     def pairs(self) -> pd.DataFrame:
         return pd.DataFrame([(a, t) for a in sorted(self.skip.airfields) for t in sorted(self.skip.types)],
@@ -251,7 +254,7 @@ def plan_reuse(inputs: Inputs, hashes: pd.DataFrame, db_path: Path, key: str,
     found = store.find_reusable(db_path, key)
     if found is None:
         return None
-    prev_id, prev = found
+    prev_id, prev, prev_input_hash, routes_from = found
     merged = hashes.merge(prev, on=["kind", "key"], suffixes=("", "_prev"))
     same = merged[merged["sha256"] == merged["sha256_prev"]]
     skip = case_io.Skip(frozenset(same.loc[same.kind == "airfield", "key"]),
@@ -260,7 +263,9 @@ def plan_reuse(inputs: Inputs, hashes: pd.DataFrame, db_path: Path, key: str,
         return None
     dirs = inputs.tables["runways"].groupby("airfield_id").size()
     n_dirs = int(dirs[dirs.index.isin(list(skip.airfields))].sum())
-    return ReusePlan(prev_id, skip, n_dirs * 12 * len(skip.types) * len(conditions))
+    same_input = prev_input_hash == inputs.input_hash  # route payloads and landing limits too
+    return ReusePlan(prev_id, skip, n_dirs * 12 * len(skip.types) * len(conditions),
+                     routes_from if same_input else None)
 
 
 def code_version() -> str:
@@ -424,23 +429,48 @@ def build_cases(prepared: PreparedRun, run_id: int) -> Path:
     return work
 
 
-REUSED_DIRECTION = "reused.direction.parquet"
-REUSED_AIRFIELD = "reused.airfield.parquet"
+REUSED_SOURCES = "reused.sources.parquet"
+REUSED_AIRFIELD = "reused.airfield.parquet"  # route origins only: read by the route step, not stored
 
 
-def copy_reused(prepared: PreparedRun, run_id: int, work: Path) -> tuple[str, str] | None:
-    """Write the reused rows of the earlier run (relabelled) as part files; return their paths."""
+def reference_reused(prepared: PreparedRun, run_id: int, work: Path) -> str | None:
+    """Which stored rows the reused airfield × type pairs read; return the file that says so.
+
+    Nothing is copied: each pair points at the run whose stored rows the previous run read
+    (``run_sources``), written to ``parts/reused.sources.parquet`` for the load. The route
+    step still needs the reused best-direction rows of route origins: those (and only those)
+    go to ``parts/reused.airfield.parquet``, which the load does not store.
+    """
     if not prepared.reuse:
         return None
+    import pyarrow.parquet as pq
+
     parts = Path(work) / chunks.PARTS_DIR
     parts.mkdir(parents=True, exist_ok=True)
-    d, a = parts / REUSED_DIRECTION, parts / REUSED_AIRFIELD
-    copied = store.export_reused(prepared.db_path, prepared.reuse.from_run_id, run_id,
-                                 prepared.reuse.pairs(), d, a, chunks.RESULT_SCHEMA)
-    if copied != prepared.reuse.cases:
-        raise RuntimeError(f"run {prepared.reuse.from_run_id} has {copied} reusable cases, "
-                           f"expected {prepared.reuse.cases}; rerun with --no-reuse")
-    return str(d), str(a)
+    pairs = prepared.reuse.pairs()
+    sources = store.reused_sources(prepared.db_path, prepared.reuse.from_run_id, pairs)
+    out = parts / REUSED_SOURCES
+    tmp = out.with_name(f".{out.name}.tmp")
+    pq.write_table(_sources_table(sources), tmp)
+    os.replace(tmp, out)
+    routes = prepared.inputs.tables.get("routes")
+    if prepared.reuse.routes_from_run_id is None and routes is not None and len(routes):
+        wanted = pairs["airfield_id"].isin(routes["origin_id"].astype(str))
+        if "aircraft_type_id" in routes:
+            wanted &= pairs["aircraft_type_id"].isin(routes["aircraft_type_id"].astype(str))
+        if wanted.any():
+            store.export_reused_route_rows(prepared.db_path, prepared.reuse.from_run_id, run_id,
+                                           pairs[wanted], parts / REUSED_AIRFIELD, chunks.RESULT_SCHEMA)
+    return str(out)
+
+
+def _sources_table(frame: pd.DataFrame):
+    """The reused-pairs frame as an Arrow table with fixed types (an empty frame included)."""
+    import pyarrow as pa
+
+    return pa.table({"airfield_id": pa.array(frame["airfield_id"].astype(str), pa.string()),
+                     "aircraft_type_id": pa.array(frame["aircraft_type_id"].astype(str), pa.string()),
+                     "source_run_id": pa.array(frame["source_run_id"].astype("int64"), pa.int64())})
 
 
 def best_directions(work: Path, results: Sequence[ChunkResult]) -> Path:
@@ -502,7 +532,11 @@ def _route_airfield_rows(routes: pd.DataFrame, paths: Sequence[Path]) -> pd.Data
 
 
 def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path | None:
-    """Route payloads through ``pipeline.routes.route_payload_frame`` when routes exist."""
+    """Route payloads through ``pipeline.routes.route_payload_frame`` when routes exist (none
+    when the whole input is unchanged: the load points the run at the earlier route payloads
+    and landing limits)."""
+    if prepared.reuse and prepared.reuse.routes_from_run_id is not None:
+        return None
     tables = prepared.inputs.tables
     if "routes" not in tables or tables["routes"] is None or len(tables["routes"]) == 0:
         return None
@@ -555,22 +589,26 @@ def _landing_frame(prepared: PreparedRun, run_id: int, name: str) -> pd.DataFram
 
 
 def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], best_path: Path,
-         route_path: Path | None, reused: Sequence[str] | None = None) -> dict[str, int]:
-    """The single writer: all of the run in one DuckDB transaction."""
+         route_path: Path | None, reused: str | None = None) -> dict[str, int]:
+    """The single writer: all of the run in one DuckDB transaction (``reused``: the file of
+    :func:`reference_reused`; the computed rows are stored, the reused ones referenced)."""
     folder = work_dir(prepared, run_id) / INPUTS_DIR
     inputs = [store.InputTable(name, prepared.inputs.files.get(name), prepared.inputs.hashes[name],
                                path=str(folder / f"{name}.parquet"))
               for name in prepared.inputs.user_tables if name in prepared.inputs.hashes]
     spec = store.LoadSpec(
         run_id=run_id,
-        direction_parts=[r.direction_path for r in results] + ([reused[0]] if reused else []),
-        airfield_parts=([str(best_path)] + [r.airfield_path for r in results if r.airfield_path]
-                        + ([reused[1]] if reused else [])),
+        direction_parts=[r.direction_path for r in results],
+        airfield_parts=[str(best_path)] + [r.airfield_path for r in results if r.airfield_path],
         inputs=inputs,
         route_payload=pd.read_parquet(route_path) if route_path else None,
         landing_direction=_landing_frame(prepared, run_id, LANDING_FILES[0]),
         landing_airfield=_landing_frame(prepared, run_id, LANDING_FILES[1]),
         hashes=prepared.hashes,
+        reused_sources=reused,
+        reused_cases=prepared.reused_cases,
+        reused_from_run_id=prepared.reuse.from_run_id if prepared.reuse else None,
+        route_results_from_run_id=prepared.reuse.routes_from_run_id if prepared.reuse else None,
     )
     log.info("storing run %d in %s (one transaction)", run_id, prepared.db_path)
     return store.load_run(prepared.db_path, spec)
@@ -677,7 +715,7 @@ def run_local(input_dir, db_path, params: RunParams = RunParams(), progress: Pro
             pool.shutdown(wait=False, cancel_futures=True)
         chunks.shutdown_pool()  # the worker processes' memory is free for the load
         results.sort(key=lambda r: r.chunk)
-        reused = copy_reused(prepared, run_id, work)
+        reused = reference_reused(prepared, run_id, work)
         best = best_directions(work, results)
         route = route_payloads(prepared, work, best)
         rows = load(prepared, run_id, results, best, route, reused)

@@ -2,8 +2,13 @@
 
 Layout of the file (DDL in ``pipeline/sql/``, definitions in :mod:`schemas.results`):
 
-``runs``, ``run_inputs``, ``results_direction``, ``results_airfield``
+``runs``, ``run_inputs``, ``run_hashes``, ``run_sources``
     see :mod:`schemas.results`.
+``results_direction``, ``results_airfield``, ``route_payload``, ``landing_direction``, ``landing_airfield``
+    views that give every run its full rows (what everything reads); each row is stored once,
+    in ``<table>_stored`` under the run that computed it. An unchanged rerun stores no result
+    rows: ``run_sources`` says which run's rows each airfield × type reads, and
+    ``runs.route_results_from_run_id`` which run's route payloads and landing limits.
 ``input_<table>``
     a copy of each validated input table (SI units), stored once per distinct content:
     column ``input_sha256`` is the table's hash, which ``run_inputs.sha256`` points at.
@@ -161,12 +166,18 @@ VIEWS = ("run_scenarios", "latest_run", "latest_scenario_runs", "latest_results_
 
 
 def ensure_schema(con: duckdb.DuckDBPyConnection) -> None:
-    """Create the output tables and views if missing (idempotent, one transaction)."""
+    """Create the output tables and views if missing (idempotent, one transaction); a file
+    from before reruns stored by reference is migrated (:func:`_store_by_reference`)."""
     run_sql(con, "BEGIN")
     try:
+        migrated = _store_by_reference(con)
         for name in result_tables.TABLES:
             run_sql(con, sql(f"create_{name}"))
             _add_defined_columns(con, name)
+        if migrated:
+            run_sql(con, sql("migrate_run_sources"))
+        for name in result_tables.STORED_BY_REFERENCE:
+            run_sql(con, sql(f"view_{name}"))
         for view in VIEWS:
             run_sql(con, sql(f"view_{view}"))
         run_sql(con, "COMMIT")
@@ -191,11 +202,39 @@ def _current_views(con: duckdb.DuckDBPyConnection) -> None:
 
 def _add_defined_columns(con, table: str) -> None:
     """A file written by an older version gains the columns defined since (never loses any)."""
+    stored = result_tables.stored_name(table)
     have = {r[0] for r in con.execute(
-        "SELECT column_name FROM information_schema.columns WHERE table_name = $t", {"t": table}).fetchall()}
+        "SELECT column_name FROM information_schema.columns WHERE table_name = $t", {"t": stored}).fetchall()}
     for column in result_tables.columns(table):
         if column.name not in have:
-            run_sql(con, f'ALTER TABLE {_check_ident(table)} ADD COLUMN "{column.name}" {column.sql_type}')
+            run_sql(con, f'ALTER TABLE {_check_ident(stored)} ADD COLUMN "{column.name}" {column.sql_type}')
+
+
+def _table_type(con, name: str) -> str | None:
+    """``BASE TABLE``, ``VIEW`` or None (no such name)."""
+    found = con.execute("SELECT table_type FROM information_schema.tables WHERE table_name = $n",
+                        {"n": name}).fetchall()
+    return found[0][0] if found else None
+
+
+def _store_by_reference(con) -> bool:
+    """Migrate a file written before results were stored by reference (inside the schema
+    transaction; nothing is copied).
+
+    Its result tables hold every run's rows in full: they are renamed to the stored tables
+    (``results_direction`` → ``results_direction_stored``, ...), and the caller fills
+    ``run_sources`` so that each earlier run reads its own rows. Returns whether it did.
+    """
+    moved = False
+    for name, stored in result_tables.STORED_BY_REFERENCE.items():
+        if _table_type(con, name) != "BASE TABLE":
+            continue
+        if _table_type(con, stored) is not None:
+            raise FieldlimitsError(f"the database holds both a table {name} and {stored}; it was not "
+                                   f"written by fieldlimits alone, so it is left as it is")
+        run_sql(con, f"ALTER TABLE {_check_ident(name)} RENAME TO {_check_ident(stored)}")
+        moved = moved or name in ("results_direction", "results_airfield")
+    return moved
 
 
 # --------------------------------------------------------------------------- run records
@@ -572,6 +611,10 @@ class LoadSpec:
     landing_direction: pd.DataFrame | None = None  # landing limits of the route destinations
     landing_airfield: pd.DataFrame | None = None
     hashes: pd.DataFrame | None = None  # columns kind, key, sha256 (run_hashes)
+    reused_sources: str | None = None  # Parquet: airfield_id, aircraft_type_id, source_run_id
+    reused_cases: int = 0  # design-day direction rows the reused pairs must hold
+    reused_from_run_id: int | None = None
+    route_results_from_run_id: int | None = None  # read that run's route payloads and landing rows
 
 
 def _check_ident(name: str) -> str:
@@ -696,10 +739,16 @@ def _load_landing(con, spec: LoadSpec) -> None:
             frame["run_id"] = spec.run_id
         else:
             frame.insert(0, "run_id", spec.run_id)
-        _append_frame(con, table, frame, sql(f"create_{table}"))
+        _append_frame(con, result_tables.stored_name(table), frame, sql(f"create_{table}"))
 
 
 def _load_route_payload(con, spec: LoadSpec) -> int:
+    """Store the run's route payloads, or point the run at an earlier run's route payloads and
+    landing limits (whole input unchanged); return the route payload rows it reads."""
+    if spec.route_results_from_run_id is not None:
+        run_sql(con, sql("set_route_results_source"),
+                {"run_id": spec.run_id, "source_run_id": spec.route_results_from_run_id})
+        return int(con.execute(sql("count_route_payload"), {"run_id": spec.run_id}).fetchall()[0][0])
     if spec.route_payload is None:
         return 0
     frame = spec.route_payload.copy()
@@ -708,9 +757,24 @@ def _load_route_payload(con, spec: LoadSpec) -> int:
     else:
         frame.insert(0, "run_id", spec.run_id)
     create = sql("create_route_payload") if sql_exists("create_route_payload") else None
-    _append_frame(con, "route_payload", frame, create)
+    _append_frame(con, result_tables.stored_name("route_payload"), frame, create)
     run_sql(con, sql("view_latest_route_payload"))
     return len(frame)
+
+
+def _load_run_sources(con, spec: LoadSpec) -> None:
+    """Record which run's stored rows each airfield × type of this run reads: its own for
+    what it computed, an earlier run's for what it reuses (checked against the plan)."""
+    run_sql(con, sql("load_run_sources_computed"), {"run_id": spec.run_id})
+    if not spec.reused_sources:
+        return
+    run_sql(con, sql("load_run_sources_reused"), {"run_id": spec.run_id, "file": str(spec.reused_sources)})
+    found = int(con.execute(sql("reused_design_rows"), {"run_id": spec.run_id}).fetchall()[0][0])
+    if found != spec.reused_cases:
+        raise FieldlimitsError(
+            f"run {spec.run_id} reuses {spec.reused_cases} design-day cases of run "
+            f"{spec.reused_from_run_id} but finds {found} of them stored (were runs pruned while it "
+            f"ran?); run it again, or with --no-reuse")
 
 
 def load_run(db_path: str | os.PathLike, spec: LoadSpec) -> dict[str, int]:
@@ -726,6 +790,7 @@ def load_run(db_path: str | os.PathLike, spec: LoadSpec) -> dict[str, int]:
             try:
                 _load_results_direction(con, spec)
                 _load_results_airfield(con, spec)
+                _load_run_sources(con, spec)
                 _load_inputs(con, spec.run_id, spec.inputs)
                 _load_hashes(con, spec)
                 _load_landing(con, spec)
@@ -750,8 +815,10 @@ def load_run(db_path: str | os.PathLike, spec: LoadSpec) -> dict[str, int]:
 
 
 # --------------------------------------------------------------------------- reuse
-def find_reusable(db_path, reuse_key: str) -> tuple[int, pd.DataFrame] | None:
-    """The last complete run with the same reuse key and its per-airfield/type hashes."""
+def find_reusable(db_path, reuse_key: str) -> tuple[int, pd.DataFrame, str, int] | None:
+    """The last complete run with the same reuse key, its per-airfield/type hashes, the hash of
+    its whole input, and the run whose route payloads and landing limits it reads (itself in
+    a file from before these were stored by reference)."""
     if not Path(db_path).exists():
         return None
     with reader(db_path, wait_s=WRITER_WAIT_S) as con:
@@ -764,33 +831,40 @@ def find_reusable(db_path, reuse_key: str) -> tuple[int, pd.DataFrame] | None:
         found = con.execute(sql("reusable_run"), {"reuse_key": reuse_key}).fetchall()
         if not found:
             return None
-        run_id = int(found[0][0])
+        run_id, input_hash = int(found[0][0]), found[0][1]
         hashes = con.sql(sql("run_hashes_of"), params={"run_id": run_id}).df()
-    return run_id, hashes
+        routes_from = run_id
+        if "route_results_from_run_id" in cols:
+            routes_from = int(con.execute(sql("route_results_source"), {"run_id": run_id}).fetchall()[0][0])
+    return run_id, hashes, input_hash, routes_from
 
 
-def export_reused(db_path, prev_run_id: int, new_run_id: int, pairs: pd.DataFrame,
-                  direction_path: Path, airfield_path: Path, schema) -> int:
-    """Copy a previous run's rows for the (airfield_id, aircraft_type_id) ``pairs`` to Parquet.
-
-    The rows get the new run_id. Streamed in batches; returns the design-day direction rows.
-    """
-    import pyarrow.parquet as pq
-
-    design = 0
+def reused_sources(db_path, prev_run_id: int, pairs: pd.DataFrame) -> pd.DataFrame:
+    """For the reused (airfield_id, aircraft_type_id) ``pairs``, the run whose stored rows the
+    previous run read them from (columns airfield_id, aircraft_type_id, source_run_id)."""
     with reader(db_path, wait_s=WRITER_WAIT_S) as con:
         con.register("reuse_pairs", pairs[["airfield_id", "aircraft_type_id"]])
-        for name, path in (("reuse_results_direction", direction_path), ("reuse_results_airfield", airfield_path)):
-            rel = con.sql(sql(name), params={"prev_run_id": prev_run_id, "new_run_id": new_run_id})
-            tmp = Path(path).with_name(f".{Path(path).name}.tmp")
-            with pq.ParquetWriter(tmp, schema) as out:
-                for batch in rel.to_arrow_reader(200_000):
-                    table = pa_table_from_batch(batch, schema)
-                    out.write_table(table)
-                    if name == "reuse_results_direction":
-                        design += int(pa_count_design(table))
-            os.replace(tmp, path)
-    return design
+        return con.execute(sql("reuse_sources"), {"prev_run_id": prev_run_id}).df()
+
+
+def export_reused_route_rows(db_path, prev_run_id: int, new_run_id: int, pairs: pd.DataFrame,
+                             path: Path, schema) -> int:
+    """The previous run's ``results_airfield`` rows of the reused ``pairs`` (route origins) to
+    Parquet, relabelled with the new run_id, for the route step; streamed; returns the rows."""
+    import pyarrow.parquet as pq
+
+    rows = 0
+    with reader(db_path, wait_s=WRITER_WAIT_S) as con:
+        con.register("route_pairs", pairs[["airfield_id", "aircraft_type_id"]])
+        rel = con.sql(sql("reused_route_rows"), params={"prev_run_id": prev_run_id, "new_run_id": new_run_id})
+        tmp = Path(path).with_name(f".{Path(path).name}.tmp")
+        with pq.ParquetWriter(tmp, schema) as out:
+            for batch in rel.to_arrow_reader(200_000):
+                table = pa_table_from_batch(batch, schema)
+                out.write_table(table)
+                rows += table.num_rows
+        os.replace(tmp, path)
+    return rows
 
 
 def pa_table_from_batch(batch, schema):
@@ -798,12 +872,6 @@ def pa_table_from_batch(batch, schema):
 
     table = pa.Table.from_batches([batch])
     return table.select(schema.names).cast(schema)
-
-
-def pa_count_design(table) -> int:
-    import pyarrow.compute as pc
-
-    return pc.sum(pc.equal(table.column("basis"), "design_day")).as_py() or 0
 
 
 # --------------------------------------------------------------------------- run list

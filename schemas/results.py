@@ -15,6 +15,9 @@ The tables:
 ``run_hashes``
     Per run, a hash of each airfield's and each aircraft type's input rows: a rerun reuses
     the results of every airfield × type whose two hashes are unchanged.
+``run_sources``
+    Per run × airfield × aircraft type, the run whose stored rows hold the results: the run
+    itself where it computed them, an earlier run where it reused them unchanged.
 ``results_direction``
     One row per run × runway direction × month × aircraft type × condition × basis.
 ``results_airfield``
@@ -30,6 +33,13 @@ The tables:
 ``landing_airfield``
     The best landing direction per run × destination × month × type × condition × basis
     (design day and reliability levels), the destination limit of the route payloads.
+
+Stored by reference (:data:`STORED_BY_REFERENCE`): each row of the results, route payload
+and landing tables is stored once, in ``<table>_stored`` under the run that computed it, and
+``<table>`` is a view that gives every run its full rows. ``results_direction`` and
+``results_airfield`` follow ``run_sources`` (per airfield × type); ``route_payload``,
+``landing_direction`` and ``landing_airfield`` follow ``runs.route_results_from_run_id``
+(per run: a run whose whole input is unchanged reads the earlier run's).
 
 No primary keys on the big tables: a key makes bulk inserts about ten times slower in
 DuckDB 2 and the writer guarantees uniqueness by construction (one load per run).
@@ -78,6 +88,7 @@ RUNS = (
     _c("error", "VARCHAR", "text", "why the run failed (NULL when complete)"),
     _c("host", "VARCHAR", "text", "machine that ran it"),
     _c("pid", "BIGINT", "-", "process id of the run (detects interrupted runs)"),
+    _c("route_results_from_run_id", "BIGINT", "-", "run whose stored route payloads and destination landing limits this run reads, its whole input being unchanged (NULL: its own)"),
 )
 
 RUN_HASHES = (
@@ -85,6 +96,13 @@ RUN_HASHES = (
     _c("kind", "VARCHAR", "text", "airfield or aircraft_type", True),
     _c("key", "VARCHAR", "text", "airfield_id or aircraft_type_id", True),
     _c("sha256", "VARCHAR", "sha256", "hash of that airfield's rows (airfield, runways, climate, wind rose) or that type's row", True),
+)
+
+RUN_SOURCES = (
+    _c("run_id", "BIGINT", "-", "run number", True),
+    _c("airfield_id", "VARCHAR", "text", "airfield id", True),
+    _c("aircraft_type_id", "VARCHAR", "text", "aircraft type id", True),
+    _c("source_run_id", "BIGINT", "-", "run whose stored rows hold these results (run_id itself when this run computed them)", True),
 )
 
 RUN_INPUTS = (
@@ -199,6 +217,7 @@ TABLES: dict[str, tuple[ResultColumn, ...]] = {
     "runs": RUNS,
     "run_inputs": RUN_INPUTS,
     "run_hashes": RUN_HASHES,
+    "run_sources": RUN_SOURCES,
     "results_direction": _RESULT_COMMON,
     "results_airfield": _RESULT_COMMON,
     "route_payload": ROUTE_PAYLOAD,
@@ -210,6 +229,7 @@ DESCRIPTIONS: dict[str, str] = {
     "runs": "one row per run: status, times, parameters, input hashes, code version, row counts",
     "run_inputs": "one row per run and input table: file, rows, SHA-256",
     "run_hashes": "per run, the content hash of each airfield and aircraft type (incremental reruns)",
+    "run_sources": "per run, airfield and aircraft type, the run whose stored rows hold the results (reruns store by reference)",
     "results_direction": "takeoff-weight limit per run, runway direction, month, aircraft type, condition and basis",
     "results_airfield": "best runway direction per run, airfield, month, aircraft type, condition and basis",
     "route_payload": "payload available per run, route, aircraft type, month, origin condition and basis",
@@ -219,6 +239,16 @@ DESCRIPTIONS: dict[str, str] = {
 
 RESULT_COLUMNS: tuple[str, ...] = tuple(c.name for c in _RESULT_COMMON)
 """Column order of results_direction and results_airfield (the contract in DEVELOPERS.md)."""
+
+STORED_BY_REFERENCE: dict[str, str] = {
+    "results_direction": "results_direction_stored",
+    "results_airfield": "results_airfield_stored",
+    "route_payload": "route_payload_stored",
+    "landing_direction": "landing_direction_stored",
+    "landing_airfield": "landing_airfield_stored",
+}
+"""Output tables whose rows are stored once (table on the right, ``run_id`` = the run that
+computed them) and read per run through the view named on the left."""
 
 CONDITIONS: tuple[str, ...] = ("dry", "wet")
 BASES: tuple[str, ...] = ("design_day", "reliability")
@@ -232,8 +262,15 @@ def columns(table: str) -> tuple[ResultColumn, ...]:
         raise KeyError(f"unknown output table {table!r}; known: {', '.join(TABLES)}") from None
 
 
+def stored_name(table: str) -> str:
+    """The table that holds an output table's rows (``results_direction_stored`` for the view
+    ``results_direction``; the table itself otherwise)."""
+    return STORED_BY_REFERENCE.get(table, table)
+
+
 def create_table_sql(table: str) -> str:
-    """``CREATE TABLE IF NOT EXISTS`` statement for an output table, units in comments."""
+    """``CREATE TABLE IF NOT EXISTS`` statement for an output table, units in comments (for a
+    table stored by reference, the table of its stored rows)."""
     cols = columns(table)
     width = max(len(c.name) for c in cols)
     lines = []
@@ -241,8 +278,12 @@ def create_table_sql(table: str) -> str:
         sep = "," if i < len(cols) - 1 else ""
         null = " NOT NULL" if c.not_null else ""
         lines.append(f"    {c.name.ljust(width)} {c.sql_type}{null}{sep}  -- [{c.unit}] {c.description}")
+    stored = stored_name(table)
+    by_reference = (f"-- Rows stored once under the run that computed them; the view {table}\n"
+                    f"-- (view_{table}.sql) gives every run its full rows.\n"
+                    if stored != table else "")
     return (
-        f"-- {table}: {DESCRIPTIONS[table]}.\n"
+        f"-- {table}: {DESCRIPTIONS[table]}.\n" + by_reference +
         f"-- Generated from schemas/results.py by `python -m pipeline.ddl --write`; edit that file, not this one.\n"
-        f"CREATE TABLE IF NOT EXISTS {table} (\n" + "\n".join(lines) + "\n);\n"
+        f"CREATE TABLE IF NOT EXISTS {stored} (\n" + "\n".join(lines) + "\n);\n"
     )

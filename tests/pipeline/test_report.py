@@ -113,6 +113,7 @@ def test_slugs_are_file_safe_and_unique():
 def _store(tmp_path, runs) -> Path:
     """A store (the real schema) holding ``runs``: (run_id, temperature offset [K], data)."""
     from pipeline import store
+    from schemas import results
 
     db = tmp_path / "store.duckdb"
     with store.writer(db) as con:
@@ -127,9 +128,10 @@ def _store(tmp_path, runs) -> Path:
                            "p": '{"conditions": ["dry", "wet"], "reliability_levels": [0.85, 0.95], '
                                 '"reliability_conditions": ["dry"]}'})
             for name, frame in (("results_airfield", af), ("route_payload", rp)):
-                con.register("f", frame)
-                store.run_sql(con, f"INSERT INTO {name} BY NAME SELECT * FROM f")
+                con.register("f", frame)  # rows are stored once; each run reads its own
+                store.run_sql(con, f"INSERT INTO {results.stored_name(name)} BY NAME SELECT * FROM f")
                 con.unregister("f")
+            store.run_sql(con, store.sql("load_run_sources_computed"), {"run_id": run_id})
             store.run_sql(con, "INSERT INTO run_inputs VALUES ($r, 'aircraft_types', NULL, 2, 'abc')",
                           {"r": run_id})
         con.register("f", runs[0][2].aircraft.assign(input_sha256="abc"))

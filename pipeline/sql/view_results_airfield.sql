@@ -1,0 +1,11 @@
+-- results_airfield: every run's full results_airfield rows (best direction, airfield-level
+-- bases). Each row is stored once, in results_airfield_stored under the run that computed it;
+-- run_sources says for each run, airfield and aircraft type which run's stored rows hold the
+-- results. run_id is the reading run.
+CREATE OR REPLACE VIEW results_airfield AS
+SELECT s.* REPLACE (m.run_id AS run_id)
+FROM run_sources AS m
+JOIN results_airfield_stored AS s
+  ON s.run_id = m.source_run_id
+ AND s.airfield_id = m.airfield_id
+ AND s.aircraft_type_id = m.aircraft_type_id;
