@@ -15,7 +15,7 @@ that no remaining run reads (``run_sources``) is deleted, so rows a remaining ru
 a pruned run stay where they are, under the number of the run that computed them; then the
 input-table contents no remaining run read. A crash or an error rolls all of it back.
 DuckDB reuses the freed space for later runs; the file itself shrinks only when the free
-space is at its end.
+space is at its end. :func:`compact_copy` writes a compact copy of the store beside it.
 """
 
 from __future__ import annotations
@@ -148,3 +148,35 @@ def prune(db_path, keep: int | None = None, before: datetime | None = None) -> P
 def _count(result: list) -> int:
     """Rows a DELETE reports."""
     return int(result[0][0]) if result else 0
+
+
+def compact_copy(db_path, out_path) -> int:
+    """Write a compact copy of the store to ``out_path`` (a new file); return its size [bytes].
+
+    Every table and view is copied as it is (DuckDB's ``COPY FROM DATABASE``), without the
+    free space a prune left. The store is held for writing meanwhile, so no run changes it
+    during the copy; the copy is written under a temporary name and renamed when complete.
+    Putting it in the store's place is left to the user (while no run is active).
+    """
+    path, out = Path(db_path), Path(out_path)
+    if not path.exists():
+        raise BadInput(f"no database at {path}: nothing to copy (pass --db PATH)")
+    if out.exists() or out.resolve() == path.resolve():
+        raise BadInput(f"{out} exists already; give a new file name for the compact copy")
+    if not out.parent.is_dir():
+        raise BadInput(f"the folder for the compact copy {out} does not exist")
+    tmp = out.with_name(f".{out.name}.{os.getpid()}.tmp")
+    try:
+        with store.writer(path) as con:
+            source = con.execute("SELECT current_database()").fetchall()[0][0]
+            literal = str(tmp).replace("'", "''")  # ATTACH takes no bound parameter
+            store.run_sql(con, f"ATTACH '{literal}' AS fieldlimits_compact")
+            try:
+                store.run_sql(con, f'COPY FROM DATABASE "{source}" TO fieldlimits_compact')
+            finally:
+                store.run_sql(con, "DETACH fieldlimits_compact")
+        os.replace(tmp, out)
+    finally:
+        tmp.unlink(missing_ok=True)
+        Path(f"{tmp}.wal").unlink(missing_ok=True)
+    return out.stat().st_size

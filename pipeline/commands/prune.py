@@ -18,7 +18,9 @@ DESCRIPTION = (
     "and the newest run. A remaining run that reuses results of a removed run keeps them: those\n"
     "rows stay in the file, so every remaining run still reads in full. A run's input tables\n"
     "and route payloads go with it. DuckDB reuses the freed space for later runs; the file\n"
-    "shrinks only when the free space is at its end. --dry-run lists what would go, read-only."
+    "shrinks only when the free space is at its end: --compact-to NEW also writes a compact\n"
+    "copy of the store to NEW, to put in its place while no run is active. --dry-run lists what\n"
+    "would go, read-only."
 )
 
 
@@ -30,6 +32,8 @@ def add_arguments(parser) -> None:
                         help="remove runs started before DATE (UTC; YYYY-MM-DD or YYYY-MM-DDTHH:MM)")
     parser.add_argument("--dry-run", action="store_true",
                         help="only list the runs that would be removed; change nothing")
+    parser.add_argument("--compact-to", default=None, metavar="NEW",
+                        help="then write a compact copy of the store to NEW (a new file)")
 
 
 def _date(text: str) -> datetime:
@@ -58,6 +62,12 @@ def run(args) -> int:
 
     out = sys.stdout
     before = _date(args.before) if args.before is not None else None
+    if args.compact_to and args.keep is None and before is None:
+        if args.dry_run:
+            raise BadInput("--dry-run with --compact-to alone has nothing to show")
+        size = prune.compact_copy(args.db, args.compact_to)
+        out.write(f"compact copy {args.compact_to}: {_mib(size)}\n")
+        return 0
     if args.dry_run:
         plan = prune.read_plan(args.db, args.keep, before)
         out.write(f"would remove {len(plan.remove)} run(s): {_ids(plan.remove)}\n")
@@ -72,4 +82,8 @@ def run(args) -> int:
                       f"(freed space is reused by later runs)\n")
     for run_id, why in sorted(plan.kept.items()):
         out.write(f"kept run {run_id}: {why}\n")
+    if args.compact_to and not args.dry_run:
+        size = prune.compact_copy(args.db, args.compact_to)
+        out.write(f"compact copy {args.compact_to}: {_mib(size)} (put it in place of {args.db} "
+                  f"while no run is active)\n")
     return 0

@@ -5,6 +5,7 @@
     python tests/benchmarks/bench_pipeline.py --no-prefect     # the same steps without Prefect
     python tests/benchmarks/bench_pipeline.py --reliability 0.5,0.85,0.95   # with reliability rows
     python tests/benchmarks/bench_pipeline.py --skip-demo --rerun --dask     # reuse and Dask figures
+    python tests/benchmarks/bench_pipeline.py --skip-demo --no-prefect --rerun 5   # file size after 1..5 reruns
 
     # issue 8: scaling from 200 to 20 000 airfields, design day, with the step breakdown
     python tests/benchmarks/bench_pipeline.py --skip-demo --scaling 200,2000,20000 --breakdown
@@ -192,8 +193,9 @@ def main() -> int:
     ap.add_argument("--reliability", default="none",
                     help="reliability levels for the runs (default none: design day, as issue 4 "
                          "specifies; e.g. 0.5,0.85,0.95 for the issue-6 figure)")
-    ap.add_argument("--rerun", action="store_true",
-                    help="also time an unchanged rerun of the synthetic network (results reused)")
+    ap.add_argument("--rerun", nargs="?", type=int, const=1, default=0, metavar="N",
+                    help="also time N unchanged reruns of the synthetic network (results reused; "
+                         "default 1) and show the file size after each")
     ap.add_argument("--dask", action="store_true",
                     help="also run the synthetic network on a temporary local Dask cluster (2 workers)")
     ap.add_argument("--scaling", default=None, metavar="N,N,...",
@@ -248,9 +250,16 @@ def main() -> int:
         r = measure(base + [str(net), "--db", str(tmp / "syn.duckdb"), "--quiet"] + extra, env)
         r["generate_seconds"] = gen_s
         results[f"synthetic_{a.airfields}" + (f"_obstacles{a.obstacles:g}" if a.obstacles else "")] = r
-        if a.rerun:
-            results[f"rerun_{a.airfields}"] = measure(
+        sizes = [(tmp / "syn.duckdb").stat().st_size] if a.rerun else []
+        for i in range(1, a.rerun + 1):
+            results[f"rerun{i}_{a.airfields}"] = rr = measure(
                 base + [str(net), "--db", str(tmp / "syn.duckdb"), "--quiet"] + extra, env)
+            sizes.append((tmp / "syn.duckdb").stat().st_size)
+            rr["file_bytes"] = sizes[-1]
+        if sizes:
+            r["file_bytes"] = sizes[0]
+            print("file size after the run and each unchanged rerun: "
+                  + ", ".join(f"{b / 2**20:.1f} MiB ({b / sizes[0]:.3f}x)" for b in sizes))
         if a.dask and not a.no_prefect:
             results[f"dask_{a.airfields}"] = measure(
                 base + [str(net), "--db", str(tmp / "dask.duckdb"), "--quiet", "--cluster", "local",

@@ -183,7 +183,11 @@ def test_prune_options_are_checked():
 def test_prune_command(history, capsys):
     from pipeline import cli
 
+    from schemas.caution import CAUTION
+
     db, _ = history
+    assert cli.main(["prune", "--help"]) == 0
+    assert CAUTION in " ".join(capsys.readouterr().out.split())
     assert cli.main(["prune", "--db", str(db), "--keep", "2", "--dry-run"]) == 0
     assert "would remove 2 run(s): 1, 2" in capsys.readouterr().out
     assert _runs(db) == [1, 2, 3, 4]
@@ -193,3 +197,20 @@ def test_prune_command(history, capsys):
     out = capsys.readouterr().out
     assert "removed 2 run(s): 1, 2" in out and "freed space is reused" in out
     assert _runs(db) == [3, 4]
+
+
+@needs
+def test_compact_copy_after_a_prune(history, tmp_path):
+    db, _ = history
+    prune.prune(db, keep=1)
+    before = _snapshot(db)
+    copy = tmp_path / "compact.duckdb"
+    size = prune.compact_copy(db, copy)
+    assert size == copy.stat().st_size < db.stat().st_size
+    after = _snapshot(copy)
+    for table in TABLES:
+        pd.testing.assert_frame_equal(after[table], before[table], obj=table)
+    with pytest.raises(BadInput, match="exists already"):
+        prune.compact_copy(db, copy)
+    summary = run_local(tmp_path / "changed", copy, PARAMS, progress=lambda *a: None)
+    assert summary.reused_cases == summary.cases  # the copy is a working store
