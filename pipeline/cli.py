@@ -55,13 +55,14 @@ class _BrokenCommand:
         raise FieldlimitsError(f"the command {self.NAME!r} cannot load: {self._error}")
 
 
-def discover_commands() -> list:
-    """Command modules of :mod:`pipeline.commands`, in :data:`ORDER` then by name."""
+def discover_commands(only: str | None = None) -> list:
+    """Command modules of :mod:`pipeline.commands`, in :data:`ORDER` then by name; with
+    ``only``, just that one (the others' imports, scipy among them, are not paid for)."""
     import pipeline.commands as package
 
     found = []
     for info in pkgutil.iter_modules(package.__path__):
-        if info.name.startswith("_"):
+        if info.name.startswith("_") or (only is not None and info.name != only):
             continue
         try:
             module = importlib.import_module(f"pipeline.commands.{info.name}")
@@ -74,13 +75,27 @@ def discover_commands() -> list:
     return sorted(found, key=lambda m: (rank.get(m.NAME, len(ORDER)), m.NAME))
 
 
-def build_parser() -> argparse.ArgumentParser:
+def _command_named(argv: list[str] | None) -> str | None:
+    """The command the arguments name (their first word), when a module of that name exists."""
+    import pipeline.commands as package
+
+    words = sys.argv[1:] if argv is None else argv
+    first = words[0] if words and not words[0].startswith("-") else None
+    names = {info.name for info in pkgutil.iter_modules(package.__path__)
+             if not info.name.startswith("_")}
+    return first if first in names else None
+
+
+def build_parser(argv: list[str] | None = None, all_commands: bool = True) -> argparse.ArgumentParser:
+    """The parser; with ``all_commands=False`` only the command ``argv`` names is loaded (so
+    a command's first line of progress is not held up by the imports of all the others)."""
     parser = argparse.ArgumentParser(
         prog="fieldlimits", description=f"{DESCRIPTION}\n\n{CAUTION}", epilog=CAUTION,
         formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--version", action="version", version=f"fieldlimits {_version()}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
-    for module in discover_commands():
+    only = None if all_commands else _command_named(argv)
+    for module in discover_commands(only):
         doc = getattr(module, "DESCRIPTION", None) or module.HELP
         p = sub.add_parser(module.NAME, help=module.HELP, description=f"{doc}\n\n{CAUTION}",
                            epilog=CAUTION, formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -100,8 +115,26 @@ def _stop_writing() -> None:
         pass
 
 
+def _exit_now(status: int) -> None:
+    """End the process once Python's exit handlers have run (Prefect's log and event
+    flushing, logging's shutdown), without the interpreter's teardown: after a run, freeing
+    every module and array takes 1-2 s that the user would wait for after the summary, which
+    states the wall time. Only from the command line (``main()`` without ``argv``)."""
+    import atexit
+
+    try:
+        atexit._run_exitfuncs()
+        sys.stdout.flush()
+        sys.stderr.flush()
+    except BrokenPipeError:
+        _stop_writing()
+        status = 141
+    finally:
+        os._exit(status)
+
+
 def main(argv: list[str] | None = None) -> int:
-    parser = build_parser()
+    parser = build_parser(argv, all_commands=False)
     try:
         args = parser.parse_args(argv)
     except SystemExit as exc:  # argparse: --help (0) or a usage error (2)
@@ -113,6 +146,8 @@ def main(argv: list[str] | None = None) -> int:
     try:
         status = int(command.run(args) or 0)
         sys.stdout.flush()  # a closed pipe shows here, not in an ignored error at exit
+        if argv is None and getattr(command, "EXIT_AFTER_HANDLERS", False):
+            _exit_now(status)
         return status
     except BrokenPipeError:
         _stop_writing()

@@ -24,6 +24,9 @@ DESCRIPTION = (
     "the run as interrupted and leaves nothing behind (exit status 130)."
 )
 
+#: The command line ends the process right after the exit handlers (pipeline.cli._exit_now).
+EXIT_AFTER_HANDLERS = True
+
 #: After a stop, how long the engine may take to unwind once the run is recorded and its
 #: work folder removed, before the process ends without waiting for running chunk tasks [s].
 STOP_GRACE_S = 1.5
@@ -98,10 +101,19 @@ class Stopper:
     def install(self) -> None:
         import signal
 
+        self._previous = {}
         if threading.current_thread() is not threading.main_thread():
             return
-        signal.signal(signal.SIGINT, self._on_signal)
-        signal.signal(signal.SIGTERM, self._on_signal)
+        for signum in (signal.SIGINT, signal.SIGTERM):
+            self._previous[signum] = signal.signal(signum, self._on_signal)
+
+    def uninstall(self) -> None:
+        """The handlers from before :meth:`install` (the command called from Python)."""
+        import signal
+
+        for signum, handler in self._previous.items():
+            signal.signal(signum, handler)
+        self._previous = {}
 
     def _on_signal(self, signum, frame) -> None:
         import signal
@@ -246,6 +258,7 @@ def run(args) -> int:
         raise
     finally:
         steps.log.removeHandler(handler)
+        stopper.uninstall()
     if server is not None:
         server.stop()
     summary.wall_seconds = wall_s()

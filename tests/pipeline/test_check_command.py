@@ -9,7 +9,6 @@ import pytest
 
 from pipeline import cli, progress
 from pipeline.commands import check as check_command
-from pipeline.commands import run as run_command
 
 
 @pytest.fixture
@@ -63,22 +62,36 @@ def test_check_of_an_unreadable_optional_table_exits_2(folder, capsys):
 
 
 class _SlowStart:
-    """Stands in for the Prefect server's start-up thread; records being waited for."""
+    """Stands in for Prefect's temporary server while it starts; records being waited for."""
 
-    joined = False
+    waited = stopped = False
+    api_url = "http://127.0.0.1:9/api"
 
-    def join(self, timeout=None):
-        _SlowStart.joined = True
+    @classmethod
+    def start(cls):
+        return cls()
+
+    def ready(self):
+        return False
+
+    def wait_ready(self, timeout_s, tick=None):
+        _SlowStart.waited = True
+
+    def stop(self, wait_s=5.0):
+        _SlowStart.stopped = True
 
 
 def test_run_reports_bad_input_without_waiting_for_prefect(folder, tmp_path, monkeypatch,
                                                            capsys):
+    from pipeline import prefect_api
+
     df = pd.read_csv(folder / "runways.csv", dtype=str, keep_default_na=False)
     df.loc[0, "tora_m"] = "long"
     df.to_csv(folder / "runways.csv", index=False)
-    monkeypatch.setattr(run_command, "_start_prefect_server", lambda input_dir: _SlowStart())
-    _SlowStart.joined = False
+    monkeypatch.setattr(prefect_api, "TemporaryServer", _SlowStart)
+    monkeypatch.delenv("PREFECT_API_URL", raising=False)
+    _SlowStart.waited = _SlowStart.stopped = False
     assert cli.main(["run", str(folder), "--db", str(tmp_path / "x.duckdb")]) == 2
     assert "tora_m" in capsys.readouterr().err
-    assert not _SlowStart.joined
+    assert not _SlowStart.waited and _SlowStart.stopped  # not waited for, and not left running
     assert not (tmp_path / "x.duckdb").exists()
