@@ -7,7 +7,7 @@ Written into the ``calibration/`` folder of the calibrated input folder:
     prior and posterior spreads and whether the points pin each one down, the points with
     the published value, the model's value before and after and the residual, and the chart;
 ``coefficients.csv``, ``points.csv``
-    the same tables for every type (caution in the first line, units in the headers);
+    the same tables for every type (the caution in a last column of every row, units in the headers);
 ``field-length-<type>.png``
     per type with field-length points: model against published field length, before and
     after the fit, the 1:1 line and ± two point uncertainties.
