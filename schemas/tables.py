@@ -173,6 +173,12 @@ AIRFIELDS = TableSpec(
            min=-500, max=5000, typical="0 … 2 500"),
     ),
     key=("airfield_id",),
+    rules=(
+        "An elevation above 4 500 m gives a warning (feet?).",
+        "An elevation at which the hottest month's `mean_daily_max_c`, brought to sea level "
+        "at 6.5 K/km, would exceed 50 °C (hotter than any low-lying climate) gives a warning "
+        "when the elevation read as feet fits: likely feet (`schemas/plausibility.py`).",
+    ),
 )
 
 RUNWAYS = TableSpec(
@@ -215,6 +221,10 @@ RUNWAYS = TableSpec(
         "`toda_m` ≥ `tora_m` and `asda_m` ≥ `tora_m`.",
         "A designator of the form `NN[LCR]` whose number × 10° is more than 35° from "
         "`heading_true_deg` gives a warning (heading probably swapped or magnetic).",
+        "Likely feet, each a warning (`schemas/plausibility.py`): a `toda_m` or `asda_m` "
+        "2.9 … 3.7 × `tora_m` (the feet factor 3.28, not a clearway or stopway); one direction "
+        "of a strip (designators 18 apart) with 2.9 … 3.7 × the TORA of the other; a runway "
+        "over 4 000 m at an airfield from which only types up to 8 618 kg MTOW fly routes.",
     ),
 )
 

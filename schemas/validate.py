@@ -241,6 +241,9 @@ def check_folder(path, *, frames: bool = True, progress: Progress | None = None)
                      keep=frames or name not in STREAMED)
         meter.finished(located)
     _completeness(out, coverage)
+    from schemas import plausibility  # feet for metres inside the ranges: warnings
+
+    plausibility.check(out.frames, {n: p.name for n, p in out.files.items()}, out.problems)
     return out
 
 
@@ -342,16 +345,23 @@ def _locate(folder: Path, spec: TableSpec, problems: list[Problem]) -> Path | No
                                 f"a readable {found[0].suffix[1:].upper()} file",
                                 trouble))
         return None
-    if not spec.required_file:
-        return None
     try:
-        near = [p.name for p in sorted(folder.iterdir())
-                if p.is_file() and (p.stem.lower() in (spec.name, spec.name.rstrip("s"))
-                                    or p.name.lower() in (f"{spec.name}.csv",
-                                                          f"{spec.name}.parquet"))]
+        files = [p for p in sorted(folder.iterdir()) if p.is_file()]
     except OSError:
-        near = []
-    hint = f"; found {', '.join(near)}: rename it to {spec.name}.csv" if near else ""
+        files = []
+    taken = {f"{t}{s}" for t in TABLES for s in FILE_SUFFIXES}
+    near = [p for p in files  # a misspelt name: wind_roses.csv, Runway.csv, route.parquet
+            if p.name not in taken and p.suffix.lower() in FILE_SUFFIXES
+            and difflib.get_close_matches(p.stem.lower(), [spec.name], n=1, cutoff=0.8)]
+    hint = (f"; found {', '.join(p.name for p in near)}: rename it to "
+            f"{spec.name}{near[0].suffix.lower()}" if near else "")
+    if not spec.required_file:
+        if near:
+            problems.append(Problem(
+                "warning", near[0].name, None, None, None, f"{spec.name}.csv or {spec.name}.parquet",
+                f"not read: is it the optional table '{spec.name}'? rename it to "
+                f"{spec.name}{near[0].suffix.lower()}"))
+        return None
     problems.append(Problem(
         "error", f"{spec.name}.csv", None, None, None,
         f"{spec.name}.csv or {spec.name}.parquet",

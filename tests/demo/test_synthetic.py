@@ -155,7 +155,11 @@ def test_draws_in_the_tails_still_give_valid_tables(tmp_path):
     # what 100 000 airfields (or an unlucky seed) reach now and then, here in 60 airfields
     rng = _TailRng(np.random.PCG64(20))
     generate_network(60, rng, tmp_path)
-    assert validate_folder(tmp_path) == []
+    # valid tables; the tails pair the highest elevations with the hottest climates, which
+    # schemas.plausibility rightly warns look like an elevation in feet (nothing else may show)
+    problems = validate_folder(tmp_path)
+    assert [p for p in problems if not (p.severity == "warning" and p.column == "elevation_m"
+                                        and "in feet" in p.message)] == []
     t = load_folder(tmp_path)
     wind = pd.read_csv(tmp_path / "wind_rose.csv")
     windy = wind[wind["speed_low_mps"] >= 5.0].groupby(["airfield_id", "month"])["frequency"]
