@@ -585,7 +585,7 @@ def draw_matrix(matrix: pd.DataFrame, path: Path, title: str, subtitle: str,
     label_in = 0.35 + 0.062 * max((len(x) for x in labels), default=8)  # 8 pt characters
     plot_in, bar_in = 6.6, 1.1
     width = label_in + plot_in + bar_in
-    height = min(2.2 + 0.26 * rows, 40.0)
+    height = min(max(3.0, 2.2 + 0.26 * rows), 40.0)
     fig = _figure(width, height)
     ax, bottom, top = _matrix_axes(fig, len(matrix), labels, width, height, label_in, plot_in)
     values = matrix.to_numpy(dtype=float) if len(matrix) else np.full((1, 12), np.nan)
@@ -682,7 +682,7 @@ def draw_change_matrix(matrix: pd.DataFrame, path: Path, title: str, subtitle: s
     label_in = 0.35 + 0.062 * max((len(x) for x in labels), default=8)
     plot_in, bar_in = 7.2, 1.6
     width = label_in + plot_in + bar_in
-    height = min(2.2 + 0.26 * rows, 40.0)
+    height = min(max(3.0, 2.2 + 0.26 * rows), 40.0)
     fig = _figure(width, height)
     ax, bottom, top = _matrix_axes(fig, len(matrix), labels, width, height, label_in, plot_in)
     values = matrix.to_numpy(dtype=float) if len(matrix) else np.full((1, 12), np.nan)
@@ -807,9 +807,10 @@ body { font-family: sans-serif; margin: 2em; color: #222; max-width: 1200px; }
 .scenario { border-left: 6px solid #2b5f8a; background: #eef3f8; padding: 0.6em 1em; }
 .scenario.other { border-left-color: #c8782a; background: #fbf3e6; }
 table { border-collapse: collapse; font-size: 0.85em; margin: 0.5em 0 1.5em; }
-th, td { border: 1px solid #cccccc; padding: 0.25em 0.5em; text-align: right; }
+th, td { border: 1px solid #cccccc; padding: 0.25em 0.5em; vertical-align: bottom; }
 td { white-space: nowrap; }
-th { background: #eef2f5; } td:first-child, td:nth-child(2) { text-align: left; }
+.num { text-align: right; } .text { text-align: left; }
+th { background: #eef2f5; }
 img { max-width: 100%; border: 1px solid #dddddd; margin: 0.3em 0 1.2em; }
 nav a { margin-right: 0.8em; }
 .wide { overflow-x: auto; }
@@ -817,14 +818,25 @@ nav a { margin-right: 0.8em; }
 
 
 def _table_html(frame: pd.DataFrame) -> str:
-    """An HTML table: cells never wrap (ids stay on one line; a wide table scrolls), tidy
-    numbers, missing values as :data:`pipeline.export.MISSING`."""
+    """An HTML table: cells never wrap (ids stay on one line; a wide table scrolls), text
+    left and numbers right, tidy numbers, missing values as :data:`pipeline.export.MISSING`."""
     if frame.empty:
         return "<p>(none)</p>"
+    e = html.escape
     shown = export.tidy_frame(frame)
-    return ('<div class="wide">'
-            + shown.to_html(index=False, escape=True, na_rep=export.MISSING, border=0)
-            + "</div>")
+    numeric = [pd.api.types.is_numeric_dtype(shown[c]) and not pd.api.types.is_bool_dtype(shown[c])
+               for c in shown.columns]
+    head = "".join(f'<th class="{"num" if n else "text"}">{e(str(c))}</th>'
+                   for c, n in zip(shown.columns, numeric))
+    rows = []
+    for values in shown.itertuples(index=False):
+        cells = "".join(
+            f'<td class="{"num" if n else "text"}">'
+            f'{e(export.MISSING if v is None or (not isinstance(v, str) and pd.isna(v)) else str(v))}</td>'
+            for v, n in zip(values, numeric))
+        rows.append(f"<tr>{cells}</tr>")
+    return (f'<div class="wide"><table><thead><tr>{head}</tr></thead><tbody>'
+            + "".join(rows) + "</tbody></table></div>")
 
 
 def _scenario_html(data: ReportData) -> str:
@@ -898,7 +910,8 @@ def _changes_html(data: ReportData, links, tables) -> list[str]:
                 "no baseline run before this one. <code>fieldlimits report --compare-with RUN"
                 "</code> compares with any complete run.</p>"]
     parts = [f'<h2 id="changes">Changes since {e(c.before.label())}</h2>',
-             f"<p>This run ({e(c.after.label())}) against {e(c.before.label())}: rows whose "
+             f"<p>{e(c.after.label()[0].upper() + c.after.label()[1:])} against "
+             f"{e(c.before.label())}: rows whose "
              f"payload or takeoff-weight limit moved by {c.min_change_kg:g} kg or more, became "
              f"possible or impossible, or are in one run only. Every row, with the limiting "
              f"factor before and after, is in <a href=\"{e(CHANGES_CSV)}\">{e(CHANGES_CSV)}</a>"
@@ -926,10 +939,20 @@ def write_planning_csv(route_payload: pd.DataFrame, path: Path, run_id: int | No
 CHANGES_CSV = "changes.csv"
 
 
-def _draw_changes(data: ReportData, out: Path, footer: str) -> list[tuple[str, str, str | None]]:
+def _draw_changes(data: ReportData, out: Path, footer: str, airfield_ids=None,
+                  route_ids=None) -> list[tuple[str, str, str | None]]:
     """The comparison's charts: payload change by route and month, and the largest drop of
-    the takeoff-weight limit by airfield and month (dry runway, design day)."""
+    the takeoff-weight limit by airfield and month (dry runway, design day); only the
+    selected airfields and routes (all by default)."""
     c = data.comparison
+    if airfield_ids is not None or route_ids is not None:
+        import copy
+
+        c = copy.copy(c)
+        if route_ids is not None and len(c.routes):
+            c.routes = c.routes[c.routes["route_id"].astype(str).isin(set(route_ids))]
+        if airfield_ids is not None and len(c.airfields):
+            c.airfields = c.airfields[c.airfields["airfield_id"].astype(str).isin(set(airfield_ids))]
     links = []
     for kind, name, title, what, label in (
             ("route", "changes-routes.png", "Payload change by route and month",
@@ -945,7 +968,7 @@ def _draw_changes(data: ReportData, out: Path, footer: str) -> list[tuple[str, s
         p = draw_change_matrix(matrix, out / name, title, subtitle, label, footer)
         more = (f"{n - len(matrix)} more rows with a change are in {CHANGES_CSV}."
                 if n > len(matrix) else None)
-        links.append((f"{title}: {subtitle}", p.name, more))
+        links.append((title, p.name, more))
     return links
 
 
@@ -983,7 +1006,7 @@ def build_report(data: ReportData, out_dir, airfield_ids=None, route_ids=None,
                     "no route departs from the airfield" if flown else None,
                     "no takeoff possible", footer)
     charts.append(p)
-    links["network"].append((f"{title}: {subtitle}", p.name))
+    links["network"].append((title, p.name))
     if routes_sel:
         title = "Payload restriction by route and month"
         subtitle = ("Payload lost to the origin takeoff-weight limit, % of the payload at MTOW; "
@@ -991,9 +1014,9 @@ def build_report(data: ReportData, out_dir, airfield_ids=None, route_ids=None,
         p = draw_matrix(route_restriction_matrix(data, routes_sel), out / "network-routes.png",
                         title, subtitle, "payload lost [%]", None, "route not possible", footer)
         charts.append(p)
-        links["network"].append((f"{title}: {subtitle}", p.name))
+        links["network"].append((title, p.name))
     if data.comparison is not None:
-        links["changes"] = _draw_changes(data, out, footer)
+        links["changes"] = _draw_changes(data, out, footer, fields_sel, routes_sel)
         charts.extend(out / name for _, name, _ in links["changes"])
         write_csv_path = out / CHANGES_CSV
         export.write_csv([data.comparison.changes()], write_csv_path)

@@ -277,7 +277,7 @@ def test_tables_keep_ids_on_one_line():
                         {"routes": report.route_summary(_data(), ["saltmere-farcliff-jet"]),
                          "airfields": pd.DataFrame(), "csv": False, "changes": pd.DataFrame()})
     assert "td { white-space: nowrap; }" in page
-    assert "<td>saltmere-farcliff-jet</td>" in page
+    assert '<td class="text">saltmere-farcliff-jet</td>' in page and 'class="num"' in page
 
 
 # --- the demo network, end to end -----------------------------------------------------------
