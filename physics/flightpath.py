@@ -356,7 +356,7 @@ def path_inputs(aircraft, *, mass_kg, density_kg_m3, v2_mps, thrust_fn):
     return PathInputs(v2, vf, g1, g2, accel, g4)
 
 
-def obstacle_margins(path, obstacles_x_m, obstacles_h_m):
+def obstacle_margins(path, obstacles_x_m, obstacles_h_m, heights_m=None):
     """Clearance margin of each obstacle under a net path: available/required − 1.
 
     Parameters
@@ -367,6 +367,8 @@ def obstacle_margins(path, obstacles_x_m, obstacles_h_m):
         Ground distance of each obstacle from the path's start, shape (..., K). [m]
     obstacles_h_m : array_like
         Obstacle heights above the takeoff surface at the start, (..., K); NaN padding. [m]
+    heights_m : array_like, optional
+        ``path.height_at(obstacles_x_m)`` when already computed. [m]
 
     Returns
     -------
@@ -383,7 +385,7 @@ def obstacle_margins(path, obstacles_x_m, obstacles_h_m):
     ----------
     .. [2] 14 CFR 121.189(d)(2).
     """
-    h = path.height_at(obstacles_x_m)
+    h = path.height_at(obstacles_x_m) if heights_m is None else heights_m
     req = np.asarray(obstacles_h_m, dtype=float) + OBSTACLE_CLEARANCE_M
     with np.errstate(invalid="ignore", divide="ignore"):
         m = (h - req) / (np.fmax(req, 0.0) + OBSTACLE_CLEARANCE_M)
@@ -468,28 +470,29 @@ def weight_limit_flight_path(cases, mass_kg, memo):
     x = (np.asarray(s.toda_m, dtype=float) - tod)[:, None] + obstacles.distance_m
     heights = acceleration_heights_m(a.acceleration_height_m, a.max_acceleration_height_m)
     net = net_gradient_reduction(a.engine_count)
-    margins, governing, gaps = [], [], []
-    for j in range(heights.shape[1]):
-        path = takeoff_flight_path(screen_m=s.screen_height_m, v2_mps=inputs.v2_mps, v_final_mps=inputs.v_final_mps,
-                                   headwind_mps=s.headwind_mps, gradient_gear_down=inputs.gradient_gear_down,
-                                   gradient_second=inputs.gradient_second, accel_mps2=inputs.accel_mps2,
-                                   gradient_final=inputs.gradient_final, gear_time_s=a.gear_retraction_s,
-                                   acceleration_height_m=heights[:, j], reduction=net)
-        m = obstacle_margins(path, x, obstacles.height_m)
-        k = np.argmin(m, axis=1)[:, None]
-        margins.append(np.take_along_axis(m, k, axis=1)[:, 0])
-        governing.append(k[:, 0])
-        gaps.append(np.take_along_axis(path.height_at(x), k, axis=1)[:, 0]
-                    - np.take_along_axis(obstacles.height_m, k, axis=1)[:, 0] - OBSTACLE_CLEARANCE_M)
-    margins, governing, gaps = np.stack(margins, 1), np.stack(governing, 1), np.stack(gaps, 1)
+    # every acceleration height at once: paths (n, J, 5), heights over the obstacles (n, J, K)
+    col = lambda v: np.asarray(v, dtype=float)[..., None]  # noqa: E731
+    path = takeoff_flight_path(screen_m=col(s.screen_height_m), v2_mps=col(inputs.v2_mps),
+                               v_final_mps=col(inputs.v_final_mps), headwind_mps=col(s.headwind_mps),
+                               gradient_gear_down=col(inputs.gradient_gear_down),
+                               gradient_second=col(inputs.gradient_second), accel_mps2=col(inputs.accel_mps2),
+                               gradient_final=col(inputs.gradient_final), gear_time_s=col(a.gear_retraction_s),
+                               acceleration_height_m=heights, reduction=col(net))
+    x3, h_obs = x[:, None, :], obstacles.height_m[:, None, :]
+    h_net = path.height_at(x3)
+    m = obstacle_margins(path, x3, h_obs, heights_m=h_net)
+    k = np.argmin(m, axis=2)[..., None]  # governing obstacle per height
+    margins = np.take_along_axis(m, k, axis=2)[..., 0]  # (n, J)
     # the search needs the best margin over the heights (it falls with the mass); the height
     # used is the lowest that clears every obstacle, else the one that comes closest
     best = margins.max(axis=1)
     clears = margins >= 0.0
     j = np.where(clears.any(axis=1), np.argmax(clears, axis=1), np.argmax(margins, axis=1))[:, None]
     used = np.take_along_axis(heights, j, axis=1)[:, 0]
-    which = np.take_along_axis(governing, j, axis=1)[:, 0].astype(float)
-    clear = np.take_along_axis(gaps, j, axis=1)[:, 0]
+    kj = np.take_along_axis(k[..., 0], j, axis=1)  # (n, 1)
+    which = kj[:, 0].astype(float)
+    h_kj = np.take_along_axis(np.take_along_axis(h_net, j[..., None], axis=1)[:, 0, :], kj, axis=1)[:, 0]
+    clear = h_kj - np.take_along_axis(obstacles.height_m, kj, axis=1)[:, 0] - OBSTACLE_CLEARANCE_M
     none = ~np.isfinite(best)
     memo["flight_path"] = {"margin": best, "height_m": used, "obstacle": np.where(none, np.nan, which),
                            "clearance_m": np.where(none, np.nan, clear)}
