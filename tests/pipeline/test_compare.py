@@ -102,3 +102,37 @@ def test_compare_command_table_csv_and_file(two_runs, tmp_path):
     assert len(pd.read_csv(tmp_path / "c.csv")) == len(frame)
     bad = cli("compare", "2", "77", "--db", db)
     assert bad.returncode == 2 and "run 77 does not exist" in bad.stderr
+
+
+def test_scenario_names_agree_between_python_and_the_views(tmp_path):
+    """run_scenarios (SQL printf) and steps.scenario_label (Python) spell a scenario alike."""
+    from pipeline.steps import scenario_label
+
+    db = tmp_path / "names.duckdb"
+    offsets = (0.0, 2.0, -1.5, 0.25, 12.0)
+    for offset in offsets:
+        store.register_run(db, store.RunRecord(
+            input_dir="/x", parameters={"temperature_offset_k": offset, "conditions": ["dry"],
+                                        "reliability_levels": [0.5, 0.95], "reliability_conditions": ["dry"]},
+            temperature_offset_k=offset, input_hash="h", input_hashes={}, code_version="t",
+            airfields=1, cases=1, chunks=1))
+    with store.reader(db) as con:
+        rows = con.execute("SELECT temperature_offset_k, scenario, conditions, reliability_levels "
+                           "FROM run_scenarios ORDER BY run_id").fetchall()
+    assert [r[1] for r in rows] == [scenario_label(o) for o in offsets]
+    assert [r[1] for r in rows][:3] == ["baseline", "temperature +2 K", "temperature -1.5 K"]
+    assert rows[0][2:] == ("dry", "0.5,0.95")
+
+
+def test_latest_views_stay_on_the_baseline_after_a_scenario_run(two_runs):
+    """Run 3 (+2 K) is newer than run 2 (baseline); "latest" is still run 2 (issue 18)."""
+    db, _, _ = two_runs
+    with store.reader(db) as con:
+        latest = con.execute("SELECT run_id, scenario FROM latest_run").fetchall()
+        seen = con.execute("SELECT DISTINCT run_id, scenario FROM latest_results_airfield").fetchall()
+        routes = con.execute("SELECT DISTINCT run_id, scenario FROM latest_route_payload").fetchall()
+        each = con.execute("SELECT run_id, scenario FROM latest_scenario_runs ORDER BY run_id").fetchall()
+        side = con.execute("SELECT DISTINCT scenario FROM scenario_route_payload ORDER BY 1").fetchall()
+    assert latest == seen == routes == [(2, "baseline")]
+    assert each == [(2, "baseline"), (3, "temperature +2 K")]
+    assert side == [("baseline",), ("temperature +2 K",)]
