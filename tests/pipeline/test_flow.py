@@ -55,7 +55,7 @@ def _what_the_ui_shows() -> dict:
     from prefect.client.orchestration import get_client
     from prefect.client.schemas.filters import (ArtifactFilter, ArtifactFilterKey, LogFilter,
                                                 LogFilterFlowRunId)
-    from prefect.client.schemas.sorting import FlowRunSort
+    from prefect.client.schemas.sorting import FlowRunSort, LogSort
     from prefect.logging.handlers import APILogWorker
 
     from pipeline.flow import SUMMARY_ARTIFACT
@@ -65,8 +65,14 @@ def _what_the_ui_shows() -> dict:
         run = client.read_flow_runs(sort=FlowRunSort.START_TIME_DESC, limit=1)[0]
         messages = []
         for _ in range(50):  # the log worker ships in batches
-            logs = client.read_logs(log_filter=LogFilter(flow_run_id=LogFilterFlowRunId(any_=[run.id])))
-            messages = [entry.message for entry in logs]
+            messages, offset = [], 0
+            while True:  # every page: the server returns at most a page of logs per call
+                logs = client.read_logs(log_filter=LogFilter(flow_run_id=LogFilterFlowRunId(any_=[run.id])),
+                                        limit=200, offset=offset, sort=LogSort.TIMESTAMP_ASC)
+                messages += [entry.message for entry in logs]
+                offset += len(logs)
+                if len(logs) < 200:
+                    break
             if any("complete:" in m for m in messages):
                 break
             time.sleep(0.2)
