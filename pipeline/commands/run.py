@@ -208,9 +208,13 @@ def run(args) -> int:
     steps.log.addHandler(handler)
     steps.log.setLevel(logging.INFO)
     steps.log.propagate = False
-    # the CLI reports errors itself in one line; Prefect's own log shows with FIELDLIMITS_DEBUG=1
-    os.environ.setdefault("PREFECT_LOGGING_LEVEL",
-                          "WARNING" if os.environ.get("FIELDLIMITS_DEBUG") else "CRITICAL")
+    # the CLI reports errors itself in one line: Prefect's console handler is quiet (its own
+    # log shows with FIELDLIMITS_DEBUG=1), its loggers are not, so the flow run's log still
+    # reaches a server's UI (set before Prefect is imported; put back for callers in Python)
+    quiet = {"PREFECT_LOGGING_HANDLERS_CONSOLE_LEVEL":
+             "WARNING" if os.environ.get("FIELDLIMITS_DEBUG") else "CRITICAL"}
+    added = [k for k in quiet if k not in os.environ]
+    os.environ.update({k: quiet[k] for k in added})
     server = importer = None
     try:
         if not args.no_prefect and not os.environ.get("PREFECT_API_URL"):
@@ -259,6 +263,8 @@ def run(args) -> int:
     finally:
         steps.log.removeHandler(handler)
         stopper.uninstall()
+        for k in added:
+            os.environ.pop(k, None)
     if server is not None:
         server.stop()
     summary.wall_seconds = wall_s()
