@@ -139,6 +139,7 @@ def main(argv: list[str] | None = None) -> int:
         args = parser.parse_args(argv)
     except SystemExit as exc:  # argparse: --help (0) or a usage error (2)
         return int(exc.code or 0)
+    args.command_line = argv is None  # the process is this command (not a call from Python)
     command = getattr(args, "_command", None)
     if command is None:
         parser.print_help()

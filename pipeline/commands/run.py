@@ -49,11 +49,12 @@ def process_age_s() -> float | None:
         return None
 
 
-_T0 = time.monotonic() - (process_age_s() or 0.0)  # the command's start on the monotonic clock
+_T0 = time.monotonic() - (process_age_s() or 0.0)  # the process's start on the monotonic clock
 
 
 def wall_s() -> float:
-    """Seconds since the command started (interpreter start-up included where known)."""
+    """Seconds since the command started: from the process's start (interpreter start-up
+    included) on the command line, from the call when called from Python (:func:`run`)."""
     return time.monotonic() - _T0
 
 
@@ -196,6 +197,9 @@ def run(args) -> int:
 
     from pipeline import progress, steps
 
+    global _T0
+    if not getattr(args, "command_line", False):  # called from Python: the call is the start
+        _T0 = time.monotonic()
     params = run_params(args)  # every option checked before any work (exit 2)
     input_dir = input_folder(args)
     if args.no_prefect and args.cluster:
