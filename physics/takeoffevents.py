@@ -41,6 +41,8 @@ References
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 
 from physics import constants as c
@@ -335,3 +337,33 @@ def available_after_lineup_m(declared_m, lineup_allowance_m):
     d = np.asarray(declared_m, dtype=float)
     lu = np.asarray(lineup_allowance_m, dtype=float)
     return np.where(lu > 0.0, d - lu, d)
+
+
+def site_after_lineup(site, lineup_allowance_m):
+    """A site with the line-up allowance taken off TORA, TODA and ASDA.
+
+    Parameters
+    ----------
+    site : physics.weightlimit.Site
+        Per-case runway, day and wind (SI).
+    lineup_allowance_m : array_like
+        Runway used to align the aircraft. [m]
+
+    Returns
+    -------
+    physics.weightlimit.Site
+        ``site`` itself where no allowance is set, else a copy with the three distances
+        reduced by :func:`available_after_lineup_m`.
+
+    Notes
+    -----
+    TORA, TODA, ASDA each less the allowance; clearway and stopway unchanged.
+
+    References
+    ----------
+    .. [4] EASA AMC1 CAT.POL.A.205 (from memory).
+    """
+    if not np.any(np.asarray(lineup_allowance_m, dtype=float) > 0.0):
+        return site
+    return dataclasses.replace(site, **{k: available_after_lineup_m(getattr(site, k), lineup_allowance_m)
+                                        for k in ("tora_m", "toda_m", "asda_m")})

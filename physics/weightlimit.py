@@ -741,10 +741,8 @@ def _solve_into(out, aircraft, site, index, n, tol_kg, reqs, figures, obstacles=
 
 def _obstacle_cases(aircraft, site, index, n, obstacles):
     """Prepared cases at ``index`` (with the line-up taken off) and their obstacles."""
-    a, s = _gather(aircraft, index, n), _gather(site, index, n)
-    if np.any(a.lineup_allowance_m > 0.0):
-        s = dataclasses.replace(s, **{k: takeoffevents.available_after_lineup_m(getattr(s, k), a.lineup_allowance_m)
-                                      for k in ("tora_m", "toda_m", "asda_m")})
+    a = _gather(aircraft, index, n)
+    s = takeoffevents.site_after_lineup(_gather(site, index, n), a.lineup_allowance_m)
     cases = prepare_cases(a, s, vmcg_floor=True)
     cases._cache["obstacles"] = obstacles.take_cases(index)
     return cases
@@ -758,10 +756,7 @@ def _gather(obj, index, n):
 
 def _solve_accepted(aircraft, site, tol_kg, reqs, figures, obstacles=None):
     """:func:`solve_takeoff_weight` for cases inside the input contract."""
-    if np.any(np.asarray(aircraft.lineup_allowance_m) > 0.0):  # the runway used to line up
-        lineup = aircraft.lineup_allowance_m
-        site = dataclasses.replace(site, **{k: takeoffevents.available_after_lineup_m(getattr(site, k), lineup)
-                                            for k in ("tora_m", "toda_m", "asda_m")})
+    site = takeoffevents.site_after_lineup(site, aircraft.lineup_allowance_m)  # the runway used to line up
     result = _solve(aircraft, site, tol_kg, reqs, figures, obstacles)
     dry_roll = np.asarray(site.mu_roll_dry if site.mu_roll_dry is not None else np.nan, dtype=float)
     dry_brake = np.asarray(site.mu_brake_dry if site.mu_brake_dry is not None else np.nan, dtype=float)

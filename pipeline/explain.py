@@ -9,7 +9,6 @@ No formulas here: every number comes from :mod:`physics`; this module only forma
 
 from __future__ import annotations
 
-import dataclasses
 import os
 from dataclasses import dataclass
 
@@ -219,8 +218,7 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
           "35 ft dry, 15 ft wet (14 CFR 25.113)")
     lineup = _f(a.lineup_allowance_m)
     if lineup > 0:
-        s = dataclasses.replace(s, **{k: takeoffevents.available_after_lineup_m(getattr(s, k), lineup)
-                                      for k in ("tora_m", "toda_m", "asda_m")})
+        s = takeoffevents.site_after_lineup(s, lineup)
         L.add("line-up allowance", _num(lineup), "m", "runway used to align, off each declared distance")
         L.add("available after line-up", f"{_num(s.tora_m)} / {_num(s.toda_m)} / {_num(s.asda_m)}", "m",
               "TORA / TODA / ASDA used below")

@@ -10,7 +10,6 @@ comes from :mod:`physics`; distances are moved to the end of TODA only.
 
 from __future__ import annotations
 
-import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -109,9 +108,7 @@ def flight_path_view(tables, airfield_id: str, runway_id: str, month: int, aircr
     res = wl.solve_takeoff_weight(a, s, obstacles=obstacles)
     limit = _f(res.tow_limit_kg)
     mass = limit if np.isfinite(limit) else _f(a.oew_kg)
-    if np.any(np.asarray(a.lineup_allowance_m) > 0.0):  # as the solver: line-up off each distance
-        s = dataclasses.replace(s, **{k: takeoffevents.available_after_lineup_m(getattr(s, k), a.lineup_allowance_m)
-                                      for k in ("tora_m", "toda_m", "asda_m")})
+    s = takeoffevents.site_after_lineup(s, a.lineup_allowance_m)  # as the solver: line-up off each distance
     rows = mine.assign(in_area=False, net_height_m=np.nan, clearance_m=np.nan, status="outside the departure area",
                        governing=False).set_index("obstacle_id")
     base = dict(airfield_id=airfield_id, runway_id=runway_id, aircraft_type_id=aircraft_type_id, month=int(month),
