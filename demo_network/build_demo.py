@@ -6,8 +6,8 @@ aircraft types, the routes, the obstacles past some runway ends and the referenc
 1 % and rounded: see ``REFERENCE_CONDITIONS``). Coordinates sit mostly over open ocean on
 purpose.
 
-    python -m demo_network.build_demo            # rewrite demo_network/data/
-    python -m demo_network.build_demo --out DIR  # write elsewhere
+    python -m fieldlimits.demo_network.build_demo            # rewrite demo_network/data/
+    python -m fieldlimits.demo_network.build_demo --out DIR  # write elsewhere
 
 The output is deterministic (fixed seed). Climate: the monthly mean of the daily maximum
 temperature follows a cosine through the year around each airfield's annual mean; the wind
@@ -447,8 +447,8 @@ def reference_point_frame(aircraft_si: pd.DataFrame) -> pd.DataFrame:
     """
     import dataclasses
 
-    from physics import calibration
-    from physics.weightlimit import Aircraft
+    from fieldlimits.physics import calibration
+    from fieldlimits.physics.weightlimit import Aircraft
 
     names = [f.name for f in dataclasses.fields(Aircraft)]
     rows = []
@@ -486,7 +486,7 @@ def reference_point_frame(aircraft_si: pd.DataFrame) -> pd.DataFrame:
 
 
 def write(out: Path) -> None:
-    from schemas.load import load_folder
+    from fieldlimits.schemas.load import load_folder
 
     out.mkdir(parents=True, exist_ok=True)
     (out / "reference_points.csv").unlink(missing_ok=True)  # rebuilt from the tables below
@@ -498,7 +498,7 @@ def write(out: Path) -> None:
 
 
 def main(argv=None) -> int:
-    p = argparse.ArgumentParser(prog="python -m demo_network.build_demo",
+    p = argparse.ArgumentParser(prog="python -m fieldlimits.demo_network.build_demo",
                                 description="Rebuild the invented demo network tables.")
     p.add_argument("--out", type=Path, default=HERE / "data")
     args = p.parse_args(argv)

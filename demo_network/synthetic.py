@@ -1,7 +1,7 @@
 """Synthetic (invented) networks of any size, for benchmarks and scale tests.
 
-    python -m demo_network.synthetic --airfields 2000 --seed 7 --out /tmp/net2000
-    python -m demo_network.synthetic --airfields 20000 --seed 7 --out /tmp/net --format parquet
+    python -m fieldlimits.demo_network.synthetic --airfields 2000 --seed 7 --out /tmp/net2000
+    python -m fieldlimits.demo_network.synthetic --airfields 20000 --seed 7 --out /tmp/net --format parquet
 
 or ``generate_network(n_airfields, seed, out_dir)``. The same seed gives the same tables,
 byte for byte. Tables and columns are those of :mod:`schemas.tables`; the result validates
@@ -46,9 +46,9 @@ import pyarrow as pa
 import pyarrow.csv as pacsv
 import pyarrow.parquet as pq
 
-from demo_network.build_demo import AIRCRAFT, AIRCRAFT_COLUMNS
-from schemas.caution import CAUTION
-from schemas.tables import TABLES
+from fieldlimits.demo_network.build_demo import AIRCRAFT, AIRCRAFT_COLUMNS
+from fieldlimits.schemas.caution import CAUTION
+from fieldlimits.schemas.tables import TABLES
 
 SPEED_CLASSES = ((1.5, 5.0), (5.0, 10.0), (10.0, 25.0))
 CALM_MPS = 1.5
@@ -355,7 +355,7 @@ def _obstacles(rng, runways, share) -> dict | None:
     half-width either side (``schemas.departure``), so every one counts and ``check`` stays
     silent whatever the draws.
     """
-    from schemas.departure import half_width_m
+    from fieldlimits.schemas.departure import half_width_m
 
     if share <= 0:
         return None
@@ -521,7 +521,7 @@ def _check_specs(name: str, cols: dict) -> None:
 
 def main(argv=None) -> int:
     p = argparse.ArgumentParser(
-        prog="python -m demo_network.synthetic",
+        prog="python -m fieldlimits.demo_network.synthetic",
         description="Write a synthetic, invented network (all tables) for benchmarks and "
                     f"scale tests. {CAUTION}")
     p.add_argument("--airfields", type=int, required=True, help="number of airfields")

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from physics import constants as c
+from fieldlimits.physics import constants as c
 
 
 def aspect_ratio(wing_span_m, wing_area_m2):

@@ -16,8 +16,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from physics import constants as c
-from physics.select import choose
+from fieldlimits.physics import constants as c
+from fieldlimits.physics.select import choose
 
 #: Raymer's load factor in the transition arc (V_TR = 1.15 V_stall, C_L = 0.9 C_Lmax). [–]
 TRANSITION_LOAD_FACTOR = 1.2

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from physics import constants as c
+from fieldlimits.physics import constants as c
 
 # Base temperature and pressure of each layer, computed once from the layer lapse rates.
 _BASES_M = np.array([layer[0] for layer in c.ISA_LAYERS[:-1]])

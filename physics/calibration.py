@@ -67,12 +67,12 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import optimize
 
-from physics import atmosphere
-from physics import climb
-from physics import constants as c
-from physics import friction
-from physics import weightlimit as wl
-from physics import wind
+from fieldlimits.physics import atmosphere
+from fieldlimits.physics import climb
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import friction
+from fieldlimits.physics import weightlimit as wl
+from fieldlimits.physics import wind
 
 #: Kinds of reference point, by integer code (position).
 KINDS = ("field_length", "climb_limited_mass")
@@ -341,7 +341,7 @@ def takeoff_field_length_m(aircraft, points, mass_kg, *, rules="transport"):
     ----------
     .. [1] 14 CFR 25.109, 25.113. .. [2] Raymer, §17.8.
     """
-    from physics import limits
+    from fieldlimits.physics import limits
 
     reqs = distance_requirements(rules)
     n = points.n
@@ -434,7 +434,7 @@ def model_values(aircraft, points, *, rules="transport"):
     ----------
     .. [1] 14 CFR 25.109, 25.113, 25.121(b).
     """
-    from physics import limits
+    from fieldlimits.physics import limits
 
     n = points.n
     a = _per_case(aircraft, n)

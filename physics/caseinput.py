@@ -34,9 +34,9 @@ from dataclasses import fields
 
 import numpy as np
 
-from physics import limits
-from physics import thrust
-from physics import wind
+from fieldlimits.physics import limits
+from fieldlimits.physics import thrust
+from fieldlimits.physics import wind
 
 #: Aircraft fields the takeoff model reads (the cruise and landing figures are not needed).
 AIRCRAFT_TAKEOFF_FIELDS = (

@@ -69,7 +69,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import special
 
-from physics import limits, wind
+from fieldlimits.physics import limits, wind
 
 #: Standard-normal scores of the default temperature grid nodes. [–]
 DEFAULT_SCORE_NODES = (-2.5, -1.25, 0.0, 1.0, 1.75, 2.5)

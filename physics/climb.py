@@ -42,7 +42,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from physics import constants as c
+from fieldlimits.physics import constants as c
 
 #: Minimum second-segment gradient by engine count, 14 CFR 25.121(b). [–]
 SECOND_SEGMENT_MIN_GRADIENT = {2: 0.024, 3: 0.027, 4: 0.030}
@@ -281,7 +281,7 @@ def takeoff_climb_gradient(aircraft, *, mass_kg, pressure_pa, temperature_k, v2_
     ----------
     .. [1] 14 CFR 25.121(b). .. [2] Raymer, §17.3.
     """
-    from physics import aerodynamics, atmosphere, enginefailure
+    from fieldlimits.physics import aerodynamics, atmosphere, enginefailure
 
     a = aircraft
     m = np.asarray(mass_kg, dtype=float)
@@ -325,7 +325,7 @@ def climb_thrust_law(aircraft, pressure_pa, temperature_k):
     ----------
     .. [1] 14 CFR 25.121(b) (one engine inoperative, remaining at takeoff thrust).
     """
-    from physics import thrust
+    from fieldlimits.physics import thrust
 
     return thrust.thrust_law_for_aircraft(aircraft, pressure_pa, temperature_k,
                                           engines_operating=climb_engines_operating(aircraft.engine_count))

@@ -62,9 +62,9 @@ from typing import NamedTuple
 
 import numpy as np
 
-from physics import constants as c
-from physics import groundrun
-from physics import takeoffevents
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import groundrun
+from fieldlimits.physics import takeoffevents
 
 #: Distance allowance of 14 CFR 25.109(a): 2 s at V1 after the stop is begun. [s]
 STOP_DELAY_S = 2.0
@@ -92,7 +92,7 @@ def _accel(coeffs, v):
 
 def _segment_m(coeffs, v_from, v_to, headwind):
     """Ground distance between two airspeeds (delegates to physics.groundrun)."""
-    from physics import groundrun
+    from fieldlimits.physics import groundrun
 
     a0, a1, a2 = coeffs
     return groundrun.segment_distance_m(a0, a1, a2, v_from, v_to, headwind)
@@ -347,7 +347,7 @@ def scheduled_speeds_mps(aircraft, *, mass_kg, density_kg_m3):
     .. [1] 14 CFR 25.107 (takeoff speeds).
     .. [2] Raymer, §17.8 (V_LOF ≈ 1.1 V_S, V2 ≈ 1.2 V_S).
     """
-    from physics import aerodynamics
+    from fieldlimits.physics import aerodynamics
 
     a = aircraft
     rho = np.asarray(density_kg_m3, dtype=float)
@@ -390,7 +390,7 @@ class GroundRegime:
 
     def __init__(self, thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, slope, headwind_mps,
                  terms=None):
-        from physics import groundrun
+        from fieldlimits.physics import groundrun
 
         n = np.shape(thrust_law.t0_n)
         m, w = (np.broadcast_to(np.asarray(x, dtype=float), n) for x in (mass_kg, headwind_mps))
@@ -445,7 +445,7 @@ class GroundRegime:
         ----------
         .. [1] Raymer, §17.8; see :mod:`physics.groundrun`. .. [2] Trefethen (2008).
         """
-        from physics import groundrun
+        from fieldlimits.physics import groundrun
 
         a0, a1, a2 = self.coeffs
         v_from = np.broadcast_to(np.asarray(v_from, dtype=float), self.w.shape)
@@ -706,7 +706,7 @@ def engine_failure_setup(aircraft, site, shape=()):
     .. [1] 14 CFR 25.109, 25.111. .. [2] Anderson (1999), Eq. 6.78, §6.8.
     .. [3] Raymer, §17.8 (braking friction and lift dumpers).
     """
-    from physics import aerodynamics, atmosphere, groundrun, thrust
+    from fieldlimits.physics import aerodynamics, atmosphere, groundrun, thrust
 
     a, s = aircraft, site
     rho = atmosphere.density_kg_m3(s.pressure_pa, s.temperature_k)
@@ -1043,7 +1043,7 @@ def continued_takeoff_airborne_m(model, setup, screen_height_m):
     ----------
     .. [1] 14 CFR 25.111, 25.113(a)(1). .. [2] Raymer, §17.8.
     """
-    from physics import aerodynamics, airborne
+    from fieldlimits.physics import aerodynamics, airborne
 
     sp = model.speeds
     v_tr = 0.5 * (sp.vlof_mps + np.fmax(sp.v2_mps, sp.vlof_mps))  # a rotation may lift off above V2

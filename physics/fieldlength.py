@@ -30,11 +30,11 @@ from typing import NamedTuple
 
 import numpy as np
 
-from physics import aerodynamics as aero
-from physics import airborne
-from physics import constants as c
-from physics import groundrun
-from physics import takeoffevents
+from fieldlimits.physics import aerodynamics as aero
+from fieldlimits.physics import airborne
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import groundrun
+from fieldlimits.physics import takeoffevents
 
 #: Factor on all-engines takeoff distance and run, 14 CFR 25.113(a)(2), (b)(2). [–]
 ALL_ENGINES_FACTOR = 1.15

@@ -43,7 +43,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from physics import constants as c
+from fieldlimits.physics import constants as c
 
 #: Gradient reduction gross → net by engine count, 14 CFR 25.115(b). [–]
 NET_GRADIENT_REDUCTION = {2: 0.008, 3: 0.009, 4: 0.010}
@@ -333,7 +333,7 @@ def path_inputs(aircraft, *, mass_kg, density_kg_m3, v2_mps, thrust_fn):
     ----------
     .. [1] 14 CFR 25.121(c). .. [3] Raymer, §17.3.
     """
-    from physics import aerodynamics
+    from fieldlimits.physics import aerodynamics
 
     a = aircraft
     m = np.asarray(mass_kg, dtype=float)
@@ -455,7 +455,7 @@ def weight_limit_flight_path(cases, mass_kg, memo):
     """
     if "flight_path" in memo:
         return memo["flight_path"]
-    from physics import climb, enginefailure, weightlimit
+    from fieldlimits.physics import climb, enginefailure, weightlimit
 
     a, s = cases.aircraft, cases.site
     obstacles = cases.cached("obstacles", lambda cs: None)

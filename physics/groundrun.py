@@ -44,8 +44,8 @@ from typing import NamedTuple
 
 import numpy as np
 
-from physics import constants as c
-from physics.thrust import _trail
+from fieldlimits.physics import constants as c
+from fieldlimits.physics.thrust import _trail
 
 #: Reason codes returned beside NaN results.
 REASONS = ("ok", "no_acceleration", "invalid_input")

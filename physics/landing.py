@@ -86,7 +86,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from physics import constants as c
+from fieldlimits.physics import constants as c
 
 #: Limiting factors of a landing-mass limit, in code order (index = code; append, never
 #: renumber).
@@ -574,7 +574,7 @@ def braking_terms(aircraft, config, *, density_kg_m3, pressure_pa, temperature_k
     ----------
     .. [4] Raymer, §17.9. .. [5] Anderson (1999), §6.8, Eqs. 6.77–6.78.
     """
-    from physics import aerodynamics, groundrun, thrust
+    from fieldlimits.physics import aerodynamics, groundrun, thrust
 
     a, lc = aircraft, config
     k = aerodynamics.induced_drag_factor(a.oswald_efficiency,
@@ -620,7 +620,7 @@ def braking_distance_m(terms, *, mass_kg, touchdown_mps, headwind_mps=0.0):
     ----------
     .. [5] Anderson (1999), Eq. 6.90 (the closed form for a = A − B V²).
     """
-    from physics import groundrun
+    from fieldlimits.physics import groundrun
 
     m = _f(mass_kg)
     w = _f(headwind_mps)
@@ -688,7 +688,7 @@ class _Prepared(NamedTuple):
 
 
 def _prepare(aircraft, config, site):
-    from physics import atmosphere
+    from fieldlimits.physics import atmosphere
 
     rho = _f(atmosphere.density_kg_m3(site.pressure_pa, site.temperature_k))
     per_root = np.sqrt(2.0 * c.G0 / (rho * _f(aircraft.wing_area_m2) * _f(config.cl_max_landing)))
@@ -854,7 +854,7 @@ def climb_limited_mass_kg(thrust_law, *, speed_per_root_mass, lift_coefficient, 
 
 
 def _induced(aircraft):
-    from physics import aerodynamics
+    from fieldlimits.physics import aerodynamics
 
     return aerodynamics.induced_drag_factor(aircraft.oswald_efficiency,
                                             aerodynamics.aspect_ratio(aircraft.wing_span_m, aircraft.wing_area_m2))
@@ -898,7 +898,7 @@ def approach_climb_setup(aircraft, *, pressure_pa, temperature_k):
     ----------
     .. [1] 14 CFR 25.121(d). .. [4] Raymer, §17.3.
     """
-    from physics import atmosphere, climb
+    from fieldlimits.physics import atmosphere, climb
 
     a = aircraft
     rho = _f(atmosphere.density_kg_m3(pressure_pa, temperature_k))
@@ -940,7 +940,7 @@ def landing_climb_setup(aircraft, config, *, pressure_pa, temperature_k):
     ----------
     .. [1] 14 CFR 25.119. .. [4] Raymer, §17.3.
     """
-    from physics import atmosphere, thrust
+    from fieldlimits.physics import atmosphere, thrust
 
     a, lc = aircraft, config
     rho = _f(atmosphere.density_kg_m3(pressure_pa, temperature_k))
@@ -975,7 +975,7 @@ def climb_gradient_at(setup, mass_kg):
     ----------
     .. [4] Raymer, §17.3.
     """
-    from physics import climb
+    from fieldlimits.physics import climb
 
     m = _f(mass_kg)
     v = setup.speed_per_root_mass * np.sqrt(m)

@@ -66,7 +66,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from physics.constants import G0 as G0_MPS2  # standard gravity [m/s^2], ICAO Doc 7488
+from fieldlimits.physics.constants import G0 as G0_MPS2  # standard gravity [m/s^2], ICAO Doc 7488
 
 #: Route payload limits and not-possible reasons, in code order (index = integer code).
 ROUTE_LIMITS: tuple[str, ...] = (

@@ -45,8 +45,8 @@ import dataclasses
 
 import numpy as np
 
-from physics import constants as c
-from physics import groundrun
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import groundrun
 
 
 def ground_acceleration_mps2(thrust_n, *, mass_kg, airspeed_mps, density_kg_m3, wing_area_m2, cd, cl, mu,

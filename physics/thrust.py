@@ -60,8 +60,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from physics import atmosphere
-from physics import constants as c
+from fieldlimits.physics import atmosphere
+from fieldlimits.physics import constants as c
 
 MODEL_CODES = {"quadratic": 0, "turbofan": 1, "propeller": 2}
 MODEL_NAMES = tuple(MODEL_CODES)

@@ -52,19 +52,19 @@ from typing import Callable, Optional
 
 import numpy as np
 
-from physics import aerodynamics as aero
-from physics import atmosphere
-from physics import caseinput
-from physics import climb
-from physics import constants as const
-from physics import enginefailure
-from physics import fieldlength
-from physics import flightpath
-from physics import groundrun
-from physics import limits
-from physics import takeoffevents
-from physics import thrust
-from physics.select import choose
+from fieldlimits.physics import aerodynamics as aero
+from fieldlimits.physics import atmosphere
+from fieldlimits.physics import caseinput
+from fieldlimits.physics import climb
+from fieldlimits.physics import constants as const
+from fieldlimits.physics import enginefailure
+from fieldlimits.physics import fieldlength
+from fieldlimits.physics import flightpath
+from fieldlimits.physics import groundrun
+from fieldlimits.physics import limits
+from fieldlimits.physics import takeoffevents
+from fieldlimits.physics import thrust
+from fieldlimits.physics.select import choose
 
 # ---------------------------------------------------------------------------------------------
 # The case contract (DEVELOPERS.md): frozen dataclasses of numpy arrays, broadcastable to n.

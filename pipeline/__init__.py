@@ -4,4 +4,4 @@ Importing any ``pipeline`` module first applies the offline Prefect defaults
 (:mod:`pipeline.settings`), so Prefect never reaches the network.
 """
 
-from pipeline import settings as _settings  # noqa: F401  (side effect: offline defaults)
+from fieldlimits.pipeline import settings as _settings  # noqa: F401  (side effect: offline defaults)

@@ -33,9 +33,9 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from pipeline.errors import BadInput
-from schemas import typeclasses
-from schemas.tables import AIRCRAFT_TYPES
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas import typeclasses
+from fieldlimits.schemas.tables import AIRCRAFT_TYPES
 
 #: Coefficients a calibration may fit, in report order (all dimensionless: user unit = SI).
 FIT_COLUMNS = ("cl_max_takeoff", "cl_ground_roll", "cd0_clean", "cd0_gear", "cd0_takeoff_flaps",
@@ -122,7 +122,7 @@ def _bounds(col: str, row: pd.Series, fitted: tuple[str, ...]) -> tuple[float, f
 
 
 def _aircraft(si_row: pd.Series):
-    from physics.weightlimit import Aircraft
+    from fieldlimits.physics.weightlimit import Aircraft
 
     # every field the table has (a field without a column keeps its dataclass default)
     return Aircraft(**{f.name: float(si_row[f.name]) for f in dataclasses.fields(Aircraft) if f.name in si_row.index})
@@ -130,7 +130,7 @@ def _aircraft(si_row: pd.Series):
 
 def reference_points_of(points_si: pd.DataFrame):
     """``physics.calibration.ReferencePoints`` of reference-point rows (SI frame)."""
-    from physics import calibration
+    from fieldlimits.physics import calibration
 
     kind = points_si["kind"].to_numpy(dtype=object)
     published = np.where(kind == "field_length", points_si["field_length_m"].to_numpy(dtype=float),
@@ -146,7 +146,7 @@ def reference_points_of(points_si: pd.DataFrame):
 
 def point_problems(tables) -> list:
     """Problems of reference points against their types (mass range, tailwind limit)."""
-    from schemas.validate import Problem
+    from fieldlimits.schemas.validate import Problem
 
     pts = tables.user["reference_points"]
     if pts is None or not len(pts):
@@ -209,10 +209,10 @@ def calibrate(input_dir, *, fit="blank", type_ids=None, point_share_sd=None, pro
     progress : callable, optional
         ``progress(message)`` after each type.
     """
-    from physics import calibration as phys
-    from pipeline.inputs import problem_text
-    from schemas.load import load_folder
-    from schemas.validate import InputError
+    from fieldlimits.physics import calibration as phys
+    from fieldlimits.pipeline.inputs import problem_text
+    from fieldlimits.schemas.load import load_folder
+    from fieldlimits.schemas.validate import InputError
 
     folder = Path(input_dir)
     if not folder.is_dir():
@@ -317,7 +317,7 @@ def write_calibration(result: Calibration, out_dir, *, overwrite: bool = False) 
     Built in a hidden folder beside ``out_dir`` and renamed into place (an existing
     ``out_dir`` with ``overwrite`` is replaced only once the new one is complete).
     """
-    from pipeline import calibration_report
+    from fieldlimits.pipeline import calibration_report
 
     out = Path(out_dir)
     trouble = _destination_problem(result, out, overwrite)

@@ -24,9 +24,9 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from pipeline import export
-from pipeline.report import DPI, PNG_METADATA, _figure, unique_slugs
-from schemas.caution import CAUTION
+from fieldlimits.pipeline import export
+from fieldlimits.pipeline.report import DPI, PNG_METADATA, _figure, unique_slugs
+from fieldlimits.schemas.caution import CAUTION
 
 BEFORE_COLOUR = "#9a9a9a"
 AFTER_COLOUR = "#2b5f8a"
@@ -34,7 +34,7 @@ AFTER_COLOUR = "#2b5f8a"
 
 def points_table(tf) -> pd.DataFrame:
     """One row per reference point of a type: conditions, published, model, residual."""
-    from physics import limits
+    from fieldlimits.physics import limits
 
     fit, p = tf.fit, tf.points
     unit = np.where(p["kind"] == "field_length", "m", "kg")
@@ -64,7 +64,7 @@ def coefficients_table(tf) -> pd.DataFrame:
 
 def summary(tf, point_share_sd: float) -> dict:
     """Headline figures of one type's fit."""
-    from physics.calibration import determined_combinations
+    from fieldlimits.physics.calibration import determined_combinations
 
     fit = tf.fit
     with np.errstate(invalid="ignore", divide="ignore"):

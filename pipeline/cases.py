@@ -28,8 +28,8 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.parquet as pq
 
-from physics import atmosphere, constants
-from schemas.results import CONDITIONS
+from fieldlimits.physics import atmosphere, constants
+from fieldlimits.schemas.results import CONDITIONS
 
 CASES_FILE = "cases.parquet"
 AIRCRAFT_FILE = "aircraft.parquet"
@@ -66,7 +66,7 @@ class ChunkPlan:
 
 def friction_for(surface: np.ndarray, condition: str) -> tuple[np.ndarray, np.ndarray]:
     """Rolling and braking friction per runway for one condition (from :mod:`physics.friction`)."""
-    from physics import friction
+    from fieldlimits.physics import friction
 
     surface_codes = friction.surface_code(np.asarray(surface, dtype=object))
     condition_codes = np.full(np.shape(surface_codes), friction.condition_code(condition))
@@ -225,8 +225,8 @@ def obstacle_arrays(cases: pd.DataFrame, obstacles: pd.DataFrame | None):
         the ``obstacle_id`` texts in the same places (None padding); ``(None, None)`` when no
         case has an obstacle, so those cases are solved exactly as without the table.
     """
-    from physics.flightpath import Obstacles
-    from schemas.departure import in_departure_area
+    from fieldlimits.physics.flightpath import Obstacles
+    from fieldlimits.schemas.departure import in_departure_area
 
     if obstacles is None or len(obstacles) == 0 or len(cases) == 0:
         return None, None

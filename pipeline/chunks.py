@@ -37,9 +37,9 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.parquet as pq
 
-from pipeline import cases as case_io
-from pipeline import producers
-from schemas.results import RESULT_COLUMNS, columns
+from fieldlimits.pipeline import cases as case_io
+from fieldlimits.pipeline import producers
+from fieldlimits.schemas.results import RESULT_COLUMNS, columns
 
 PARTS_DIR = "parts"
 PROCESS_MIN_CASES = 200_000
@@ -118,7 +118,7 @@ def chunk_key(params: dict, chunk: int, run_id: int) -> str:
 
 def aircraft_arrays(aircraft_table: pd.DataFrame, index: np.ndarray):
     """``physics.weightlimit.Aircraft`` with one element per case (row ``index`` of the table)."""
-    from physics.weightlimit import Aircraft
+    from fieldlimits.physics.weightlimit import Aircraft
 
     values = {}
     for f in dataclasses.fields(Aircraft):
@@ -130,7 +130,7 @@ def aircraft_arrays(aircraft_table: pd.DataFrame, index: np.ndarray):
 
 def site_arrays(cases: pd.DataFrame):
     """``physics.weightlimit.Site`` with one element per case."""
-    from physics.weightlimit import Site
+    from fieldlimits.physics.weightlimit import Site
 
     names = {f.name for f in dataclasses.fields(Site)}
     return Site(**{name: cases[name].to_numpy(dtype=float) for name in _SITE_COLUMNS if name in names})
@@ -149,7 +149,7 @@ def design_day_rows(run_id: int, cases: pd.DataFrame, result, obstacle_ids=None)
     ``obstacle_ids`` (from :func:`pipeline.cases.obstacle_arrays`, or None) names the
     governing obstacle of each case.
     """
-    from physics import constants, limits
+    from fieldlimits.physics import constants, limits
 
     n = len(cases)
     rows = {
@@ -291,7 +291,7 @@ def compute_chunk(work_dir: str | os.PathLike, chunk: int, run_id: int, params: 
 
 def _compute_chunk_here(work_dir: str | os.PathLike, chunk: int, run_id: int, params: dict) -> ChunkResult:
     """:func:`compute_chunk` in this process."""
-    from physics.weightlimit import solve_takeoff_weight
+    from fieldlimits.physics.weightlimit import solve_takeoff_weight
 
     work = Path(work_dir)
     direction_path, airfield_path = part_paths(work, chunk)

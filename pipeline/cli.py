@@ -18,10 +18,10 @@ import pkgutil
 import sys
 import traceback
 
-import pipeline.settings  # noqa: F401  (offline Prefect defaults first)
+import fieldlimits.pipeline.settings  # noqa: F401  (offline Prefect defaults first)
 
-from pipeline.errors import FieldlimitsError
-from schemas.caution import CAUTION
+from fieldlimits.pipeline.errors import FieldlimitsError
+from fieldlimits.schemas.caution import CAUTION
 
 ORDER = ("run", "check", "calibrate", "runs", "compare", "sql", "export", "report", "explain", "serve",
          "generate")
@@ -58,14 +58,14 @@ class _BrokenCommand:
 def discover_commands(only: str | None = None) -> list:
     """Command modules of :mod:`pipeline.commands`, in :data:`ORDER` then by name; with
     ``only``, just that one (the others' imports, scipy among them, are not paid for)."""
-    import pipeline.commands as package
+    import fieldlimits.pipeline.commands as package
 
     found = []
     for info in pkgutil.iter_modules(package.__path__):
         if info.name.startswith("_") or (only is not None and info.name != only):
             continue
         try:
-            module = importlib.import_module(f"pipeline.commands.{info.name}")
+            module = importlib.import_module(f"fieldlimits.pipeline.commands.{info.name}")
         except Exception as exc:  # one broken command must not break the others
             found.append(_BrokenCommand(info.name, exc))
             continue
@@ -77,7 +77,7 @@ def discover_commands(only: str | None = None) -> list:
 
 def _command_named(argv: list[str] | None) -> str | None:
     """The command the arguments name (their first word), when a module of that name exists."""
-    import pipeline.commands as package
+    import fieldlimits.pipeline.commands as package
 
     words = sys.argv[1:] if argv is None else argv
     first = words[0] if words and not words[0].startswith("-") else None

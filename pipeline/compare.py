@@ -20,8 +20,8 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from pipeline import store
-from pipeline.errors import BadInput
+from fieldlimits.pipeline import store
+from fieldlimits.pipeline.errors import BadInput
 
 #: Smallest move reported [kg]: a tenth of a passenger; below it the weight search's 1 kg
 #: tolerance would show up as change between runs of slightly different inputs.
@@ -66,7 +66,7 @@ class Comparison:
         ``before_kg`` and ``after_kg`` hold (payload, or the takeoff-weight limit); the level
         is ``design_day`` or ``p85``; the runs and their scenarios are columns too.
         """
-        from pipeline.routes import level_label
+        from fieldlimits.pipeline.routes import level_label
 
         frames = []
         for kind, frame in (("route_month", self.routes), ("airfield_month", self.airfields)):
@@ -106,7 +106,7 @@ class Comparison:
 
     def text(self, top: int = 15) -> str:
         """A summary for the terminal: what was compared, counts, the largest moves."""
-        from pipeline import export
+        from fieldlimits.pipeline import export
 
         lines = [f"compare {self.before.label()} with {self.after.label()}",
                  f"  before: finished {_stamp(self.before.finished_at)} UTC, inputs {self.before.input_dir}",
@@ -136,7 +136,7 @@ def _stamp(value) -> str:
 
 def _largest(frame: pd.DataFrame, top: int) -> pd.DataFrame:
     """The ``top`` rows with the largest moves; a change of possibility ranks first."""
-    from pipeline.routes import level_label
+    from fieldlimits.pipeline.routes import level_label
 
     f = frame.copy()
     f["level"] = [level_label(b, r) for b, r in zip(f["basis"], f["reliability"])]
@@ -153,7 +153,7 @@ def _largest(frame: pd.DataFrame, top: int) -> pd.DataFrame:
 def _info(con, run_id: int, db_path) -> RunInfo:
     row = con.execute(store.sql("run_info"), {"run_id": int(run_id)}).df()
     if row.empty:
-        from pipeline.export import check_run_exists
+        from fieldlimits.pipeline.export import check_run_exists
 
         check_run_exists(con, run_id, db_path)  # raises with the stored run numbers
     r = row.iloc[0]

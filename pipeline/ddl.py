@@ -3,8 +3,8 @@
 The output tables are defined once in :mod:`schemas.results`; this module renders those
 definitions into the SQL files the store executes::
 
-    python -m pipeline.ddl --write   # regenerate after editing schemas/results.py
-    python -m pipeline.ddl           # exit 1 if a file is out of date (also a test)
+    python -m fieldlimits.pipeline.ddl --write   # regenerate after editing schemas/results.py
+    python -m fieldlimits.pipeline.ddl           # exit 1 if a file is out of date (also a test)
 """
 
 from __future__ import annotations
@@ -13,7 +13,7 @@ import argparse
 import sys
 from pathlib import Path
 
-from schemas import results
+from fieldlimits.schemas import results
 
 SQL_DIR = Path(__file__).with_name("sql")
 
@@ -39,7 +39,7 @@ def main(argv: list[str] | None = None) -> int:
         return 0
     stale = stale_files()
     for path in stale:
-        print(f"out of date: {path} (run python -m pipeline.ddl --write)")
+        print(f"out of date: {path} (run python -m fieldlimits.pipeline.ddl --write)")
     return 1 if stale else 0
 
 

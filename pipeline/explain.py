@@ -14,8 +14,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from pipeline.errors import BadInput
-from schemas.caution import CAUTION
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas.caution import CAUTION
 
 
 @dataclass(frozen=True)
@@ -45,8 +45,8 @@ def _known(values) -> str:
 
 def load_tables(input_dir):
     """Validated SI tables of an input folder; a clear error listing the problems."""
-    from schemas.load import load_folder
-    from schemas.validate import InputError
+    from fieldlimits.schemas.load import load_folder
+    from fieldlimits.schemas.validate import InputError
 
     try:
         return load_folder(input_dir)
@@ -59,8 +59,8 @@ def load_tables(input_dir):
 def build_case(tables, airfield_id, runway_id, month, aircraft_type_id, condition="dry",
                temperature_offset_k=0.0):
     """The one case as a run builds it: (cases row frame, Aircraft, Site, aircraft row)."""
-    from pipeline import cases as case_io
-    from pipeline.chunks import aircraft_arrays, site_arrays
+    from fieldlimits.pipeline import cases as case_io
+    from fieldlimits.pipeline.chunks import aircraft_arrays, site_arrays
 
     airfields = tables["airfields"]
     if airfield_id not in set(airfields["airfield_id"].astype(str)):
@@ -114,7 +114,7 @@ def _num(x, digits=0):
 
 
 def _speed(lines, label, tas, density):
-    from physics import atmosphere, constants
+    from fieldlimits.physics import atmosphere, constants
 
     eas = atmosphere.equivalent_airspeed_mps(tas, density)
     lines.add(label, _num(eas / constants.KT_MPS, 1), "kt",
@@ -123,7 +123,7 @@ def _speed(lines, label, tas, density):
 
 def _class_defaults_line(tables, aircraft_type_id) -> str:
     """Which coefficients of the type are class defaults (``schemas.typeclasses``)."""
-    from schemas.typeclasses import describe
+    from fieldlimits.schemas.typeclasses import describe
 
     users = getattr(tables, "user", {}).get("aircraft_types")
     cls = ""
@@ -162,11 +162,11 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
     ExplainedCase
         The text and the headline figures.
     """
-    from physics import atmosphere, climb, constants, enginefailure, fieldlength, limits, takeoffevents, thrust
-    from physics import weightlimit as wl
+    from fieldlimits.physics import atmosphere, climb, constants, enginefailure, fieldlength, limits, takeoffevents, thrust
+    from fieldlimits.physics import weightlimit as wl
 
     if input_dir is None:
-        from demo_network import demo_path
+        from fieldlimits.demo_network import demo_path
 
         input_dir = demo_path()
     if not os.path.isdir(input_dir):
@@ -174,7 +174,7 @@ def explain_case(input_dir=None, airfield_id="", runway_id="", month=1, aircraft
     tables = load_tables(input_dir)
     case, a, s, row = build_case(tables, airfield_id, str(runway_id), int(month), aircraft_type_id, condition,
                                  temperature_offset_k)
-    from pipeline import cases as case_io
+    from fieldlimits.pipeline import cases as case_io
 
     obstacles, _ = case_io.obstacle_arrays(case, tables["obstacles"])  # as a run does
     res = wl.solve_takeoff_weight(a, s, obstacles=obstacles)
@@ -325,8 +325,8 @@ def _flight_path_section(L, tables, airfield_id, runway_id, month, aircraft_type
     """Section 8 for a runway direction with obstacles: the one-engine-inoperative takeoff
     flight path segment by segment (gross and net) and each obstacle's clearance
     (:func:`pipeline.obstacle_path.flight_path_view`)."""
-    from physics import atmosphere, constants
-    from pipeline.obstacle_path import POINTS, SEGMENTS, flight_path_view
+    from fieldlimits.physics import atmosphere, constants
+    from fieldlimits.pipeline.obstacle_path import POINTS, SEGMENTS, flight_path_view
 
     v = flight_path_view(tables, airfield_id, runway_id, month, aircraft_type_id, condition, temperature_offset_k)
     if v is None:

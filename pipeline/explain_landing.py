@@ -14,8 +14,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from pipeline.errors import BadInput
-from schemas.caution import CAUTION
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas.caution import CAUTION
 
 
 @dataclass(frozen=True)
@@ -64,12 +64,12 @@ def explain_landing(input_dir=None, airfield_id="", runway_id="", month=1, aircr
     ExplainedLanding
         The text and the headline figures.
     """
-    from physics import atmosphere, constants, landing as ph
-    from pipeline import landing as pl
-    from pipeline.explain import build_case, load_tables
+    from fieldlimits.physics import atmosphere, constants, landing as ph
+    from fieldlimits.pipeline import landing as pl
+    from fieldlimits.pipeline.explain import build_case, load_tables
 
     if input_dir is None:
-        from demo_network import demo_path
+        from fieldlimits.demo_network import demo_path
 
         input_dir = demo_path()
     if not os.path.isdir(input_dir):

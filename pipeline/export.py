@@ -38,9 +38,9 @@ import duckdb
 import numpy as np
 import pandas as pd
 
-from pipeline import store
-from pipeline.errors import BadInput
-from schemas.caution import CAUTION
+from fieldlimits.pipeline import store
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas.caution import CAUTION
 
 FORMULA_PREFIXES = ("=", "+", "-", "@", "\t", "\r")
 CAUTION_COLUMN = "caution"
@@ -95,7 +95,7 @@ def neutralise_frame(frame: pd.DataFrame) -> pd.DataFrame:
 # --- tidy numbers ----------------------------------------------------------------------
 
 def _dimensionless_columns() -> set[str]:
-    from schemas import results
+    from fieldlimits.schemas import results
 
     return {c.name for cols in results.TABLES.values() for c in cols
             if c.unit == "-" and c.sql_type == "DOUBLE"}
@@ -340,7 +340,7 @@ def export_csv(db_path, what: str, out_path, run_id: int | None = None) -> int:
 
 
 def _known_text_columns() -> set[str]:
-    from schemas import results
+    from fieldlimits.schemas import results
 
     return {c.name for cols in results.TABLES.values() for c in cols if c.sql_type == "VARCHAR"}
 

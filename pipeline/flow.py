@@ -22,15 +22,15 @@ from __future__ import annotations
 import logging
 import time
 
-import pipeline.settings  # noqa: F401  (offline defaults before prefect is imported)
+import fieldlimits.pipeline.settings  # noqa: F401  (offline defaults before prefect is imported)
 
 from prefect import flow, get_run_logger, task
 from prefect.cache_policies import NO_CACHE
 from prefect.futures import as_completed
 from prefect.task_runners import ThreadPoolTaskRunner
 
-from pipeline import chunks, progress, steps
-from pipeline.steps import RunParams
+from fieldlimits.pipeline import chunks, progress, steps
+from fieldlimits.pipeline.steps import RunParams
 
 FLOW_NAME = "fieldlimits-run"
 SUMMARY_ARTIFACT = "fieldlimits-run-summary"
@@ -96,7 +96,7 @@ def _task_runner(cluster: str | None, workers: int):
     try:
         from prefect_dask import DaskTaskRunner
     except ImportError:
-        from pipeline.errors import BadInput
+        from fieldlimits.pipeline.errors import BadInput
 
         raise BadInput("--cluster needs the dask extra: pip install 'fieldlimits[dask]'") from None
     if cluster == "local":
@@ -131,7 +131,7 @@ class _ToRunLog(logging.Handler):
 
 
 def _summary_markdown(summary, input_dir: str, db_path: str) -> str:
-    from schemas.caution import CAUTION
+    from fieldlimits.schemas.caution import CAUTION
 
     lines = [f"# fieldlimits run {summary.run_id}: {steps.network_name(input_dir)}, {summary.scenario}",
              "", f"**{CAUTION}**", "", f"- inputs: `{input_dir}`", f"- database: `{db_path}`",

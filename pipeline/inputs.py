@@ -14,7 +14,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from pipeline.errors import BadInput
+from fieldlimits.pipeline.errors import BadInput
 
 @dataclass
 class Inputs:
@@ -61,7 +61,7 @@ def check_inputs(folder: str | os.PathLike, progress=None):
     """Check an input folder without loading it (``schemas.validate.FolderCheck``: the
     problems and each table's row count); the wind rose is read in blocks, so memory stays
     bounded. ``progress(done, total, file)`` is called as the table files are read."""
-    from schemas.validate import check_folder as check
+    from fieldlimits.schemas.validate import check_folder as check
 
     return check(Path(folder), frames=False, progress=progress)
 
@@ -72,9 +72,9 @@ def errors_only(problems) -> list:
 
 def load_inputs(folder: str | os.PathLike) -> Inputs:
     """Validate and load an input folder; raise :class:`BadInput` listing every error."""
-    from schemas import hashing
-    from schemas.load import load_folder
-    from schemas.validate import InputError
+    from fieldlimits.schemas import hashing
+    from fieldlimits.schemas.load import load_folder
+    from fieldlimits.schemas.validate import InputError
 
     path = Path(folder).resolve()
     try:

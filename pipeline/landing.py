@@ -39,8 +39,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from physics import atmosphere, climatology, constants, landing, limits
-from schemas import results as result_tables
+from fieldlimits.physics import atmosphere, climatology, constants, landing, limits
+from fieldlimits.schemas import results as result_tables
 
 LANDING_COLUMNS: tuple[str, ...] = tuple(c.name for c in result_tables.LANDING_COMMON)
 """Columns of ``landing_direction`` and ``landing_airfield`` (``run_id`` first)."""
@@ -93,7 +93,7 @@ def landing_cases(tables, pairs: pd.DataFrame, temperature_offset_k: float = 0.0
     :func:`pipeline.cases.station_frame`, ``mu_brake`` (the condition's), ``mu_brake_dry`` and
     ``wet``.
     """
-    from pipeline import cases as case_io
+    from fieldlimits.pipeline import cases as case_io
 
     runways = tables["runways"]
     rw = runways[runways["airfield_id"].astype(str).isin(set(pairs["airfield_id"]))]
@@ -120,7 +120,7 @@ def landing_cases(tables, pairs: pd.DataFrame, temperature_offset_k: float = 0.0
 
 def aircraft_inputs(aircraft_table: pd.DataFrame, index: np.ndarray):
     """``physics.weightlimit.Aircraft`` and ``physics.landing.LandingConfig`` per case."""
-    from pipeline.chunks import aircraft_arrays
+    from fieldlimits.pipeline.chunks import aircraft_arrays
 
     config = landing.LandingConfig(**{name: aircraft_table[name].to_numpy(float)[index]
                                       for name in landing.LANDING_FIELDS})
@@ -248,7 +248,7 @@ def reliability_frame(cases: pd.DataFrame, aircraft_table: pd.DataFrame, climate
     ``wind_rose`` the SI input tables (at least the destinations). ``details`` (tests) gets
     the interpolated point masses, weights and scores.
     """
-    from pipeline import reliability as rel
+    from fieldlimits.pipeline import reliability as rel
 
     levels = np.asarray(levels, dtype=float)
     cases = cases[cases["condition"].isin(list(conditions))].reset_index(drop=True)

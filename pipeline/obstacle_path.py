@@ -91,10 +91,10 @@ def flight_path_view(tables, airfield_id: str, runway_id: str, month: int, aircr
     temperature_offset_k : float
         Climate scenario offset. [K]
     """
-    from physics import climb, enginefailure, flightpath as fp, limits, takeoffevents
-    from physics import weightlimit as wl
-    from pipeline import cases as case_io
-    from pipeline.explain import build_case
+    from fieldlimits.physics import climb, enginefailure, flightpath as fp, limits, takeoffevents
+    from fieldlimits.physics import weightlimit as wl
+    from fieldlimits.pipeline import cases as case_io
+    from fieldlimits.pipeline.explain import build_case
 
     table = tables["obstacles"]
     if table is None or len(table) == 0:

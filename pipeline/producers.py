@@ -47,7 +47,7 @@ ROW_PRODUCERS: list[RowProducer] = []
 """Producers always called, in order (append here)."""
 
 OPTIONAL_PRODUCERS: tuple[tuple[str, str], ...] = (
-    ("pipeline.reliability", "reliability_rows"),
+    ("fieldlimits.pipeline.reliability", "reliability_rows"),
 )
 """(module, function) pairs used when the module exists."""
 

@@ -27,8 +27,8 @@ from pathlib import Path
 
 import pandas as pd
 
-from pipeline import store
-from pipeline.errors import BadInput
+from fieldlimits.pipeline import store
+from fieldlimits.pipeline.errors import BadInput
 
 KEEP_RUNNING = "still running"
 KEEP_REUSED = "a running run reuses its results"

@@ -84,8 +84,8 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from physics import atmosphere, climatology, constants, limits
-from schemas.results import RESULT_COLUMNS
+from fieldlimits.physics import atmosphere, climatology, constants, limits
+from fieldlimits.schemas.results import RESULT_COLUMNS
 
 _KEY_STRIDE = 1000.0  # contour order key: direction index x this + factored headwind [m/s]
 GROUP_KEYS = ("airfield_id", "month", "aircraft_type_id", "condition")
@@ -288,9 +288,9 @@ def reliability_rows(context):
     are made for the runway conditions in ``context.params["reliability_conditions"]``
     when the run has that parameter, else for ``ReliabilitySettings.conditions`` (dry).
     """
-    from pipeline import cases as case_io
-    from pipeline.chunks import aircraft_arrays
-    from pipeline.producers import ProducerRows
+    from fieldlimits.pipeline import cases as case_io
+    from fieldlimits.pipeline.chunks import aircraft_arrays
+    from fieldlimits.pipeline.producers import ProducerRows
 
     levels = tuple(float(p) for p in (context.params.get("reliability_levels") or ()))
     if not levels:
@@ -316,13 +316,13 @@ chunk_reliability_rows = reliability_rows
 
 
 def _default_solver():
-    from physics.weightlimit import solve_takeoff_weight
+    from fieldlimits.physics.weightlimit import solve_takeoff_weight
 
     return solve_takeoff_weight
 
 
 def _default_aircraft_arrays(aircraft_table, index):
-    from physics.weightlimit import Aircraft
+    from fieldlimits.physics.weightlimit import Aircraft
 
     return Aircraft(**{f.name: aircraft_table[f.name].to_numpy(float)[index]
                        for f in dataclasses.fields(Aircraft)})
@@ -330,7 +330,7 @@ def _default_aircraft_arrays(aircraft_table, index):
 
 def _site(cases: pd.DataFrame, index: np.ndarray, site_cls=None, **override):
     if site_cls is None:
-        from physics.weightlimit import Site as site_cls
+        from fieldlimits.physics.weightlimit import Site as site_cls
     names = {f.name for f in dataclasses.fields(site_cls)}
     values = {n: cases[n].to_numpy(float)[index] for n in _SITE_FIELDS if n in names}
     values.update({k: np.asarray(v, dtype=float) for k, v in override.items()})
@@ -478,7 +478,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     n = len(cases)
     if n == 0:
         return None, None
-    from pipeline.cases import governing_obstacle_ids, obstacle_arrays
+    from fieldlimits.pipeline.cases import governing_obstacle_ids, obstacle_arrays
 
     case_obstacles, obstacle_ids = obstacle_arrays(cases, obstacles)
 

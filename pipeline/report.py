@@ -53,9 +53,9 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.colors import LinearSegmentedColormap
 from matplotlib.figure import Figure
 
-from pipeline import export, routes, store
-from pipeline.errors import BadInput
-from schemas.caution import CAUTION
+from fieldlimits.pipeline import export, routes, store
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas.caution import CAUTION
 
 #: Line colours per aircraft type, in type order (our own palette).
 TYPE_COLOURS = ("#2b5f8a", "#c8782a", "#4e8a4a", "#8a3f6d", "#3f8f8f", "#9a5a2e",
@@ -155,7 +155,7 @@ def load_report_data(db_path, run_id: int | None = None, compare_with="auto") ->
     before it, a baseline run against the baseline run before it, as ``fieldlimits compare``)
     or None (no comparison).
     """
-    from pipeline import compare
+    from fieldlimits.pipeline import compare
 
     with store.reader(db_path) as con:
         if not _exists(con, "runs"):
@@ -188,7 +188,7 @@ def load_report_data(db_path, run_id: int | None = None, compare_with="auto") ->
         data.aircraft = aircraft
     if airfields is not None:
         data.airfields = airfields
-    from pipeline import report_obstacles
+    from fieldlimits.pipeline import report_obstacles
 
     data.flight_paths = report_obstacles.load_flight_paths(db_path, int(rid))
     if compare_with is not None:
@@ -892,7 +892,7 @@ def _page(data: ReportData, result_links, tables) -> str:
     for aid, name in result_links["airfields"]:
         parts.append(f'<h3 id="airfield-{e(name)}">{e(aid)}</h3><img src="{e(name)}" '
                      f'alt="takeoff-weight limit by month, airfield {e(aid)}">')
-    from pipeline import report_obstacles
+    from fieldlimits.pipeline import report_obstacles
 
     parts.extend(report_obstacles.page_html(result_links.get("obstacles")))
     parts.append(f'<p class="caution">{e(CAUTION)}</p></body></html>')
@@ -1041,7 +1041,7 @@ def build_report(data: ReportData, out_dir, airfield_ids=None, route_ids=None,
         charts.append(p)
         links["airfields"].append((aid, p.name))
         say(f"airfield {i}/{len(fields_sel)}")
-    from pipeline import report_obstacles
+    from fieldlimits.pipeline import report_obstacles
 
     links["obstacles"] = report_obstacles.draw_flight_paths(data.flight_paths, fields_sel, out, footer)
     charts.extend(out / name for _, name in links["obstacles"])

@@ -26,8 +26,8 @@ _INPUTS = ("airfields", "runways", "climate_monthly", "obstacles")
 
 def _si_tables(frames: dict[str, pd.DataFrame]) -> dict[str, pd.DataFrame]:
     """Stored user-unit frames to SI (columns an older run lacks take their defaults)."""
-    from schemas.load import si_frame, user_frame
-    from schemas.tables import TABLES
+    from fieldlimits.schemas.load import si_frame, user_frame
+    from fieldlimits.schemas.tables import TABLES
 
     out = {}
     for name, df in frames.items():
@@ -44,8 +44,8 @@ def load_flight_paths(db_path, run_id: int, mtow_kg: dict | None = None) -> list
     """Flight-path views (:class:`pipeline.obstacle_path.FlightPathView`) of the run's
     obstacle-limited best runway directions, one per direction (the type and month whose limit
     is lowest as a share of MTOW); empty when there are none."""
-    from pipeline import store
-    from pipeline.obstacle_path import flight_path_view
+    from fieldlimits.pipeline import store
+    from fieldlimits.pipeline.obstacle_path import flight_path_view
 
     with store.reader(db_path) as con:
         limited = con.execute(store.sql("report_obstacle_limited"), {"run_id": run_id}).df()
@@ -70,7 +70,7 @@ def load_flight_paths(db_path, run_id: int, mtow_kg: dict | None = None) -> list
 
 def _draw_path_axes(ax, view, x_max, obstacles=True, labels=True):
     """Gross and net path, the end of TODA and the obstacles on one axes."""
-    from physics.flightpath import OBSTACLE_CLEARANCE_M
+    from fieldlimits.physics.flightpath import OBSTACLE_CLEARANCE_M
 
     for xs, hs, colour, style, label in ((view.gross_x_m, view.gross_h_m, GROSS_COLOUR, "-", "gross path"),
                                         (view.net_x_m, view.net_h_m, NET_COLOUR, "--", "net path (25.115)")):
@@ -97,9 +97,9 @@ def _draw_path_axes(ax, view, x_max, obstacles=True, labels=True):
 def flight_path_figure(view, footer: str | None = None):
     """The chart of one :class:`~pipeline.obstacle_path.FlightPathView` (a matplotlib Figure):
     the whole path above, the obstacles' stretch below."""
-    from physics.constants import FT_M
-    from physics.flightpath import OBSTACLE_CLEARANCE_M, PATH_END_HEIGHT_M
-    from pipeline.report import MONTHS, _figure, _footer
+    from fieldlimits.physics.constants import FT_M
+    from fieldlimits.physics.flightpath import OBSTACLE_CLEARANCE_M, PATH_END_HEIGHT_M
+    from fieldlimits.pipeline.report import MONTHS, _figure, _footer
 
     fig = _figure(10.0, 7.2)
     ob = view.obstacles
@@ -143,14 +143,14 @@ def flight_path_figure(view, footer: str | None = None):
 
 def draw_flight_path(view, path: Path, footer: str | None = None) -> Path:
     """Write the chart of one view to ``path`` (PNG)."""
-    from pipeline.report import _save
+    from fieldlimits.pipeline.report import _save
 
     return _save(flight_path_figure(view, footer), Path(path))
 
 
 def draw_flight_paths(views, airfield_ids, out_dir, footer: str | None = None) -> list[tuple[str, str]]:
     """Charts of the views of the selected airfields; (title, file name) per chart."""
-    from pipeline.report import unique_slugs
+    from fieldlimits.pipeline.report import unique_slugs
 
     keep = [v for v in views if v.airfield_id in set(airfield_ids)]
     slugs = unique_slugs(f"{v.airfield_id}-{v.runway_id}" for v in keep)

@@ -23,10 +23,10 @@ import numpy as np
 import pandas as pd
 import pyproj
 
-from physics import routefuel
-from pipeline.errors import BadInput
-from schemas import results as result_tables
-from schemas.tables import ROUTE_DEFAULTS
+from fieldlimits.physics import routefuel
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas import results as result_tables
+from fieldlimits.schemas.tables import ROUTE_DEFAULTS
 
 _GEOD = pyproj.Geod(ellps="WGS84")
 

@@ -37,12 +37,12 @@ from typing import Callable, Sequence
 import duckdb
 import pandas as pd
 
-from pipeline import cases as case_io
-from pipeline import chunks, store
-from pipeline import progress as progress_mod
-from pipeline.chunks import ChunkResult
-from pipeline.inputs import Inputs, load_inputs
-from schemas.results import CONDITIONS
+from fieldlimits.pipeline import cases as case_io
+from fieldlimits.pipeline import chunks, store
+from fieldlimits.pipeline import progress as progress_mod
+from fieldlimits.pipeline.chunks import ChunkResult
+from fieldlimits.pipeline.inputs import Inputs, load_inputs
+from fieldlimits.schemas.results import CONDITIONS
 
 #: Messages about the run's steps; ``fieldlimits run`` prints them on stderr and the Prefect
 #: flow also sends them to the flow run's log (the Prefect UI).
@@ -72,7 +72,7 @@ def scenario_label(temperature_offset_k: float) -> str:
 
 
 def _bad(message: str):
-    from pipeline.errors import BadInput
+    from fieldlimits.pipeline.errors import BadInput
 
     return BadInput(message)
 
@@ -151,7 +151,7 @@ class RunParams:
 
     def _check_landing_rule(self) -> None:
         """Landing shares in (0, 1], the wet increase from 0 to 1 (100 %)."""
-        from pipeline.errors import BadInput
+        from fieldlimits.pipeline.errors import BadInput
 
         for name in ("landing_jet_share", "landing_turboprop_share"):
             v = getattr(self, name)
@@ -170,7 +170,7 @@ class RunParams:
         known = {f.name for f in dataclasses.fields(cls)}
         unknown = sorted(set(values) - known)
         if unknown:
-            from pipeline.errors import BadInput
+            from fieldlimits.pipeline.errors import BadInput
 
             raise BadInput(f"unknown run parameters: {', '.join(unknown)}")
         values = dict(values)
@@ -241,7 +241,7 @@ def reuse_key(code: str, params: RunParams) -> str:
 
 def content_hashes(inputs: Inputs) -> pd.DataFrame:
     """Per-airfield and per-aircraft-type content hashes (:mod:`schemas.hashing`)."""
-    from schemas import hashing
+    from fieldlimits.schemas import hashing
 
     rows = [("airfield", k, v) for k, v in hashing.airfield_hashes(inputs.user_tables).items()]
     rows += [("aircraft_type", k, v) for k, v in hashing.aircraft_type_hashes(inputs.user_tables).items()]
@@ -289,7 +289,7 @@ def network_name(input_dir) -> str:
     progress lines)."""
     folder = Path(str(input_dir)).resolve()
     try:
-        from demo_network import demo_path
+        from fieldlimits.demo_network import demo_path
 
         if folder == Path(demo_path()).resolve():
             return "demo network"
@@ -541,9 +541,9 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
     if "routes" not in tables or tables["routes"] is None or len(tables["routes"]) == 0:
         return None
     try:
-        routes = importlib.import_module("pipeline.routes")
+        routes = importlib.import_module("fieldlimits.pipeline.routes")
     except ModuleNotFoundError as exc:
-        if exc.name == "pipeline.routes":
+        if exc.name == "fieldlimits.pipeline.routes":
             return None
         raise
     func = getattr(routes, "route_payload_frame", None)
@@ -567,7 +567,7 @@ LANDING_FILES = ("landing_direction.parquet", "landing_airfield.parquet")
 def landing_rows(prepared: PreparedRun, work: Path) -> pd.DataFrame:
     """Landing-mass limits of the route destinations (:mod:`pipeline.landing`) written to
     ``<work>/landing_*.parquet``; returns the airfield rows for the route payloads."""
-    from pipeline import landing
+    from fieldlimits.pipeline import landing
 
     tables = prepared.inputs.tables
     rose = tables.get("wind_rose")

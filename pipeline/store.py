@@ -59,8 +59,8 @@ from typing import Iterator, Sequence
 import duckdb
 import pandas as pd
 
-from pipeline.errors import BadInput, FieldlimitsError, StoreBusy
-from schemas import results as result_tables
+from fieldlimits.pipeline.errors import BadInput, FieldlimitsError, StoreBusy
+from fieldlimits.schemas import results as result_tables
 
 SQL_DIR = Path(__file__).with_name("sql")
 DEFAULT_DB = "fieldlimits.duckdb"
@@ -681,8 +681,8 @@ def _append_input(con, table: str, source: InputTable, create_sql: str | None) -
 def _input_ddl(table: str, sql_name: str) -> str | None:
     """DDL of a stored input table from :mod:`schemas.ddl` (user units, column comments)."""
     try:
-        from schemas import ddl
-        from schemas.tables import TABLES
+        from fieldlimits.schemas import ddl
+        from fieldlimits.schemas.tables import TABLES
     except ImportError:
         return None
     if table not in TABLES:

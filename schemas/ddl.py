@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-from schemas.tables import TABLES, Column
+from fieldlimits.schemas.tables import TABLES, Column
 
 _SQL_TYPES = {"str": "VARCHAR", "float": "DOUBLE", "int": "INTEGER"}
 

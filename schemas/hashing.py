@@ -21,7 +21,7 @@ import hashlib
 import numpy as np
 import pandas as pd
 
-from schemas.tables import TABLES
+from fieldlimits.schemas.tables import TABLES
 
 VERSION = "v1"
 

@@ -19,9 +19,9 @@ from pathlib import Path
 
 import pandas as pd
 
-from schemas.tables import TABLES, THRUST_MODELS, TableSpec
-from schemas.typeclasses import defaulted_columns, fill_class_defaults
-from schemas.validate import InputError, Problem, check_folder
+from fieldlimits.schemas.tables import TABLES, THRUST_MODELS, TableSpec
+from fieldlimits.schemas.typeclasses import defaulted_columns, fill_class_defaults
+from fieldlimits.schemas.validate import InputError, Problem, check_folder
 
 #: Field order of ``physics.weightlimit.Aircraft`` (DEVELOPERS.md); the SI aircraft frame
 #: carries exactly these columns after ``aircraft_type_id`` and ``name``, then

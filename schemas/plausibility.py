@@ -59,7 +59,7 @@ class _Warnings:
     """Warnings of one check: the first rows listed, the rest counted (as schemas.validate)."""
 
     def __init__(self, out: list, file: str, column: str, expected: str):
-        from schemas.validate import MAX_ROWS_PER_CHECK
+        from fieldlimits.schemas.validate import MAX_ROWS_PER_CHECK
 
         self.out, self.file, self.column, self.expected = out, file, column, expected
         self.room = MAX_ROWS_PER_CHECK
@@ -67,7 +67,7 @@ class _Warnings:
         self.more: list[int] = []
 
     def add(self, row: int, value, message: str) -> None:
-        from schemas.validate import Problem, _text
+        from fieldlimits.schemas.validate import Problem, _text
 
         if self.listed < self.room:
             self.out.append(Problem("warning", self.file, int(row), self.column, _text(value),
@@ -77,7 +77,7 @@ class _Warnings:
             self.more.append(int(row))
 
     def close(self) -> None:
-        from schemas.validate import _rows_summary
+        from fieldlimits.schemas.validate import _rows_summary
 
         if self.more:
             self.out.append(_rows_summary("warning", self.file, self.column, self.expected)(

@@ -1,6 +1,6 @@
 """The input reference (Markdown), generated from :mod:`schemas.tables`.
 
-``python -m schemas.reference`` prints it; ``python -m schemas.reference --write README.md``
+``python -m fieldlimits.schemas.reference`` prints it; ``python -m fieldlimits.schemas.reference --write README.md``
 replaces only the block between ``<!-- input-reference:start -->`` and
 ``<!-- input-reference:end -->`` in that file.
 """
@@ -11,8 +11,8 @@ import argparse
 import sys
 from pathlib import Path
 
-from schemas.tables import FILE_SUFFIXES, TABLES, TableSpec
-from schemas.typeclasses import DEFAULTED_COLUMNS
+from fieldlimits.schemas.tables import FILE_SUFFIXES, TABLES, TableSpec
+from fieldlimits.schemas.typeclasses import DEFAULTED_COLUMNS
 
 START = "<!-- input-reference:start -->"
 END = "<!-- input-reference:end -->"
@@ -92,7 +92,7 @@ def read_block(text: str) -> str:
 
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(
-        prog="python -m schemas.reference",
+        prog="python -m fieldlimits.schemas.reference",
         description="Print the input-table reference, or write it into a Markdown file "
                     "between the input-reference markers.")
     parser.add_argument("--write", metavar="FILE", type=Path,

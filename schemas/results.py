@@ -1,7 +1,7 @@
 """Definitions of the output tables fieldlimits writes to DuckDB.
 
 One definition per table drives the DDL files ``pipeline/sql/create_<table>.sql`` (generated
-with ``python -m pipeline.ddl --write`` and checked by a test) and the column reference in
+with ``python -m fieldlimits.pipeline.ddl --write`` and checked by a test) and the column reference in
 the documentation. Every column says its unit; ``[-]`` means dimensionless, ``[text]`` a
 name or code.
 
@@ -284,6 +284,6 @@ def create_table_sql(table: str) -> str:
                     if stored != table else "")
     return (
         f"-- {table}: {DESCRIPTIONS[table]}.\n" + by_reference +
-        f"-- Generated from schemas/results.py by `python -m pipeline.ddl --write`; edit that file, not this one.\n"
+        f"-- Generated from schemas/results.py by `python -m fieldlimits.pipeline.ddl --write`; edit that file, not this one.\n"
         f"CREATE TABLE IF NOT EXISTS {stored} (\n" + "\n".join(lines) + "\n);\n"
     )

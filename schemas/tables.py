@@ -23,14 +23,14 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 try:  # the friction table owns the surface names once it exists
-    from physics.friction import SURFACES as _SURFACES
+    from fieldlimits.physics.friction import SURFACES as _SURFACES
 except Exception:  # pragma: no cover - physics/friction.py not written yet
     _SURFACES = ("paved", "gravel", "grass", "dirt")
 
-from schemas.typeclasses import CLASS_NAMES
+from fieldlimits.schemas.typeclasses import CLASS_NAMES
 
 try:
-    from physics.thrust import MODEL_CODES as _MODEL_CODES
+    from fieldlimits.physics.thrust import MODEL_CODES as _MODEL_CODES
 except Exception:  # pragma: no cover - physics/thrust.py not written yet
     _MODEL_CODES = {"quadratic": 0, "turbofan": 1, "propeller": 2}
 

@@ -225,7 +225,7 @@ def resolve_class(thrust_model, engine_count, mtow_kg, max_passengers) -> np.nda
 
 
 def _stall_speed_kt(mtow_kg, wing_area_m2, cl_max):
-    from physics import aerodynamics, constants
+    from fieldlimits.physics import aerodynamics, constants
 
     vs = aerodynamics.stall_speed_mps(mtow_kg, constants.RHO0_KG_M3, wing_area_m2, cl_max)
     return np.asarray(vs, dtype=float) / constants.KT_MPS
@@ -245,7 +245,7 @@ def default_value(name: str, column: str, row) -> float:
     else:
         value = d.value * float(_stall_speed_kt(float(row["mtow_kg"]), float(row["wing_area_m2"]),
                                                 float(row["cl_max_takeoff"])))
-    from schemas.tables import AIRCRAFT_TYPES
+    from fieldlimits.schemas.tables import AIRCRAFT_TYPES
 
     col = AIRCRAFT_TYPES.column(column)
     return float(np.clip(value, col.min, col.max))

@@ -60,8 +60,8 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from schemas.tables import FILE_SUFFIXES, TABLES, TableSpec
-from schemas.typeclasses import fill_class_defaults, shown_values
+from fieldlimits.schemas.tables import FILE_SUFFIXES, TABLES, TableSpec
+from fieldlimits.schemas.typeclasses import fill_class_defaults, shown_values
 
 MAX_ROWS_PER_CHECK = 50
 """At most this many rows are listed for one check of one column; the rest are counted."""
@@ -241,7 +241,7 @@ def check_folder(path, *, frames: bool = True, progress: Progress | None = None)
                      keep=frames or name not in STREAMED)
         meter.finished(located)
     _completeness(out, coverage)
-    from schemas import plausibility  # feet for metres inside the ranges: warnings
+    from fieldlimits.schemas import plausibility  # feet for metres inside the ranges: warnings
 
     plausibility.check(out.frames, {n: p.name for n, p in out.files.items()}, out.problems)
     return out
@@ -1690,7 +1690,7 @@ def _composite_reference(df, fk, ref, file, ref_file, pr) -> None:
 
 
 def _obstacle_checks(df, file, pr) -> None:
-    from schemas import departure
+    from fieldlimits.schemas import departure
 
     d = df["distance_from_toda_end_m"].to_numpy()
     with np.errstate(invalid="ignore"):
@@ -1705,7 +1705,7 @@ def _obstacle_checks(df, file, pr) -> None:
             f"inside the departure area: |offset| ≤ {departure.area_text()}",
             "obstacle outside the departure area: it is left out of the run (check its "
             "lateral offset)")
-    from physics.flightpath import OBSTACLE_CLEARANCE_M, PATH_END_HEIGHT_M
+    from fieldlimits.physics.flightpath import OBSTACLE_CLEARANCE_M, PATH_END_HEIGHT_M
 
     top = PATH_END_HEIGHT_M - OBSTACLE_CLEARANCE_M
     h = df["height_m"].to_numpy()

@@ -9,8 +9,8 @@ from __future__ import annotations
 
 import math
 
-from pipeline.commands import add_db_argument
-from pipeline.errors import BadInput
+from fieldlimits.pipeline.commands import add_db_argument
+from fieldlimits.pipeline.errors import BadInput
 
 
 def floats(text: str, option: str = "--reliability") -> tuple[float, ...]:
@@ -76,7 +76,7 @@ def add_run_options(parser, *, serve: bool = False) -> None:
 
 def run_params(args):
     """:class:`pipeline.steps.RunParams` from the parsed options (raises BadInput, exit 2)."""
-    from pipeline.steps import DEFAULT_CHUNK_SIZE, RunParams
+    from fieldlimits.pipeline.steps import DEFAULT_CHUNK_SIZE, RunParams
 
     if not math.isfinite(args.temperature_offset):
         raise BadInput(f"--temperature-offset must be a number of kelvin; got {args.temperature_offset}")
@@ -109,7 +109,7 @@ def input_folder(args) -> str:
     import os
 
     if args.input_dir is None:
-        from demo_network import demo_path
+        from fieldlimits.demo_network import demo_path
 
         return str(demo_path())
     folder = os.path.abspath(args.input_dir)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import sys
 
-from schemas.caution import CAUTION
+from fieldlimits.schemas.caution import CAUTION
 
 NAME = "calibrate"
 HELP = "fit aircraft-type coefficients to published field lengths (reference_points) and write a calibrated copy"
@@ -21,8 +21,8 @@ DESCRIPTION = (
 
 
 def add_arguments(parser) -> None:
-    from physics.calibration import POINT_SHARE_SD
-    from pipeline.calibration import FIT_COLUMNS
+    from fieldlimits.physics.calibration import POINT_SHARE_SD
+    from fieldlimits.pipeline.calibration import FIT_COLUMNS
 
     parser.add_argument("input_dir", metavar="DIR", help="input folder with a reference_points table")
     parser.add_argument("--out", required=True, metavar="OUT",
@@ -41,7 +41,7 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from pipeline import calibration, calibration_report
+    from fieldlimits.pipeline import calibration, calibration_report
 
     fit = calibration.parse_fit_choice(args.fit)
     live = not args.quiet and sys.stderr.isatty()

@@ -20,9 +20,9 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from pipeline import progress
-    from pipeline.inputs import check_inputs, errors_only
-    from schemas.tables import TABLES
+    from fieldlimits.pipeline import progress
+    from fieldlimits.pipeline.inputs import check_inputs, errors_only
+    from fieldlimits.schemas.tables import TABLES
 
     reporter = progress.CheckProgress(after_s=PROGRESS_AFTER_S)
     try:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import sys
 
-from pipeline.commands import add_db_argument
+from fieldlimits.pipeline.commands import add_db_argument
 
 NAME = "compare"
 HELP = "what changed between two runs: route payloads and takeoff-weight limits that moved, and why"
@@ -40,8 +40,8 @@ def add_arguments(parser) -> None:
 def run(args) -> int:
     from pathlib import Path
 
-    from pipeline import compare, export
-    from pipeline.errors import BadInput
+    from fieldlimits.pipeline import compare, export
+    from fieldlimits.pipeline.errors import BadInput
 
     if len(args.runs) > 2:
         raise BadInput(f"compare takes at most two run numbers (BEFORE AFTER); got {len(args.runs)}")
@@ -68,7 +68,7 @@ def run(args) -> int:
         out.write(result.text(args.top) + "\n")
         if args.output:
             out.write(f"\nwrote {rows} rows to {args.output}\n")
-        from schemas.caution import CAUTION
+        from fieldlimits.schemas.caution import CAUTION
 
         out.write(f"\n{CAUTION}\n")
     return 0

@@ -42,11 +42,11 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from pipeline.explain import explain_case
+    from fieldlimits.pipeline.explain import explain_case
 
     if getattr(args, "landing", False):
-        from pipeline.explain_landing import explain_landing
-        from pipeline.steps import RunParams
+        from fieldlimits.pipeline.explain_landing import explain_landing
+        from fieldlimits.pipeline.steps import RunParams
 
         rule = RunParams(landing_jet_share=args.landing_jet_share,
                          landing_turboprop_share=args.landing_turboprop_share,

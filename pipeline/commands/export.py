@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from pipeline.commands import add_db_argument
+from fieldlimits.pipeline.commands import add_db_argument
 
 NAME = "export"
 HELP = "export a table, view or query to CSV (plain CSV, caution in a last column, formula-safe cells)"
@@ -27,7 +27,7 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from pipeline.export import export_csv
+    from fieldlimits.pipeline.export import export_csv
 
     rows = export_csv(args.db, args.what, args.output, run_id=args.run)
     print(f"wrote {rows} rows to {args.output}")

@@ -5,7 +5,7 @@ from __future__ import annotations
 import time
 from pathlib import Path
 
-from pipeline.errors import BadInput
+from fieldlimits.pipeline.errors import BadInput
 
 NAME = "generate"
 HELP = "write a synthetic invented network of N airfields (for trials and benchmarks)"
@@ -23,7 +23,7 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from demo_network.synthetic import OBSTACLE_SHARE, generate_network
+    from fieldlimits.demo_network.synthetic import OBSTACLE_SHARE, generate_network
 
     if args.airfields < 1:
         raise BadInput(f"--airfields must be at least 1; got {args.airfields}")

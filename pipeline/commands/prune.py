@@ -5,8 +5,8 @@ from __future__ import annotations
 import sys
 from datetime import datetime
 
-from pipeline.commands import add_db_argument
-from pipeline.errors import BadInput
+from fieldlimits.pipeline.commands import add_db_argument
+from fieldlimits.pipeline.errors import BadInput
 
 NAME = "prune"
 HELP = "remove old runs (--keep N newest complete runs, --before DATE); remaining runs stay whole"
@@ -58,7 +58,7 @@ def _mib(n: int) -> str:
 
 
 def run(args) -> int:
-    from pipeline import prune
+    from fieldlimits.pipeline import prune
 
     out = sys.stdout
     before = _date(args.before) if args.before is not None else None

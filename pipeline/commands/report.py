@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from schemas.caution import CAUTION
+from fieldlimits.schemas.caution import CAUTION
 
 NAME = "report"
 HELP = "draw charts and write an HTML report and the payload-planning CSV for a run"
@@ -22,7 +22,7 @@ DESCRIPTION = (
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    from pipeline.store import DEFAULT_DB
+    from fieldlimits.pipeline.store import DEFAULT_DB
 
     parser.add_argument("--db", default=DEFAULT_DB,
                         help=f"DuckDB file to read (default: ./{DEFAULT_DB})")
@@ -42,9 +42,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from pipeline import report
+    from fieldlimits.pipeline import report
 
-    from pipeline.errors import BadInput
+    from fieldlimits.pipeline.errors import BadInput
 
     compare_with = args.compare_with.strip().lower()
     if compare_with == "none":

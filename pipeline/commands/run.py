@@ -7,8 +7,8 @@ import sys
 import threading
 import time
 
-from pipeline.commands._run_options import add_run_options, input_folder, run_params
-from pipeline.errors import BadInput
+from fieldlimits.pipeline.commands._run_options import add_run_options, input_folder, run_params
+from fieldlimits.pipeline.errors import BadInput
 
 NAME = "run"
 HELP = "compute takeoff-weight limits for an input folder (the demo network by default) and store the run"
@@ -126,7 +126,7 @@ class Stopper:
         raise Stopped(self.reason)
 
     def _watchdog(self) -> None:
-        from pipeline import steps
+        from fieldlimits.pipeline import steps
 
         deadline = time.monotonic() + 30.0
         while time.monotonic() < deadline:
@@ -138,7 +138,7 @@ class Stopper:
 
     def finish(self) -> None:
         """One line, the server stopped, exit 130 (without waiting for worker threads)."""
-        from pipeline import steps
+        from fieldlimits.pipeline import steps
 
         with self._lock:
             if self._done:
@@ -166,7 +166,7 @@ class Stopper:
 
 def _import_flow() -> None:
     try:
-        import pipeline.flow  # noqa: F401
+        import fieldlimits.pipeline.flow  # noqa: F401
     except Exception:  # the main thread imports it again and reports the error
         pass
 
@@ -195,7 +195,7 @@ def _scenario_note(summary, db) -> str | None:
 def run(args) -> int:
     import logging
 
-    from pipeline import progress, steps
+    from fieldlimits.pipeline import progress, steps
 
     global _T0
     if not getattr(args, "command_line", False):  # called from Python: the call is the start
@@ -222,7 +222,7 @@ def run(args) -> int:
     server = importer = None
     try:
         if not args.no_prefect and not os.environ.get("PREFECT_API_URL"):
-            from pipeline.prefect_api import TemporaryServer
+            from fieldlimits.pipeline.prefect_api import TemporaryServer
 
             server = stopper.server = TemporaryServer.start()  # overlaps everything up to the flow
             say("starting Prefect's temporary server in the background")
@@ -250,7 +250,7 @@ def run(args) -> int:
             if server is not None:
                 say(f"Prefect's temporary server answered ({server.api_url}); flow run "
                     f"\"{steps.network_name(input_dir)} · {params.scenario}\"")
-            from pipeline.flow import run_with_prefect
+            from fieldlimits.pipeline.flow import run_with_prefect
 
             summary = run_with_prefect(input_dir, args.db, params, cluster=args.cluster,
                                        workers=args.workers, work_root=args.work_dir,

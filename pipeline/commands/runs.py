@@ -6,7 +6,7 @@ import json
 import sys
 import textwrap
 
-from pipeline.commands import add_db_argument
+from fieldlimits.pipeline.commands import add_db_argument
 
 NAME = "runs"
 HELP = "list the recent runs: status, times, scenario, cases, rows; tells a live run from a dead one"
@@ -83,7 +83,7 @@ def _table(frame) -> list[str]:
 
 
 def _notes(frame, db) -> list[str]:
-    from pipeline import store
+    from fieldlimits.pipeline import store
 
     lines = []
     for r in frame.itertuples(index=False):
@@ -109,7 +109,7 @@ def _notes(frame, db) -> list[str]:
 
 def _busy(db, error) -> int:
     """The database is held by a writer: show what the heartbeat files say."""
-    from pipeline import store
+    from fieldlimits.pipeline import store
 
     print(f"{error}; runs known from their heartbeat files:")
     found = store.heartbeat_runs(db)
@@ -121,9 +121,9 @@ def _busy(db, error) -> int:
 
 
 def run(args) -> int:
-    from pipeline import store
-    from pipeline.errors import BadInput, StoreBusy
-    from pipeline import export
+    from fieldlimits.pipeline import store
+    from fieldlimits.pipeline.errors import BadInput, StoreBusy
+    from fieldlimits.pipeline import export
 
     if args.limit < 0:
         raise BadInput(f"--limit must be 0 (all) or a positive number of runs; got {args.limit}")

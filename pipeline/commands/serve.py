@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import os
 
-from pipeline.commands._run_options import add_run_options, input_folder, run_params
-from pipeline.errors import BadInput
+from fieldlimits.pipeline.commands._run_options import add_run_options, input_folder, run_params
+from fieldlimits.pipeline.errors import BadInput
 
 NAME = "serve"
 HELP = "rerun on a cron schedule (a Prefect deployment; needs `prefect server start`)"
@@ -51,7 +51,7 @@ def run(args) -> int:
         raise BadInput(
             "schedules need a running Prefect server: run `prefect server start` in another "
             "shell, then `export PREFECT_API_URL=http://127.0.0.1:4200/api` and try again")
-    from pipeline.flow import _task_runner, fieldlimits_run
+    from fieldlimits.pipeline.flow import _task_runner, fieldlimits_run
 
     flow = fieldlimits_run
     if args.cluster or args.workers:

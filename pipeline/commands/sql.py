@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import sys
 
-from pipeline.commands import add_db_argument
-from pipeline.errors import BadInput
+from fieldlimits.pipeline.commands import add_db_argument
+from fieldlimits.pipeline.errors import BadInput
 
 NAME = "sql"
 HELP = "run a read-only SQL query on the store; print a table, CSV or JSON"
@@ -33,7 +33,7 @@ def add_arguments(parser) -> None:
 def run(args) -> int:
     import duckdb
 
-    from pipeline import export, store
+    from fieldlimits.pipeline import export, store
 
     if args.max_rows < 1:
         raise BadInput(f"--max-rows must be at least 1; got {args.max_rows}")

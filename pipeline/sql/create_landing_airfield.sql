@@ -1,7 +1,7 @@
 -- landing_airfield: best landing direction per run, destination, month, aircraft type, condition and basis.
 -- Rows stored once under the run that computed them; the view landing_airfield
 -- (view_landing_airfield.sql) gives every run its full rows.
--- Generated from schemas/results.py by `python -m pipeline.ddl --write`; edit that file, not this one.
+-- Generated from schemas/results.py by `python -m fieldlimits.pipeline.ddl --write`; edit that file, not this one.
 CREATE TABLE IF NOT EXISTS landing_airfield_stored (
     run_id                         BIGINT NOT NULL,  -- [-] run number
     airfield_id                    VARCHAR NOT NULL,  -- [text] destination airfield id

@@ -1,7 +1,7 @@
 -- landing_direction: landing-mass limit per run, destination runway direction, month, aircraft type and condition (design day).
 -- Rows stored once under the run that computed them; the view landing_direction
 -- (view_landing_direction.sql) gives every run its full rows.
--- Generated from schemas/results.py by `python -m pipeline.ddl --write`; edit that file, not this one.
+-- Generated from schemas/results.py by `python -m fieldlimits.pipeline.ddl --write`; edit that file, not this one.
 CREATE TABLE IF NOT EXISTS landing_direction_stored (
     run_id                         BIGINT NOT NULL,  -- [-] run number
     airfield_id                    VARCHAR NOT NULL,  -- [text] destination airfield id

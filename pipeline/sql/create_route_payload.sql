@@ -1,7 +1,7 @@
 -- route_payload: payload available per run, route, aircraft type, month, origin condition and basis.
 -- Rows stored once under the run that computed them; the view route_payload
 -- (view_route_payload.sql) gives every run its full rows.
--- Generated from schemas/results.py by `python -m pipeline.ddl --write`; edit that file, not this one.
+-- Generated from schemas/results.py by `python -m fieldlimits.pipeline.ddl --write`; edit that file, not this one.
 CREATE TABLE IF NOT EXISTS route_payload_stored (
     run_id                         BIGINT NOT NULL,  -- [-] run number
     route_id                       VARCHAR NOT NULL,  -- [text] route id

@@ -1,5 +1,5 @@
 -- runs: one row per run: status, times, parameters, input hashes, code version, row counts.
--- Generated from schemas/results.py by `python -m pipeline.ddl --write`; edit that file, not this one.
+-- Generated from schemas/results.py by `python -m fieldlimits.pipeline.ddl --write`; edit that file, not this one.
 CREATE TABLE IF NOT EXISTS runs (
     run_id                    BIGINT NOT NULL,  -- [-] run number, increasing
     status                    VARCHAR NOT NULL,  -- [text] running, complete, failed or interrupted

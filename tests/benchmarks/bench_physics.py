@@ -90,8 +90,8 @@ def main(argv=None):
     parser.add_argument("--no-malloc-tuning", action="store_true", help="measure with default malloc settings")
     args = parser.parse_args(argv)
 
-    from physics import groundrun, limits, thrust
-    from physics import weightlimit as wl
+    from fieldlimits.physics import groundrun, limits, thrust
+    from fieldlimits.physics import weightlimit as wl
     from tests.physics import fleet
     from tests.physics.reference_loop import loop_solve
 
@@ -125,7 +125,7 @@ def main(argv=None):
     mass = 0.5 * (a.oew_kg + a.mtow_kg)
 
     def mixed_ground_runs():
-        from physics import aerodynamics as aero
+        from fieldlimits.physics import aerodynamics as aero
 
         vs = aero.stall_speed_mps(mass, cases.density_kg_m3, a.wing_area_m2, a.cl_max_takeoff)
         return groundrun.ground_run_for_thrust_law(

@@ -21,7 +21,7 @@ server), sampled every 0.2 s with psutil, and the kernel's peak of the largest s
 process (``ru_maxrss``); the 1-minute load average before and after (the machine may be
 shared). ``--breakdown`` adds one run per size of the same steps in one process without
 Prefect, timing each step (load inputs, plan, build cases, chunks, best direction, routes,
-load into DuckDB). Networks come from ``python -m demo_network.synthetic`` (seed ``--seed``;
+load into DuckDB). Networks come from ``python -m fieldlimits.demo_network.synthetic`` (seed ``--seed``;
 ``--networks DIR`` keeps them between invocations; ``--obstacles S``: a share S of the runway
 directions get 1 to 10 obstacles each, 0 by default, the network of the earlier figures). Targets: demo < 30 s, 2 000 airfields
 < 90 s and < 2 GiB (issue 4); 20 000 airfields < 10 min and < 3 GiB (issue 8).
@@ -78,8 +78,8 @@ print(json.dumps({"rc": p.returncode, "seconds": dt, "peak_rss_bytes": rss,
 _STEPS = r"""
 import json, sys, time
 from concurrent.futures import ThreadPoolExecutor, as_completed
-from pipeline import chunks, steps
-from pipeline.steps import RunParams
+from fieldlimits.pipeline import chunks, steps
+from fieldlimits.pipeline.steps import RunParams
 net, db, levels = sys.argv[1], sys.argv[2], sys.argv[3]
 levels = () if levels == "none" else tuple(float(x) for x in levels.split(","))
 t = {}
@@ -129,7 +129,7 @@ def network(n: int, seed: int, folder: Path, env: dict, obstacles: float = 0.0) 
     if (net / "airfields.csv").exists():
         return net, 0.0
     t0 = time.monotonic()
-    subprocess.run([sys.executable, "-m", "demo_network.synthetic", "--airfields", str(n), "--seed",
+    subprocess.run([sys.executable, "-m", "fieldlimits.demo_network.synthetic", "--airfields", str(n), "--seed",
                     str(seed), "--out", str(net), "--obstacle-share", str(obstacles)], check=True, env=env,
                    cwd=REPO, capture_output=True)
     return net, time.monotonic() - t0
@@ -215,7 +215,7 @@ def main() -> int:
     tmp = Path(tempfile.mkdtemp(prefix="fieldlimits-bench-"))
     env = {**os.environ, "PYTHONPATH": str(REPO) + os.pathsep + os.environ.get("PYTHONPATH", "")}
     env.setdefault("PREFECT_HOME", str(tmp / "prefect-home"))
-    base = [sys.executable, "-m", "pipeline.cli", "run"]
+    base = [sys.executable, "-m", "fieldlimits", "run"]
     first_use = None
     if not a.no_prefect:
         # A fresh PREFECT_HOME: Prefect builds its SQLite database on first use (about 10 s
@@ -243,7 +243,7 @@ def main() -> int:
     elif a.airfields:
         net = tmp / f"syn{a.airfields}"
         t0 = time.monotonic()
-        subprocess.run([sys.executable, "-m", "pipeline.cli", "generate", str(net), "--airfields",
+        subprocess.run([sys.executable, "-m", "fieldlimits", "generate", str(net), "--airfields",
                         str(a.airfields), "--seed", str(a.seed), "--obstacle-share", str(a.obstacles)],
                        check=True, env=env, cwd=REPO, capture_output=True)
         gen_s = time.monotonic() - t0

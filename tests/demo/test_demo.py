@@ -7,9 +7,9 @@ import re
 import numpy as np
 import pytest
 
-from demo_network import demo_path
-from schemas.load import load_folder
-from schemas.validate import validate_folder
+from fieldlimits.demo_network import demo_path
+from fieldlimits.schemas.load import load_folder
+from fieldlimits.schemas.validate import validate_folder
 
 
 @pytest.fixture(scope="module")
@@ -29,12 +29,12 @@ def test_demo_path_is_inside_the_package_and_has_a_note():
 
 
 def test_demo_csv_files_match_their_builder(tmp_path):
-    from demo_network.build_demo import write
+    from fieldlimits.demo_network.build_demo import write
 
     write(tmp_path)
     for f in sorted(demo_path().glob("*.csv")):
         assert (tmp_path / f.name).read_bytes() == f.read_bytes(), (
-            f"{f.name} differs from `python -m demo_network.build_demo`")
+            f"{f.name} differs from `python -m fieldlimits.demo_network.build_demo`")
 
 
 def test_sizes(demo):
@@ -76,7 +76,7 @@ def test_the_required_kinds_of_airfield(demo):
 
 
 def test_aircraft_types_span_the_models(demo):
-    from physics.thrust import MODEL_CODES
+    from fieldlimits.physics.thrust import MODEL_CODES
 
     ac = demo.aircraft_types
     assert set(ac["thrust_model"]) == set(MODEL_CODES.values())

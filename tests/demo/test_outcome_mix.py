@@ -12,11 +12,11 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from demo_network import demo_path
-from schemas.load import load_folder
+from fieldlimits.demo_network import demo_path
+from fieldlimits.schemas.load import load_folder
 
-wl = pytest.importorskip("physics.weightlimit")
-from physics import atmosphere, friction, limits  # noqa: E402
+wl = pytest.importorskip("fieldlimits.physics.weightlimit")
+from fieldlimits.physics import atmosphere, friction, limits  # noqa: E402
 
 SCREEN_DRY_M = 35 * 0.3048  # 35 ft screen, 14 CFR 25.113
 

@@ -10,10 +10,10 @@ import pandas as pd
 import pyarrow as pa
 import pytest
 
-from demo_network.synthetic import (_check_specs, generate_network, rose_frequencies,
+from fieldlimits.demo_network.synthetic import (_check_specs, generate_network, rose_frequencies,
                                     speed_class_shares)
-from schemas.load import load_folder
-from schemas.validate import validate_folder
+from fieldlimits.schemas.load import load_folder
+from fieldlimits.schemas.validate import validate_folder
 
 
 def test_same_seed_same_bytes_other_seed_other_tables(tmp_path):
@@ -53,7 +53,7 @@ def test_type_count_option(tmp_path):
 
 def test_command_line(tmp_path):
     out = tmp_path / "cli"
-    res = subprocess.run([sys.executable, "-m", "demo_network.synthetic", "--airfields", "30",
+    res = subprocess.run([sys.executable, "-m", "fieldlimits.demo_network.synthetic", "--airfields", "30",
                           "--seed", "2", "--out", str(out), "--format", "parquet"],
                          capture_output=True, text=True, check=True)
     assert "30 airfields" in res.stdout
@@ -202,7 +202,7 @@ def test_a_generated_value_outside_its_limits_stops_before_writing():
 
 
 def test_generate_command_bad_options_and_one_airfield(tmp_path, capsys):
-    from pipeline.cli import main
+    from fieldlimits.pipeline.cli import main
 
     assert main(["generate", str(tmp_path / "neg"), "--airfields", "3", "--seed", "-1"]) == 2
     assert "--seed must be a whole number ≥ 0; got -1" in capsys.readouterr().err
@@ -225,7 +225,7 @@ def test_runways_declare_landing_distances_some_blank(tmp_path):
 
 
 def test_obstacles_for_a_share_of_runway_directions(tmp_path):
-    from schemas.departure import in_departure_area
+    from fieldlimits.schemas.departure import in_departure_area
 
     generate_network(300, 4, tmp_path / "a")
     assert validate_folder(tmp_path / "a") == []  # inside the area, under the path's end
@@ -251,7 +251,7 @@ def test_obstacles_for_a_share_of_runway_directions(tmp_path):
 
 
 def test_generate_command_obstacle_share(tmp_path, capsys):
-    from pipeline.cli import main
+    from fieldlimits.pipeline.cli import main
 
     assert main(["generate", str(tmp_path / "bad"), "--airfields", "3", "--obstacle-share", "40"]) == 2
     assert "--obstacle-share must be a share from 0 to 1; got 40" in capsys.readouterr().err

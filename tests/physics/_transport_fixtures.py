@@ -6,12 +6,12 @@ import dataclasses
 
 import numpy as np
 
-from physics import constants as c
+from fieldlimits.physics import constants as c
 
 
 def _aircraft_class():
     try:
-        from physics.weightlimit import Aircraft
+        from fieldlimits.physics.weightlimit import Aircraft
         return Aircraft
     except ImportError:  # the solver module is written in parallel; fields per DEVELOPERS.md
         return None

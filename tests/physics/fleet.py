@@ -2,8 +2,8 @@
 
 import numpy as np
 
-from physics import constants as c
-from physics.weightlimit import Aircraft, Site
+from fieldlimits.physics import constants as c
+from fieldlimits.physics.weightlimit import Aircraft, Site
 
 # Plausible invented parameters of three kinds of types: a twin turbofan (~70 t), a twin
 # regional jet on the quadratic model (~40 t) and a twin turboprop (~22 t).

@@ -12,10 +12,10 @@ import numpy as np
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
-from physics import aerodynamics as aero
-from physics import airborne
-from physics import constants as c
-from physics import thrust
+from fieldlimits.physics import aerodynamics as aero
+from fieldlimits.physics import airborne
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import thrust
 
 FACTOR = 1.15  # 14 CFR 25.113(a)(2), (b)(2)
 

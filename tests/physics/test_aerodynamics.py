@@ -3,8 +3,8 @@
 import numpy as np
 import pytest
 
-from physics import aerodynamics as aero
-from physics import constants as c
+from fieldlimits.physics import aerodynamics as aero
+from fieldlimits.physics import constants as c
 
 
 def test_mccormick_ground_effect_checks():

@@ -3,10 +3,10 @@
 import numpy as np
 import pytest
 
-from physics import aerodynamics as aero
-from physics import airborne
-from physics import constants as c
-from physics import fieldlength, thrust
+from fieldlimits.physics import aerodynamics as aero
+from fieldlimits.physics import airborne
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import fieldlength, thrust
 
 VS_FT = 186.4  # Anderson (1999) Example 6.6: V_stall = 186.4 ft/s
 

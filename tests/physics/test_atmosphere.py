@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from physics import atmosphere as atm
-from physics import constants as c
+from fieldlimits.physics import atmosphere as atm
+from fieldlimits.physics import constants as c
 
 # ICAO Doc 7488 / U.S. Standard Atmosphere 1976 by GEOMETRIC altitude z (values as tabulated
 # in the references file of this project, §1; ambiance and fluids agree to these digits).

@@ -14,9 +14,9 @@ import dataclasses
 import numpy as np
 import pytest
 
-from physics import calibration as cal
-from physics import climb, enginefailure, limits
-from physics import weightlimit as wl
+from fieldlimits.physics import calibration as cal
+from fieldlimits.physics import climb, enginefailure, limits
+from fieldlimits.physics import weightlimit as wl
 from tests.physics import fleet
 
 # the coefficients a calibration fits by default (pipeline.calibration.FIT_COLUMNS)

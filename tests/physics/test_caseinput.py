@@ -10,12 +10,12 @@ import dataclasses
 import numpy as np
 import pytest
 
-from physics import caseinput
-from physics import climatology
-from physics import enginefailure
-from physics import limits
-from physics import weightlimit as wl
-from physics import wind
+from fieldlimits.physics import caseinput
+from fieldlimits.physics import climatology
+from fieldlimits.physics import enginefailure
+from fieldlimits.physics import limits
+from fieldlimits.physics import weightlimit as wl
+from fieldlimits.physics import wind
 from tests.physics import fleet
 
 INVALID, TAIL = limits.code("invalid_input"), limits.code("tailwind_limit")

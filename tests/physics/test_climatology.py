@@ -13,9 +13,9 @@ import numpy as np
 import pytest
 from scipy import integrate, stats
 
-from physics import climatology as clim
-from physics import limits
-from physics.constants import KT_MPS
+from fieldlimits.physics import climatology as clim
+from fieldlimits.physics import limits
+from fieldlimits.physics.constants import KT_MPS
 
 Z = np.asarray(clim.DEFAULT_SCORE_NODES)
 

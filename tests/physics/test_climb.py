@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from physics import aerodynamics, climb, thrust
-from physics import constants as c
+from fieldlimits.physics import aerodynamics, climb, thrust
+from fieldlimits.physics import constants as c
 from tests.physics._transport_fixtures import SEA_LEVEL_ISA, make_aircraft, quad_of_same_thrust
 
 
@@ -128,7 +128,7 @@ def test_numpydoc_sections_and_units(modname):
     from tests.physics import test_docstrings as td
 
     objects = ("EngineFailureSetup", "EngineFailureModel", "EngineFailureTakeoff", "TakeoffSpeeds")
-    mod = importlib.import_module(f"physics.{modname}")
+    mod = importlib.import_module(f"fieldlimits.physics.{modname}")
     assert mod.__doc__ and "References" in mod.__doc__
     for name, fn in td._public_functions(mod):
         doc = inspect.getdoc(fn) or ""

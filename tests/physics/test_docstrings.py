@@ -25,7 +25,7 @@ def _public_functions(mod):
 
 @pytest.mark.parametrize("modname", CORE)
 def test_numpydoc_sections_and_units(modname):
-    mod = importlib.import_module(f"physics.{modname}")
+    mod = importlib.import_module(f"fieldlimits.physics.{modname}")
     assert mod.__doc__ and "References" in mod.__doc__ or modname in ("limits",)
     for name, fn in _public_functions(mod):
         doc = inspect.getdoc(fn) or ""

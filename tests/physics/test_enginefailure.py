@@ -7,8 +7,8 @@ import pytest
 from numpy.testing import assert_allclose
 from scipy.integrate import quad
 
-from physics import enginefailure as ef
-from physics import constants as c
+from fieldlimits.physics import enginefailure as ef
+from fieldlimits.physics import constants as c
 from tests.physics._transport_fixtures import make_aircraft, quad_of_same_thrust
 
 
@@ -19,7 +19,7 @@ def site(**changes):
     values.update(changes)
     values = {k: np.asarray(v, dtype=float) for k, v in values.items()}
     try:
-        from physics.weightlimit import Site
+        from fieldlimits.physics.weightlimit import Site
         import dataclasses
         names = {f.name for f in dataclasses.fields(Site)}
         return Site(**{k: v for k, v in values.items() if k in names})
@@ -252,8 +252,8 @@ def test_cannot_lift_off_gives_nan_not_exception():
 
 # --- the weight limit with the transport-category requirements ------------------------
 
-from physics import climb, limits  # noqa: E402
-from physics import weightlimit as wl  # noqa: E402
+from fieldlimits.physics import climb, limits  # noqa: E402
+from fieldlimits.physics import weightlimit as wl  # noqa: E402
 
 
 def _solve(aircraft=None, **site_changes):
@@ -362,7 +362,7 @@ def _torenbeek_bfl_m(aircraft, s, mass):
     BFL = 0.863/(1 + 2.3 G) (W/S/(rho g C_L,climb) + h) (1/(T_av/W − U) + 2.7) + 655 ft/sqrt(sigma),
     G = gamma_climb − gamma_min (one engine out, 1.2 V_S), C_L,climb = C_Lmax/1.44,
     U = 0.01 C_Lmax + 0.02 (takeoff flaps), T_av = 0.75 T_static (5 + BPR)/(4 + BPR)."""
-    from physics import atmosphere, thrust
+    from fieldlimits.physics import atmosphere, thrust
     rho = atmosphere.density_kg_m3(s.pressure_pa, s.temperature_k)
     ws = mass * c.G0 / aircraft.wing_area_m2
     g_oei = climb.takeoff_climb_gradient(aircraft, mass_kg=mass, pressure_pa=s.pressure_pa,

@@ -3,9 +3,9 @@
 import numpy as np
 import pytest
 
-from physics import constants as c
-from physics import fieldlength
-from physics import weightlimit as wl
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import fieldlength
+from fieldlimits.physics import weightlimit as wl
 from tests.physics import fleet
 
 

@@ -7,12 +7,12 @@ import pytest
 from numpy.testing import assert_allclose
 from scipy import optimize
 
-from physics import climb
-from physics import constants as c
-from physics import enginefailure as ef
-from physics import flightpath as fp
-from physics import limits
-from physics import weightlimit as wl
+from fieldlimits.physics import climb
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import enginefailure as ef
+from fieldlimits.physics import flightpath as fp
+from fieldlimits.physics import limits
+from fieldlimits.physics import weightlimit as wl
 from tests.physics import fleet
 
 OBSTACLE = limits.code("obstacle_clearance")

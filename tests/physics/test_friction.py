@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from physics import friction as f
+from fieldlimits.physics import friction as f
 
 
 def test_table_values_from_raymer():

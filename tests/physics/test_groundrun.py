@@ -5,10 +5,10 @@ import pytest
 from numpy.testing import assert_allclose
 from scipy.integrate import solve_ivp
 
-from physics import aerodynamics as aero
-from physics import constants as c
-from physics import groundrun as gr
-from physics import thrust
+from fieldlimits.physics import aerodynamics as aero
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import groundrun as gr
+from fieldlimits.physics import thrust
 
 # Anderson, Aircraft Performance and Design (1999), Example 6.6, US units as published:
 # W 73 000 lb, W/S 76.84 lb/ft², rho 0.002377 slug/ft³ (sea level), C_D0 0.015 + gear 0.0177,
@@ -145,7 +145,7 @@ def test_propeller_closed_form_matches_gauss_legendre_in_the_ground_run():
     # The default (closed form above the kink) against 64-node Gauss–Legendre (nodes=64) on
     # mixed propeller cases through the public function: same distances and times to 1e-9.
     from tests.physics import fleet
-    from physics.weightlimit import prepare_cases
+    from fieldlimits.physics.weightlimit import prepare_cases
 
     a, site = fleet.random_cases(3000, seed=4)
     cs = prepare_cases(a, site)

@@ -8,8 +8,8 @@ import pytest
 from numpy.testing import assert_allclose
 from scipy.integrate import solve_ivp
 
-from physics import atmosphere, climb, friction, landing, thrust
-from physics import constants as c
+from fieldlimits.physics import atmosphere, climb, friction, landing, thrust
+from fieldlimits.physics import constants as c
 from tests.physics import fleet
 
 _CONFIG = {  # invented landing configurations of the three fleet kinds

@@ -7,7 +7,7 @@ import pytest
 from numpy.testing import assert_allclose
 from scipy.integrate import solve_ivp
 
-from physics import routefuel as rf
+from fieldlimits.physics import routefuel as rf
 
 # An invented twin jet and an invented turboprop (plausible round figures of our own).
 JET = dict(oew_kg=40_000.0, mtow_kg=70_000.0, max_payload_kg=18_000.0, max_fuel_kg=20_000.0,

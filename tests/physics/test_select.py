@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from physics.select import choose
+from fieldlimits.physics.select import choose
 
 
 @pytest.mark.parametrize("share", [0.0, 0.03, 0.1, 0.33, 0.5, 0.9, 0.97, 1.0])

@@ -13,11 +13,11 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from physics import climb
-from physics import constants as c
-from physics import enginefailure as ef
-from physics import takeoffevents as te
-from physics import weightlimit as wl
+from fieldlimits.physics import climb
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import enginefailure as ef
+from fieldlimits.physics import takeoffevents as te
+from fieldlimits.physics import weightlimit as wl
 from tests.physics import fleet
 
 EVENTS = dict(engine_failure_recognition_s=1.0, stop_action_interval_s=1.0, rotation_pitch_deg=8.0,
@@ -64,7 +64,7 @@ def test_stop_actions_are_two_hand_pieces():
 
 
 def test_ground_acceleration_matches_the_ground_run_coefficients():
-    from physics import groundrun
+    from fieldlimits.physics import groundrun
 
     co = groundrun.acceleration_coefficients(mass_kg=50_000.0, wing_area_m2=110.0, density_kg_m3=1.2, cd=0.08,
                                              cl=0.4, mu=0.4, thrust0_n=120e3, thrust1_n_per_mps=-150.0,

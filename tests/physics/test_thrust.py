@@ -4,9 +4,9 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
-from physics import constants as c
-from physics import thrust
-from physics.atmosphere import isa, speed_of_sound_mps
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import thrust
+from fieldlimits.physics.atmosphere import isa, speed_of_sound_mps
 
 
 def test_bartel_young_check_values():

@@ -4,9 +4,9 @@ and agreement with an independent per-case loop (solve_ivp + brentq)."""
 import numpy as np
 import pytest
 
-from physics import constants as c
-from physics import limits
-from physics import weightlimit as wl
+from fieldlimits.physics import constants as c
+from fieldlimits.physics import limits
+from fieldlimits.physics import weightlimit as wl
 from tests.physics import fleet
 from tests.physics.reference_loop import loop_solve
 

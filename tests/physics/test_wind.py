@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from physics import wind
+from fieldlimits.physics import wind
 
 
 def test_components_worked_check():

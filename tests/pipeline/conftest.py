@@ -20,18 +20,18 @@ REPO = Path(__file__).resolve().parents[2]
 
 def _physics_ready() -> bool:
     try:
-        import physics.weightlimit  # noqa: F401
+        import fieldlimits.physics.weightlimit  # noqa: F401
     except ImportError:
         return False
     return True
 
 
-needs_physics = pytest.mark.skipif(not _physics_ready(), reason="physics.weightlimit not available yet")
+needs_physics = pytest.mark.skipif(not _physics_ready(), reason="fieldlimits.physics.weightlimit not available yet")
 
 
 @pytest.fixture(scope="session")
 def demo_dir() -> Path:
-    from demo_network import demo_path
+    from fieldlimits.demo_network import demo_path
 
     return Path(demo_path())
 
@@ -40,8 +40,8 @@ def demo_dir() -> Path:
 def demo_run(tmp_path_factory, demo_dir):
     """A DuckDB file with one complete demo run (plain functions, no Prefect, design day)."""
     if not _physics_ready():
-        pytest.skip("physics.weightlimit not available yet")
-    from pipeline.steps import RunParams, run_local
+        pytest.skip("fieldlimits.physics.weightlimit not available yet")
+    from fieldlimits.pipeline.steps import RunParams, run_local
 
     db = tmp_path_factory.mktemp("demo") / "demo.duckdb"
     # design-day rows only: the reliability producer has its own tests (tests/pipeline/test_reliability*)
@@ -59,8 +59,8 @@ def demo_db_copy(tmp_path, demo_run) -> Path:
 
 
 def cli(*args, cwd=None, env=None, timeout=300) -> subprocess.CompletedProcess:
-    """Run ``python -m pipeline.cli ARGS`` in a subprocess from the repository root."""
+    """Run ``python -m fieldlimits ARGS`` in a subprocess from the repository root."""
     full_env = {**os.environ, **(env or {})}
     full_env["PYTHONPATH"] = str(REPO) + os.pathsep + full_env.get("PYTHONPATH", "")
-    return subprocess.run([sys.executable, "-m", "pipeline.cli", *map(str, args)],
+    return subprocess.run([sys.executable, "-m", "fieldlimits", *map(str, args)],
                           cwd=cwd or REPO, env=full_env, capture_output=True, text=True, timeout=timeout)

@@ -20,10 +20,10 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from physics import limits
-from pipeline.steps import RunParams, run_local
-from schemas.tables import TABLES
-from schemas.validate import validate_folder
+from fieldlimits.physics import limits
+from fieldlimits.pipeline.steps import RunParams, run_local
+from fieldlimits.schemas.tables import TABLES
+from fieldlimits.schemas.validate import validate_folder
 
 
 

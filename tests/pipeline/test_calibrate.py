@@ -14,11 +14,11 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from pipeline import calibration
-from pipeline.errors import BadInput
-from schemas.caution import CAUTION
-from schemas.typeclasses import DEFAULTED_COLUMNS
-from schemas.validate import validate_folder
+from fieldlimits.pipeline import calibration
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas.caution import CAUTION
+from fieldlimits.schemas.typeclasses import DEFAULTED_COLUMNS
+from fieldlimits.schemas.validate import validate_folder
 from tests.pipeline.conftest import cli, needs_physics
 
 AIRFIELDS = ("saltmere", "dunmarrow")
@@ -58,8 +58,8 @@ def net(small, tmp_path) -> Path:
 
 def _longer_points_for_the_planner_type(folder: Path) -> None:
     """Published field lengths 5 % longer than the class-default model at the demo conditions."""
-    from demo_network.build_demo import reference_point_frame
-    from schemas.load import load_folder
+    from fieldlimits.demo_network.build_demo import reference_point_frame
+    from fieldlimits.schemas.load import load_folder
 
     tables = load_folder(folder)
     mine = tables.aircraft_types[tables.aircraft_types["aircraft_type_id"] == PLANNER]
@@ -191,8 +191,8 @@ def test_the_command_line_exit_codes(net, tmp_path):
 
 @needs_physics
 def test_a_planner_figures_type_passes_check_runs_and_calibrates(net, tmp_path):
-    from pipeline.explain import explain_case
-    from pipeline.steps import RunParams, run_local
+    from fieldlimits.pipeline.explain import explain_case
+    from fieldlimits.pipeline.steps import RunParams, run_local
 
     assert [p for p in validate_folder(net) if p.severity == "error"] == []
     db = tmp_path / "before.duckdb"

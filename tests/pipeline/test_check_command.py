@@ -7,8 +7,8 @@ import shutil
 import pandas as pd
 import pytest
 
-from pipeline import cli, progress
-from pipeline.commands import check as check_command
+from fieldlimits.pipeline import cli, progress
+from fieldlimits.pipeline.commands import check as check_command
 
 
 @pytest.fixture
@@ -41,12 +41,12 @@ def test_progress_line_names_file_bytes_and_time_left():
 
 
 def test_check_reads_the_folder_once(folder, monkeypatch, capsys):
-    import pipeline.inputs
+    from fieldlimits.pipeline import inputs as pipeline_inputs
 
     def no_load(*args, **kwargs):
         raise AssertionError("check loaded the folder after validating it")
 
-    monkeypatch.setattr(pipeline.inputs, "load_inputs", no_load)
+    monkeypatch.setattr(pipeline_inputs, "load_inputs", no_load)
     assert cli.main(["check", str(folder)]) == 0
     last = capsys.readouterr().out.strip().splitlines()[-1]
     rows = len(pd.read_csv(folder / "wind_rose.csv"))
@@ -83,7 +83,7 @@ class _SlowStart:
 
 def test_run_reports_bad_input_without_waiting_for_prefect(folder, tmp_path, monkeypatch,
                                                            capsys):
-    from pipeline import prefect_api
+    from fieldlimits.pipeline import prefect_api
 
     df = pd.read_csv(folder / "runways.csv", dtype=str, keep_default_na=False)
     df.loc[0, "tora_m"] = "long"

@@ -9,7 +9,7 @@ import json
 import pandas as pd
 import pytest
 
-from schemas.caution import CAUTION
+from fieldlimits.schemas.caution import CAUTION
 from tests.pipeline.conftest import cli, needs_physics
 
 COMMANDS = ("run", "check", "sql", "export", "serve", "generate")
@@ -92,7 +92,7 @@ def test_sql_formats_and_cannot_modify(demo_db_copy):
 
 @needs_physics
 def test_export_via_cli(tmp_path, demo_db_copy):
-    from pipeline.export import read_export
+    from fieldlimits.pipeline.export import read_export
 
     out_csv = tmp_path / "airfield.csv"
     out = cli("export", "latest_results_airfield", "-o", out_csv, "--db", demo_db_copy)
@@ -127,7 +127,7 @@ def test_sql_piped_into_head_prints_no_traceback(demo_db_copy):
 
     env = {**__import__("os").environ, "PYTHONPATH": str(REPO)}
     proc = subprocess.Popen(
-        f"{sys.executable} -m pipeline.cli sql \"SELECT * FROM latest_results_direction\" "
+        f"{sys.executable} -m fieldlimits sql \"SELECT * FROM latest_results_direction\" "
         f"--db {demo_db_copy} --format csv | head -1", shell=True, cwd=REPO, env=env,
         stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     out, err = proc.communicate(timeout=120)

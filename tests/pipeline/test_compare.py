@@ -8,9 +8,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from pipeline import compare, store
-from pipeline.errors import BadInput
-from schemas.caution import CAUTION
+from fieldlimits.pipeline import compare, store
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas.caution import CAUTION
 from tests.pipeline.conftest import cli
 from tests.pipeline.test_report import _data, _store, _warmer
 
@@ -106,7 +106,7 @@ def test_compare_command_table_csv_and_file(two_runs, tmp_path):
 
 def test_scenario_names_agree_between_python_and_the_views(tmp_path):
     """run_scenarios (SQL printf) and steps.scenario_label (Python) spell a scenario alike."""
-    from pipeline.steps import scenario_label
+    from fieldlimits.pipeline.steps import scenario_label
 
     db = tmp_path / "names.duckdb"
     offsets = (0.0, 2.0, -1.5, 0.25, 12.0)

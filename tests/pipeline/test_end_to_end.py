@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from pipeline import store
+from fieldlimits.pipeline import store
 from tests.pipeline.conftest import needs_physics
 
 pytestmark = needs_physics
@@ -14,7 +14,7 @@ pytestmark = needs_physics
 
 @pytest.fixture(scope="module")
 def frames(demo_run, demo_dir):
-    from schemas.load import load_folder
+    from fieldlimits.schemas.load import load_folder
 
     db, summary = demo_run
     with store.reader(db) as con:
@@ -40,7 +40,7 @@ def test_row_counts_are_directions_by_months_by_types_by_conditions(frames):
 
 def test_every_result_has_a_mass_or_no_takeoff(frames):
     _, direction, *_ = frames
-    from physics.limits import FACTORS
+    from fieldlimits.physics.limits import FACTORS
 
     has_mass = direction["tow_limit_kg"].notna()
     no_takeoff = direction["limiting_factor"] == "no_takeoff"
@@ -82,8 +82,8 @@ def test_hotter_and_higher_month_gives_no_higher_limit(frames):
 
 
 def test_wet_cases_use_wet_friction_and_the_15_ft_screen(demo_dir):
-    from pipeline import cases
-    from pipeline.inputs import load_inputs
+    from fieldlimits.pipeline import cases
+    from fieldlimits.pipeline.inputs import load_inputs
 
     tables = load_inputs(demo_dir).tables
     first = sorted(tables["runways"]["airfield_id"].unique())[:2]
@@ -119,7 +119,7 @@ def test_design_day_atmosphere_is_stored(frames):
 
 
 def test_temperature_offset_scenario_is_stored_and_lowers_limits(demo_db_copy, demo_dir):
-    from pipeline.steps import RunParams, run_local
+    from fieldlimits.pipeline.steps import RunParams, run_local
 
     summary = run_local(demo_dir, demo_db_copy, RunParams(temperature_offset_k=2.0, reliability_levels=()), progress=lambda *a: None)
     with store.reader(demo_db_copy) as con:
@@ -137,7 +137,7 @@ def test_temperature_offset_scenario_is_stored_and_lowers_limits(demo_db_copy, d
 
 
 def test_chunk_rerun_is_idempotent(tmp_path, demo_dir):
-    from pipeline import chunks, steps
+    from fieldlimits.pipeline import chunks, steps
 
     prepared = steps.prepare_run(demo_dir, tmp_path / "x.duckdb", steps.RunParams(chunk_size=3000, reliability_levels=()))
     prepared.work_root = tmp_path / "work"
@@ -155,7 +155,7 @@ def test_chunk_rerun_is_idempotent(tmp_path, demo_dir):
 
 
 def test_chunks_hold_whole_airfields(tmp_path, demo_dir):
-    from pipeline import cases, steps
+    from fieldlimits.pipeline import cases, steps
 
     prepared = steps.prepare_run(demo_dir, tmp_path / "x.duckdb", steps.RunParams(chunk_size=1000))
     prepared.work_root = tmp_path / "work"
@@ -170,8 +170,8 @@ def test_chunks_hold_whole_airfields(tmp_path, demo_dir):
 
 def test_row_producers_add_direction_and_airfield_rows(tmp_path, demo_dir, monkeypatch):
     """The producer hook: extra direction rows, and airfield rows that replace the best pick."""
-    from pipeline import producers
-    from pipeline.steps import RunParams, run_local
+    from fieldlimits.pipeline import producers
+    from fieldlimits.pipeline.steps import RunParams, run_local
 
     def fake_reliability(context):
         d = context.design_rows.copy()

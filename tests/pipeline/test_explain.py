@@ -5,9 +5,9 @@ import re
 import numpy as np
 import pytest
 
-from pipeline.errors import BadInput
-from pipeline.explain import explain_case
-from schemas.caution import CAUTION
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.pipeline.explain import explain_case
+from fieldlimits.schemas.caution import CAUTION
 
 
 def test_explain_prints_every_step_with_units_and_the_caution():
@@ -48,7 +48,7 @@ def test_explain_bad_arguments_name_what_to_fix(kw, fragment):
 
 
 def test_explain_cli_runs(capsys):
-    from pipeline.cli import main
+    from fieldlimits.pipeline.cli import main
 
     assert main(["explain", "--airfield", "saltmere", "--runway", "08", "--month", "1",
                  "--type", "light-single-4"]) == 0
@@ -62,7 +62,7 @@ def test_explain_shows_the_event_sequence_and_the_lineup(tmp_path):
 
     import pandas as pd
 
-    from demo_network import demo_path
+    from fieldlimits.demo_network import demo_path
 
     r = explain_case(None, "saltmere", "08", 7, "narrowbody-180", "dry")
     for needle in ("VEF (engine failure)", "recognition time, VEF to V1", "time between stop actions",

@@ -10,9 +10,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from pipeline import export, store
-from pipeline.errors import BadInput
-from schemas.caution import CAUTION
+from fieldlimits.pipeline import export, store
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas.caution import CAUTION
 
 
 @pytest.fixture

@@ -14,7 +14,7 @@ import importlib.util
 import pandas as pd
 import pytest
 
-from pipeline import store
+from fieldlimits.pipeline import store
 from tests.pipeline.conftest import needs_physics
 
 pytestmark = needs_physics
@@ -28,8 +28,8 @@ QUERY = ("SELECT * EXCLUDE (run_id) FROM latest_results_direction ORDER BY airfi
 def prefect_runs(tmp_path_factory, demo_dir):
     from prefect.testing.utilities import prefect_test_harness
 
-    from pipeline.flow import run_with_prefect
-    from pipeline.steps import RunParams
+    from fieldlimits.pipeline.flow import run_with_prefect
+    from fieldlimits.pipeline.steps import RunParams
 
     from prefect.settings import PREFECT_LOGGING_TO_API_ENABLED, temporary_settings
 
@@ -58,7 +58,7 @@ def _what_the_ui_shows() -> dict:
     from prefect.client.schemas.sorting import FlowRunSort, LogSort
     from prefect.logging.handlers import APILogWorker
 
-    from pipeline.flow import SUMMARY_ARTIFACT
+    from fieldlimits.pipeline.flow import SUMMARY_ARTIFACT
 
     APILogWorker.drain_all(timeout=10)
     with get_client(sync_client=True) as client:
@@ -121,7 +121,7 @@ def test_dask_cluster_run_equals_local_run_row_for_row(prefect_runs, demo_run):
 def test_logs_go_to_a_server_the_user_points_at():
     """With the temporary server nobody reads the logs (no shipping); a server of the user's
     own shows them in its UI (issue 18)."""
-    from pipeline import settings
+    from fieldlimits.pipeline import settings
 
     alone = settings.apply_offline_defaults({})
     assert alone["PREFECT_LOGGING_TO_API_ENABLED"] == "false"

@@ -7,8 +7,8 @@ import shutil
 import pandas as pd
 import pytest
 
-from pipeline import store
-from pipeline.steps import RunParams, run_local
+from fieldlimits.pipeline import store
+from fieldlimits.pipeline.steps import RunParams, run_local
 from tests.pipeline.conftest import needs_physics
 
 pytestmark = needs_physics
@@ -156,7 +156,7 @@ def test_reliability_rows_of_a_rerun(tmp_path, demo_dir):
 
 
 def test_readers_see_a_rerun_in_full(tmp_path, first_run, demo_dir):
-    from pipeline import export, report
+    from fieldlimits.pipeline import export, report
 
     run_local(demo_dir, first_run, PARAMS, progress=lambda *a: None)
     for what in ("results_airfield", "route_payload"):
@@ -176,8 +176,8 @@ def test_readers_see_a_rerun_in_full(tmp_path, first_run, demo_dir):
 
 
 def test_a_rerun_whose_reused_rows_are_gone_fails_and_writes_nothing(first_run, demo_dir):
-    from pipeline import steps
-    from pipeline.errors import FieldlimitsError
+    from fieldlimits.pipeline import steps
+    from fieldlimits.pipeline.errors import FieldlimitsError
 
     prepared = steps.prepare_run(demo_dir, first_run, PARAMS)
     assert prepared.reuse is not None

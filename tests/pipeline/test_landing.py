@@ -10,13 +10,13 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from physics import climatology
-from physics import landing as physics_landing
-from pipeline import landing, routes
-from pipeline.errors import BadInput
-from pipeline.steps import RunParams, run_local
-from schemas.caution import CAUTION
-from schemas.load import load_folder
+from fieldlimits.physics import climatology
+from fieldlimits.physics import landing as physics_landing
+from fieldlimits.pipeline import landing, routes
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.pipeline.steps import RunParams, run_local
+from fieldlimits.schemas.caution import CAUTION
+from fieldlimits.schemas.load import load_folder
 from tests.pipeline.conftest import needs_physics
 
 pytestmark = needs_physics
@@ -271,7 +271,7 @@ def test_reliability_levels_against_direct_solves_of_every_wind_point(demo_table
 
 
 def test_explain_landing_matches_the_run_and_shows_every_step(demo_run):
-    from pipeline.explain_landing import explain_landing
+    from fieldlimits.pipeline.explain_landing import explain_landing
 
     db, _ = demo_run
     ld = _read(db, "landing_direction")
@@ -323,7 +323,7 @@ def test_run_command_takes_the_landing_rule(tmp_path):
 
 
 def test_report_route_charts_and_table_say_which_end_limits(demo_run, tmp_path):
-    from pipeline import report
+    from fieldlimits.pipeline import report
 
     db, _ = demo_run
     data = report.load_report_data(db)

@@ -15,9 +15,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from pipeline import cases as case_io
-from pipeline import store
-from pipeline.chunks import aircraft_arrays, site_arrays
+from fieldlimits.pipeline import cases as case_io
+from fieldlimits.pipeline import store
+from fieldlimits.pipeline.chunks import aircraft_arrays, site_arrays
 from tests.pipeline.conftest import needs_physics
 
 pytestmark = needs_physics
@@ -50,7 +50,7 @@ def _folder(dst, demo_dir, obstacles):
 
 @pytest.fixture(scope="module")
 def runs(tmp_path_factory, demo_dir):
-    from pipeline.steps import RunParams, run_local
+    from fieldlimits.pipeline.steps import RunParams, run_local
 
     tmp = tmp_path_factory.mktemp("obstacles")
     out = {}
@@ -96,9 +96,9 @@ def test_obstacle_arrays_pad_sort_and_leave_out_the_area(demo_dir):
 def test_removing_the_obstacles_table_gives_the_earlier_results_to_the_bit(runs):
     """The run without the table equals a direct solve without obstacles (the earlier
     code path); where the run with the table has no obstacle, it equals that run to the bit."""
-    from schemas.load import load_folder
-    from physics.weightlimit import solve_takeoff_weight
-    from physics import limits
+    from fieldlimits.schemas.load import load_folder
+    from fieldlimits.physics.weightlimit import solve_takeoff_weight
+    from fieldlimits.physics import limits
 
     without = runs["without"]["results_direction"]
     assert without[["obstacle_clearance_m", "acceleration_height_m"]].isna().all().all()
@@ -172,8 +172,8 @@ def test_route_payloads_take_the_obstacle_limit(runs):
 def test_reliability_binding_days_match_a_direct_solve_with_the_obstacles(runs):
     """A reliability row limited by an obstacle is the direct solve of its day (its runway,
     temperature and headwind) with that runway's obstacles, within the 1 kg bracket."""
-    from schemas.load import load_folder
-    from physics.weightlimit import solve_takeoff_weight
+    from fieldlimits.schemas.load import load_folder
+    from fieldlimits.physics.weightlimit import solve_takeoff_weight
 
     a = runs["with"]["results_airfield"]
     rows = a[(a["basis"] == "reliability") & (a["limiting_factor"] == "obstacle_clearance")]
@@ -196,7 +196,7 @@ def test_explain_prints_the_flight_path_and_each_obstacle(runs):
     """explain solves the case as the run does (same limit, same clearance) and lists the four
     segments, the gross and net breakpoints and every obstacle of the runway, the one outside
     the departure area included."""
-    from pipeline.explain import explain_case
+    from fieldlimits.pipeline.explain import explain_case
 
     d = runs["with"]["results_direction"]
     row = d[(d["basis"] == "design_day") & (d["limiting_factor"] == "obstacle_clearance")
@@ -219,7 +219,7 @@ def test_explain_prints_the_flight_path_and_each_obstacle(runs):
 
 
 def test_explain_of_a_runway_without_obstacles_has_no_flight_path(runs):
-    from pipeline.explain import explain_case
+    from fieldlimits.pipeline.explain import explain_case
 
     r = explain_case(runs["with"]["folder"], "saltmere", "08", 7, "narrowbody-180", "dry")
     assert "8. Takeoff flight path" not in r.text
@@ -237,8 +237,8 @@ def test_a_climb_limited_case_still_clears_its_obstacle(demo_dir):
     """A case climb-limited far below MTOW, whose takeoff distance at MTOW runs past the
     obstacle (with a falling net first segment there), still clears it at its limit: the
     obstacle requirement is not dropped by a look at MTOW alone."""
-    from schemas.load import load_folder
-    from physics.weightlimit import solve_takeoff_weight
+    from fieldlimits.schemas.load import load_folder
+    from fieldlimits.physics.weightlimit import solve_takeoff_weight
 
     t = load_folder(demo_dir)
     obstacles = pd.DataFrame([("fernbrook", "15", "pine-hill", 4500.0, 90.0, 200.0)], columns=OBSTACLES.columns)
@@ -255,10 +255,10 @@ def test_report_draws_the_flight_path_of_obstacle_limited_runways(runs, tmp_path
     """One chart per best runway direction an obstacle limits (design day, dry), drawn from the
     run's stored inputs: the same case as explain, the net path below the gross one, every
     obstacle with its governing one; none for a run without obstacles."""
-    from pipeline.obstacle_path import flight_path_view
-    from pipeline.report import write_report
-    from pipeline.report_obstacles import flight_path_figure, load_flight_paths
-    from schemas.load import load_folder
+    from fieldlimits.pipeline.obstacle_path import flight_path_view
+    from fieldlimits.pipeline.report import write_report
+    from fieldlimits.pipeline.report_obstacles import flight_path_figure, load_flight_paths
+    from fieldlimits.schemas.load import load_folder
 
     a = runs["with"]["results_airfield"]
     limited = a[(a["basis"] == "design_day") & (a["condition"] == "dry") & (a["limiting_factor"] == "obstacle_clearance")]
@@ -294,7 +294,7 @@ def test_report_draws_the_flight_path_of_obstacle_limited_runways(runs, tmp_path
 def test_adding_obstacles_recomputes_only_their_airfields(runs, tmp_path):
     """A rerun after obstacles were added reuses every airfield without obstacles (their
     hashes are unchanged) and gives the same rows as a fresh run."""
-    from pipeline.steps import RunParams, run_local
+    from fieldlimits.pipeline.steps import RunParams, run_local
 
     db = tmp_path / "reuse.duckdb"
     shutil.copyfile(runs["without"]["db"], db)

@@ -8,9 +8,9 @@ from datetime import datetime
 import pandas as pd
 import pytest
 
-from pipeline import prune, store
-from pipeline.errors import BadInput
-from pipeline.steps import RunParams, run_local
+from fieldlimits.pipeline import prune, store
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.pipeline.steps import RunParams, run_local
 from tests.pipeline.conftest import needs_physics
 
 PARAMS = RunParams(reliability_levels=())
@@ -181,9 +181,9 @@ def test_prune_options_are_checked():
 
 @needs
 def test_prune_command(history, capsys):
-    from pipeline import cli
+    from fieldlimits.pipeline import cli
 
-    from schemas.caution import CAUTION
+    from fieldlimits.schemas.caution import CAUTION
 
     db, _ = history
     assert cli.main(["prune", "--help"]) == 0

@@ -11,8 +11,8 @@ from tests.pipeline.conftest import needs_physics
 
 @needs_physics
 def test_released_inputs_store_the_same_run(tmp_path, monkeypatch, demo_run, demo_dir):
-    from pipeline import steps
-    from pipeline.steps import RunParams, run_local
+    from fieldlimits.pipeline import steps
+    from fieldlimits.pipeline.steps import RunParams, run_local
 
     monkeypatch.setattr(steps, "RELEASE_MIN_ROWS", 1)  # release every table
     seen = {}

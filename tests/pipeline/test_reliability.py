@@ -14,12 +14,12 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from physics import climatology as clim
-from physics.weightlimit import solve_takeoff_weight
-from pipeline import cases as case_io
-from pipeline import reliability as rel
-from pipeline.chunks import aircraft_arrays, site_arrays
-from schemas.results import RESULT_COLUMNS
+from fieldlimits.physics import climatology as clim
+from fieldlimits.physics.weightlimit import solve_takeoff_weight
+from fieldlimits.pipeline import cases as case_io
+from fieldlimits.pipeline import reliability as rel
+from fieldlimits.pipeline.chunks import aircraft_arrays, site_arrays
+from fieldlimits.schemas.results import RESULT_COLUMNS
 
 LEVELS = (0.5, 0.85, 0.95)
 BOTH = rel.ReliabilitySettings(conditions=("dry", "wet"))  # the default is dry only
@@ -27,10 +27,10 @@ BOTH = rel.ReliabilitySettings(conditions=("dry", "wet"))  # the default is dry 
 
 @pytest.fixture(scope="module")
 def demo_tables():
-    from schemas.load import load_folder
+    from fieldlimits.schemas.load import load_folder
     from pathlib import Path
 
-    import demo_network
+    from fieldlimits import demo_network
 
     folder = Path(demo_network.__file__).parent / "data"
     t = load_folder(folder)
@@ -335,8 +335,8 @@ def test_default_is_dry_only_and_the_grid_is_shared_by_the_months(demo_tables):
 
 
 def test_the_producer_is_switched_on_and_fills_the_share_of_days_column():
-    from pipeline import producers
-    from schemas.results import RESULT_COLUMNS as COLUMNS
+    from fieldlimits.pipeline import producers
+    from fieldlimits.schemas.results import RESULT_COLUMNS as COLUMNS
 
     assert rel.reliability_rows in producers.active_producers()
     assert rel.SHARE_COLUMN in COLUMNS

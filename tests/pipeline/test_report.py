@@ -9,9 +9,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from pipeline import report, routes
-from pipeline.errors import BadInput
-from schemas.caution import CAUTION
+from fieldlimits.pipeline import report, routes
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.schemas.caution import CAUTION
 
 from tests.pipeline.test_routes import _airfield_results, _tables
 
@@ -112,8 +112,8 @@ def test_slugs_are_file_safe_and_unique():
 
 def _store(tmp_path, runs) -> Path:
     """A store (the real schema) holding ``runs``: (run_id, temperature offset [K], data)."""
-    from pipeline import store
-    from schemas import results
+    from fieldlimits.pipeline import store
+    from fieldlimits.schemas import results
 
     db = tmp_path / "store.duckdb"
     with store.writer(db) as con:
@@ -210,7 +210,7 @@ def test_report_of_a_scenario_shows_the_changes_since_the_baseline(tmp_path):
 
 
 def result_comparison(db):
-    from pipeline import compare
+    from fieldlimits.pipeline import compare
 
     return compare.compare_runs(db, 2, 3)
 

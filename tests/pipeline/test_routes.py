@@ -7,8 +7,8 @@ import pandas as pd
 import pytest
 from numpy.testing import assert_allclose
 
-from pipeline import routes
-from pipeline.errors import BadInput
+from fieldlimits.pipeline import routes
+from fieldlimits.pipeline.errors import BadInput
 
 # WGS84 semi-major axis a = 6 378 137 m (NIMA TR8350.2, Table 3.1; exact by definition).
 WGS84_A_M = 6_378_137.0

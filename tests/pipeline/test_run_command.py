@@ -16,7 +16,7 @@ import textwrap
 
 import pytest
 
-from schemas.caution import CAUTION
+from fieldlimits.schemas.caution import CAUTION
 from tests.pipeline.conftest import REPO, needs_physics
 
 pytestmark = needs_physics
@@ -44,7 +44,7 @@ def cli_run(tmp_path_factory):
     env = {**os.environ, "PYTHONPATH": str(REPO) + os.pathsep + os.environ.get("PYTHONPATH", ""),
            "PREFECT_HOME": str(folder / "prefect-home"), "PREFECT_LOGGING_TO_API_ENABLED": "true"}
     env.pop("PREFECT_API_URL", None)
-    done = subprocess.run([sys.executable, "-m", "pipeline.cli", "run", "--db", "run.duckdb",
+    done = subprocess.run([sys.executable, "-m", "fieldlimits", "run", "--db", "run.duckdb",
                            "--reliability", "none"], cwd=folder, env=env, capture_output=True,
                           text=True, timeout=900)
     seen = subprocess.run([sys.executable, "-c", READ_BACK], cwd=folder, env=env,

@@ -2,8 +2,8 @@
 
 import pytest
 
-from pipeline.errors import BadInput
-from pipeline.steps import RunParams
+from fieldlimits.pipeline.errors import BadInput
+from fieldlimits.pipeline.steps import RunParams
 
 
 def test_run_parameters_round_trip_through_their_stored_form():

@@ -22,8 +22,8 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from pipeline import cli, store
-from schemas.caution import CAUTION
+from fieldlimits.pipeline import cli, store
+from fieldlimits.schemas.caution import CAUTION
 
 OTHER_HOST = "another-planning-box"  # a host name that is not this machine's
 
@@ -86,7 +86,7 @@ def test_a_killed_run_shows_as_dead_until_the_next_run_records_it_interrupted(tm
     script = textwrap.dedent(f"""
         import os, signal, sys
         sys.path.insert(0, {str(Path(__file__).parent)!r})
-        from pipeline import store
+        from fieldlimits.pipeline import store
         from test_runs_status import _record
         run_id = store.register_run({str(db)!r}, _record(), heartbeat=True)
         print(run_id, os.getpid(), flush=True)
@@ -235,7 +235,7 @@ def test_busy_database_falls_back_to_the_heartbeat_files(tmp_path, capsys, monke
 
 
 def test_help_states_the_heartbeat_figures_in_use():
-    from pipeline.commands import runs
+    from fieldlimits.pipeline.commands import runs
 
     assert f"every {store.HEARTBEAT_EVERY_S:.0f} s" in runs.DESCRIPTION
     assert f"more than {store.HEARTBEAT_STALE_S:.0f} s old" in runs.DESCRIPTION
@@ -254,9 +254,9 @@ def test_limit_and_empty_store(tmp_path, capsys):
 
 def test_a_run_in_progress_is_live_and_leaves_no_heartbeat(tmp_path, demo_dir):
     """During a real run (plain functions) the listing says live; afterwards no file is left."""
-    from pipeline.steps import RunParams, run_local
+    from fieldlimits.pipeline.steps import RunParams, run_local
 
-    pytest.importorskip("physics.weightlimit")
+    pytest.importorskip("fieldlimits.physics.weightlimit")
     db = tmp_path / "r.duckdb"
     seen = []
 

@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from pipeline import ddl, settings
-from schemas import results
+from fieldlimits.pipeline import ddl, settings
+from fieldlimits.schemas import results
 
 
 def test_offline_defaults_do_not_override_the_user():
@@ -18,7 +18,7 @@ def test_offline_defaults_do_not_override_the_user():
 
 
 def test_generated_ddl_files_are_up_to_date():
-    assert ddl.stale_files() == [], "run: python -m pipeline.ddl --write"
+    assert ddl.stale_files() == [], "run: python -m fieldlimits.pipeline.ddl --write"
 
 
 def test_result_columns_follow_the_contract():
@@ -32,7 +32,7 @@ def test_result_columns_follow_the_contract():
 
 
 def test_commands_are_discovered():
-    from pipeline.cli import discover_commands
+    from fieldlimits.pipeline.cli import discover_commands
 
     names = [m.NAME for m in discover_commands()]
     for name in ("run", "check", "sql", "export", "serve", "generate"):

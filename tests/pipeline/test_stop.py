@@ -16,7 +16,7 @@ import time
 
 import pytest
 
-from pipeline import store
+from fieldlimits.pipeline import store
 from tests.pipeline.conftest import REPO, needs_physics
 
 pytestmark = needs_physics
@@ -27,7 +27,7 @@ def _start(tmp_path, db, *extra):
            "PREFECT_HOME": str(tmp_path / "prefect-home")}
     env.pop("PREFECT_API_URL", None)
     err = open(tmp_path / "stderr.txt", "w+")
-    proc = subprocess.Popen([sys.executable, "-m", "pipeline.cli", "run", "--db", str(db),
+    proc = subprocess.Popen([sys.executable, "-m", "fieldlimits", "run", "--db", str(db),
                              "--chunk-size", "500", "--reliability", "none", *extra],
                             cwd=tmp_path, env=env, stdout=subprocess.PIPE, stderr=err, text=True)
     return proc, err
@@ -88,8 +88,8 @@ def test_a_killed_run_leaves_no_server_and_the_next_run_tidies_up(tmp_path):
         time.sleep(0.2)
     assert not _server_alive(port)  # the kernel stopped it with its parent
     assert (tmp_path / "kill.duckdb.work" / "run-000001").is_dir()  # nobody left to remove it
-    from pipeline.steps import RunParams, run_local
-    from demo_network import demo_path
+    from fieldlimits.pipeline.steps import RunParams, run_local
+    from fieldlimits.demo_network import demo_path
 
     run_local(demo_path(), db, RunParams(reliability_levels=(), conditions=("dry",)),
               progress=lambda *a: None)

@@ -12,9 +12,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from pipeline import chunks, store
-from pipeline.errors import BadInput, StoreBusy
-from schemas.results import RESULT_COLUMNS
+from fieldlimits.pipeline import chunks, store
+from fieldlimits.pipeline.errors import BadInput, StoreBusy
+from fieldlimits.schemas.results import RESULT_COLUMNS
 
 
 def _rows(run_id: int, n_runways: int = 2, tow=(60000.0, 65000.0)) -> pd.DataFrame:

@@ -10,7 +10,7 @@ import duckdb
 import pandas as pd
 import pytest
 
-from pipeline import prune, store
+from fieldlimits.pipeline import prune, store
 from tests.pipeline.conftest import needs_physics
 
 FIXTURE = Path(__file__).with_name("data") / "store_before_by_reference"
@@ -117,9 +117,9 @@ def test_a_failed_migration_leaves_the_old_file(old_db, monkeypatch):
 
 @needs_physics
 def test_runs_and_prune_on_a_migrated_file(old_db, tmp_path):
-    from demo_network import synthetic  # noqa: F401  (the generator of the fixture's network)
-    from pipeline import cli
-    from pipeline.steps import RunParams, run_local
+    from fieldlimits.demo_network import synthetic  # noqa: F401  (the generator of the fixture's network)
+    from fieldlimits.pipeline import cli
+    from fieldlimits.pipeline.steps import RunParams, run_local
 
     before = _snapshot(old_db)
     net = tmp_path / "net"

@@ -8,7 +8,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from demo_network import demo_path
+from fieldlimits.demo_network import demo_path
 
 KEEP = ("saltmere", "dunmarrow", "frostwick")
 

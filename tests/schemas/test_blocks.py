@@ -13,9 +13,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from schemas import hashing, validate
-from schemas.load import load_folder
-from schemas.tables import TABLES
+from fieldlimits.schemas import hashing, validate
+from fieldlimits.schemas.load import load_folder
+from fieldlimits.schemas.tables import TABLES
 
 from .conftest import read, write
 

@@ -10,13 +10,13 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from demo_network import demo_path
-from demo_network.synthetic import generate_network
-from schemas import hashing
-from schemas.ddl import all_tables_sql, create_table_sql
-from schemas.load import AIRCRAFT_FIELDS, Tables, load_folder
-from schemas.tables import TABLES
-from schemas.validate import validate_folder
+from fieldlimits.demo_network import demo_path
+from fieldlimits.demo_network.synthetic import generate_network
+from fieldlimits.schemas import hashing
+from fieldlimits.schemas.ddl import all_tables_sql, create_table_sql
+from fieldlimits.schemas.load import AIRCRAFT_FIELDS, Tables, load_folder
+from fieldlimits.schemas.tables import TABLES
+from fieldlimits.schemas.validate import validate_folder
 
 
 @pytest.fixture(scope="module")
@@ -60,13 +60,13 @@ def test_aircraft_frame_has_the_aircraft_dataclass_fields(demo):
     assert cols == ["aircraft_type_id", "name", *AIRCRAFT_FIELDS, "max_passengers"]
     targets = {c.target for c in TABLES["aircraft_types"].columns}
     assert set(AIRCRAFT_FIELDS) <= targets
-    wl = pytest.importorskip("physics.weightlimit")
+    wl = pytest.importorskip("fieldlimits.physics.weightlimit")
     fields = [f.name for f in dataclasses.fields(wl.Aircraft)]
     assert set(fields) <= set(cols), set(fields) - set(cols)
 
 
 def test_thrust_model_codes_and_blank_defaults(demo):
-    from physics.thrust import MODEL_CODES
+    from fieldlimits.physics.thrust import MODEL_CODES
 
     ac, uac = demo.aircraft_types, demo.user["aircraft_types"]
     assert list(ac["thrust_model"]) == [MODEL_CODES[m] for m in uac["thrust_model"]]
@@ -76,7 +76,7 @@ def test_thrust_model_codes_and_blank_defaults(demo):
 
 
 def test_route_defaults_fill_blanks(demo):
-    from schemas.tables import ROUTE_DEFAULTS
+    from fieldlimits.schemas.tables import ROUTE_DEFAULTS
 
     r = demo.routes
     first = r.iloc[0]  # saltmere-southreach: every policy cell blank

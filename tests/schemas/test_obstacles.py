@@ -7,9 +7,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from schemas import departure, hashing
-from schemas.load import load_folder
-from schemas.validate import validate_folder
+from fieldlimits.schemas import departure, hashing
+from fieldlimits.schemas.load import load_folder
+from fieldlimits.schemas.validate import validate_folder
 from tests.schemas.conftest import write
 from tests.schemas.test_validate import errors, find, only
 

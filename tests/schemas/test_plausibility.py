@@ -14,7 +14,7 @@ import shutil
 import pandas as pd
 import pytest
 
-from schemas.validate import check_folder
+from fieldlimits.schemas.validate import check_folder
 
 FOOT_M = 0.3048
 
@@ -28,7 +28,7 @@ def folder(tmp_path, demo_dir):
 
 @pytest.fixture(scope="module")
 def demo_dir():
-    from demo_network import demo_path
+    from fieldlimits.demo_network import demo_path
 
     return demo_path()
 

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from schemas.reference import END, START, markdown, read_block, replace_block
-from schemas.tables import TABLES
+from fieldlimits.schemas.reference import END, START, markdown, read_block, replace_block
+from fieldlimits.schemas.tables import TABLES
 
 README = Path(__file__).resolve().parents[2] / "README.md"
 
@@ -13,7 +13,7 @@ README = Path(__file__).resolve().parents[2] / "README.md"
 def test_readme_reference_matches_definitions():
     block = read_block(README.read_text(encoding="utf-8"))
     assert block == markdown(), (
-        "README input reference is out of date: run `python -m schemas.reference --write "
+        "README input reference is out of date: run `python -m fieldlimits.schemas.reference --write "
         "README.md`")
 
 

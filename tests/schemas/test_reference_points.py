@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from schemas.load import load_folder
-from schemas.tables import TABLES
+from fieldlimits.schemas.load import load_folder
+from fieldlimits.schemas.tables import TABLES
 from tests.schemas.conftest import read, write
 from tests.schemas.test_validate import errors, only
 

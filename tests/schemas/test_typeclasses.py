@@ -14,9 +14,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from schemas import typeclasses as tc
-from schemas.load import load_folder
-from schemas.tables import AIRCRAFT_TYPES
+from fieldlimits.schemas import typeclasses as tc
+from fieldlimits.schemas.load import load_folder
+from fieldlimits.schemas.tables import AIRCRAFT_TYPES
 from tests.schemas.conftest import read, write
 from tests.schemas.test_validate import errors, only
 

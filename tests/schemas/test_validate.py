@@ -15,8 +15,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from schemas.load import load_folder
-from schemas.validate import InputError, Problem, validate_folder
+from fieldlimits.schemas.load import load_folder
+from fieldlimits.schemas.validate import InputError, Problem, validate_folder
 from tests.schemas.conftest import read, write
 
 
@@ -661,7 +661,7 @@ def test_table_without_read_permission_reported(net, monkeypatch):
     # the permission check opens the file; we run as root in CI, where chmod cannot deny
     # reading, so the refusal the system would give is simulated here (the test below
     # does it for real when not root)
-    import schemas.validate as validate
+    import fieldlimits.schemas.validate as validate
 
     real_open = os.open
 
@@ -759,8 +759,8 @@ def test_id_starting_with_a_dash_is_refused_with_the_true_rule(net):
     assert p.value == "-jet"
     assert "letter or digit first" in p.expected
     # the rule in words is the pattern the tables use
-    from schemas.tables import ID_PATTERN
-    from schemas.validate import ID_RULE
+    from fieldlimits.schemas.tables import ID_PATTERN
+    from fieldlimits.schemas.validate import ID_RULE
 
     assert ID_RULE in p.expected
     assert re.match(ID_PATTERN, "jet-2") and not re.match(ID_PATTERN, "-jet")
@@ -799,7 +799,7 @@ def test_long_value_is_cut_in_messages(net):
 
 
 def test_short_values_are_shown_whole():
-    from schemas.validate import shorten
+    from fieldlimits.schemas.validate import shorten
 
     assert shorten("x" * 80) == "x" * 80  # within the allowance: nothing gained by a cut
     assert shorten("y" * 81) == "y" * 60 + "… (81 characters)"
