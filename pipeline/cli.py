@@ -23,7 +23,7 @@ import fieldlimits.pipeline.settings  # noqa: F401  (offline Prefect defaults fi
 from fieldlimits.pipeline.errors import FieldlimitsError
 from fieldlimits.schemas.caution import CAUTION
 
-ORDER = ("run", "check", "calibrate", "runs", "compare", "sql", "export", "report", "explain", "serve",
+ORDER = ("run", "check", "calibrate", "runs", "prune", "compare", "sql", "export", "report", "explain", "serve",
          "generate")
 DESCRIPTION = (
     "Takeoff-weight limits and route payloads for every runway direction, month and "

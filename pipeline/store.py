@@ -161,7 +161,8 @@ def writer(db_path: str | os.PathLike, wait_s: float = WRITER_WAIT_S) -> Iterato
 
 #: Views created with the schema, in dependency order (``pipeline/sql/view_<name>.sql``).
 VIEWS = ("run_scenarios", "latest_run", "latest_scenario_runs", "latest_results_direction",
-         "latest_results_airfield", "latest_route_payload", "scenario_results_airfield",
+         "latest_results_airfield", "latest_route_payload", "latest_landing_direction",
+         "latest_landing_airfield", "scenario_results_airfield",
          "scenario_route_payload")
 
 

@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from fieldlimits.physics import climatology
+from fieldlimits.physics import reliabilitylevels
 from fieldlimits.physics import landing as physics_landing
 from fieldlimits.pipeline import landing, routes
 from fieldlimits.pipeline.errors import BadInput
@@ -203,6 +203,12 @@ def test_demo_run_stores_landing_rows_matching_the_route_payloads(demo_run):
     ld = _read(db, "landing_direction")
     rp = _read(db, "route_payload")
     assert len(ld) and len(la)
+    # the latest_* views carry the last baseline run's landing rows with its scenario
+    for table, rows in (("landing_airfield", la), ("landing_direction", ld)):
+        latest = _read(db, f"latest_{table}")
+        last = rows[rows["run_id"] == rows["run_id"].max()]
+        assert len(latest) == len(last) and set(latest["scenario"]) == {"baseline"}
+        assert list(latest.columns[2:]) == [c for c in rows.columns if c != "run_id"]
     # the demo: some destinations checked, some not, some routes landing-limited
     assert {"not_checked", "max_landing_mass", "landing_distance"} <= set(la["limiting_factor"])
     assert "landing_distance" in set(rp["payload_limiting_factor"])
@@ -249,9 +255,9 @@ def test_reliability_levels_against_direct_solves_of_every_wind_point(demo_table
     safe = np.where(valid, grp, 0)
     raw = np.where(valid[:, :, None, None], direct[safe], np.nan)
     us = details["usable"][safe]
-    _, m, lost = climatology.flown_direction(raw, ~us, np.zeros_like(us), valid)
+    _, m, lost = reliabilitylevels.flown_direction(raw, ~us, np.zeros_like(us), valid)
     ac_i = checked["aircraft_index"].to_numpy()[safe[:, 0]]
-    exact = climatology.reliability_masses(m, scores, details["weight"], ac["oew_kg"].to_numpy()[ac_i],
+    exact = reliabilitylevels.reliability_masses(m, scores, details["weight"], ac["oew_kg"].to_numpy()[ac_i],
                                            ac["max_landing_mass_kg"].to_numpy()[ac_i], levels=levels,
                                            lost_reason=lost)
     both = np.isfinite(exact.mass_kg) & np.isfinite(lv.mass_kg)
