@@ -1,6 +1,6 @@
 """Landing-mass limits at the route destinations: the input tables wired to
-:mod:`physics.landing` (and :mod:`physics.climatology` for the reliability levels). No
-formulas here.
+:mod:`physics.landing` (and :mod:`physics.climatology`, :mod:`physics.solvinggrid` and
+:mod:`physics.reliabilitylevels` for the reliability levels). No formulas here.
 
 For every destination of the routes table and every aircraft type flown there:
 
@@ -12,11 +12,11 @@ For every destination of the routes table and every aircraft type flown there:
 * **Reliability levels** (the run's ``reliability_levels``, for its
   ``reliability_conditions``): the landing-mass limit on a grid per direction × month × type
   × condition — the temperature at the standard-normal scores −2.5 … 2.5 of the month's
-  daily maximum (:data:`physics.climatology.DEFAULT_SCORE_NODES`) × factored headwinds
+  daily maximum (:data:`physics.solvinggrid.DEFAULT_SCORE_NODES`) × factored headwinds
   (50 % of a headwind, 150 % of a tailwind, 14 CFR 25.105(d)(1) as for takeoff) spanning the
   wind-rose points usable on that direction —, interpolated to the points, each day landed
   on the best usable direction (the type's crosswind and tailwind limits), and the level
-  masses found by :func:`physics.climatology.reliability_masses` (capped at the maximum
+  masses found by :func:`physics.reliabilitylevels.reliability_masses` (capped at the maximum
   landing mass). Each level's binding day is solved directly for the row's figures. The
   limit changes smoothly with temperature and headwind (no V1 regimes as at takeoff), so the
   grid needs no refinement step (the grid is solved with the structural cap raised, so it
@@ -39,7 +39,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from fieldlimits.physics import atmosphere, climatology, constants, landing, limits
+from fieldlimits.physics import (atmosphere, climatology, constants, landing, limits, reliabilitylevels,
+                                  solvinggrid)
 from fieldlimits.schemas import results as result_tables
 
 LANDING_COLUMNS: tuple[str, ...] = tuple(c.name for c in result_tables.LANDING_COMMON)
@@ -302,8 +303,8 @@ def _reliability_checked(cases, aircraft_table, climate, wind_rose, levels, rule
     lo = np.where(usable, h_f, np.inf).min(axis=1)
     hi = np.where(usable, h_f, -np.inf).max(axis=1)
     lo, hi = np.where(np.isfinite(lo), lo, 0.0), np.where(np.isfinite(hi), hi, 0.0)
-    h_nodes = climatology.headwind_nodes(lo, hi, tail_nodes=TAIL_NODES, head_nodes=HEAD_NODES)  # (n, H)
-    scores = np.asarray(climatology.DEFAULT_SCORE_NODES, dtype=float)
+    h_nodes = solvinggrid.headwind_nodes(lo, hi, tail_nodes=TAIL_NODES, head_nodes=HEAD_NODES)  # (n, H)
+    scores = np.asarray(solvinggrid.DEFAULT_SCORE_NODES, dtype=float)
     n_g, n_h = scores.size, h_nodes.shape[1]
 
     def temperature(case, score):
@@ -333,12 +334,12 @@ def _reliability_checked(cases, aircraft_table, climate, wind_rose, levels, rule
     parts = []
     for b0 in range(0, n_grp, block):  # blocks of groups: memory, not a loop over cases
         sb, vb = safe[b0:b0 + block], valid[b0:b0 + block]
-        pm = climatology.interpolate_headwind(grid[sb], h_nodes[sb], h_f[sb])  # (B, D, J, G)
+        pm = solvinggrid.interpolate_headwind(grid[sb], h_nodes[sb], h_f[sb])  # (B, D, J, G)
         raw = np.where(vb[:, :, None, None], pm, np.nan)
-        _, m_grp, lost = climatology.flown_direction(raw, np.where(vb[:, :, None], cross_ex[sb], True),
+        _, m_grp, lost = reliabilitylevels.flown_direction(raw, np.where(vb[:, :, None], cross_ex[sb], True),
                                                      np.where(vb[:, :, None], tail_ex[sb], True), vb)
         fb = sb[:, 0]
-        parts.append(climatology.reliability_masses(m_grp, scores, weight[fb], oew[fb], mlm[fb], levels=levels,
+        parts.append(reliabilitylevels.reliability_masses(m_grp, scores, weight[fb], oew[fb], mlm[fb], levels=levels,
                                                     lost_reason=lost))
         if details is not None:
             details.setdefault("point_mass", []).append(m_grp)
@@ -352,9 +353,9 @@ def _reliability_checked(cases, aircraft_table, climate, wind_rose, levels, rule
     g_o, l_o = np.nonzero(ok)
     j_o, z_o = res.point[ok], res.score[ok]
     c_grp = safe[g_o]  # (R, D)
-    pm_d = climatology.interpolate_headwind(grid[c_grp], h_nodes[c_grp], h_f[c_grp, j_o[:, None]][..., None])
+    pm_d = solvinggrid.interpolate_headwind(grid[c_grp], h_nodes[c_grp], h_f[c_grp, j_o[:, None]][..., None])
     use = valid[g_o] & usable[c_grp, j_o[:, None]]
-    best, _ = climatology.direction_at_score(np.where(valid[g_o][..., None], pm_d[:, :, 0, :], np.nan), use,
+    best, _ = reliabilitylevels.direction_at_score(np.where(valid[g_o][..., None], pm_d[:, :, 0, :], np.nan), use,
                                              scores, z_o)
     c_o = c_grp[np.arange(best.size), best]
     t_o = temperature(c_o, z_o)

@@ -1,8 +1,9 @@
 """Reliability levels for a chunk: the takeoff mass achievable on at least p of the days of a
 month, with the temperature spread and the wind rose, on the best usable runway direction.
 
-This module only wires tables to :mod:`physics.climatology` and the weight-limit solver; it
-holds no formulas. It is the row producer ``reliability_rows`` (picked up by
+This module only wires tables to :mod:`physics.climatology` (the month's weather),
+:mod:`physics.solvinggrid` (the grid), :mod:`physics.reliabilitylevels` (the levels and
+their refinement) and the weight-limit solver; it holds no formulas. It is the row producer ``reliability_rows`` (picked up by
 :mod:`pipeline.producers`), on by default for the **dry** runway; the run parameter
 ``reliability_conditions`` (or ``ReliabilitySettings.conditions``) adds ``wet``. For the
 chunk's cases (complete airfields, see :mod:`pipeline.cases`):
@@ -14,41 +15,41 @@ chunk's cases (complete airfields, see :mod:`pipeline.cases`):
    serves all twelve months, in one vectorised call per chunk: months differ only in
    temperature and station pressure. Temperature nodes span every month's daily-maximum
    range from score −2.5 to +2.5 (``temperature_nodes``, one moved onto the thrust
-   flat-rating corner, :func:`physics.climatology.temperature_nodes`); factored-headwind
+   flat-rating corner, :func:`physics.solvinggrid.temperature_nodes`); factored-headwind
    nodes span every month's usable points with a node at calm
-   (:func:`physics.climatology.headwind_nodes`); where the months' station pressures differ
+   (:func:`physics.solvinggrid.headwind_nodes`); where the months' station pressures differ
    (QNH), a second layer at the highest pressure on every other headwind node, the change
    interpolated in headwind and then linearly to each month's pressure
-   (:func:`physics.climatology.interpolate_pressure`). The grid is solved with the
+   (:func:`physics.solvinggrid.interpolate_pressure`). The grid is solved with the
    structural cap raised to 1.25 MTOW so the surface stays smooth through MTOW (the cap is
    applied in the level search). A direction whose worst corner (hottest node, strongest
    tailwind, lowest pressure) is structural at MTOW is structural everywhere and gets one
    solve instead of a grid. A no-takeoff node next to a possible one gets a mass just below
-   OEW on the trend (:func:`physics.climatology.fill_no_takeoff_nodes`), so only the part
+   OEW on the trend (:func:`physics.solvinggrid.fill_no_takeoff_nodes`), so only the part
    of the cell beyond the boundary is lost;
 3. each month takes the window of consecutive temperature nodes covering its range
-   (:func:`physics.climatology.node_window`); its wind points are interpolated on the grid,
-   each day flown on its best usable direction (:func:`physics.climatology.flown_direction`)
-   and the level masses found (:func:`physics.climatology.reliability_masses`), with the
+   (:func:`physics.solvinggrid.node_window`); its wind points are interpolated on the grid,
+   each day flown on its best usable direction (:func:`physics.reliabilitylevels.flown_direction`)
+   and the level masses found (:func:`physics.reliabilitylevels.reliability_masses`), with the
    share of days on which MTOW is achievable (``share_days_full_mass``);
 4. refinement: the interpolated surface is off by up to a few per cent next to regime
    changes of the limit between nodes, and a level mass is (to first order) moved by the
    density-weighted mean of the surface's errors at the days where it crosses the level.
    For each level found by the search whose grid cells at the crossing days may hold an
    error of the size of the accuracy bound (density-weighted error indicator of the cells,
-   :func:`physics.climatology.grid_error_indicator`, at least ``refine_risk`` × the bound;
+   :func:`physics.solvinggrid.grid_error_indicator`, at least ``refine_risk`` × the bound;
    levels in smooth cells are left as they are), and for MTOW wherever the share of days
    is strictly between 0 and 1, ``refine_samples`` days spread evenly over that
-   density along the level's contour (:func:`physics.climatology.refinement_samples`) are
+   density along the level's contour (:func:`physics.reliabilitylevels.refinement_samples`) are
    solved directly,
    all in one call (each on its best direction, and on the others within
    ``refine_direction_margin`` if that is set), and the level moved by one Newton step
-   (:func:`physics.climatology.refined_level_masses`; errors taken in share-of-days terms,
-   :func:`physics.climatology.share_equivalent_error`); the share of days at MTOW gets the
+   (:func:`physics.reliabilitylevels.refined_level_masses`; errors taken in share-of-days terms,
+   :func:`physics.reliabilitylevels.share_equivalent_error`); the share of days at MTOW gets the
    same correction, and a level at MTOW moves below it only if the errors outweigh the
    surface's margin;
 5. each level's binding day (a sampled day moved to the corrected mass by a Newton step
-   on its wind point, :func:`physics.climatology.binding_score`) is solved directly (all in
+   on its wind point, :func:`physics.reliabilitylevels.binding_score`) is solved directly (all in
    one call), with at most ``binding_iterations`` secant steps where that solve misses the
    corrected mass by more than ``binding_tol_kg``, so a row's mass, limiting factor,
    distances and speeds are those of one consistent solve.
@@ -84,7 +85,7 @@ from typing import Callable
 import numpy as np
 import pandas as pd
 
-from fieldlimits.physics import atmosphere, climatology, constants, limits
+from fieldlimits.physics import atmosphere, climatology, constants, limits, reliabilitylevels, solvinggrid
 from fieldlimits.schemas.results import RESULT_COLUMNS
 
 _KEY_STRIDE = 1000.0  # contour order key: direction index x this + factored headwind [m/s]
@@ -165,7 +166,7 @@ def _refinement_samples(point_mass, scores, weight, res, mtow, order_key, settin
         if rows.size == 0:
             continue
         z = scores if np.ndim(scores) == 1 else scores[rows]
-        smp = climatology.refinement_samples(
+        smp = reliabilitylevels.refinement_samples(
             point_mass[rows], z, weight[rows], columns[rows, c], order_key[rows],
             settings.refine_samples, None if risk is None else risk[rows])
         # Rows whose surface is smooth where the level crosses it are left as they are.
@@ -218,7 +219,7 @@ def _refine(res, sampled, solve_days, levels, oew, mtow):
     direct[r_i, k_i], case[r_i, k_i] = solve_days(g_i, j_i, smp.score[r_i, k_i])
     is_top = col == n_lev
     base = np.where(is_top, mtow[grp], res.estimate_kg[grp, np.minimum(col, n_lev - 1)])
-    error = climatology.share_equivalent_error(direct - base[:, None], smp.score, smp.slope_kg)
+    error = reliabilitylevels.share_equivalent_error(direct - base[:, None], smp.score, smp.slope_kg)
     mass = res.mass_kg.copy()
     point = res.point.copy()
     score = res.score.copy()
@@ -232,7 +233,7 @@ def _refine(res, sampled, solve_days, levels, oew, mtow):
         extra = (None,) * (target.ndim - 1)
         sl = lambda a: np.broadcast_to(a[rows][(slice(None),) + extra],  # noqa: E731
                                        target.shape + (a.shape[-1],))
-        z_new = climatology.binding_score(sl(smp.score), sl(smp.slope_kg), sl(direct),
+        z_new = reliabilitylevels.binding_score(sl(smp.score), sl(smp.slope_kg), sl(direct),
                                           target[..., None])
         step = np.where(sl(smp.stratum_density_per_kg) > 0, np.abs(z_new - sl(smp.score)), np.inf)
         best = np.argmin(step, axis=-1)[..., None]
@@ -248,7 +249,7 @@ def _refine(res, sampled, solve_days, levels, oew, mtow):
     lv = np.nonzero(~is_top)[0]
     if lv.size:
         g, c = grp[lv], col[lv]
-        m_new, _ = climatology.refined_level_masses(
+        m_new, _ = reliabilitylevels.refined_level_masses(
             base[lv], np.zeros(lv.size), smp.density_per_kg[lv], smp.stratum_density_per_kg[lv],
             error[lv], oew[g], mtow[g])
         pt, zb, ok, sample = bind(lv, m_new)
@@ -262,7 +263,7 @@ def _refine(res, sampled, solve_days, levels, oew, mtow):
     if tp.size:
         g = grp[tp]
         shape = (tp.size, n_lev)
-        m_top, change = climatology.refined_level_masses(
+        m_top, change = reliabilitylevels.refined_level_masses(
             np.broadcast_to(mtow[g][:, None], shape), share[g][:, None] - levels[None, :],
             np.broadcast_to(smp.density_per_kg[tp][:, None], shape),
             np.broadcast_to(smp.stratum_density_per_kg[tp][:, None, :], shape + (direct.shape[1],)),
@@ -531,13 +532,13 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     t_hi_case = climatology.daily_max_temperature_k(z_hi, c_mean, c_sd, c_pv)
     fam_first = np.zeros(n_fam, dtype=np.int64)
     fam_first[fam[::-1]] = np.arange(n)[::-1]
-    t_nodes_fam = climatology.temperature_nodes(
+    t_nodes_fam = solvinggrid.temperature_nodes(
         _reduce(fam, n_fam, t_lo_case, np.minimum), _reduce(fam, n_fam, t_hi_case, np.maximum),
         settings.temperature_nodes, flat_k[fam_first])  # (F, G)
     n_g = t_nodes_fam.shape[1]
     h_lo = _reduce(trk, n_trk, np.min(np.where(usable, h_f, 0.0), axis=1), np.minimum)
     h_hi = _reduce(trk, n_trk, np.max(np.where(usable, h_f, 0.0), axis=1), np.maximum)
-    h_nodes_trk = climatology.headwind_nodes(h_lo, h_hi, tail_nodes=settings.tail_nodes,
+    h_nodes_trk = solvinggrid.headwind_nodes(h_lo, h_hi, tail_nodes=settings.tail_nodes,
                                              head_nodes=settings.head_nodes,
                                              power=settings.headwind_power)  # (R, H)
     n_h = h_nodes_trk.shape[1]
@@ -599,7 +600,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
             # layer's value, or no takeoff where that is not possible).
             delta = np.where(np.isfinite(delta), delta, 0.0)
             # The pressure change interpolated in headwind onto every headwind node.
-            delta_full = climatology.interpolate_headwind(
+            delta_full = solvinggrid.interpolate_headwind(
                 delta, h_nodes_trk[hi_trk][:, sub_h], h_nodes_trk[hi_trk]).transpose(0, 2, 1)
             grid_hi[hi_trk] = grid_lo[hi_trk] + delta_full
 
@@ -607,21 +608,21 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     # possible part of such a cell is not lost (first along temperature, then headwind).
     floor = (oew[trk_first] * settings.bracket_low)[:, None]
     for g in (grid_lo, grid_hi):
-        g[:] = climatology.fill_no_takeoff_nodes(
+        g[:] = solvinggrid.fill_no_takeoff_nodes(
             np.swapaxes(np.broadcast_to(t_nodes_fam[trk_fam][:, :, None], g.shape), 1, 2),
             np.swapaxes(g, 1, 2), floor).swapaxes(1, 2)
-        g[:] = climatology.fill_no_takeoff_nodes(
+        g[:] = solvinggrid.fill_no_takeoff_nodes(
             np.broadcast_to(h_nodes_trk[:, None, :], g.shape), g, floor, reverse=True)
 
     # Each month: a window of K consecutive temperature nodes covering its score range,
     # the grid interpolated to its station pressure, then to its wind points.
     t_case_nodes = t_nodes_fam[fam]  # (n, G)
-    _, needed = climatology.node_window(t_case_nodes, t_lo_case, t_hi_case, n_g)
+    _, needed = solvinggrid.node_window(t_case_nodes, t_lo_case, t_hi_case, n_g)
     k_win = int(min(n_g, max(2, needed.max())))
-    start, _ = climatology.node_window(t_case_nodes, t_lo_case, t_hi_case, k_win)
+    start, _ = solvinggrid.node_window(t_case_nodes, t_lo_case, t_hi_case, k_win)
     win = start[:, None] + np.arange(k_win)  # (n, K)
     t_nodes = np.take_along_axis(t_case_nodes, win, axis=1)
-    case_grid = climatology.interpolate_pressure(
+    case_grid = solvinggrid.interpolate_pressure(
         np.take_along_axis(grid_lo[trk], win[:, :, None], axis=1),
         np.take_along_axis(grid_hi[trk], win[:, :, None], axis=1),
         p_lo[trk][:, None, None], p_hi[trk][:, None, None], pressure[:, None, None])  # (n, K, H)
@@ -630,7 +631,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         scores = climatology.daily_max_temperature_score(
             t_nodes, c_mean[:, None], c_sd[:, None], None if c_pv is None else c_pv[:, None, :])
     if np.any(flat):
-        at_mean = climatology.interpolate_headwind(
+        at_mean = solvinggrid.interpolate_headwind(
             np.swapaxes(case_grid[flat], 1, 2), t_nodes[flat], c_mean[flat, None])  # (m, 1, H)
         case_grid[flat] = np.repeat(at_mean, k_win, axis=1)
         scores[flat] = np.arange(k_win) - 0.5 * (k_win - 1)
@@ -693,7 +694,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
             idx = np.nonzero((np.abs(m_cur - target) > settings.binding_tol_kg) & np.isfinite(slope))[0]
             if idx.size == 0:
                 break
-            z_new = climatology.secant_score(z_prev[idx], m_prev[idx], z_cur[idx], m_cur[idx],
+            z_new = reliabilitylevels.secant_score(z_prev[idx], m_prev[idx], z_cur[idx], m_cur[idx],
                                              target[idx], slope[idx])
             c_new = c_o[idx]  # the secant stays on the binding day's runway direction
             s_new = solve_fields(c_new, j_o[idx], z_new)
@@ -775,17 +776,17 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     safe = np.where(valid, case_at, 0)
     first = safe[:, 0]
     block = max(1, int(settings.block_elements // max(1, n_dir * n_pts * k_win)))
-    cell_risk = climatology.grid_error_indicator(case_grid)  # (n, K - 1, H - 1)
+    cell_risk = solvinggrid.grid_error_indicator(case_grid)  # (n, K - 1, H - 1)
     parts, sample_parts = [], []
     for b0 in range(0, n_grp, block):  # blocks of groups: memory, not a loop over cases
         sb, vb = safe[b0:b0 + block], valid[b0:b0 + block]
-        pm = climatology.interpolate_headwind(case_grid[sb], h_nodes[sb], h_f[sb])  # (B, D, J, K)
+        pm = solvinggrid.interpolate_headwind(case_grid[sb], h_nodes[sb], h_f[sb])  # (B, D, J, K)
         raw = np.where(vb[:, :, None, None], pm, np.nan)
         cx = np.where(vb[:, :, None], cross_ex[sb], True)
         tx = np.where(vb[:, :, None], tail_ex[sb], True)
         fb = sb[:, 0]
-        flown_b, m_grp, lost = climatology.flown_direction(raw, cx, tx, vb)
-        res_b = climatology.reliability_masses(
+        flown_b, m_grp, lost = reliabilitylevels.flown_direction(raw, cx, tx, vb)
+        res_b = reliabilitylevels.reliability_masses(
             m_grp, scores[fb], weight_case[fb], oew[fb], mtow[fb], levels=levels, lost_reason=lost)
         # Contour order of the days for the refinement: flown direction (on the middle
         # temperature node), then headwind.
@@ -811,9 +812,9 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         for r0 in range(0, g.size, rows):  # blocks of days: memory, not a loop over cases
             gb, jb = g[r0:r0 + rows], j[r0:r0 + rows, None]
             c = safe[gb]  # (R, D)
-            pm_d = climatology.interpolate_headwind(case_grid[c], h_nodes[c], h_f[c, jb][..., None])
+            pm_d = solvinggrid.interpolate_headwind(case_grid[c], h_nodes[c], h_f[c, jb][..., None])
             use = valid[gb] & ~cross_ex[c, jb] & ~tail_ex[c, jb]
-            best[r0:r0 + rows], within[r0:r0 + rows] = climatology.direction_at_score(
+            best[r0:r0 + rows], within[r0:r0 + rows] = reliabilitylevels.direction_at_score(
                 np.where(valid[gb][..., None], pm_d[:, :, 0, :], np.nan), use, scores[c[:, 0]],
                 z[r0:r0 + rows], margin)
         return best, within
@@ -845,10 +846,10 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
 
     direction = None
     if settings.per_direction:
-        point_mass = climatology.interpolate_headwind(case_grid, h_nodes, h_f)  # (n, J, K)
-        _, m_one, lost_one = climatology.flown_direction(point_mass[:, None], cross_ex[:, None],
+        point_mass = solvinggrid.interpolate_headwind(case_grid, h_nodes, h_f)  # (n, J, K)
+        _, m_one, lost_one = reliabilitylevels.flown_direction(point_mass[:, None], cross_ex[:, None],
                                                          tail_ex[:, None])
-        res1 = climatology.reliability_masses(m_one, scores, weight_case, oew, mtow,
+        res1 = reliabilitylevels.reliability_masses(m_one, scores, weight_case, oew, mtow,
                                               levels=levels, lost_reason=lost_one)
         samples1 = _join_samples([_refinement_samples(m_one, scores, weight_case, res1, mtow,
                                                       h_f, settings)], [0])

@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 from fieldlimits.physics import caseinput
-from fieldlimits.physics import climatology
+from fieldlimits.physics import climatology, reliabilitylevels
 from fieldlimits.physics import enginefailure
 from fieldlimits.physics import limits
 from fieldlimits.physics import weightlimit as wl
@@ -43,7 +43,7 @@ def test_empty_batch_elsewhere_in_physics():
     assert bfl.shape == (0,) and v1.shape == (0,)
     d, s, w = climatology.wind_rose_points(*(np.zeros((0, 3)),) * 5, np.zeros(0))
     assert d.shape == s.shape == w.shape == (0, 1 + 3 * 5 * 2)
-    lv = climatology.reliability_masses(np.zeros((0, 4, 5)), np.linspace(-2.0, 2.0, 5), np.zeros((0, 4)),
+    lv = reliabilitylevels.reliability_masses(np.zeros((0, 4, 5)), np.linspace(-2.0, 2.0, 5), np.zeros((0, 4)),
                                         none, none, levels=(0.5, 0.95))
     assert lv.mass_kg.shape == (0, 2)
 

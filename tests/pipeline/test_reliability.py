@@ -14,7 +14,7 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from fieldlimits.physics import climatology as clim
+from fieldlimits.physics import reliabilitylevels, solvinggrid
 from fieldlimits.physics.weightlimit import solve_takeoff_weight
 from fieldlimits.pipeline import cases as case_io
 from fieldlimits.pipeline import reliability as rel
@@ -204,11 +204,11 @@ def _brute_force_levels(tables, cases, details, groups, levels, n_scores=41):
         n_grp, n_dir, n_pts, n_scores)
     cx = details["crosswind_exceeded"][c_idx]
     tx = details["tailwind_exceeded"][c_idx]
-    _, m, lost = clim.flown_direction(mass, cx, tx, valid)
+    _, m, lost = reliabilitylevels.flown_direction(mass, cx, tx, valid)
     first = c_idx[:, 0]
     ac = tables["aircraft_types"]
     idx = cases["aircraft_index"].to_numpy()[first]
-    return clim.reliability_masses(m, z, details["point_weight"][first],
+    return reliabilitylevels.reliability_masses(m, z, details["point_weight"][first],
                                    ac["oew_kg"].to_numpy()[idx], ac["mtow_kg"].to_numpy()[idx],
                                    levels=levels, lost_reason=lost)
 
@@ -273,8 +273,8 @@ def _random_day_errors(tables, settings, n_days=1500, seed=42):
     z_lo, z_hi = settings.score_range
     zq = z_lo + rng.random(len(pick)) * (z_hi - z_lo)
     hq = h_nodes[:, 0] + rng.random(len(pick)) * (h_nodes[:, -1] - h_nodes[:, 0])
-    at_nodes = clim.interpolate_headwind(grid, h_nodes, hq[:, None])[:, 0, :]  # (m, K)
-    # Linear in the score between nodes (the rule of physics.climatology.share_of_days).
+    at_nodes = solvinggrid.interpolate_headwind(grid, h_nodes, hq[:, None])[:, 0, :]  # (m, K)
+    # Linear in the score between nodes (the rule of physics.reliabilitylevels.share_of_days).
     k = np.clip(np.sum(z_nodes <= zq[:, None], axis=1) - 1, 0, z_nodes.shape[1] - 2)
     z0 = np.take_along_axis(z_nodes, k[:, None], 1)[:, 0]
     z1 = np.take_along_axis(z_nodes, k[:, None] + 1, 1)[:, 0]

@@ -1,0 +1,344 @@
+"""The solving grid of the reliability levels: temperature and factored-headwind nodes,
+interpolation on the grid, and its interpolation-error indicator.
+
+The weight limit is not solved for every day of a month: the caller solves it on a grid of
+temperature × factored headwind (× two station-pressure layers) shared by the twelve months
+of a runway direction (:func:`temperature_nodes`, :func:`headwind_nodes`,
+:func:`interpolate_pressure`, :func:`fill_no_takeoff_nodes`), takes each month's window of
+temperature nodes (:func:`node_window`) at their standard-normal scores, and interpolates
+each wind point's mass on it (:func:`interpolate_headwind`); the levels are then found on
+that surface (:mod:`physics.reliabilitylevels`), treating the temperature distribution as
+continuous, not binned. :func:`grid_error_indicator` says which cells may hold an
+interpolation error worth correcting with direct solves.
+
+Conventions: ``G`` temperature nodes, ``H`` headwind nodes, ``J`` wind points; masses that
+are not possible are NaN.
+
+References
+----------
+.. [1] 14 CFR Part 25, §25.105(d)(1) (the factored headwind component the performance uses).
+.. [2] W. H. Press et al., *Numerical Recipes*, 3rd ed., CUP, 2007, §3.0–3.1 and §3.6
+   (interpolation in one and two dimensions, bracketing a value in a table).
+.. [3] C. de Boor, *A Practical Guide to Splines*, rev. ed., Springer, 2001, ch. II
+   (broken-line interpolation, breakpoints at slope changes) [from memory for the chapter].
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+#: Standard-normal scores of the default temperature grid nodes. [–]
+DEFAULT_SCORE_NODES = (-2.5, -1.25, 0.0, 1.0, 1.75, 2.5)
+
+
+# ----------------------------------------------------------------------------------------
+# The solving grid
+# ----------------------------------------------------------------------------------------
+def headwind_nodes(min_factored_mps, max_factored_mps, *, tail_nodes=2, head_nodes=4, power=1.0):
+    """Factored-headwind nodes of the solving grid, always including calm (0).
+
+    Parameters
+    ----------
+    min_factored_mps : array_like
+        Lowest factored headwind needed (≤ 0; the worst usable tailwind). [m/s]
+    max_factored_mps : array_like
+        Highest factored headwind needed (≥ 0). [m/s]
+    tail_nodes, head_nodes : int, optional
+        Nodes strictly below and strictly above zero. [–]
+    power : float, optional
+        Spacing exponent q ≥ 1: nodes crowd towards calm, where most days are. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        Non-decreasing nodes, shape ``(..., tail_nodes + 1 + head_nodes)``. [m/s]
+
+    Notes
+    -----
+    On each side of zero: h = h_min (1 − i/n_t)^q and h = h_max (k/n_h)^q (q = 1: equal
+    spacing). A zero range gives repeated nodes, which the interpolation handles
+    (zero-width cells).
+
+    References
+    ----------
+    .. [1] 14 CFR 25.105(d)(1) (the factored component is what the performance uses).
+    """
+    lo = np.minimum(np.asarray(min_factored_mps, dtype=float), 0.0)
+    hi = np.maximum(np.asarray(max_factored_mps, dtype=float), 0.0)
+    q = float(power)
+    t = (1.0 - np.arange(tail_nodes) / tail_nodes) ** q if tail_nodes else np.zeros(0)
+    h = (np.arange(head_nodes + 1) / head_nodes) ** q if head_nodes else np.zeros(1)
+    return np.concatenate([lo[..., None] * t, hi[..., None] * h], axis=-1)
+
+
+def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps):
+    """Linear interpolation of grid masses in factored headwind, at every temperature node.
+
+    Parameters
+    ----------
+    grid_mass_kg : array_like
+        Masses solved on the grid, shape ``(..., G, H)``; NaN where no takeoff. [kg]
+    nodes_mps : array_like
+        Headwind nodes, non-decreasing, shape ``(..., H)``. [m/s]
+    headwind_mps : array_like
+        Factored headwind of each point, shape ``(..., J)``. Values outside the nodes are
+        clamped to the end nodes. [m/s]
+
+    Returns
+    -------
+    numpy.ndarray
+        Masses at the points on each temperature node, shape ``(..., J, G)``; NaN when
+        either neighbouring node is NaN (the no-takeoff rule). [kg]
+
+    Notes
+    -----
+    m(h) = (1 − s) m_k + s m_{k+1}, s = (h − h_k)/(h_{k+1} − h_k), k the cell of h; a
+    zero-width cell gives s = 0. Together with the linear rule in temperature
+    (:func:`physics.reliabilitylevels.reliability_masses`) this is bilinear interpolation.
+
+    References
+    ----------
+    .. [2] W. H. Press et al., *Numerical Recipes*, 3rd ed., CUP, 2007, §3.6
+       (interpolation in two dimensions, bilinear).
+    """
+    grid = np.asarray(grid_mass_kg, dtype=float)
+    nodes = np.asarray(nodes_mps, dtype=float)
+    h = np.asarray(headwind_mps, dtype=float)
+    n_g, n_h = grid.shape[-2:]
+    n_j = h.shape[-1]
+    lead = np.broadcast_shapes(grid.shape[:-2], nodes.shape[:-1], h.shape[:-1])
+    rows = int(np.prod(lead, dtype=np.int64))
+    nodes = np.broadcast_to(nodes, lead + (n_h,)).reshape(rows, n_h)
+    h = np.broadcast_to(h, lead + (n_j,)).reshape(rows, n_j)
+    # Grid as (row, H, G): gathering a headwind node fetches all temperature nodes at once.
+    grid_t = np.ascontiguousarray(np.swapaxes(np.broadcast_to(grid, lead + (n_g, n_h)), -1, -2)
+                                  ).reshape(rows * n_h, n_g)
+    hc = np.clip(h, nodes[:, :1], nodes[:, -1:])
+    k = np.zeros((rows, n_j), dtype=np.int64)
+    for i in range(1, n_h - 1):  # a fixed, small number of headwind nodes
+        k += nodes[:, i:i + 1] <= hc
+    k1 = np.minimum(k + 1, n_h - 1)
+    h0 = np.take_along_axis(nodes, k, axis=-1)
+    h1 = np.take_along_axis(nodes, k1, axis=-1)
+    width = h1 - h0
+    s = np.where(width > 0.0, (hc - h0) / np.where(width > 0.0, width, 1.0), 0.0)
+    base = (np.arange(rows) * n_h)[:, None]
+    m0 = grid_t[base + k]  # (rows, J, G)
+    m1 = grid_t[base + k1]
+    # NaN propagates from either neighbour (0 × NaN is NaN): the no-takeoff rule.
+    out = m0 + s[..., None] * (m1 - m0)
+    return out.reshape(lead + (n_j, n_g))
+
+
+def temperature_nodes(low_k, high_k, count, corner_k=None):
+    """Temperature nodes of a solving grid shared by the months, one on the flat-rating corner.
+
+    Parameters
+    ----------
+    low_k, high_k : array_like
+        Lowest and highest temperature needed (over all months of the family). [K]
+    count : int
+        Number of nodes G ≥ 2. [–]
+    corner_k : array_like, optional
+        Thrust flat-rating corner temperature; the interior node nearest to it is moved onto
+        it when it lies strictly inside (low, high). [K]
+
+    Returns
+    -------
+    numpy.ndarray
+        Non-decreasing nodes, shape ``(..., G)``. [K]
+
+    Notes
+    -----
+    T_g = low + (high − low) g/(G − 1). The mass is piecewise smooth in temperature with a
+    kink where the thrust stops being flat-rated; piecewise-linear interpolation is exact
+    to first order across a kink only when a node sits on it [1]. The nearest interior node
+    is within half a spacing of the corner, so the nodes stay ordered.
+
+    References
+    ----------
+    .. [3] de Boor (2001), ch. II (breakpoints at slope changes).
+    """
+    lo = np.asarray(low_k, dtype=float)
+    hi = np.maximum(np.asarray(high_k, dtype=float), lo)
+    g = int(count)
+    nodes = lo[..., None] + (hi - lo)[..., None] * (np.arange(g) / (g - 1))
+    if corner_k is None or g < 3:
+        return nodes
+    corner = np.broadcast_to(np.asarray(corner_k, dtype=float), lo.shape)
+    inside = (corner > lo) & (corner < hi)
+    k = 1 + np.argmin(np.abs(nodes[..., 1:-1] - corner[..., None]), axis=-1)
+    at = (np.arange(g) == k[..., None]) & inside[..., None]
+    return np.where(at, corner[..., None], nodes)
+
+
+def node_window(nodes_k, low_k, high_k, size):
+    """First index of ``size`` consecutive nodes that cover [low, high] (a month's range).
+
+    Parameters
+    ----------
+    nodes_k : array_like
+        Non-decreasing nodes, ``(..., G)``. [K]
+    low_k, high_k : array_like
+        Range to cover, ``(...)``. [K]
+    size : int
+        Window length K ≤ G. [–]
+
+    Returns
+    -------
+    start : numpy.ndarray of int
+        First node of the window, ``(...)``. [–]
+    needed : numpy.ndarray of int
+        Nodes from the last one at or below ``low`` to the first at or above ``high``. [–]
+
+    Notes
+    -----
+    i0 = max{g : T_g ≤ low} (0 if none), i1 = min{g : T_g ≥ high} (G − 1 if none); the
+    window starts at clip(i0, 0, G − K), so it covers [i0, i1] whenever K ≥ i1 − i0 + 1.
+
+    References
+    ----------
+    .. [2] Press et al. (2007), §3.1 (bracketing a value in a table).
+    """
+    t = np.asarray(nodes_k, dtype=float)
+    g = t.shape[-1]
+    i0 = np.clip(np.sum(t <= np.asarray(low_k, dtype=float)[..., None], axis=-1) - 1, 0, g - 1)
+    i1 = np.clip(g - np.sum(t >= np.asarray(high_k, dtype=float)[..., None], axis=-1), 0, g - 1)
+    return np.clip(i0, 0, g - int(size)), i1 - i0 + 1
+
+
+def interpolate_pressure(mass_low_kg, mass_high_kg, pressure_low_pa, pressure_high_pa, pressure_pa):
+    """Linear interpolation of grid masses between two station-pressure layers.
+
+    Parameters
+    ----------
+    mass_low_kg, mass_high_kg : array_like
+        Masses at the lower and the higher pressure, broadcastable; NaN where no takeoff. [kg]
+    pressure_low_pa, pressure_high_pa : array_like
+        The two layer pressures (equal: no pressure spread, the lower layer is used). [Pa]
+    pressure_pa : array_like
+        Station pressure of the month. [Pa]
+
+    Returns
+    -------
+    numpy.ndarray
+        m = m_lo + s (m_hi − m_lo), s = (p − p_lo)/(p_hi − p_lo) in [0, 1]; NaN when the
+        layer used is NaN. [kg]
+
+    Notes
+    -----
+    Within one airfield the monthly station pressure varies by about 1 % (QNH); the mass is
+    smooth in pressure there, so two layers and linear interpolation suffice.
+
+    References
+    ----------
+    .. [2] Press et al. (2007), §3.1 (linear interpolation).
+    """
+    lo = np.asarray(mass_low_kg, dtype=float)
+    hi = np.asarray(mass_high_kg, dtype=float)
+    p_lo = np.asarray(pressure_low_pa, dtype=float)
+    span = np.asarray(pressure_high_pa, dtype=float) - p_lo
+    s = np.where(span > 0, (np.asarray(pressure_pa, dtype=float) - p_lo) / np.where(span > 0, span, 1.0), 0.0)
+    s = np.clip(s, 0.0, 1.0)
+    return np.where(s > 0, lo + s * (hi - lo), lo)
+
+
+def fill_no_takeoff_nodes(nodes, mass_kg, floor_kg, *, reverse=False):
+    """Give the first no-takeoff node after a possible one a mass just below the floor.
+
+    Parameters
+    ----------
+    nodes : array_like
+        Increasing nodes along the last axis, ``(..., G)`` (temperature [K] or factored
+        headwind [m/s]).
+    mass_kg : array_like
+        Masses at the nodes, ``(..., G)``; NaN where no takeoff is possible at the floor. [kg]
+    floor_kg : array_like
+        Lowest mass solved for (OEW), ``(...)``. [kg]
+    reverse : bool, optional
+        False: no-takeoff nodes follow the possible ones (hot end of a temperature row);
+        True: they precede them (tailwind end of a headwind row). [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        Masses with that node set to min(linear extrapolation of the two possible nodes
+        before it, floor − 1 kg); nodes further on stay NaN. [kg]
+
+    Notes
+    -----
+    The mass falls monotonically towards the no-takeoff side, so between the last possible
+    node and the first no-takeoff node it crosses the floor once. With NaN at that node the
+    whole cell would count as not possible; the extrapolated value below the floor puts the
+    crossing near where the trend of the last possible cell puts it, and a day beyond the
+    crossing (mass below the floor) still counts as not possible.
+
+    References
+    ----------
+    .. [2] Press et al. (2007), §3.0–3.1 (extrapolation from a table, its risks).
+    """
+    x = np.asarray(nodes, dtype=float)
+    f = np.array(mass_kg, dtype=float)
+    if reverse:
+        x, f = -x[..., ::-1], f[..., ::-1]
+    floor = np.asarray(floor_kg, dtype=float)[..., None] + np.zeros(f.shape[:-1] + (1,))
+    g = f.shape[-1]
+    out = f.copy()
+    for k in range(1, g):  # a fixed, small number of nodes
+        prev = f[..., k - 1]
+        before = f[..., k - 2] if k >= 2 else np.full_like(prev, np.nan)
+        dx0 = x[..., k - 1] - (x[..., k - 2] if k >= 2 else x[..., k - 1])
+        slope = np.where(np.isfinite(before) & (dx0 > 0), (prev - before) / np.where(dx0 > 0, dx0, 1.0), 0.0)
+        guess = prev + np.minimum(slope, 0.0) * (x[..., k] - x[..., k - 1])
+        first = np.isnan(f[..., k]) & np.isfinite(prev)
+        out[..., k] = np.where(first, np.minimum(guess, floor[..., 0] - 1.0), out[..., k])
+    return out[..., ::-1] if reverse else out
+
+
+def grid_error_indicator(grid_mass_kg):
+    """Interpolation-error indicator of each cell of a temperature × headwind grid.
+
+    Parameters
+    ----------
+    grid_mass_kg : array_like
+        Masses at the nodes, ``(..., G, H)``; NaN where no takeoff. [kg]
+
+    Returns
+    -------
+    numpy.ndarray
+        Indicator per cell, ``(..., G − 1, H − 1)``: half the largest absolute second
+        difference (along either axis) at the cell's four corners; +inf for a cell with a
+        no-takeoff corner or next to one. [kg]
+
+    Notes
+    -----
+    Piecewise-linear interpolation of a smooth m over a cell of width Δ errs by at most
+    |m''| Δ²/8 = |Δ²m|/8. Where the slope jumps by J at a distance a from the nearer node
+    of the cell (a change of limiting regime), it errs by up to J a (Δ − a)/Δ, at most
+    J Δ/4 for a kink mid-cell, while the second difference at that node is J (Δ − a) ≥
+    J Δ/2. Half the second difference at the corners therefore bounds both (a kink
+    mid-cell exactly), up to the curvature of the neighbouring cells; second differences
+    are taken at interior nodes, an end node takes its neighbour's.
+
+    References
+    ----------
+    .. [2] Press et al. (2007), §3.0–3.1 (error of polynomial interpolation); C. de Boor,
+       *A Practical Guide to Splines*, rev. ed., Springer, 2001, ch. II (error of broken-line
+       interpolation) [from memory for the chapters].
+    """
+    m = np.asarray(grid_mass_kg, dtype=float)
+    big = np.inf
+
+    def second(a, axis):
+        a = np.moveaxis(a, axis, -1)
+        if a.shape[-1] < 3:
+            d = np.zeros_like(a)
+        else:
+            inner = np.abs(a[..., 2:] - 2.0 * a[..., 1:-1] + a[..., :-2])
+            d = np.concatenate([inner[..., :1], inner, inner[..., -1:]], axis=-1)
+        return np.moveaxis(np.where(np.isfinite(d), d, big), -1, axis)
+
+    node = np.maximum(second(m, -2), second(m, -1))  # (..., G, H)
+    corner = np.maximum(np.maximum(node[..., :-1, :-1], node[..., 1:, :-1]),
+                        np.maximum(node[..., :-1, 1:], node[..., 1:, 1:]))
+    return 0.5 * corner

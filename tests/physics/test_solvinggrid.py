@@ -1,0 +1,116 @@
+"""Tests of physics.solvinggrid: headwind and temperature nodes, interpolation on the grid,
+the node window, pressure layers, no-takeoff nodes and the interpolation-error indicator.
+
+Masses come from simple invented closed-form mass functions m(T, h) so every expected value
+can be computed by hand.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from fieldlimits.physics import solvinggrid
+from tests.physics._climate_fixtures import Z, linear_mass
+
+
+# --------------------------------------------------------------------------------------
+# Headwind interpolation
+# --------------------------------------------------------------------------------------
+def test_headwind_nodes_include_calm_and_range():
+    n = solvinggrid.headwind_nodes(np.array([-7.5, 0.0]), np.array([10.0, 4.0]))
+    np.testing.assert_allclose(n[0], [-7.5, -3.75, 0.0, 2.5, 5.0, 7.5, 10.0])
+    np.testing.assert_allclose(n[1], [0.0, 0.0, 0.0, 1.0, 2.0, 3.0, 4.0])
+
+
+def test_interpolation_exact_for_bilinear_and_nan_rule():
+    nodes = solvinggrid.headwind_nodes(-6.0, 8.0)
+    t = 300.0 + 3.0 * Z
+    grid = linear_mass(t[:, None], nodes[None, :])  # (G, H)
+    h = np.array([-6.0, -2.2, 0.0, 3.3, 8.0, 12.0])
+    got = solvinggrid.interpolate_headwind(grid, nodes, h)  # (J, G)
+    expected = linear_mass(t[None, :], np.clip(h, -6.0, 8.0)[:, None])
+    np.testing.assert_allclose(got, expected, rtol=1e-12)
+    # A no-takeoff node (NaN) makes every interpolant that touches it NaN (not possible).
+    grid_nan = grid.copy()
+    grid_nan[-1, 1] = np.nan  # hottest node, headwind node −3
+    got = solvinggrid.interpolate_headwind(grid_nan, nodes, h)
+    assert np.isnan(got[1, -1]) and np.isnan(got[0, -1] * 0 + got[1, -1])
+    assert np.isfinite(got[2, -1]) and np.isfinite(got[1, -2])
+
+
+# --------------------------------------------------------------------------------------
+# The shared solving grid
+# --------------------------------------------------------------------------------------
+def test_temperature_nodes_span_the_range_with_a_node_on_the_flat_rating_corner():
+    nodes = solvinggrid.temperature_nodes(280.0, 310.0, 6, corner_k=303.15)
+    # Equal spacing 6 K, the node nearest 303.15 K (304 K) moved onto it.
+    np.testing.assert_allclose(nodes, [280.0, 286.0, 292.0, 298.0, 303.15, 310.0])
+    # A corner outside the range moves nothing.
+    np.testing.assert_allclose(solvinggrid.temperature_nodes(280.0, 310.0, 6, corner_k=320.0),
+                               np.linspace(280.0, 310.0, 6))
+    # A piecewise-linear mass with its kink at the corner is reproduced exactly by linear
+    # interpolation between these nodes (de Boor 2001, ch. II: breakpoints at the kinks).
+    kinked = lambda t: 70_000.0 - 100.0 * (t - 280.0) - 900.0 * np.maximum(t - 303.15, 0.0)  # noqa: E731
+    t = np.linspace(280.0, 310.0, 301)
+    np.testing.assert_allclose(np.interp(t, nodes, kinked(nodes)), kinked(t), rtol=1e-12)
+
+
+def test_node_window_covers_each_months_range():
+    nodes = np.linspace(270.0, 320.0, 11)  # 5 K apart
+    lo = np.array([271.0, 290.0, 300.0, 318.0])
+    hi = np.array([283.0, 301.0, 309.0, 319.0])
+    start, needed = solvinggrid.node_window(nodes, lo, hi, 5)
+    np.testing.assert_array_equal(needed, [4, 4, 3, 2])  # e.g. 290..305 K: nodes 290, 295, 300, 305
+    win = nodes[start[:, None] + np.arange(5)]
+    assert np.all(win[:, 0] <= lo) and np.all(win[:, -1] >= hi)
+
+
+def test_pressure_interpolation_is_linear_between_the_layers():
+    m = solvinggrid.interpolate_pressure(60_000.0, 60_600.0, 99_000.0, 100_000.0,
+                                  np.array([99_000.0, 99_250.0, 100_000.0, 101_000.0]))
+    # Linear in pressure, held at the end layers outside them.
+    np.testing.assert_allclose(m, [60_000.0, 60_150.0, 60_600.0, 60_600.0])
+    # One layer (no pressure spread): its value; a no-takeoff upper layer is NaN only
+    # where it is used.
+    assert solvinggrid.interpolate_pressure(60_000.0, np.nan, 99_000.0, 99_000.0, 99_000.0) == 60_000.0
+    assert np.isnan(solvinggrid.interpolate_pressure(60_000.0, np.nan, 99_000.0, 100_000.0, 99_500.0))
+
+
+def test_no_takeoff_node_gets_the_trend_below_the_floor():
+    t = np.array([290.0, 295.0, 300.0, 305.0, 310.0])
+    mass = 50_000.0 - 1_000.0 * (t - 290.0)  # 40 000 kg at 300 K, 35 000 at 305 K
+    floor = 37_000.0  # OEW: no takeoff from 303 K
+    grid = np.where(mass >= floor, mass, np.nan)
+    filled = solvinggrid.fill_no_takeoff_nodes(t, grid, floor)
+    # The first no-takeoff node takes the linear trend (35 000 kg, below the floor), so the
+    # interpolant crosses the floor exactly at 303 K; the next node stays NaN.
+    assert filled[3] == pytest.approx(35_000.0)
+    assert np.isnan(filled[4])
+    assert np.interp(303.0, t[:4], filled[:4]) == pytest.approx(floor)
+    # Mirrored (headwind rows: no takeoff at the strongest tailwinds first).
+    back = solvinggrid.fill_no_takeoff_nodes(-t[::-1], grid[::-1], floor, reverse=True)
+    np.testing.assert_allclose(back, filled[::-1])
+
+
+# --------------------------------------------------------------------------------------
+# Interpolation-error indicator
+# --------------------------------------------------------------------------------------
+def test_grid_error_indicator_zero_for_bilinear_and_the_interpolation_error_at_a_kink():
+    t = np.linspace(290.0, 310.0, 6)
+    h = np.linspace(-6.0, 6.0, 7)
+    bilinear = 60_000.0 - 500.0 * (t[:, None] - 300.0) + 800.0 * h[None, :] \
+        + 3.0 * (t[:, None] - 300.0) * h[None, :]
+    assert np.allclose(solvinggrid.grid_error_indicator(bilinear), 0.0, atol=1e-6)
+    # A slope change of 1 000 kg per m/s at h = 1 m/s, mid-way between the nodes 0 and
+    # 2 m/s: linear interpolation errs there by 1 000 × 1 × 1/2 = 500 kg; the second
+    # difference at the nodes next to it is 1 000 kg, the indicator half of it.
+    kink = 60_000.0 + 1_000.0 * np.maximum(h - 1.0, 0.0)[None, :] + 0.0 * t[:, None]
+    ind = solvinggrid.grid_error_indicator(kink)
+    interpolated = 0.5 * (kink[:, 3] + kink[:, 4])  # at h = 1 m/s
+    np.testing.assert_allclose(np.abs(interpolated - 60_000.0), 500.0)
+    np.testing.assert_allclose(ind[:, 3], 500.0)
+    assert np.all(ind[:, 0] == 0.0) and np.all(ind[:, -1] == 0.0)
+    # No-takeoff corners: unknown, flagged as infinite.
+    kink[-1, -1] = np.nan
+    assert np.isinf(solvinggrid.grid_error_indicator(kink)[-1, -1])
