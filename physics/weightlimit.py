@@ -723,10 +723,10 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
             margin, memo = requirement_margins(cases, mass, [OBSTACLE_REQUIREMENT])
             for key, val in flightpath.obstacle_report(cases, mass, memo).items():
                 out[key][obs] = val
-            binding = obs[~(margin[0] >= 0.0)]
-            if binding.size:
-                _solve_into(out, aircraft, site, binding, n, tol_kg, reqs + [OBSTACLE_REQUIREMENT], figures,
-                            obstacles.take_cases(binding))
+            fails = np.flatnonzero(~(margin[0] >= 0.0))
+            if fails.size:
+                _solve_obstacle_limit(out, cases.take(fails), obs[fails], mass[fails], margin[:, fails], tol_kg,
+                                      reqs, figures)
     return WeightLimit(**out)
 
 
@@ -746,6 +746,75 @@ def _obstacle_cases(aircraft, site, index, n, obstacles):
     cases = prepare_cases(a, s, vmcg_floor=True)
     cases._cache["obstacles"] = obstacles.take_cases(index)
     return cases
+
+
+def _solve_obstacle_limit(out, cases, index, hi_kg, margin_hi, tol_kg, reqs, figures):
+    """Obstacle limits of the cases whose net path fails at their limit without obstacles.
+
+    ``cases`` (prepared, line-up taken off, obstacles cached: those of the check at that
+    limit, so the V1 found there starts the search) are the cases at ``index`` of ``out``;
+    ``hi_kg`` their limit without obstacles and ``margin_hi`` (shape (1, n)) the obstacle
+    margin there. Below that limit every other requirement is met (each margin falls as the
+    mass rises), so only the obstacle requirement is searched, between OEW and that limit;
+    the factor is ``obstacle_clearance`` (``no_takeoff`` where OEW fails) and the figures
+    are taken at the limit with a converged V1 as in :func:`_solve`. Wet cases with a dry
+    friction are also searched dry and keep the lower limit (:func:`_solve_accepted`).
+    """
+    result = _obstacle_search(cases, hi_kg, margin_hi, tol_kg, reqs, figures)
+    s = cases.site
+    n = cases.n
+    dry_roll = np.broadcast_to(np.asarray(s.mu_roll_dry, dtype=float), (n,))
+    dry_brake = np.broadcast_to(np.asarray(s.mu_brake_dry, dtype=float), (n,))
+    wet = np.asarray(s.screen_height_m, dtype=float) < const.SCREEN_HEIGHT_35FT_M - 1e-6
+    idx = np.flatnonzero(wet & np.isfinite(dry_roll) & np.isfinite(dry_brake))
+    if idx.size:
+        sub = cases.take(idx)
+        a = _gather(sub.aircraft, np.arange(idx.size), idx.size)
+        dry_site = _gather(sub.site, np.arange(idx.size), idx.size)
+        dry_site = dataclasses.replace(dry_site, mu_roll=dry_roll[idx], mu_brake=dry_brake[idx],
+                                       screen_height_m=np.full(idx.size, const.SCREEN_HEIGHT_35FT_M),
+                                       mu_roll_dry=np.full(idx.size, np.nan), mu_brake_dry=np.full(idx.size, np.nan))
+        dry_cases = prepare_cases(a, dry_site, vmcg_floor=True)
+        dry_cases._cache["obstacles"] = cases._cache["obstacles"].take_cases(idx)
+        dry = _obstacle_search(dry_cases, hi_kg[idx], margin_hi[:, idx], tol_kg, reqs, figures)
+        w_lim = result["tow_limit_kg"][idx]
+        lower = idx[~np.isnan(w_lim) & (np.isnan(dry["tow_limit_kg"]) | (dry["tow_limit_kg"] < w_lim))]
+        at = np.searchsorted(idx, lower)
+        for key, val in dry.items():
+            result[key][lower] = val[at]
+    for key, val in result.items():
+        out[key][index] = val
+
+
+def _obstacle_search(cases, hi_kg, margin_hi, tol_kg, reqs, figures):
+    """The obstacle limit between OEW and ``hi_kg`` (fails the obstacle requirement) and
+    the figures there: a dict of :class:`WeightLimit` fields (see
+    :func:`_solve_obstacle_limit`)."""
+    n = cases.n
+    cases._cache.pop("engine_failure_final", None)
+    only = [OBSTACLE_REQUIREMENT]
+    lo, _, _, none, _, v1_state = _itp_search(
+        cases, lambda cs, mass: requirement_margins(cs, mass, only), np.asarray(cases.aircraft.oew_kg, dtype=float),
+        np.asarray(hi_kg, dtype=float), margin_hi, tol_kg)
+    out = {f.name: np.full(n, np.nan) for f in fields(WeightLimit)}
+    out["tow_limit_kg"] = np.where(none, np.nan, lo)
+    out["limiting_factor"] = np.where(none, limits.code("no_takeoff"), limits.code("obstacle_clearance"))
+    final = np.flatnonzero(~none)
+    if figures and final.size:
+        # the figures at the limit, every requirement's report, with V1 converged from the
+        # search's last one (as the solver's closing evaluation)
+        sub = cases.take(final)
+        sub._cache["engine_failure_final"] = True
+        if v1_state is not None:
+            sub._cache["engine_failure_state"] = {k: np.array(v[final], dtype=float) for k, v in v1_state.items()}
+        mass = lo[final]
+        every = list(reqs) + only
+        _, memo = requirement_margins(sub, mass, every)
+        for r in every:
+            if r.report is not None:
+                for key, val in r.report(sub, mass, memo).items():
+                    out[key][final] = np.asarray(val, dtype=float)
+    return out
 
 
 def _gather(obj, index, n):
@@ -1102,6 +1171,8 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True, obstacles=None):
     cases = prepare_cases(aircraft, site, vmcg_floor=engine_failure)
     if obstacles is not None:
         cases._cache["obstacles"] = obstacles
+    if engine_failure:
+        return _solve_staged(cases, tol_kg, reqs, figures)
     a = cases.aircraft
 
     def margins_fn(cs, mass):
@@ -1172,6 +1243,116 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True, obstacles=None):
         capture(cases, a.mtow_kg, memo_hi, idx, idx)
     for key in out:
         out[key][none] = np.nan
+    return WeightLimit(tow_limit_kg=limit, limiting_factor=factor.astype(np.int64), **out)
+
+
+#: Least engine-failure margin (a lower bound: V1 from the search's Newton steps) at the limit
+#: of the other requirements above which the engine-failure requirements are taken as met one
+#: ``tol_kg`` higher too, so that the factor is the other requirement's without evaluating
+#: them there. A kilogram changes a distance margin by about 2 kg/m (2.5e-4 at 8 t), so 1 %
+#: leaves a wide allowance. [–]
+STAGE_CLEAR_MARGIN = 1e-2
+
+
+def _solve_staged(cases, tol_kg, reqs, figures):
+    """:func:`_solve` with engine-failure requirements: the others first, on their own.
+
+    Each margin falls as the mass rises, so the limit is the least of the requirements' own
+    limits. Stage 1 searches the requirements without an engine failure (the all-engines
+    distances and the climb: a fraction of the cost) between OEW and MTOW; stage 2 evaluates
+    the engine-failure requirements (and obstacles) once, at that limit; where they are met
+    it stands, elsewhere stage 3 searches them alone below it (every other requirement is
+    met there). The factor is the requirement most violated at the bracket's upper end, as
+    in the single search; the figures are taken at the limit with a converged V1.
+    """
+    a = cases.aircraft
+    n = cases.n
+    costly_row = np.array([r.margin in _ENGINE_FAILURE_MARGINS for r in reqs])
+    costly = [r for r, c in zip(reqs, costly_row) if c]
+    cheap = [r for r, c in zip(reqs, costly_row) if not c]
+    codes = np.array([limits.code(r.factor) for r in reqs])
+    mtow, oew = np.asarray(a.mtow_kg, dtype=float), np.asarray(a.oew_kg, dtype=float)
+    none = np.zeros(n, dtype=bool)
+    limit_at = mtow.copy()  # a mass every requirement searched so far meets
+    above = np.full(n, np.inf)  # the upper end of its bracket (inf: met at MTOW)
+    m_above = np.full((len(reqs), n), np.inf)  # margins at ``above`` (+inf: not binding there)
+
+    # 1. the requirements without an engine failure
+    if cheap:
+        m_c, _ = requirement_margins(cases, mtow, cheap)
+        rest = np.flatnonzero(m_c.min(axis=0) < 0.0)
+        if rest.size:
+            lo, hi, m_top, none_rest, _, _ = _itp_search(
+                cases.take(rest), lambda cs, mass: requirement_margins(cs, mass, cheap), oew[rest], mtow[rest],
+                m_c.take(rest, axis=1), tol_kg)
+            limit_at[rest], above[rest], none[rest] = lo, hi, none_rest
+            m_above[np.ix_(np.flatnonzero(~costly_row), rest)] = m_top
+
+    # 2. the engine-failure requirements at that limit
+    idx = np.flatnonzero(~none)
+    ef = cases.take(idx)
+    m_chk, _ = requirement_margins(ef, limit_at[idx], costly)
+    least = m_chk.min(axis=0)
+    state = ef._cache.get("engine_failure_state")
+    if not state or state.get("v1") is None:
+        state = {"v1": np.full(idx.size, np.nan), "mass": np.full(idx.size, np.nan)}
+    state = {k: np.array(v, dtype=float, copy=True) for k, v in state.items()}
+
+    # 3. where they fail: searched alone below it
+    fail = np.flatnonzero(least < 0.0)
+    searched = np.zeros(n, dtype=bool)
+    if fail.size:
+        gi = idx[fail]
+        lo, hi, m_top, none_f, _, v1_state = _itp_search(
+            ef.take(fail), lambda cs, mass: requirement_margins(cs, mass, costly), oew[gi], limit_at[gi],
+            m_chk.take(fail, axis=1), tol_kg)
+        none[gi], limit_at[gi], above[gi] = none_f, lo, hi
+        m_above[:, gi] = np.inf
+        m_above[np.ix_(np.flatnonzero(costly_row), gi)] = m_top
+        searched[gi] = True
+        if v1_state is not None:
+            got = np.isfinite(v1_state["v1"])
+            state["v1"][fail[got]], state["mass"][fail[got]] = v1_state["v1"][got], v1_state["mass"][got]
+    ef._cache["engine_failure_state"] = state
+    pos = np.full(n, -1)
+    pos[idx] = np.arange(idx.size)
+
+    def final_cases(where):
+        # the cases at ``where`` (indices of all n) with the V1 of their last evaluation
+        sub = ef.take(pos[where])
+        if figures:
+            sub._cache["engine_failure_final"] = True
+        return sub
+
+    structural = ~none & ~np.isfinite(above)
+    factor = np.where(structural, limits.code("structural"), limits.code("no_takeoff"))
+    limit = np.where(none, np.nan, limit_at)
+    # the factor: the requirement most violated at the upper end. Where the other requirements
+    # bind and the engine-failure margins are clear of zero at the limit they cannot bind a
+    # kilogram higher; elsewhere the engine-failure margins there are evaluated (with V1
+    # converged when the figures are wanted: at a balanced V1 the go and stop margins tie and
+    # only a converged V1 names the binding one reproducibly).
+    clear = np.zeros(n, dtype=bool)
+    clear[idx] = least > STAGE_CLEAR_MARGIN
+    again = ~none & ~structural & ~clear
+    again = np.flatnonzero(again | (searched & ~none) if figures else again & ~searched)
+    if again.size:
+        m_again, _ = requirement_margins(final_cases(again), above[again], costly)
+        m_above[np.ix_(np.flatnonzero(costly_row), again)] = m_again
+    limited = np.flatnonzero(~none & ~structural)
+    factor[limited] = codes[_least_met(-m_above.take(limited, axis=1))[0]]
+
+    out = {k: np.full(n, np.nan) for k in _RESULT_FIELDS}
+    if figures:
+        final = np.flatnonzero(~none)
+        if final.size:
+            sub = final_cases(final)
+            mass = limit[final]
+            _, memo = requirement_margins(sub, mass, reqs)
+            for r in reqs:
+                if r.report is not None:
+                    for key, val in r.report(sub, mass, memo).items():
+                        out[key][final] = np.asarray(val, dtype=float)
     return WeightLimit(tow_limit_kg=limit, limiting_factor=factor.astype(np.int64), **out)
 
 
