@@ -291,19 +291,34 @@ def compute_chunk(work_dir: str | os.PathLike, chunk: int, run_id: int, params: 
 
 def _compute_chunk_here(work_dir: str | os.PathLike, chunk: int, run_id: int, params: dict) -> ChunkResult:
     """:func:`compute_chunk` in this process."""
-    from fieldlimits.physics.weightlimit import solve_takeoff_weight
-
     work = Path(work_dir)
-    direction_path, airfield_path = part_paths(work, chunk)
-    direction_path.parent.mkdir(parents=True, exist_ok=True)
     key = chunk_key(params, chunk, run_id)
+    done = reused_part(work, chunk, key)
+    if done is not None:
+        return done
+    cases = case_io.read_chunk_cases(work, chunk)
+    direction, airfield, bases = solve_chunk(work, cases, chunk, run_id, params)
+    return write_parts(work, chunk, key, direction, airfield, bases, len(cases))
+
+
+def reused_part(work: Path, chunk: int, key: str) -> ChunkResult | None:
+    """The chunk's result when its part files already exist with ``key`` (a retry), else None."""
+    direction_path, airfield_path = part_paths(work, chunk)
     done, bases, rows = _existing_part(direction_path, key)
     if done and (not bases or _existing_part(airfield_path, key)[0]):
         n_cases = pq.ParquetFile(work / case_io.CASES_FILE).metadata.row_group(chunk).num_rows
         return ChunkResult(chunk, str(direction_path), str(airfield_path) if bases else None,
                            bases, rows, n_cases, reused=True)
+    return None
 
-    cases = case_io.read_chunk_cases(work, chunk)
+
+def solve_chunk(work: Path, cases: pd.DataFrame, chunk: int, run_id: int,
+                params: dict) -> tuple[pa.Table, pa.Table | None, tuple[str, ...]]:
+    """Solve ``cases`` and run the row producers; return the direction rows, the airfield rows
+    (or None) and the bases given at airfield level. Reads the aircraft and input tables from
+    ``work`` (the run's work folder, or a worker's private copy of the chunk's part of it)."""
+    from fieldlimits.physics.weightlimit import solve_takeoff_weight
+
     aircraft_table = pd.read_parquet(work / case_io.AIRCRAFT_FILE)
     aircraft = aircraft_arrays(aircraft_table, cases["aircraft_index"].to_numpy())
     site = site_arrays(cases)
@@ -325,13 +340,211 @@ def _compute_chunk_here(work_dir: str | os.PathLike, chunk: int, run_id: int, pa
             airfield_frames.append(out.airfield)
 
     direction = pd.concat(direction_frames, ignore_index=True) if len(direction_frames) > 1 else design
-    airfield_bases: tuple[str, ...] = ()
+    if not airfield_frames:
+        return to_result_table(direction), None, ()
+    airfield = pd.concat(airfield_frames, ignore_index=True)
+    bases = tuple(sorted(airfield["basis"].unique().tolist()))
+    return to_result_table(direction), to_result_table(airfield), bases
+
+
+def write_parts(work: Path, chunk: int, key: str, direction: pa.Table, airfield: pa.Table | None,
+                bases: tuple[str, ...], n_cases: int) -> ChunkResult:
+    """Write a chunk's part files (airfield part first: the direction part marks it done)."""
+    direction_path, airfield_path = part_paths(work, chunk)
+    direction_path.parent.mkdir(parents=True, exist_ok=True)
     airfield_out = None
-    if airfield_frames:
-        airfield = pd.concat(airfield_frames, ignore_index=True)
-        airfield_bases = tuple(sorted(airfield["basis"].unique().tolist()))
-        _write_part(to_result_table(airfield), airfield_path, key, airfield_bases)
+    if airfield is not None:
+        _write_part(airfield, airfield_path, key, bases)
         airfield_out = str(airfield_path)
-    _write_part(to_result_table(direction), direction_path, key, airfield_bases)
-    return ChunkResult(chunk, str(direction_path), airfield_out, airfield_bases,
-                       len(direction), len(cases))
+    _write_part(direction, direction_path, key, bases)
+    return ChunkResult(chunk, str(direction_path), airfield_out, bases, direction.num_rows, n_cases)
+
+
+# --------------------------------------------------------------------------- Dask workers
+class VersionMismatch(RuntimeError):
+    """A Dask worker runs other fieldlimits code than the client (the run's code version)."""
+
+
+@dataclass(frozen=True)
+class ChunkPayload:
+    """Everything a Dask worker needs for one chunk, sent through Dask (no path is shared).
+
+    ``files`` maps a path relative to the work folder (``aircraft.parquet``,
+    ``tables/<name>.parquet``) to the Parquet bytes of that file, restricted to the chunk's
+    airfields where the table has an ``airfield_id``.
+    """
+
+    chunk: int
+    run_id: int
+    params: dict
+    cases: pa.Table
+    files: dict
+
+
+@dataclass(frozen=True)
+class ChunkRows:
+    """What a Dask worker sends back: the chunk's rows as Arrow tables."""
+
+    chunk: int
+    direction: pa.Table
+    airfield: pa.Table | None
+    bases: tuple[str, ...]
+    cases: int
+
+
+def _parquet_bytes(table: pa.Table) -> bytes:
+    sink = pa.BufferOutputStream()
+    pq.write_table(table, sink)
+    return sink.getvalue().to_pybytes()
+
+
+def chunk_payload(work_dir: str | os.PathLike, chunk: int, run_id: int, params: dict) -> ChunkPayload:
+    """Read one chunk's cases and the parts of the input tables it needs from the client's
+    work folder (each table with an ``airfield_id`` only for the chunk's airfields)."""
+    work = Path(work_dir)
+    cases = pq.ParquetFile(work / case_io.CASES_FILE).read_row_group(chunk)
+    airfields = sorted(set(cases.column("airfield_id").to_pylist()))
+    files = {case_io.AIRCRAFT_FILE: (work / case_io.AIRCRAFT_FILE).read_bytes()}
+    for path in sorted((work / case_io.TABLES_DIR).glob("*.parquet")):
+        name = f"{case_io.TABLES_DIR}/{path.name}"
+        if "airfield_id" not in pq.read_schema(path).names:
+            files[name] = path.read_bytes()
+            continue
+        frame = read_chunk_table(work, path.stem, airfields)
+        files[name] = _parquet_bytes(pa.Table.from_pandas(frame, preserve_index=False))
+    return ChunkPayload(chunk, run_id, params, cases, files)
+
+
+_WORKER_VERSION: str | None = None
+
+
+def worker_code_version() -> str:
+    """This process's code version (:func:`pipeline.steps.code_version`), computed once."""
+    global _WORKER_VERSION
+    if _WORKER_VERSION is None:
+        from fieldlimits.pipeline.steps import code_version
+
+        _WORKER_VERSION = code_version()
+    return _WORKER_VERSION
+
+
+def _worker_name() -> str:
+    try:
+        from distributed import get_worker
+
+        return f"Dask worker {get_worker().address}"
+    except Exception:
+        return f"worker process {os.getpid()}"
+
+
+def _worker_scratch() -> Path:
+    """The worker's own scratch folder (its ``--local-directory``), else the system's."""
+    import tempfile
+
+    try:
+        from distributed import get_worker
+
+        root = get_worker().local_directory
+    except Exception:
+        root = None
+    return Path(tempfile.mkdtemp(prefix="fieldlimits-chunk-", dir=root))
+
+
+def compute_on_worker(payload: ChunkPayload) -> ChunkRows:
+    """The chunk task on a Dask worker: check the code version, solve, return the rows.
+
+    The payload's tables are written to a scratch folder of this worker's own (removed
+    afterwards), so the row producers read them as in a local run.
+    """
+    import shutil
+
+    client_version = payload.params.get("code_version")
+    mine = worker_code_version()
+    if client_version != mine:
+        raise VersionMismatch(
+            f"{_worker_name()} runs fieldlimits {mine}, but the run was started with "
+            f"fieldlimits {client_version}: install the same fieldlimits on the client and every "
+            f"worker (pip install the same wheel or checkout) and restart the workers")
+    scratch = _worker_scratch()
+    try:
+        for name, data in payload.files.items():
+            path = scratch / name
+            path.parent.mkdir(parents=True, exist_ok=True)
+            path.write_bytes(data)
+        cases = payload.cases.to_pandas()
+        direction, airfield, bases = solve_chunk(scratch, cases, payload.chunk, payload.run_id,
+                                                 payload.params)
+    finally:
+        shutil.rmtree(scratch, ignore_errors=True)
+    return ChunkRows(payload.chunk, direction, airfield, bases, len(cases))
+
+
+class DaskChunks:
+    """Computes chunks on a Dask cluster; the part files are written by the client.
+
+    The client reads each chunk's inputs from its own work folder, sends them through Dask
+    (:class:`ChunkPayload`), and writes the rows the worker returns (:class:`ChunkRows`) to
+    its work folder, so the workers share no folder with the client or with each other, and
+    never run Prefect. ``address`` is a scheduler address (``tcp://host:8786``) or ``local``
+    (a temporary cluster of ``workers`` single-threaded worker processes on this machine).
+    """
+
+    def __init__(self, address: str, workers: int = 2):
+        self.address = address
+        self.workers = workers
+        self.client = None
+        self._cluster = None
+
+    def start(self) -> "DaskChunks":
+        from distributed import Client
+
+        if self.address == "local":
+            import dask
+            from distributed import LocalCluster
+
+            # Dask's nanny starts workers with MALLOC_TRIM_THRESHOLD_=65536, which also fixes
+            # glibc's mmap threshold at 128 KiB: every large numpy temporary is then mapped and
+            # unmapped again (measured: 3 min system time in a 5 min run). These are glibc's
+            # own dynamic limits at their largest, as in a plain run.
+            with dask.config.set({"distributed.nanny.pre-spawn-environ": dict(
+                    dask.config.get("distributed.nanny.pre-spawn-environ", {}), **WORKER_MALLOC_ENV)}):
+                self._cluster = LocalCluster(n_workers=self.workers, threads_per_worker=1,
+                                             processes=True, dashboard_address=None)
+            self.client = Client(self._cluster)
+        else:
+            self.client = Client(self.address, timeout="30s")
+        return self
+
+    def threads(self) -> int:
+        """Worker threads in the cluster now (at least 1)."""
+        return max(1, sum(self.client.nthreads().values())) if self.client else 1
+
+    def compute(self, work_dir: str | os.PathLike, chunk: int, run_id: int, params: dict) -> ChunkResult:
+        """Compute one chunk on the cluster and write its part files here (a part already
+        written with the same chunk key is reused, as in :func:`compute_chunk`)."""
+        work = Path(work_dir)
+        key = chunk_key(params, chunk, run_id)
+        done = reused_part(work, chunk, key)
+        if done is not None:
+            return done
+        data = self.client.scatter(chunk_payload(work, chunk, run_id, params), hash=False)
+        future = self.client.submit(compute_on_worker, data, pure=False,
+                                    key=f"fieldlimits-run-{run_id}-chunk-{chunk}-{os.urandom(4).hex()}")
+        try:
+            rows = future.result()
+        finally:
+            future.release()
+            data.release()
+        return write_parts(work, chunk, key, rows.direction, rows.airfield, rows.bases, rows.cases)
+
+    def close(self) -> None:
+        client, cluster, self.client, self._cluster = self.client, self._cluster, None, None
+        if client is not None:
+            client.close()
+        if cluster is not None:
+            cluster.close()
+
+
+#: Environment of the local cluster's worker processes (see :meth:`DaskChunks.start`); start
+#: remote workers with the same (DEVELOPERS.md).
+WORKER_MALLOC_ENV = {"MALLOC_MMAP_THRESHOLD_": "33554432", "MALLOC_TRIM_THRESHOLD_": "67108864"}

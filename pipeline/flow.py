@@ -8,7 +8,10 @@ small prepared-run object, never database connections or big frames.
 It runs without a server: ``fieldlimits run`` starts Prefect's temporary local API itself
 (:mod:`pipeline.prefect_api`), and with ``PREFECT_API_URL`` unset a plain call has Prefect start
 one. The offline settings are applied by :mod:`pipeline.settings` before Prefect is imported.
-A Dask cluster is used when ``cluster`` is given (``prefect-dask``; see DEVELOPERS.md).
+With ``cluster`` (a Dask scheduler address, or ``local``) the chunk tasks send their work to
+a Dask cluster (:class:`DaskChunkRunner`): the data travels through Dask, the workers share no
+folder with the client and run no Prefect, and a worker with other code than the client's
+fails its chunk with both code versions named (see DEVELOPERS.md, Dask).
 
 What a Prefect user sees: flow runs named after the network and the scenario
 (``demo network · baseline``, ``net2000 · temperature +2 K``; :func:`flow_run_name`), chunk
@@ -60,7 +63,9 @@ def build_cases_task(prepared, run_id: int):
 
 
 @task(name="compute-chunk", task_run_name="compute-chunk-{chunk}", retries=1, cache_policy=NO_CACHE)
-def compute_chunk_task(work: str, chunk: int, run_id: int, key_params: dict):
+def compute_chunk_task(work: str, chunk: int, run_id: int, key_params: dict, dask=None):
+    if dask is not None:
+        return dask.compute(work, chunk, run_id, key_params)
     return chunks.compute_chunk(work, chunk, run_id, key_params)
 
 
@@ -85,35 +90,77 @@ def load_task(prepared, run_id: int, results, best_path: str, route_path: str | 
     return steps.load(prepared, run_id, results, best_path, route_path, reused)
 
 
-#: Environment of the Dask workers' processes (see _task_runner); remote workers should be
-#: started with it too (DEVELOPERS.md).
-WORKER_MALLOC_ENV = {"MALLOC_MMAP_THRESHOLD_": "33554432", "MALLOC_TRIM_THRESHOLD_": "67108864"}
+#: Environment of the Dask workers' processes; remote workers should be started with it too
+#: (DEVELOPERS.md).
+WORKER_MALLOC_ENV = chunks.WORKER_MALLOC_ENV
+
+
+class DaskChunkRunner(ThreadPoolTaskRunner):
+    """Prefect's thread pool, with the chunk tasks' work sent to a Dask cluster.
+
+    Every task runs in this process as with the plain thread pool, so Prefect records all of
+    them in the client's API (a server of the user's, or the temporary one) and the Dask
+    workers never run Prefect: no API to reach, no server of their own. A chunk task reads
+    its chunk's inputs, sends them through Dask (:class:`pipeline.chunks.DaskChunks`) and
+    writes the rows that come back. On entering, the runner connects to the cluster and sizes
+    its pool to the cluster's worker threads plus one, so each worker has a chunk to do and
+    the next chunk's inputs are read meanwhile.
+    """
+
+    def __init__(self, cluster: str, workers: int = 2):
+        super().__init__(max_workers=workers + 1)
+        self.cluster = cluster
+        self.workers = workers
+        self.dask: chunks.DaskChunks | None = None
+
+    def duplicate(self) -> "DaskChunkRunner":
+        return type(self)(self.cluster, self.workers)
+
+    def __eq__(self, value: object) -> bool:
+        return (isinstance(value, DaskChunkRunner) and self.cluster == value.cluster
+                and self.workers == value.workers)
+
+    def __enter__(self):
+        self.dask = chunks.DaskChunks(self.cluster, self.workers).start()
+        try:
+            self._max_workers = self.dask.threads() + 1
+            return super().__enter__()
+        except BaseException:
+            self.dask.close()
+            raise
+
+    def __exit__(self, exc_type, exc_value, traceback) -> None:
+        try:
+            super().__exit__(exc_type, exc_value, traceback)
+        finally:
+            if self.dask is not None:
+                self.dask.close()
+                self.dask = None
+
+    def __getstate__(self) -> dict:
+        state = super().__getstate__()
+        state["dask"] = None  # a connection is not carried to another process
+        return state
 
 
 def _task_runner(cluster: str | None, workers: int):
     if not cluster:
         return ThreadPoolTaskRunner(max_workers=workers)
     try:
-        from prefect_dask import DaskTaskRunner
+        import distributed  # noqa: F401
     except ImportError:
         from fieldlimits.pipeline.errors import BadInput
 
         raise BadInput("--cluster needs the dask extra: pip install 'fieldlimits[dask]'") from None
-    if cluster == "local":
-        import dask
+    return DaskChunkRunner(cluster, workers)
 
-        share_temporary_api()  # the workers report to this process's temporary API
 
-        # Dask's nanny starts workers with MALLOC_TRIM_THRESHOLD_=65536, which also fixes
-        # glibc's mmap threshold at 128 KiB: every large numpy temporary is then mapped and
-        # unmapped again, page faults in the kernel cost more than the arithmetic (measured:
-        # 3 min system time in a 5 min run). These are glibc's own dynamic limits at their
-        # largest (32 MiB, trim at twice that), as in a plain run.
-        dask.config.set({"distributed.nanny.pre-spawn-environ": dict(
-            dask.config.get("distributed.nanny.pre-spawn-environ", {}), **WORKER_MALLOC_ENV)})
-        return DaskTaskRunner(cluster_kwargs={"n_workers": workers, "threads_per_worker": 1,
-                                              "dashboard_address": None})
-    return DaskTaskRunner(address=cluster)
+def _dask_chunks() -> "chunks.DaskChunks | None":
+    """The Dask cluster of this flow run's task runner, if it has one."""
+    from prefect.context import FlowRunContext
+
+    ctx = FlowRunContext.get()
+    return getattr(ctx.task_runner, "dask", None) if ctx is not None else None
 
 
 class _ToRunLog(logging.Handler):
@@ -173,7 +220,8 @@ def _run(input_dir: str, db_path: str, params: RunParams, work_root: str | None,
         work = build_cases_task(prepared, run_id)
         key_params = prepared.chunk_params()
         n = prepared.plan.n_chunks
-        futures = [compute_chunk_task.submit(work, i, run_id, key_params) for i in range(n)]
+        dask = _dask_chunks()
+        futures = [compute_chunk_task.submit(work, i, run_id, key_params, dask) for i in range(n)]
         results = []
         for done, fut in enumerate(as_completed(futures), start=1):
             results.append(fut.result())
@@ -192,27 +240,6 @@ def _run(input_dir: str, db_path: str, params: RunParams, work_root: str | None,
     return steps.summarise(prepared, run_id, time.monotonic() - t0, rows)
 
 
-def share_temporary_api() -> str | None:
-    """Start Prefect's temporary API in this process and point new child processes at it.
-
-    Without ``PREFECT_API_URL`` every process that runs a task starts a temporary API server
-    of its own: the workers of a local Dask cluster would each spend about 10 s on it (and
-    record their task runs where nobody sees them). The server is Prefect's own (stopped at
-    exit); this process goes on using it as before. Returns the URL given to the children,
-    or None when ``PREFECT_API_URL`` is already set.
-    """
-    import os
-
-    if os.environ.get("PREFECT_API_URL"):
-        return None
-    from prefect.server.api.server import SubprocessASGIServer
-
-    server = SubprocessASGIServer()  # the instance this process's client uses too
-    server.start()
-    os.environ["PREFECT_API_URL"] = server.api_url
-    return server.api_url
-
-
 def run_with_prefect(input_dir, db_path, params: RunParams | None = None, *, cluster: str | None = None,
                      workers: int | None = None, work_root=None, server=None):
     """Run the flow: against ``server`` (a :class:`pipeline.prefect_api.TemporaryServer`
@@ -223,7 +250,7 @@ def run_with_prefect(input_dir, db_path, params: RunParams | None = None, *, clu
 
     n = workers or int(os.environ.get("PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS", "2"))
     with server.settings() if server is not None else contextlib.nullcontext():
-        if server is not None:  # Dask workers started from here report to it too
+        if server is not None:  # processes started from here find it too
             os.environ["PREFECT_API_URL"] = server.api_url
         runner = _task_runner(cluster, n)
         return fieldlimits_run.with_options(task_runner=runner)(
