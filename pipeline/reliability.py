@@ -185,9 +185,10 @@ def _refinement_samples(point_mass, scores, weight, res, mtow, order_key, settin
             _concat([p[2] for p in parts]))
 
 
-def _join_samples(parts, offsets):
-    """Compact sample rows of blocks of groups joined (group indices made global)."""
-    kept = [(rows + off, col, smp) for part, off in zip(parts, offsets) if part is not None
+def _join_samples(parts, groups):
+    """Compact sample rows of blocks of groups joined (group indices made global:
+    ``groups`` holds, per block, the global index of each of its groups)."""
+    kept = [(np.asarray(grp)[rows], col, smp) for part, grp in zip(parts, groups) if part is not None
             for rows, col, smp in [part]]
     if not kept:
         return None
@@ -775,17 +776,21 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     valid = case_at >= 0
     safe = np.where(valid, case_at, 0)
     first = safe[:, 0]
-    block = max(1, int(settings.block_elements // max(1, n_dir * n_pts * k_win)))
     cell_risk = solvinggrid.grid_error_indicator(case_grid)  # (n, K - 1, H - 1)
+    # Blocks of groups with the same number of runway directions (a group's directions are
+    # its first columns of case_at), so no padding direction is interpolated or compared.
+    dir_count = valid.sum(axis=1)
+    blocks = []
+    for d_count in np.unique(dir_count):  # a handful of direction counts
+        members = np.nonzero(dir_count == d_count)[0]
+        size = max(1, int(settings.block_elements // max(1, d_count * n_pts * k_win)))
+        blocks += [(members[b0:b0 + size], int(d_count)) for b0 in range(0, members.size, size)]
     parts, sample_parts = [], []
-    for b0 in range(0, n_grp, block):  # blocks of groups: memory, not a loop over cases
-        sb, vb = safe[b0:b0 + block], valid[b0:b0 + block]
+    for gb, d_count in blocks:  # blocks of groups: memory, not a loop over cases
+        sb = safe[gb, :d_count]
         pm = solvinggrid.interpolate_headwind(case_grid[sb], h_nodes[sb], h_f[sb])  # (B, D, J, K)
-        raw = np.where(vb[:, :, None, None], pm, np.nan)
-        cx = np.where(vb[:, :, None], cross_ex[sb], True)
-        tx = np.where(vb[:, :, None], tail_ex[sb], True)
         fb = sb[:, 0]
-        flown_b, m_grp, lost = reliabilitylevels.flown_direction(raw, cx, tx, vb)
+        flown_b, m_grp, lost = reliabilitylevels.flown_direction(pm, cross_ex[sb], tail_ex[sb])
         res_b = reliabilitylevels.reliability_masses(
             m_grp, scores[fb], weight_case[fb], oew[fb], mtow[fb], levels=levels, lost_reason=lost)
         # Contour order of the days for the refinement: flown direction (on the middle
@@ -800,8 +805,10 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         sample_parts.append(_refinement_samples(m_grp, scores[fb], weight_case[fb], res_b,
                                                 mtow[fb], key, settings, risk))
         parts.append(res_b)
+    order = np.concatenate([gb for gb, _ in blocks])
     res = _concat(parts)
-    samples = _join_samples(sample_parts, range(0, n_grp, block))
+    res = type(res)(**{f.name: getattr(res, f.name)[np.argsort(order)] for f in dataclasses.fields(res)})
+    samples = _join_samples(sample_parts, [gb for gb, _ in blocks])
 
     def day_directions(g, j, z, margin=0.0):
         """Best usable direction index of days (group g, wind point j, score z), and the
@@ -852,7 +859,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         res1 = reliabilitylevels.reliability_masses(m_one, scores, weight_case, oew, mtow,
                                               levels=levels, lost_reason=lost_one)
         samples1 = _join_samples([_refinement_samples(m_one, scores, weight_case, res1, mtow,
-                                                      h_f, settings)], [0])
+                                                      h_f, settings)], [np.arange(n)])
         res1, start1 = _refine(res1, samples1, lambda g, j, z: (solve_days(g, j, z), g), levels,
                                oew, mtow)
         direction = binding_rows(res1, start1, lambda g, j, z: g, np.arange(n))
