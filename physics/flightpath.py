@@ -461,24 +461,61 @@ def weight_limit_flight_path(cases, mass_kg, memo):
     obstacles = cases.cached("obstacles", lambda cs: None)
     multi = np.asarray(a.engine_count, dtype=float) > 1
     r = enginefailure.weight_limit_engine_failure(cases, mass_kg, memo)
-    aeo = weightlimit.all_engines(cases, mass_kg, memo)
-    tod = np.where(multi, r.takeoff_distance_m, aeo.takeoff_distance_m)
-    v2 = np.where(multi, r.speeds.v2_mps, aeo.v2_mps)
+    tod, v2 = r.takeoff_distance_m, r.speeds.v2_mps
+    if not multi.all():  # single-engine types: the all-engines takeoff, computed for them only
+        single = np.flatnonzero(~multi)
+        if single.size == cases.n:
+            aeo = weightlimit.all_engines(cases, mass_kg, memo)
+            tod, v2 = aeo.takeoff_distance_m, aeo.v2_mps
+        else:
+            singles = cases.cached("flight_path_singles", lambda cs: cs.take(single))
+            aeo = weightlimit.all_engines(singles, np.asarray(mass_kg, dtype=float)[single], {})
+            tod, v2 = np.array(tod, dtype=float), np.array(v2, dtype=float)
+            tod[single], v2[single] = aeo.takeoff_distance_m, aeo.v2_mps
     law = cases.cached("climb_thrust_law", lambda cs: climb.climb_thrust_law(cs.aircraft, cs.site.pressure_pa,
                                                                              cs.site.temperature_k))
     inputs = path_inputs(a, mass_kg=mass_kg, density_kg_m3=cases.density_kg_m3, v2_mps=v2, thrust_fn=law.thrust_n)
     x = (np.asarray(s.toda_m, dtype=float) - tod)[:, None] + obstacles.distance_m
     heights = acceleration_heights_m(a.acceleration_height_m, a.max_acceleration_height_m)
     net = net_gradient_reduction(a.engine_count)
-    # every acceleration height at once: paths (n, J, 5), heights over the obstacles (n, J, K)
-    col = lambda v: np.asarray(v, dtype=float)[..., None]  # noqa: E731
-    path = takeoff_flight_path(screen_m=col(s.screen_height_m), v2_mps=col(inputs.v2_mps),
-                               v_final_mps=col(inputs.v_final_mps), headwind_mps=col(s.headwind_mps),
-                               gradient_gear_down=col(inputs.gradient_gear_down),
-                               gradient_second=col(inputs.gradient_second), accel_mps2=col(inputs.accel_mps2),
-                               gradient_final=col(inputs.gradient_final), gear_time_s=col(a.gear_retraction_s),
-                               acceleration_height_m=heights, reduction=col(net))
-    x3, h_obs = x[:, None, :], obstacles.height_m[:, None, :]
+    args = dict(screen_m=s.screen_height_m, v2_mps=inputs.v2_mps, v_final_mps=inputs.v_final_mps,
+                headwind_mps=s.headwind_mps, gradient_gear_down=inputs.gradient_gear_down,
+                gradient_second=inputs.gradient_second, accel_mps2=inputs.accel_mps2,
+                gradient_final=inputs.gradient_final, gear_time_s=a.gear_retraction_s, reduction=net)
+    # the default acceleration height first, for every case
+    path = takeoff_flight_path(**args, acceleration_height_m=heights[:, 0])
+    h_net = path.height_at(x)
+    m = obstacle_margins(path, x, obstacles.height_m, heights_m=h_net)
+    k = np.argmin(m, axis=1)[:, None]
+    best = np.take_along_axis(m, k, axis=1)[:, 0]
+    used = np.array(heights[:, 0], dtype=float)
+    which = k[:, 0].astype(float)
+    clear = (np.take_along_axis(h_net, k, axis=1) - np.take_along_axis(obstacles.height_m, k, axis=1))[:, 0] \
+        - OBSTACLE_CLEARANCE_M
+    # Every acceleration height's path climbs along the same line up to where the default one
+    # levels off (path.x_m[:, 2]): the higher heights can only help where the default fails
+    # and an obstacle lies beyond that point.
+    with np.errstate(invalid="ignore"):
+        far = np.any(x > path.x_m[:, 2:3], axis=1)
+    more = np.flatnonzero(~(best >= 0.0) & far & (heights.shape[1] > 1))
+    if more.size:
+        best[more], used[more], which[more], clear[more] = _every_height(
+            {key: np.broadcast_to(np.asarray(v, dtype=float), (cases.n,))[more] for key, v in args.items()},
+            heights[more], x[more], np.asarray(obstacles.height_m)[more])
+    none = ~np.isfinite(best)
+    memo["flight_path"] = {"margin": best, "height_m": used, "obstacle": np.where(none, np.nan, which),
+                           "clearance_m": np.where(none, np.nan, clear)}
+    return memo["flight_path"]
+
+
+def _every_height(args, heights, x, obstacle_h):
+    """Best margin over the acceleration heights ``heights`` (n, J) of the net paths of
+    :func:`takeoff_flight_path` ``args`` (arrays (n,)) over obstacles at ``x`` (n, K) of
+    heights ``obstacle_h``; the lowest height that clears (else the closest), its governing
+    obstacle and clearance (see :func:`weight_limit_flight_path`)."""
+    col = {key: v[:, None] for key, v in args.items()}
+    path = takeoff_flight_path(**col, acceleration_height_m=heights)  # (n, J, 5)
+    x3, h_obs = x[:, None, :], obstacle_h[:, None, :]
     h_net = path.height_at(x3)
     m = obstacle_margins(path, x3, h_obs, heights_m=h_net)
     k = np.argmin(m, axis=2)[..., None]  # governing obstacle per height
@@ -490,13 +527,9 @@ def weight_limit_flight_path(cases, mass_kg, memo):
     j = np.where(clears.any(axis=1), np.argmax(clears, axis=1), np.argmax(margins, axis=1))[:, None]
     used = np.take_along_axis(heights, j, axis=1)[:, 0]
     kj = np.take_along_axis(k[..., 0], j, axis=1)  # (n, 1)
-    which = kj[:, 0].astype(float)
     h_kj = np.take_along_axis(np.take_along_axis(h_net, j[..., None], axis=1)[:, 0, :], kj, axis=1)[:, 0]
-    clear = h_kj - np.take_along_axis(obstacles.height_m, kj, axis=1)[:, 0] - OBSTACLE_CLEARANCE_M
-    none = ~np.isfinite(best)
-    memo["flight_path"] = {"margin": best, "height_m": used, "obstacle": np.where(none, np.nan, which),
-                           "clearance_m": np.where(none, np.nan, clear)}
-    return memo["flight_path"]
+    clear = h_kj - np.take_along_axis(obstacle_h, kj, axis=1)[:, 0] - OBSTACLE_CLEARANCE_M
+    return best, used, kj[:, 0].astype(float), clear
 
 
 def obstacle_clearance_margin(cases, mass_kg, memo):
