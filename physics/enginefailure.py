@@ -491,12 +491,21 @@ class GroundRegime:
         sub_prop = is_prop[index]
         new.prop = np.nonzero(sub_prop)[0]
         new.tail = np.nonzero(new.w < 0.0)[0]
-        new._forward = None
+        # the roots and constants found for the whole set are gathered, not found again
+        new._forward = None if self._forward is None else _take_segments(self._forward, index)
         if new.prop.size:
             local = (np.cumsum(is_prop) - 1)[np.asarray(index)[sub_prop]]
             new._p_m, new._a0n, new._a2p = self._p_m[local], self._a0n[local], self._a2p[local]
             new._closed = self._closed[local]
             new._root = None
+            if self._root is not None:
+                closed = np.flatnonzero(self._closed)
+                if closed.size == self._closed.size:
+                    new._root = type(self._root)(*(np.asarray(x)[local] for x in self._root))
+                elif new._closed.all():
+                    where = np.full(self._closed.size, -1)
+                    where[closed] = np.arange(closed.size)
+                    new._root = type(self._root)(*(np.asarray(x)[where[local]] for x in self._root))
         return new
 
     def acceleration(self, v, slope=False):
@@ -544,6 +553,35 @@ class GroundRegime:
                 d_out = np.array(d_out, copy=True)
                 d_out[i] = np.where(above_kink, d_above, d_out[i])
         return (out, d_out) if slope else out
+
+
+def _take_segments(seg, index):
+    """A :class:`physics.groundrun.QuadraticSegments` for the cases at ``index`` (integer
+    array), its constants gathered. Each case keeps the form (real roots or special) it had,
+    so every distance is the one the whole set gives."""
+    n = seg.a0.shape[0]
+    index = np.asarray(index)
+    new = object.__new__(type(seg))
+    new.a0, new.a1, new.a2, new.w = (x.take(index) for x in (seg.a0, seg.a1, seg.a2, seg.w))
+    new.special_first = seg.special_first
+    whole = seg._special_c if seg.special_first else seg._real_c  # over every case
+    part = seg._real_c if seg.special_first else seg._special_c  # over seg.others
+    whole = tuple(x.take(index) if np.ndim(x) == 1 and np.shape(x)[0] == n else x for x in whole)
+    others = None
+    if seg.others is not None:
+        where = np.full(n, -1)
+        where[seg.others] = np.arange(seg.others.size)
+        local = where.take(index)
+        inside = local >= 0
+        if inside.any():
+            others = np.flatnonzero(inside)
+            part = tuple(x.take(local[inside]) for x in part)
+    if seg.special_first:
+        new._special_c, new._real_c = whole, (part if others is not None else None)
+    else:
+        new._real_c, new._special_c = whole, (part if others is not None else None)
+    new.others = others
+    return new
 
 
 @dataclass(frozen=True)

@@ -589,6 +589,9 @@ OBSTACLE_REQUIREMENT = Requirement("obstacle_clearance", flightpath.obstacle_cle
                                    flightpath.obstacle_report)
 
 _ENGINE_FAILURE_MARGINS = {r.margin for r in ENGINE_FAILURE_REQUIREMENTS} | {OBSTACLE_REQUIREMENT.margin}
+#: The margins that need the V1 search (searched in the last stage of :func:`_solve_staged`).
+_V1_MARGINS = {enginefailure.engine_out_takeoff_distance_margin, enginefailure.engine_out_takeoff_run_margin,
+               enginefailure.accelerate_stop_margin, OBSTACLE_REQUIREMENT.margin}
 
 
 # ---------------------------------------------------------------------------------------------
@@ -1258,16 +1261,17 @@ def _solve_staged(cases, tol_kg, reqs, figures):
     """:func:`_solve` with engine-failure requirements: the others first, on their own.
 
     Each margin falls as the mass rises, so the limit is the least of the requirements' own
-    limits. Stage 1 searches the requirements without an engine failure (the all-engines
-    distances and the climb: a fraction of the cost) between OEW and MTOW; stage 2 evaluates
-    the engine-failure requirements (and obstacles) once, at that limit; where they are met
+    limits. Stage 1 searches the requirements that need no V1 (the all-engines distances and
+    the climb gradient: a fraction of the cost) between OEW and MTOW; stage 2 evaluates the
+    V1 requirements (one engine inoperative distance and run, accelerate-stop, obstacles)
+    once, at that limit; where they are met
     it stands, elsewhere stage 3 searches them alone below it (every other requirement is
     met there). The factor is the requirement most violated at the bracket's upper end, as
     in the single search; the figures are taken at the limit with a converged V1.
     """
     a = cases.aircraft
     n = cases.n
-    costly_row = np.array([r.margin in _ENGINE_FAILURE_MARGINS for r in reqs])
+    costly_row = np.array([r.margin in _V1_MARGINS for r in reqs])
     costly = [r for r, c in zip(reqs, costly_row) if c]
     cheap = [r for r, c in zip(reqs, costly_row) if not c]
     codes = np.array([limits.code(r.factor) for r in reqs])
