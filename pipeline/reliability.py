@@ -132,6 +132,7 @@ class ReliabilitySettings:
     bracket_low: float = 1.0
     bracket_high: float = 1.25
     grid_tol_kg: float = 5.0
+    grid_skip_kg: float = 10.0
     refine_samples: int = 8
     refine_risk: float = 2.0
     refine_bound_share: float = 0.002
@@ -562,37 +563,96 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     structural = np.asarray(corner.limiting_factor) == limits.code("structural")
     n_solves = int(n_trk)
 
-    # The grid, in ONE solve: (R, G, H) at the lower pressure, and (R', G, Hp) at the higher
-    # pressure for the tracks whose months differ in pressure (Hp headwind nodes: every
+    # The grid, in two solves. First (R, G, Hc) at the lower pressure on every other
+    # headwind node (with calm and the ends), and (R', G, Hp) at the higher pressure for the
+    # tracks whose months differ in pressure (Hp headwind nodes: every
     # ``pressure_headwind_step``-th, the ends and calm; the pressure effect is smooth in
-    # headwind). Mass bracket widened so the cap and the floor come after interpolation.
+    # headwind). Then the headwind nodes in between, each only where the slopes of the
+    # solved neighbours say a straight line between them could miss it by more than
+    # ``grid_skip_kg`` (a regime change nearby), on the bracket its neighbours give (the
+    # mass rises with headwind). Mass bracket widened so the cap and the floor come after
+    # interpolation.
     step = max(1, int(settings.pressure_headwind_step))
     sub_h = np.unique(np.concatenate([np.arange(0, n_h, step), [min(settings.tail_nodes, n_h - 1), n_h - 1]]))
+    coarse_h = np.unique(np.concatenate([np.arange(0, n_h, 2), [min(settings.tail_nodes, n_h - 1), n_h - 1]]))
+    fine_h = np.setdiff1d(np.arange(n_h), coarse_h)
     lo_trk = np.nonzero(~structural)[0]
     hi_trk = np.nonzero(~structural & spread)[0]
-    t_lo_pts = np.broadcast_to(t_nodes_fam[trk_fam[lo_trk]][:, :, None], (lo_trk.size, n_g, n_h))
-    h_lo_pts = np.broadcast_to(h_nodes_trk[lo_trk][:, None, :], (lo_trk.size, n_g, n_h))
-    t_hi_pts = np.broadcast_to(t_nodes_fam[trk_fam[hi_trk]][:, :, None], (hi_trk.size, n_g, sub_h.size))
-    h_hi_pts = np.broadcast_to(h_nodes_trk[hi_trk][:, None, sub_h], (hi_trk.size, n_g, sub_h.size))
-    rep = np.concatenate([np.repeat(trk_first[lo_trk], n_g * n_h),
-                          np.repeat(trk_first[hi_trk], n_g * sub_h.size)])
-    grid_lo = np.broadcast_to((mtow[trk_first] * settings.bracket_high)[:, None, None],
-                              (n_trk, n_g, n_h)).copy()
+    cap = mtow[trk_first] * settings.bracket_high  # (R,)
+    floor_trk = oew[trk_first] * settings.bracket_low
+    grid_lo = np.broadcast_to(cap[:, None, None], (n_trk, n_g, n_h)).copy()
     grid_hi = grid_lo.copy()
-    if rep.size:
-        ac_grid = aircraft_arrays(aircraft_table, ac_index[rep])
-        ac_grid = _replace(ac_grid, oew_kg=np.asarray(ac_grid.oew_kg) * settings.bracket_low,
-                           mtow_kg=np.asarray(ac_grid.mtow_kg) * settings.bracket_high)
-        site_grid = _site(cases, rep, site_cls,
-                          temperature_k=np.concatenate([t_lo_pts.ravel(), t_hi_pts.ravel()]),
-                          headwind_mps=np.concatenate([h_lo_pts.ravel(), h_hi_pts.ravel()]),
-                          pressure_pa=np.concatenate([np.repeat(p_lo[lo_trk], n_g * n_h),
-                                                      np.repeat(p_hi[hi_trk], n_g * sub_h.size)]))
-        solved = np.asarray(solve_at(rep, ac_grid, site_grid, tol_kg=settings.grid_tol_kg, figures=False).tow_limit_kg,
-                            dtype=float)
-        n_solves += int(rep.size)
-        n_lo = lo_trk.size * n_g * n_h
-        grid_lo[lo_trk] = solved[:n_lo].reshape(lo_trk.size, n_g, n_h)
+
+    def solve_nodes(track, g_idx, h_idx, pressure_pa, low_kg=None, high_kg=None):
+        """Grid-node masses of ``track`` at temperature node ``g_idx`` and headwind node
+        ``h_idx`` (flat arrays), on the bracket [low, high] (default the widened one)."""
+        rep = trk_first[track]
+        ac = aircraft_arrays(aircraft_table, ac_index[rep])
+        ac = _replace(ac, oew_kg=floor_trk[track] if low_kg is None else low_kg,
+                      mtow_kg=cap[track] if high_kg is None else high_kg)
+        site = _site(cases, rep, site_cls, temperature_k=t_nodes_fam[trk_fam[track], g_idx],
+                     headwind_mps=h_nodes_trk[track, h_idx], pressure_pa=pressure_pa)
+        return np.asarray(solve_at(rep, ac, site, tol_kg=settings.grid_tol_kg, figures=False).tow_limit_kg,
+                          dtype=float)
+
+    def node_index(tracks, heads):
+        """Flat (track, temperature node, headwind node) indices of tracks × G × heads."""
+        tt, gg, hh = np.meshgrid(tracks, np.arange(n_g), heads, indexing="ij")
+        return tt.ravel(), gg.ravel(), hh.ravel()
+
+    lo_idx = node_index(lo_trk, coarse_h)
+    hi_idx = node_index(hi_trk, sub_h)
+    if lo_idx[0].size + hi_idx[0].size:
+        idx = tuple(np.concatenate([a, b]) for a, b in zip(lo_idx, hi_idx))
+        solved = solve_nodes(*idx, np.concatenate([p_lo[lo_idx[0]], p_hi[hi_idx[0]]]))
+        n_solves += int(solved.size)
+        n_lo = lo_idx[0].size
+        grid_lo[lo_idx] = solved[:n_lo]
+        # Between two solved headwind nodes: a straight line where the slope changes at
+        # either end (kink mid-cell: half the change times the width) stay within
+        # grid_skip_kg, or where both ends are capped (the mass rises with headwind).
+        if fine_h.size and lo_trk.size:
+            c = grid_lo[lo_trk][:, :, coarse_h]  # (r, G, Hc)
+            x = h_nodes_trk[lo_trk][:, None, coarse_h]
+            width = np.diff(x, axis=-1)
+            with np.errstate(invalid="ignore"):
+                slope = np.where(width > 0, np.diff(c, axis=-1) / np.where(width > 0, width, 1.0), 0.0)
+                change = np.abs(np.diff(slope, axis=-1))  # at the interior solved nodes
+            change = np.where(np.isfinite(change), change, np.inf)
+            change = np.concatenate([change[..., :1], change, change[..., -1:]], axis=-1)
+            risk = 0.5 * np.maximum(change[..., :-1], change[..., 1:]) * width  # per cell
+            top = cap[lo_trk][:, None, None]
+            capped = (c[..., :-1] >= top - 0.5) & (c[..., 1:] >= top - 0.5)
+            cell = np.searchsorted(coarse_h, fine_h) - 1  # the cell of each node in between
+            left, right = c[..., cell], c[..., cell + 1]
+            xl, xr = x[..., cell], x[..., cell + 1]
+            xf = h_nodes_trk[lo_trk][:, None, fine_h]
+            s = np.where(xr > xl, (xf - xl) / np.where(xr > xl, xr - xl, 1.0), 0.0)
+            line = np.where(capped[..., cell], top, left + s * (right - left))
+            fine = np.where((risk[..., cell] <= settings.grid_skip_kg) | capped[..., cell], line, np.nan)
+            fine[~np.isfinite(left) & ~np.isfinite(right)] = np.nan
+            ti, gi, fi = np.nonzero(np.isnan(fine) & ~(~np.isfinite(left) & ~np.isfinite(right)))
+            if ti.size:
+                # On the neighbours' bracket (± two grid tolerances); where the solve lands
+                # on an end of it, again on the widened bracket.
+                margin = 2.0 * settings.grid_tol_kg
+                lo_b = np.where(np.isfinite(left[ti, gi, fi]), left[ti, gi, fi] - margin, -np.inf)
+                lo_b = np.maximum(lo_b, floor_trk[lo_trk[ti]])
+                hi_b = np.minimum(np.where(np.isfinite(right[ti, gi, fi]), right[ti, gi, fi] + margin, np.inf),
+                                  cap[lo_trk[ti]])
+                hi_b = np.maximum(hi_b, lo_b + margin)
+                trk_f, h_f_idx = lo_trk[ti], fine_h[fi]
+                m = solve_nodes(trk_f, gi, h_f_idx, p_lo[trk_f], lo_b, hi_b)
+                n_solves += int(m.size)
+                again = np.nonzero((np.isnan(m) & (lo_b > floor_trk[trk_f]))
+                                   | ((m >= hi_b - 1e-6) & (hi_b < cap[trk_f])))[0]
+                if again.size:
+                    m[again] = solve_nodes(trk_f[again], gi[again], h_f_idx[again], p_lo[trk_f[again]])
+                    n_solves += int(again.size)
+                fine[ti, gi, fi] = m
+            block = grid_lo[lo_trk]
+            block[:, :, fine_h] = fine
+            grid_lo[lo_trk] = block
         grid_hi[lo_trk] = grid_lo[lo_trk]
         if hi_trk.size:
             sub = solved[n_lo:].reshape(hi_trk.size, n_g, sub_h.size)
