@@ -198,29 +198,39 @@ class FlightPath:
     h_m: np.ndarray
 
     def height_at(self, x_m):
-        """Height of the path at ground distances ``x_m`` (shape (..., K)); NaN past its end.
+        """Height of the path at ground distances ``x_m`` (shape (..., K)); NaN past its end
+        and where ``x_m`` is NaN.
 
         Before the screen the height falls backwards at the first segment's gradient, at
         least :data:`BEHIND_SCREEN_GRADIENT` (below the screen, whatever that gradient).
         """
         xs, hs = self.x_m, self.h_m
         x = np.asarray(x_m, dtype=float)
-        out = np.full(np.broadcast_shapes(x.shape, xs.shape[:-1] + (1,)), np.nan)
-        out = np.broadcast_to(hs[..., :1], out.shape) + 0.0  # default: the screen height
         with np.errstate(invalid="ignore", divide="ignore"):
             # before the screen (an obstacle the takeoff distance runs past) the aircraft is
             # lower than the screen: a line falling backwards at least BEHIND_SCREEN_GRADIENT,
             # so the height there never rises as the takeoff distance grows
             slope0 = (hs[..., 1:2] - hs[..., :1]) / (xs[..., 1:2] - xs[..., :1])
             back = np.fmax(np.where(np.isfinite(slope0), slope0, 0.0), BEHIND_SCREEN_GRADIENT)
-            out = np.where(x < xs[..., :1], hs[..., :1] + back * (x - xs[..., :1]), out)
-            for j in range(xs.shape[-1] - 1):
-                x0, x1 = xs[..., j:j + 1], xs[..., j + 1:j + 2]
-                h0, h1 = hs[..., j:j + 1], hs[..., j + 1:j + 2]
-                inside = (x >= x0) & (x <= x1) & np.isfinite(x0)
-                frac = np.where(np.isfinite(x1) & (x1 > x0), (x - x0) / (x1 - x0), 0.0)
-                out = np.where(inside, h0 + frac * (h1 - h0), out)
-        return np.where(x > xs[..., -1:], np.nan, out)
+            # each segment from its start, linear in between; one that never ends (inf) or has
+            # no length stays at its start height
+            dx = xs[..., 1:] - xs[..., :-1]
+            dx = np.where(np.isfinite(dx) & (dx > 0.0), dx, np.inf)
+            dh = hs[..., 1:] - hs[..., :-1]
+            out = None
+            for j in range(xs.shape[-1] - 2, -1, -1):  # the last segment first, then those before
+                h = x - xs[..., j:j + 1]
+                h /= dx[..., j:j + 1]
+                np.fmax(h, 0.0, out=h)
+                h *= dh[..., j:j + 1]
+                h += hs[..., j:j + 1]
+                if out is None:
+                    out = h
+                else:
+                    np.copyto(out, h, where=x < xs[..., j + 1:j + 2])
+            np.copyto(out, hs[..., :1] + back * (x - xs[..., :1]), where=x < xs[..., :1])
+            out[~(x <= xs[..., -1:])] = np.nan
+        return out
 
 
 def takeoff_flight_path(*, screen_m, v2_mps, v_final_mps, headwind_mps, gradient_gear_down, gradient_second,
@@ -374,7 +384,7 @@ def obstacle_margins(path, obstacles_x_m, obstacles_h_m, heights_m=None):
     -------
     numpy.ndarray
         (h_net(x) − h_req)/(max(h_req, 0) + 35 ft) with h_req = h_obs + 35 ft; +inf for padding
-        and for obstacles past the end of the path. [–]
+        (a NaN distance or height) and for obstacles past the end of the path. [–]
 
     Notes
     -----
@@ -390,7 +400,7 @@ def obstacle_margins(path, obstacles_x_m, obstacles_h_m, heights_m=None):
     with np.errstate(invalid="ignore", divide="ignore"):
         m = (h - req) / (np.fmax(req, 0.0) + OBSTACLE_CLEARANCE_M)
     past = np.asarray(obstacles_x_m) > path.x_m[..., -1:]
-    return np.where(np.isnan(req) | past, np.inf, np.where(np.isnan(m), -1.0, m))
+    return np.where(np.isnan(req) | np.isnan(obstacles_x_m) | past, np.inf, np.where(np.isnan(m), -1.0, m))
 
 
 def acceleration_heights_m(default_m, maximum_m, steps=ACCELERATION_HEIGHT_STEPS):
@@ -497,7 +507,11 @@ def weight_limit_flight_path(cases, mass_kg, memo):
     # and an obstacle lies beyond that point.
     with np.errstate(invalid="ignore"):
         far = np.any(x > path.x_m[:, 2:3], axis=1)
-    more = np.flatnonzero(~(best >= 0.0) & far & (heights.shape[1] > 1))
+    if cases._cache.get("engine_failure_final"):
+        # a closing evaluation (the check at a limit, the figures): only whether some height
+        # clears counts, and where the default one does it is the height used
+        far &= ~(best >= 0.0)
+    more = np.flatnonzero(far & (heights.shape[1] > 1))
     if more.size:
         best[more], used[more], which[more], clear[more] = _every_height(
             {key: np.broadcast_to(np.asarray(v, dtype=float), (cases.n,))[more] for key, v in args.items()},
