@@ -761,7 +761,9 @@ def _solve_obstacle_limit(out, cases, index, hi_kg, margin_hi, tol_kg, reqs, fig
     mass rises), so only the obstacle requirement is searched, between OEW and that limit;
     the factor is ``obstacle_clearance`` (``no_takeoff`` where OEW fails) and the figures
     are taken at the limit with a converged V1 as in :func:`_solve`. Wet cases with a dry
-    friction are also searched dry and keep the lower limit (:func:`_solve_accepted`).
+    friction keep the lower of the wet and the dry limit (:func:`_solve_accepted`): where the
+    dry path clears every obstacle at the wet limit the dry limit is no lower and the wet one
+    stands; elsewhere the dry limit is searched below it.
     """
     result = _obstacle_search(cases, hi_kg, margin_hi, tol_kg, reqs, figures)
     s = cases.site
@@ -769,7 +771,7 @@ def _solve_obstacle_limit(out, cases, index, hi_kg, margin_hi, tol_kg, reqs, fig
     dry_roll = np.broadcast_to(np.asarray(s.mu_roll_dry, dtype=float), (n,))
     dry_brake = np.broadcast_to(np.asarray(s.mu_brake_dry, dtype=float), (n,))
     wet = np.asarray(s.screen_height_m, dtype=float) < const.SCREEN_HEIGHT_35FT_M - 1e-6
-    idx = np.flatnonzero(wet & np.isfinite(dry_roll) & np.isfinite(dry_brake))
+    idx = np.flatnonzero(wet & np.isfinite(dry_roll) & np.isfinite(dry_brake) & np.isfinite(result["tow_limit_kg"]))
     if idx.size:
         sub = cases.take(idx)
         a = _gather(sub.aircraft, np.arange(idx.size), idx.size)
@@ -779,12 +781,15 @@ def _solve_obstacle_limit(out, cases, index, hi_kg, margin_hi, tol_kg, reqs, fig
                                        mu_roll_dry=np.full(idx.size, np.nan), mu_brake_dry=np.full(idx.size, np.nan))
         dry_cases = prepare_cases(a, dry_site, vmcg_floor=True)
         dry_cases._cache["obstacles"] = cases._cache["obstacles"].take_cases(idx)
-        dry = _obstacle_search(dry_cases, hi_kg[idx], margin_hi[:, idx], tol_kg, reqs, figures)
+        dry_cases._cache["engine_failure_final"] = True
         w_lim = result["tow_limit_kg"][idx]
-        lower = idx[~np.isnan(w_lim) & (np.isnan(dry["tow_limit_kg"]) | (dry["tow_limit_kg"] < w_lim))]
-        at = np.searchsorted(idx, lower)
-        for key, val in dry.items():
-            result[key][lower] = val[at]
+        m_dry, _ = requirement_margins(dry_cases, w_lim, [OBSTACLE_REQUIREMENT])
+        fail = np.flatnonzero(~(m_dry[0] >= 0.0))
+        if fail.size:
+            dry = _obstacle_search(dry_cases.take(fail), w_lim[fail], m_dry[:, fail], tol_kg, reqs, figures)
+            lower = np.isnan(dry["tow_limit_kg"]) | (dry["tow_limit_kg"] < w_lim[fail])
+            for key, val in dry.items():
+                result[key][idx[fail[lower]]] = val[lower]
     for key, val in result.items():
         out[key][index] = val
 
