@@ -5,6 +5,7 @@
     python tests/benchmarks/bench_pipeline.py --no-prefect     # the same steps without Prefect
     python tests/benchmarks/bench_pipeline.py --reliability 0.5,0.85,0.95   # with reliability rows
     python tests/benchmarks/bench_pipeline.py --skip-demo --rerun --dask     # reuse and Dask figures
+    python tests/benchmarks/bench_pipeline.py --skip-demo --dask-separate    # 2 separate Dask workers
     python tests/benchmarks/bench_pipeline.py --skip-demo --no-prefect --rerun 5   # file size after 1..5 reruns
 
     # issue 8: scaling from 200 to 20 000 airfields, design day, with the step breakdown
@@ -104,6 +105,77 @@ t["total"] = time.monotonic() - t_all
 print(json.dumps({"steps": t, "cases": prepared.plan.n_cases, "chunks": prepared.plan.n_chunks, "rows": rows}))
 """
 
+class SeparateCluster:
+    """``dask scheduler`` and two ``dask worker`` processes on this machine, each in a folder of
+    its own (its working directory and ``--local-directory``), as on separate machines; the
+    resident memory of all of them is sampled every 0.2 s while a run is measured."""
+
+    def __init__(self, root: Path, env: dict, workers: int = 2):
+        self.procs, self.peak = [], 0
+        scheduler_file = root / "scheduler.json"
+        env = {k: v for k, v in env.items() if k != "PREFECT_API_URL"}
+        env["DASK_DISTRIBUTED__NANNY__PRE_SPAWN_ENVIRON__MALLOC_MMAP_THRESHOLD_"] = "33554432"
+        env["DASK_DISTRIBUTED__NANNY__PRE_SPAWN_ENVIRON__MALLOC_TRIM_THRESHOLD_"] = "67108864"
+        self._start(["scheduler", "--host", "127.0.0.1", "--port", "0", "--no-dashboard",
+                     "--scheduler-file", str(scheduler_file)], root / "scheduler", env)
+        for _ in range(600):
+            if scheduler_file.exists() and scheduler_file.stat().st_size:
+                break
+            time.sleep(0.1)
+        self.address = json.loads(scheduler_file.read_text())["address"]
+        for i in range(workers):
+            folder = root / f"worker-{i + 1}"
+            self._start(["worker", self.address, "--nthreads", "1", "--no-dashboard", "--host",
+                         "127.0.0.1", "--local-directory", str(folder / "scratch")], folder, env)
+        from distributed import Client
+
+        with Client(self.address, timeout="60s") as client:
+            client.wait_for_workers(workers, timeout=120)
+
+    def _start(self, args, folder: Path, env: dict) -> None:
+        folder.mkdir(parents=True)
+        self.procs.append(subprocess.Popen([sys.executable, "-m", "dask", *args], cwd=folder, env=env,
+                                           stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
+                                           start_new_session=True))
+
+    def sample(self, stop) -> None:
+        import psutil
+
+        while not stop.is_set():
+            total = 0
+            for p in self.procs:
+                try:
+                    q = psutil.Process(p.pid)
+                    total += sum(x.memory_info().rss for x in [q] + q.children(recursive=True))
+                except psutil.Error:
+                    pass
+            self.peak = max(self.peak, total)
+            time.sleep(0.2)
+
+    def measure(self, args: list[str], env: dict) -> dict:
+        import threading
+
+        self.peak, stop = 0, threading.Event()
+        sampler = threading.Thread(target=self.sample, args=(stop,), daemon=True)
+        sampler.start()
+        try:
+            r = measure(args, env)
+        finally:
+            stop.set()
+            sampler.join()
+        r["cluster_peak_bytes"] = self.peak
+        return r
+
+    def stop(self) -> None:
+        for p in reversed(self.procs):
+            p.terminate()
+        for p in self.procs:
+            try:
+                p.wait(timeout=30)
+            except subprocess.TimeoutExpired:
+                p.kill()
+
+
 _RUN_LINE = re.compile(r"complete: (\d+) airfields, (\d+) cases")
 
 
@@ -198,6 +270,10 @@ def main() -> int:
                          "default 1) and show the file size after each")
     ap.add_argument("--dask", action="store_true",
                     help="also run the synthetic network on a temporary local Dask cluster (2 workers)")
+    ap.add_argument("--dask-separate", action="store_true",
+                    help="also run the synthetic network with its chunks on a scheduler and two "
+                         "workers started as separate processes (dask scheduler, dask worker), each "
+                         "in its own folder; the workers' memory is reported apart")
     ap.add_argument("--scaling", default=None, metavar="N,N,...",
                     help="instead of --airfields: one run per network size (e.g. 200,2000,20000), "
                          "time per case table")
@@ -264,6 +340,15 @@ def main() -> int:
             results[f"dask_{a.airfields}"] = measure(
                 base + [str(net), "--db", str(tmp / "dask.duckdb"), "--quiet", "--cluster", "local",
                         "--workers", "2"] + extra, env)
+        if a.dask_separate and not a.no_prefect:
+            cluster = SeparateCluster(tmp / "cluster", env)
+            try:
+                results[f"dask_separate_{a.airfields}"] = r = cluster.measure(
+                    base + [str(net), "--db", str(tmp / "dask-separate.duckdb"), "--quiet",
+                            "--cluster", cluster.address] + extra, env)
+            finally:
+                cluster.stop()
+            print(f"separate Dask workers and scheduler: peak RSS {_mib(r['cluster_peak_bytes'])} MiB")
 
     print()
     for name, r in results.items():
