@@ -19,6 +19,12 @@ hold the GIL, so threads alone use about one core. The calling thread (a local t
 Prefect task) waits for its chunk; results and files are the same. Not used inside a Dask
 worker or a child process, nor while :data:`pipeline.producers.ROW_PRODUCERS` holds
 in-process producers. ``FIELDLIMITS_CHUNK_PROCESSES=N`` sets the pool size (0: off).
+
+On a Dask cluster (``fieldlimits run --cluster``) no path is shared: :class:`DaskChunks` reads
+a chunk's inputs from the client's work folder (:func:`chunk_payload`), sends them through
+Dask to :func:`compute_on_worker`, which checks the worker's code version against the run's,
+solves the chunk in a scratch folder of the worker's own and returns the rows as Arrow
+tables; the client writes the part files (:func:`write_parts`).
 """
 
 from __future__ import annotations
