@@ -72,10 +72,12 @@ STOP_DELAY_S = 2.0
 #: Evaluations of the V1 search from a cold start (6 Newton steps; quadratic convergence
 #: reaches 1e-9 m/s in the tests).
 V1_ITERATIONS = 7
-#: Evaluations from a cold start inside the weight solver's search (its factor and reported
-#: figures use :data:`V1_ITERATIONS`).
-V1_ITERATIONS_SEARCH = 4
-#: Evaluations when started from the V1 of a nearby mass (the weight solver's iterations).
+#: Evaluations from a cold start, or from a mass more than :data:`WARM_MASS_CHANGE` away,
+#: inside the weight solver's search (its factor and reported figures use
+#: :data:`V1_ITERATIONS`).
+V1_ITERATIONS_SEARCH = 3
+#: Evaluations when started from the V1 predicted from nearby masses (the weight solver's
+#: iterations).
 V1_ITERATIONS_WARM = 3
 #: Largest relative mass change since the previous trial (any case) for the warm count. [–]
 WARM_MASS_CHANGE = 0.02
@@ -83,6 +85,10 @@ WARM_MASS_CHANGE = 0.02
 #: ``CLOSE_MASS_CHANGE`` (the last iterations of the weight solver). [–]
 V1_ITERATIONS_CLOSE = 2
 CLOSE_MASS_CHANGE = 0.001
+#: Start each trial of the weight solver from the V_EF predicted for its mass: the secant
+#: through the two previous trials' V_EF (each one Newton step on from its last evaluation),
+#: or the previous V_EF. [–]
+PREDICT = True
 
 
 def _accel(coeffs, v):
@@ -927,10 +933,15 @@ class V1Search(NamedTuple):
     to_v1_m: np.ndarray  # all engines from V_EF to V1 (0 without a recognition interval) [m]
     actions_m: np.ndarray  # all-engines stop: V1 until the lift dumpers are in [m]
     accel_one_out_mps2: np.ndarray = None  # a_oei(V_EF) at the last evaluation [m/s²]
+    v_next_mps: np.ndarray = None  # V_EF one Newton step on from the last evaluation [m/s]
 
 
-def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
-    """Newton on h over the engine-failure speed (V1 itself in the idealised sequence)."""
+def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False):
+    """Newton on h over the engine-failure speed (V1 itself in the idealised sequence).
+
+    ``next_step``: also take the Newton step from each case's last evaluation (its h and
+    slope are at hand; no distance is evaluated at the new speed), as ``v_next_mps``: the
+    start for a nearby mass."""
     w = model.headwind_mps
     lo, hi = model.v1_min_mps, model.v1_max_mps
     vlof = model.speeds.vlof_mps
@@ -949,6 +960,7 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
         out_v1, out_pre, out_act = np.full(w.shape, np.nan), np.zeros(w.shape), np.zeros(w.shape)
         out_a = np.full(w.shape, np.nan)
     idx, oo, sa, ae, evi = None, model.one_out, model.stop_all, model.all_engines, ev
+    v_next = np.array(v1, copy=True) if next_step else None
     for k in range(total):
         need = count > k
         if k == 0 or not np.all(need[idx] if idx is not None else need):
@@ -965,7 +977,7 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
         if ev is None:
             ss = sa.distance_m(vi, wi)
             s_oei[idx], s_stop[idx] = so, ss
-            if k == total - 1:
+            if k == total - 1 and not next_step:
                 break
             h = base[idx] - so + delay_s * (vi - wi) + ss
             vg = vi - wi
@@ -989,7 +1001,7 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
             ss = sa.distance_m(v_act, wi)
             s_oei[idx], s_stop[idx] = so, ss
             out_v1[idx], out_pre[idx], out_act[idx], out_a[idx] = v1i, pre, act, a_oo
-            if k == total - 1:
+            if k == total - 1 and not next_step:
                 break
             h = base[idx] - so + pre + delay_s * (v1i - wi) + act + ss
             vg = vi - wi
@@ -1003,12 +1015,16 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s):
                 dh = (vg / a_oo + d_pre + delay_s * dv1) + d_act * dv1 - (v_act - wi) / a_sa * dv_act * dv1
                 step = h / dh
         # a case stops stepping after its own number of evaluations (last step at k = count − 2)
-        step = np.where(np.isfinite(step) & (dh > 0) & multi[idx] & (k < count[idx] - 1), step, 0.0)
-        v1[idx] = np.clip(vi - step, lo[idx], hi[idx])
+        step = np.where(np.isfinite(step) & (dh > 0) & multi[idx], step, 0.0)
+        moved = np.clip(vi - step, lo[idx], hi[idx])
+        going = k < count[idx] - 1
+        v1[idx] = np.where(going, moved, vi)
+        if next_step:
+            v_next[idx] = moved
     if ev is None:
         zero = np.zeros(w.shape)
-        return V1Search(v1, v1, s_oei, s_stop, zero, zero)
-    return V1Search(v1, out_v1, s_oei, s_stop, out_pre, out_act, out_a)
+        return V1Search(v1, v1, s_oei, s_stop, zero, zero, v_next_mps=v_next)
+    return V1Search(v1, out_v1, s_oei, s_stop, out_pre, out_act, out_a, v_next_mps=v_next)
 
 
 def best_v1_mps(model, *, go_available_m, asda_m, v1_start_mps=None, iterations=V1_ITERATIONS,
@@ -1111,6 +1127,7 @@ class EngineFailureTakeoff:
     accelerate_stop_m : the greater of the two 25.109(a) cases [m].
     accelerate_stop_engine_failure_m, accelerate_stop_all_engines_m : the two cases [m].
     v_ef_mps : engine-failure speed V_EF (= V1 in the idealised sequence) [m/s].
+    v_next_mps : V_EF one Newton step on from the last evaluation (with ``next_step``) [m/s].
     """
 
     v1_mps: np.ndarray
@@ -1123,10 +1140,11 @@ class EngineFailureTakeoff:
     accelerate_stop_engine_failure_m: np.ndarray
     accelerate_stop_all_engines_m: np.ndarray
     v_ef_mps: np.ndarray = None
+    v_next_mps: np.ndarray = None
 
 
 def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=None,
-                           iterations=V1_ITERATIONS, both_stops=True):
+                           iterations=V1_ITERATIONS, both_stops=True, next_step=False):
     """Continued takeoff and accelerate-stop at a mass, with the V1 that suits the runway.
 
     Parameters
@@ -1147,6 +1165,9 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
     both_stops : bool, optional
         Also compute the engine-failure stop (never longer than the all-engines stop with
         V_EF = V1, see :func:`accelerate_stop_cases_m`); False leaves it NaN (faster). [–]
+    next_step : bool, optional
+        Also give the V_EF one Newton step on from the last evaluation (the start for a
+        nearby mass; no distance is evaluated there). [–]
 
     Returns
     -------
@@ -1171,7 +1192,7 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
     air = continued_takeoff_airborne_m(model, su, b(site.screen_height_m))
     go_avail = go_constant_m(toda_m=toda, tora_m=tora, airborne_m=air)
     base = go_avail - asda
-    found = _newton_v1(model, base, v1_start_mps, iterations, STOP_DELAY_S)
+    found = _newton_v1(model, base, v1_start_mps, iterations, STOP_DELAY_S, next_step)
     v_ef, v1 = found.v_ef_mps, found.v1_mps
     w = model.headwind_mps
     multi = model.multi_engine
@@ -1192,7 +1213,8 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
         eo = np.where(multi, to_v1 + STOP_DELAY_S * (v1 - w) + model.stop_one_out.distance_m(v1, w), al)
     else:
         eo = np.full(al.shape, np.nan)
-    return EngineFailureTakeoff(v1, model.speeds, ground, air, tod, tor, np.fmax(eo, al), eo, al, v_ef)
+    return EngineFailureTakeoff(v1, model.speeds, ground, air, tod, tor, np.fmax(eo, al), eo, al, v_ef,
+                                found.v_next_mps)
 
 
 def balanced_field_length_m(aircraft, site, mass_kg, *, iterations=12):
@@ -1264,8 +1286,11 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
 
     Notes
     -----
-    The mass-independent set-up is built once per solve (``cases.cached``); the V1 of the
-    previous trial mass starts the Newton search of the next.
+    The mass-independent set-up is built once per solve (``cases.cached``). Each trial
+    mass's Newton search starts from the V_EF predicted for it: the secant in the mass
+    through the two previous trials' V_EF, each taken one Newton step on from its last
+    evaluation (:data:`PREDICT`; the previous V_EF where only one is known); the number of
+    evaluations falls with the relative mass change since the previous trial.
 
     References
     ----------
@@ -1277,8 +1302,13 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
         guess, last = state.get("v1"), state.get("mass")
         if guess is not None and last is not None and np.shape(guess) == setup.n == np.shape(last):
             # per case, so that a case's result does not depend on the rest of the batch
-            with np.errstate(invalid="ignore"):
+            with np.errstate(invalid="ignore", divide="ignore"):
                 change = np.abs(mass_kg - last) / last
+                if PREDICT and state.get("v1_prev") is not None:
+                    # the secant through the last two masses' V_EF, where both are known
+                    slope = (guess - state["v1_prev"]) / (last - state["mass_prev"])
+                    ahead = guess + slope * (mass_kg - last)
+                    guess = np.where(np.isfinite(ahead), ahead, guess)
             cold = V1_ITERATIONS if cases._cache.get("engine_failure_final") else V1_ITERATIONS_SEARCH
             close = V1_ITERATIONS_WARM if cases._cache.get("engine_failure_final") else V1_ITERATIONS_CLOSE
             iterations = np.where(change <= CLOSE_MASS_CHANGE, close,
@@ -1287,8 +1317,14 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
             guess = None
             iterations = V1_ITERATIONS if cases._cache.get("engine_failure_final") else V1_ITERATIONS_SEARCH
         r = engine_failure_takeoff(cases.aircraft, cases.site, mass_kg, setup=setup, v1_start_mps=guess,
-                                   iterations=iterations, both_stops=False)
-        state["v1"], state["mass"] = r.v_ef_mps, np.array(mass_kg, dtype=float, copy=True)  # the search variable
+                                   iterations=iterations, both_stops=False, next_step=PREDICT)
+        if PREDICT:
+            if state.get("v1") is not None and np.shape(state["v1"]) == setup.n:
+                state["v1_prev"], state["mass_prev"] = state["v1"], state["mass"]
+            state["v1"] = r.v_next_mps
+        else:
+            state["v1"] = r.v_ef_mps  # the search variable
+        state["mass"] = np.array(mass_kg, dtype=float, copy=True)
         memo["engine_failure"] = r
     return memo["engine_failure"]
 

@@ -1133,8 +1133,10 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         st = sub._cache.get("engine_failure_state")
         if st and st.get("v1") is not None:
             if v1_state is None:
-                v1_state = {"v1": np.full(lo.size, np.nan), "mass": np.full(lo.size, np.nan)}
-            v1_state["v1"][idx], v1_state["mass"][idx] = st["v1"], st["mass"]
+                v1_state = {}
+            for key, val in st.items():  # V1, the mass it was found for (and the previous pair)
+                if np.shape(val) == idx.shape:
+                    v1_state.setdefault(key, np.full(lo.size, np.nan))[idx] = val
         ok = g <= 0.0
         feas = (open_ | check) & ok
         infeas = open_ & ~ok & ~check
@@ -1321,7 +1323,8 @@ def _solve_staged(cases, tol_kg, reqs, figures):
         searched[gi] = True
         if v1_state is not None:
             got = np.isfinite(v1_state["v1"])
-            state["v1"][fail[got]], state["mass"][fail[got]] = v1_state["v1"][got], v1_state["mass"][got]
+            for key, val in v1_state.items():
+                state.setdefault(key, np.full(idx.size, np.nan))[fail[got]] = val[got]
     ef._cache["engine_failure_state"] = state
     pos = np.full(n, -1)
     pos[idx] = np.arange(idx.size)
