@@ -322,6 +322,74 @@ def _prepare(point_mass_kg):
     return np.minimum.accumulate(f, axis=-1)
 
 
+@dataclass(frozen=True)
+class PreparedMasses:
+    """Point masses made ready for repeated level and crossing searches on one surface
+    (:func:`prepare_masses`): :func:`reliability_masses`, :func:`share_of_days`,
+    :func:`level_crossings` and :func:`refinement_samples` take it in place of the
+    ``(N, J, G)`` masses and skip preparing them again.
+
+    Attributes
+    ----------
+    mass_kg : numpy.ndarray
+        Masses non-increasing in temperature (running minimum over the nodes), ``(N, J, G)``;
+        -inf where not possible. [kg]
+    scores : numpy.ndarray
+        Node scores, ``(G,)`` or ``(N, G)``. [–]
+    segments : tuple
+        The single-precision inversion of the piecewise-linear masses (internal).
+    """
+
+    mass_kg: np.ndarray
+    scores: np.ndarray
+    segments: tuple
+
+    def take(self, rows):
+        """The same for groups ``rows`` only."""
+        f, z, inv = self.segments
+        return PreparedMasses(self.mass_kg[rows], self.scores if self.scores.ndim == 1 else self.scores[rows],
+                              (f[rows], z if z.ndim == 1 else z[rows], inv[rows]))
+
+
+def prepare_masses(point_mass_kg, scores):
+    """Prepare point masses once for several level and crossing searches.
+
+    Parameters
+    ----------
+    point_mass_kg : array_like
+        Mass of each wind point on its flown direction at each temperature node,
+        ``(N, J, G)``; -inf or NaN where not possible. [kg]
+    scores : array_like
+        Standard-normal scores of the temperature nodes, increasing, ``(G,)`` or ``(N, G)``. [–]
+
+    Returns
+    -------
+    PreparedMasses
+        The masses made non-increasing in temperature and their inversion. [kg]
+
+    Notes
+    -----
+    m_j(z) is made non-increasing by a running minimum over the nodes (which can only lower
+    it, :func:`share_of_days`); each segment's drop f_g − f_{g+1} and its inverse are kept
+    for the crossing scores z*_j(M).
+
+    References
+    ----------
+    .. [1] Press et al. (2007), §3.1 (linear interpolation).
+    """
+    f = _prepare(point_mass_kg)
+    z = np.asarray(scores, dtype=float)
+    return PreparedMasses(f, z, _segments(f, z))
+
+
+def _prepared(point_mass_kg, scores):
+    """(masses, segments) of point masses or of a PreparedMasses."""
+    if isinstance(point_mass_kg, PreparedMasses):
+        return point_mass_kg.mass_kg, point_mass_kg.segments
+    f = _prepare(point_mass_kg)
+    return f, _segments(f, np.asarray(scores, dtype=float))
+
+
 def _single_point_level(f, scores, weight, p):
     """First estimate of each level: Σ_j w_j m_j(Φ⁻¹(p)) / Σ_j w_j over the possible points.
 
@@ -365,7 +433,7 @@ def share_of_days(mass_kg, point_mass_kg, scores, weight):
     ----------
     mass_kg : array_like
         Mass asked for, ``(N,)`` or ``(N, L)``. [kg]
-    point_mass_kg : array_like
+    point_mass_kg : array_like or PreparedMasses
         Mass of each wind point on its flown direction at each temperature node,
         ``(N, J, G)``; -inf or NaN where not possible. [kg]
     scores : array_like
@@ -394,7 +462,7 @@ def share_of_days(mass_kg, point_mass_kg, scores, weight):
     .. [4] Wilks (2011), §4.4.2; total probability over independent variables.
     """
     m = np.asarray(mass_kg, dtype=float)
-    return _share(_prepare(point_mass_kg), np.asarray(scores, dtype=float),
+    return _share(_prepared(point_mass_kg, scores)[1], np.asarray(scores, dtype=float),
                   np.asarray(weight, dtype=float), m)[0]
 
 
@@ -405,7 +473,7 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
 
     Parameters
     ----------
-    point_mass_kg : array_like
+    point_mass_kg : array_like or PreparedMasses
         Mass of each wind point on its flown direction at each temperature node,
         ``(N, J, G)`` (from :func:`flown_direction`), **not** capped at MTOW; -inf where the
         wind point is usable nowhere, NaN where no takeoff is possible. [kg]
@@ -463,7 +531,7 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     .. [5] M. Dowell and P. Jarratt, "A modified regula falsi method for computing the
        root of an equation", *BIT* 11 (1971) 168–174 (the Illinois method).
     """
-    f = _prepare(point_mass_kg)
+    f, seg = _prepared(point_mass_kg, scores)
     z = np.asarray(scores, dtype=float)
     w = np.asarray(weight, dtype=float)
     oew = np.asarray(oew_kg, dtype=float)
@@ -472,7 +540,6 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     n_groups, n_pts, _ = f.shape
     eps = 1e-9
 
-    seg = _segments(f, z)
     s_mtow = _share(seg, z, w, mtow)[0]
     s_oew, zj_oew = _share(seg, z, w, oew)
     share_target = s_mtow if target_mass_kg is None else _share(
@@ -554,7 +621,7 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
 
     # Binding day at each level mass.
     m_eval = np.where(search, polished, np.where(np.isfinite(level), level, oew[:, None]))
-    zj = _share(f, z, w, m_eval)[1]  # (N, L, J)
+    zj = _share(seg, z, w, m_eval)[1]  # (N, L, J)
     finite = np.isfinite(zj) & (np.abs(zj) <= _BINDING_SCORE) & (w[:, None, :] > 0)
     dens = np.where(finite, w[:, None, :] * np.exp(-0.5 * np.where(finite, zj, 0.0) ** 2), -1.0)
     z_grp = np.broadcast_to(z, (n_groups, z.shape[-1]))
@@ -618,7 +685,7 @@ def level_crossings(point_mass_kg, scores, weight, mass_kg):
 
     Parameters
     ----------
-    point_mass_kg : array_like
+    point_mass_kg : array_like or PreparedMasses
         Mass of each wind point on its flown direction at each temperature node, ``(N, J,
         G)`` as for :func:`reliability_masses`; -inf or NaN where not possible. [kg]
     scores : array_like
@@ -657,11 +724,10 @@ def level_crossings(point_mass_kg, scores, weight, mass_kg):
     .. [4] Wilks (2011), §4.4.2 (Gaussian density) and §4.2 (distributions of functions
        of a random variable) [from memory for the section numbers].
     """
-    f = _prepare(point_mass_kg)
+    _, seg = _prepared(point_mass_kg, scores)
     z = np.asarray(scores, dtype=float)
     w = np.asarray(weight, dtype=float)
     m = np.asarray(mass_kg, dtype=float)
-    seg = _segments(f, z)
     zs = seg[1]
     zj, rate = _crossing_score_rate((seg[0], zs if zs.ndim == 1 else zs[:, None, :], seg[2]),
                                     m[:, None])
@@ -714,6 +780,7 @@ def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count,
     point_mass_kg, scores, weight : array_like
         As for :func:`reliability_masses`: ``(N, J, G)`` [kg], ``(G,)`` or ``(N, G)`` [–],
         ``(N, J)`` [–].
+        ``point_mass_kg`` may be a :class:`PreparedMasses` of the same scores.
     mass_kg : array_like
         Mass to correct, ``(N,)``. [kg]
     order_key : array_like

@@ -167,8 +167,10 @@ def _refinement_samples(point_mass, scores, weight, res, mtow, order_key, settin
         if rows.size == 0:
             continue
         z = scores if np.ndim(scores) == 1 else scores[rows]
+        pm_rows = (point_mass.take(rows) if isinstance(point_mass, reliabilitylevels.PreparedMasses)
+                   else point_mass[rows])
         smp = reliabilitylevels.refinement_samples(
-            point_mass[rows], z, weight[rows], columns[rows, c], order_key[rows],
+            pm_rows, z, weight[rows], columns[rows, c], order_key[rows],
             settings.refine_samples, None if risk is None else risk[rows])
         # Rows whose surface is smooth where the level crosses it are left as they are.
         bound = np.maximum(settings.refine_bound_share * columns[rows, c], settings.refine_bound_kg)
@@ -851,8 +853,9 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         pm = solvinggrid.interpolate_headwind(case_grid[sb], h_nodes[sb], h_f[sb])  # (B, D, J, K)
         fb = sb[:, 0]
         flown_b, m_grp, lost = reliabilitylevels.flown_direction(pm, cross_ex[sb], tail_ex[sb])
+        prepared = reliabilitylevels.prepare_masses(m_grp, scores[fb])
         res_b = reliabilitylevels.reliability_masses(
-            m_grp, scores[fb], weight_case[fb], oew[fb], mtow[fb], levels=levels, lost_reason=lost)
+            prepared, scores[fb], weight_case[fb], oew[fb], mtow[fb], levels=levels, lost_reason=lost)
         # Contour order of the days for the refinement: flown direction (on the middle
         # temperature node), then headwind.
         d_mid = flown_b[:, :, k_win // 2]
@@ -862,7 +865,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         # Error indicator of each point's grid cell on that direction, per temperature cell.
         cell = np.clip(np.sum(h_nodes[c_mid][..., 1:-1] <= h_mid[..., None], axis=-1), 0, n_h - 2)
         risk = cell_risk[c_mid[..., None], np.arange(k_win - 1), cell[..., None]]  # (B, J, K - 1)
-        sample_parts.append(_refinement_samples(m_grp, scores[fb], weight_case[fb], res_b,
+        sample_parts.append(_refinement_samples(prepared, scores[fb], weight_case[fb], res_b,
                                                 mtow[fb], key, settings, risk))
         parts.append(res_b)
     order = np.concatenate([gb for gb, _ in blocks])
