@@ -1181,7 +1181,7 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True, obstacles=None):
     cases = prepare_cases(aircraft, site, vmcg_floor=engine_failure)
     if obstacles is not None:
         cases._cache["obstacles"] = obstacles
-    if engine_failure:
+    if any(r.margin in _V1_MARGINS for r in reqs):
         return _solve_staged(cases, tol_kg, reqs, figures)
     a = cases.aircraft
 

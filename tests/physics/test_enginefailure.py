@@ -395,3 +395,43 @@ def test_balanced_field_length_against_torenbeek_estimate(thrust_kn, bpr, mass, 
     ours, _ = ef.balanced_field_length_m(a, s, np.asarray([mass]))
     ref = _torenbeek_bfl_m(a, s, mass)
     assert 0.70 * ref < ours[0] < 1.15 * ref
+
+
+def test_regime_taken_after_use_keeps_each_cases_distances():
+    # The V1 search narrows a ground regime to the cases still iterating; the roots and
+    # constants already found for the whole set are gathered (not found again). Each case's
+    # distance is then the whole set's, and that of a regime built for the subset afresh.
+    from fieldlimits.physics import weightlimit as wl
+    from tests.physics import fleet
+
+    a, s = fleet.random_cases(4000, seed=17)
+    mass = 0.5 * (a.oew_kg + a.mtow_kg)
+    model = ef.engine_failure_model(a, s, mass)
+    v_from = model.speeds.vr_mps * np.linspace(0.6, 1.0, mass.size)
+    for regime, v_to in ((model.one_out, model.speeds.vlof_mps), (model.stop_all, model.headwind_mps)):
+        whole = regime.distance_m(v_from, v_to)  # finds the roots for every case
+        assert regime._forward is not None and np.isfinite(whole).mean() > 0.9
+        rng = np.random.default_rng(5)
+        index = np.sort(rng.choice(mass.size, 1500, replace=False))
+        taken = regime.take(index)
+        assert taken._forward is not None  # gathered
+        got = taken.distance_m(v_from[index], v_to[index])
+        assert_allclose(got, whole[index], rtol=1e-12)
+        fresh = regime.take(index)
+        fresh._forward, fresh._root = None, None  # found again for the subset
+        assert_allclose(got, fresh.distance_m(v_from[index], v_to[index]), rtol=1e-12)
+
+
+def test_next_step_is_the_speed_one_more_evaluation_reaches():
+    # engine_failure_takeoff(next_step=True) also takes the Newton step from its last
+    # evaluation (the weight solver's start for the next trial mass): the V_EF one more
+    # evaluation reaches, without evaluating a distance there.
+    a = make_aircraft(mtow_kg=90_000.0, vmcg_mps=40.0)
+    s = site(tora_m=np.array([1800.0, 2200.0, 2600.0]), toda_m=np.array([1800.0, 2400.0, 2600.0]),
+             asda_m=np.array([1800.0, 2200.0, 2300.0]))
+    mass = np.array([70_000.0, 72_000.0, 74_000.0])
+    for k in (1, 2, 3):
+        r = ef.engine_failure_takeoff(a, s, mass, iterations=k, both_stops=False, next_step=True)
+        more = ef.engine_failure_takeoff(a, s, mass, iterations=k + 1, both_stops=False)
+        assert_allclose(r.v_next_mps, more.v_ef_mps, rtol=1e-15)
+        assert_allclose(r.v_ef_mps, ef.engine_failure_takeoff(a, s, mass, iterations=k).v_ef_mps, rtol=0)
