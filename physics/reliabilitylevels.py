@@ -177,8 +177,13 @@ def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=No
         better = cand_d > top
         best[better] = d
         top = np.where(better, cand_d, top)
-    merit_all = np.where(valid, np.sum(np.where(np.isnan(raw), 0.0, raw), axis=-1), -np.inf)
-    cand = np.argmax(merit_all, axis=1)  # (N, J)
+    # The best candidate of a point usable nowhere (only those need one).
+    cand = np.zeros(any_usable.shape, dtype=np.int64)  # (N, J)
+    lost_n, lost_j = np.nonzero(~any_usable)
+    if lost_n.size:
+        r = raw[lost_n, :, lost_j]  # (P, D, G)
+        merit = np.where(valid[lost_n, :, 0], np.sum(np.where(np.isnan(r), 0.0, r), axis=-1), -np.inf)
+        cand[lost_n, lost_j] = np.argmax(merit, axis=1)
     direction = np.where(any_usable[..., None] & np.isfinite(top), best,
                          np.where(any_usable, np.argmax(usable, axis=1), cand)[..., None])
     mass = np.where(any_usable[..., None], np.where(np.isfinite(top), top, np.nan), -np.inf)
