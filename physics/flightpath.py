@@ -503,10 +503,11 @@ def weight_limit_flight_path(cases, mass_kg, memo):
     clear = (np.take_along_axis(h_net, k, axis=1) - np.take_along_axis(obstacles.height_m, k, axis=1))[:, 0] \
         - OBSTACLE_CLEARANCE_M
     # Every acceleration height's path climbs along the same line up to where the default one
-    # levels off (path.x_m[:, 2]): the higher heights can only help where the default fails
-    # and an obstacle lies beyond that point.
+    # levels off (path.x_m[:, 2]): where the default height's governing obstacle lies before
+    # that point, it governs every height's path at least as closely, and the default height
+    # is the best (and the lowest). The others are tried only where it lies beyond.
     with np.errstate(invalid="ignore"):
-        far = np.any(x > path.x_m[:, 2:3], axis=1)
+        far = (np.take_along_axis(x, k, axis=1)[:, 0] > path.x_m[:, 2]) & np.isfinite(best)
     if cases._cache.get("engine_failure_final"):
         # a closing evaluation (the check at a limit, the figures): only whether some height
         # clears counts, and where the default one does it is the height used
