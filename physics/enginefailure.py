@@ -72,10 +72,12 @@ STOP_DELAY_S = 2.0
 #: Evaluations of the V1 search from a cold start (6 Newton steps; quadratic convergence
 #: reaches 1e-9 m/s in the tests).
 V1_ITERATIONS = 7
-#: Evaluations from a cold start, or from a mass more than :data:`WARM_MASS_CHANGE` away,
-#: inside the weight solver's search (its factor and reported figures use
-#: :data:`V1_ITERATIONS`).
-V1_ITERATIONS_SEARCH = 3
+#: Evaluations from a cold start inside the weight solver's search (its factor and reported
+#: figures use :data:`V1_ITERATIONS`).
+V1_ITERATIONS_SEARCH = 4
+#: Evaluations when started from the V1 predicted from masses more than
+#: :data:`WARM_MASS_CHANGE` away (the weight solver's iterations).
+V1_ITERATIONS_FAR = 3
 #: Evaluations when started from the V1 predicted from nearby masses (the weight solver's
 #: iterations).
 V1_ITERATIONS_WARM = 3
@@ -1309,7 +1311,7 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
                     slope = (guess - state["v1_prev"]) / (last - state["mass_prev"])
                     ahead = guess + slope * (mass_kg - last)
                     guess = np.where(np.isfinite(ahead), ahead, guess)
-            cold = V1_ITERATIONS if cases._cache.get("engine_failure_final") else V1_ITERATIONS_SEARCH
+            cold = V1_ITERATIONS if cases._cache.get("engine_failure_final") else V1_ITERATIONS_FAR
             close = V1_ITERATIONS_WARM if cases._cache.get("engine_failure_final") else V1_ITERATIONS_CLOSE
             iterations = np.where(change <= CLOSE_MASS_CHANGE, close,
                                   np.where(change <= WARM_MASS_CHANGE, V1_ITERATIONS_WARM, cold))

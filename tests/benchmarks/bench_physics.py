@@ -16,6 +16,9 @@ Prints
     quadratic, propeller; varied runways, elevations, temperatures, slopes, winds);
   * the same solves returning only what the loop returns (limit mass and limiting factor,
     ``figures=False``);
+  * transport-rule solves (the default requirements: engine failure, accelerate-stop, climb)
+    with and without the figures, and with the timed event sequence, with their CPU time
+    (steadier than the wall time on a shared machine);
   * the same per-case solve as a plain Python loop (scipy ``solve_ivp`` for the ground run +
     ``brentq`` on the mass, tests/physics/reference_loop.py) on a sample stratified by the
     result (structural, no_takeoff, limited: their loop times differ tenfold) and weighted
@@ -154,9 +157,17 @@ def main(argv=None):
     print(f"  same, limit and factor only (figures=False, the loop's outputs): {n_wl / dt_mass:,.0f} solves/s  "
           f"({dt_mass:.3f} s; limits identical to the bit: {same})")
     if len(wl.REQUIREMENTS) != len(aeo):
-        dt_all, _ = _best(lambda: wl.solve_takeoff_weight(a, site), max(repeats // 2, 1))
-        print(f"solve_takeoff_weight (default REQUIREMENTS, {len(wl.REQUIREMENTS)} requirements): "
-              f"{n_wl / dt_all:,.0f} solves/s")
+        dt_all, res_tr = _best(lambda: wl.solve_takeoff_weight(a, site), max(repeats // 2, 1))
+        cpu_all = _CPU["last"]
+        names, counts = np.unique(limits.name(res_tr.limiting_factor), return_counts=True)
+        mix = ", ".join(f"{k} {v / n_wl:.0%}" for k, v in zip(names, counts))
+        print(f"solve_takeoff_weight (default REQUIREMENTS, {len(wl.REQUIREMENTS)} requirements, transport rules): "
+              f"{n_wl / dt_all:,.0f} solves/s  ({dt_all:.3f} s; CPU time {n_wl / cpu_all:,.0f}/s; {mix})")
+        dt_tm, res_tm = _best(lambda: wl.solve_takeoff_weight(a, site, figures=False), max(repeats // 2, 1))
+        same = np.array_equal(res_tm.tow_limit_kg, res_tr.tow_limit_kg, equal_nan=True)
+        print(f"  same, limit and factor only (figures=False): {n_wl / dt_tm:,.0f} solves/s  (CPU time "
+              f"{n_wl / _CPU['last']:,.0f}/s; limits identical to the bit: {same}; all-engines solve "
+              f"{dt_all / dt_vec:.1f}x faster)")
         # the same with the takeoff event sequence at the table's defaults (1 s recognition,
         # 1 s between stop actions, 8° rotation at 3°/s), as a run of the demo network uses
         timed = dataclasses.replace(a, **{k: np.full(n_wl, v) for k, v in (
@@ -164,7 +175,7 @@ def main(argv=None):
             ("rotation_rate_deg_per_s", 3.0))})
         dt_ev, _ = _best(lambda: wl.solve_takeoff_weight(timed, site), max(repeats // 2, 1))
         print(f"  same with the timed event sequence (table defaults): {n_wl / dt_ev:,.0f} solves/s  "
-              f"({dt_all / dt_ev:.0%} of the idealised sequence's speed)")
+              f"(CPU time {n_wl / _CPU['last']:,.0f}/s; {dt_all / dt_ev:.0%} of the idealised sequence's speed)")
 
     # 4. Plain per-case loop on a sample (same requirements), and the ratio.
     # The loop's time per case depends on the case: about a tenth for a structural case (one

@@ -205,7 +205,8 @@ def test_transport_limit_is_feasible_and_one_tolerance_above_is_not(timed, monke
     r = wl.solve_takeoff_weight(a, site)
     limited = np.flatnonzero(np.isfinite(r.tow_limit_kg) & (r.limiting_factor != limits.code("structural")))
     assert limited.size > 0.6 * n
-    for name in ("V1_ITERATIONS", "V1_ITERATIONS_SEARCH", "V1_ITERATIONS_WARM", "V1_ITERATIONS_CLOSE"):
+    for name in ("V1_ITERATIONS", "V1_ITERATIONS_SEARCH", "V1_ITERATIONS_FAR", "V1_ITERATIONS_WARM",
+                 "V1_ITERATIONS_CLOSE"):
         monkeypatch.setattr(ef, name, 10)
     monkeypatch.setattr(ef, "PREDICT", False)
     s = takeoffevents.site_after_lineup(site, a.lineup_allowance_m)
