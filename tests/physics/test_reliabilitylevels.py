@@ -286,3 +286,27 @@ def test_binding_and_secant_steps_reach_a_linear_mass_exactly():
     assert reliabilitylevels.secant_score(0.0, mass(0.0), 0.5, mass(0.5), 58_000.0, -1.0) == pytest.approx(0.8)
     # A secant through a rising pair is not used: the fallback slope is.
     assert reliabilitylevels.secant_score(0.0, 0.0, 0.5, 10.0, -5.0, -10.0) == pytest.approx(2.0)
+
+
+def test_prepared_masses_give_the_same_levels_crossings_and_samples():
+    # Preparing the masses once (PreparedMasses) is bookkeeping only: every result equals
+    # the one from the raw masses to the bit, also for a subset taken from the prepared set.
+    m, wt, h = _curved_rose_masses()
+    m2, _, _ = _curved_rose_masses(mean=306.0, sd=2.0)
+    raw = np.concatenate([m, m2, np.where(np.arange(m.shape[1])[None, :, None] % 5 == 0, np.nan, m2)])
+    wts = np.repeat(wt, 3, axis=0)
+    z = np.repeat(Z[None], 3, axis=0) + np.array([[0.0], [0.1], [-0.2]])  # per-group scores
+    prep = reliabilitylevels.prepare_masses(raw, z)
+    a = reliabilitylevels.reliability_masses(raw, z, wts, np.full(3, OEW), np.full(3, MTOW))
+    b = reliabilitylevels.reliability_masses(prep, z, wts, np.full(3, OEW), np.full(3, MTOW))
+    for name in ("mass_kg", "reason", "point", "score", "share_days", "possible_share", "estimate_kg"):
+        np.testing.assert_array_equal(getattr(a, name), getattr(b, name), err_msg=name)
+    mass = np.array([60_000.0, 55_000.0, 52_000.0])
+    np.testing.assert_array_equal(reliabilitylevels.share_of_days(mass, raw, z, wts),
+                                  reliabilitylevels.share_of_days(mass, prep, z, wts))
+    rows = np.array([2, 0])
+    key = np.repeat(h[None], 2, axis=0)
+    s_raw = reliabilitylevels.refinement_samples(raw[rows], z[rows], wts[rows], mass[rows], key, 8)
+    s_prep = reliabilitylevels.refinement_samples(prep.take(rows), z[rows], wts[rows], mass[rows], key, 8)
+    for name in ("point", "score", "slope_kg", "stratum_density_per_kg", "density_per_kg"):
+        np.testing.assert_array_equal(getattr(s_raw, name), getattr(s_prep, name), err_msg=name)
