@@ -244,3 +244,19 @@ def test_transport_limit_is_the_least_of_the_requirements_own_limits():
     lower = np.where(first.tow_limit_kg < second.tow_limit_kg, first.limiting_factor, second.limiting_factor)
     np.testing.assert_array_equal(both.limiting_factor[clear], lower[clear])
     assert clear.mean() > 0.5
+
+
+def test_transport_result_does_not_depend_on_the_batch():
+    # A run is solved chunk by chunk: each case must get the same limit, factor and figures
+    # whatever other cases share its batch (staged solve, per-case V1 counts and starts).
+    n = 1200
+    a, site = fleet.random_cases(n, seed=47)
+    a = _timed(a, n)
+    whole = wl.solve_takeoff_weight(a, site)
+    order = np.random.default_rng(3).permutation(n)
+    for part in np.array_split(order, [100, 450]):
+        sub = wl.solve_takeoff_weight(wl._gather(a, part, n), wl._gather(site, part, n))
+        np.testing.assert_array_equal(sub.tow_limit_kg, whole.tow_limit_kg[part])
+        np.testing.assert_array_equal(sub.limiting_factor, whole.limiting_factor[part])
+        np.testing.assert_allclose(sub.v1_mps, whole.v1_mps[part], rtol=1e-12)
+        np.testing.assert_allclose(sub.accelerate_stop_m, whole.accelerate_stop_m[part], rtol=1e-12)
