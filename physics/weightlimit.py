@@ -1301,7 +1301,7 @@ def _solve_staged(cases, tol_kg, reqs, figures):
 
     # 2. the engine-failure requirements at that limit
     idx = np.flatnonzero(~none)
-    ef = cases.take(idx)
+    ef = cases if idx.size == n else cases.take(idx)
     m_chk, _ = requirement_margins(ef, limit_at[idx], costly)
     least = m_chk.min(axis=0)
     state = ef._cache.get("engine_failure_state")
