@@ -87,6 +87,11 @@ WARM_MASS_CHANGE = 0.02
 #: ``CLOSE_MASS_CHANGE`` (the last iterations of the weight solver). [–]
 V1_ITERATIONS_CLOSE = 2
 CLOSE_MASS_CHANGE = 0.001
+#: Inside the weight solver's search (not its closing evaluations), a case's V1 search stops
+#: once its Newton step is at most this: the least of the go and stop margins is then within
+#: about 1e-6 of its best (its slope in V1 is of the order of 1e-2 s/m), a few hundredths of
+#: a kilogram of the limit. [m/s]
+V1_STEP_TOL_MPS = 1e-4
 #: Start each trial of the weight solver from the V_EF predicted for its mass: the secant
 #: through the two previous trials' V_EF (each one Newton step on from its last evaluation),
 #: or the previous V_EF. [–]
@@ -938,12 +943,14 @@ class V1Search(NamedTuple):
     v_next_mps: np.ndarray = None  # V_EF one Newton step on from the last evaluation [m/s]
 
 
-def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False):
+def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, step_tol_mps=None):
     """Newton on h over the engine-failure speed (V1 itself in the idealised sequence).
 
     ``next_step``: also take the Newton step from each case's last evaluation (its h and
     slope are at hand; no distance is evaluated at the new speed), as ``v_next_mps``: the
-    start for a nearby mass."""
+    start for a nearby mass. ``step_tol_mps``: a case also stops where its Newton step
+    (clipped to the range) is at most this; its distances are those of the speed evaluated
+    last, within that step of the root."""
     w = model.headwind_mps
     lo, hi = model.v1_min_mps, model.v1_max_mps
     vlof = model.speeds.vlof_mps
@@ -963,11 +970,14 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False):
         out_a = np.full(w.shape, np.nan)
     idx, oo, sa, ae, evi = None, model.one_out, model.stop_all, model.all_engines, ev
     v_next = np.array(v1, copy=True) if next_step else None
+    settled = np.zeros(w.shape, dtype=bool)
     for k in range(total):
-        need = count > k
+        need = (count > k) & ~settled
         if k == 0 or not np.all(need[idx] if idx is not None else need):
             # evaluate only the cases still iterating (each has its own count)
             idx = np.nonzero(need | (k == 0))[0]
+            if idx.size == 0:
+                break
             full = idx.size == w.size
             oo = model.one_out if full else model.one_out.take(idx)
             sa = model.stop_all if full else model.stop_all.take(idx)
@@ -1020,6 +1030,9 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False):
         step = np.where(np.isfinite(step) & (dh > 0) & multi[idx], step, 0.0)
         moved = np.clip(vi - step, lo[idx], hi[idx])
         going = k < count[idx] - 1
+        if step_tol_mps is not None:
+            going &= np.abs(moved - vi) > step_tol_mps
+            settled[idx] = ~going
         v1[idx] = np.where(going, moved, vi)
         if next_step:
             v_next[idx] = moved
@@ -1146,7 +1159,7 @@ class EngineFailureTakeoff:
 
 
 def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=None,
-                           iterations=V1_ITERATIONS, both_stops=True, next_step=False):
+                           iterations=V1_ITERATIONS, both_stops=True, next_step=False, v1_tolerance_mps=None):
     """Continued takeoff and accelerate-stop at a mass, with the V1 that suits the runway.
 
     Parameters
@@ -1170,6 +1183,9 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
     next_step : bool, optional
         Also give the V_EF one Newton step on from the last evaluation (the start for a
         nearby mass; no distance is evaluated there). [–]
+    v1_tolerance_mps : float, optional
+        Stop a case's search early where its Newton step is at most this (``iterations`` is
+        then the most); None: every case makes its ``iterations`` evaluations. [m/s]
 
     Returns
     -------
@@ -1194,7 +1210,7 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
     air = continued_takeoff_airborne_m(model, su, b(site.screen_height_m))
     go_avail = go_constant_m(toda_m=toda, tora_m=tora, airborne_m=air)
     base = go_avail - asda
-    found = _newton_v1(model, base, v1_start_mps, iterations, STOP_DELAY_S, next_step)
+    found = _newton_v1(model, base, v1_start_mps, iterations, STOP_DELAY_S, next_step, v1_tolerance_mps)
     v_ef, v1 = found.v_ef_mps, found.v1_mps
     w = model.headwind_mps
     multi = model.multi_engine
@@ -1318,8 +1334,10 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
         else:
             guess = None
             iterations = V1_ITERATIONS if cases._cache.get("engine_failure_final") else V1_ITERATIONS_SEARCH
+        final = bool(cases._cache.get("engine_failure_final"))
         r = engine_failure_takeoff(cases.aircraft, cases.site, mass_kg, setup=setup, v1_start_mps=guess,
-                                   iterations=iterations, both_stops=False, next_step=PREDICT)
+                                   iterations=iterations, both_stops=False, next_step=PREDICT,
+                                   v1_tolerance_mps=None if final or not PREDICT else V1_STEP_TOL_MPS)
         if PREDICT:
             if state.get("v1") is not None and np.shape(state["v1"]) == setup.n:
                 state["v1_prev"], state["mass_prev"] = state["v1"], state["mass"]
