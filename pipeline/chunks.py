@@ -552,5 +552,14 @@ class DaskChunks:
 
 
 #: Environment of the local cluster's worker processes (see :meth:`DaskChunks.start`); start
-#: remote workers with the same (DEVELOPERS.md).
+#: remote workers with the same: :data:`WORKER_ENV_VARIABLE` set to :func:`worker_env_value`.
 WORKER_MALLOC_ENV = {"MALLOC_MMAP_THRESHOLD_": "33554432", "MALLOC_TRIM_THRESHOLD_": "67108864"}
+#: The Dask setting that gives :data:`WORKER_MALLOC_ENV` to the workers a nanny starts. It is
+#: set as one dictionary: Dask lowercases the last part of a name such as
+#: ``…__PRE_SPAWN_ENVIRON__MALLOC_TRIM_THRESHOLD_``, and glibc ignores the lowercase variable.
+WORKER_ENV_VARIABLE = "DASK_DISTRIBUTED__NANNY__PRE_SPAWN_ENVIRON"
+
+
+def worker_env_value() -> str:
+    """The value of :data:`WORKER_ENV_VARIABLE` for the workers (merged into Dask's own)."""
+    return json.dumps(WORKER_MALLOC_ENV)

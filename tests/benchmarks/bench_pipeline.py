@@ -113,9 +113,11 @@ class SeparateCluster:
     def __init__(self, root: Path, env: dict, workers: int = 2):
         self.procs, self.peak = [], 0
         scheduler_file = root / "scheduler.json"
+        sys.path.insert(0, str(REPO))  # this checkout's fieldlimits, as the workers import it
+        from fieldlimits.pipeline import chunks
+
         env = {k: v for k, v in env.items() if k != "PREFECT_API_URL"}
-        env["DASK_DISTRIBUTED__NANNY__PRE_SPAWN_ENVIRON__MALLOC_MMAP_THRESHOLD_"] = "33554432"
-        env["DASK_DISTRIBUTED__NANNY__PRE_SPAWN_ENVIRON__MALLOC_TRIM_THRESHOLD_"] = "67108864"
+        env[chunks.WORKER_ENV_VARIABLE] = chunks.worker_env_value()  # as the README says
         self._start(["scheduler", "--host", "127.0.0.1", "--port", "0", "--no-dashboard",
                      "--scheduler-file", str(scheduler_file)], root / "scheduler", env)
         for _ in range(600):

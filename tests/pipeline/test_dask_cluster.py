@@ -22,7 +22,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from fieldlimits.pipeline import store
+from fieldlimits.pipeline import chunks, store
 from tests.pipeline.conftest import REPO, cli, needs_physics
 
 distributed = pytest.importorskip("distributed", reason="the dask extra is not installed")
@@ -69,8 +69,7 @@ class _Cluster:
         env = {k: v for k, v in os.environ.items() if k != "PREFECT_API_URL"}
         # the code each process imports: a checkout at code_root (the worker's own copy)
         env["PYTHONPATH"] = str(code_root)
-        env["DASK_DISTRIBUTED__NANNY__PRE_SPAWN_ENVIRON__MALLOC_MMAP_THRESHOLD_"] = "33554432"
-        env["DASK_DISTRIBUTED__NANNY__PRE_SPAWN_ENVIRON__MALLOC_TRIM_THRESHOLD_"] = "67108864"
+        env[chunks.WORKER_ENV_VARIABLE] = chunks.worker_env_value()  # as the README says
         log = folder.parent / f"{folder.name}.log"
         self.logs.append(log)
         with open(log, "wb") as out:
@@ -110,7 +109,8 @@ def _worker_state() -> dict:
     import fieldlimits
     from fieldlimits.pipeline import chunks
 
-    return {"version": chunks._WORKER_VERSION, "package": fieldlimits.__file__, "cwd": os.getcwd()}
+    return {"version": chunks._WORKER_VERSION, "package": fieldlimits.__file__, "cwd": os.getcwd(),
+            "malloc": {k: os.environ.get(k) for k in chunks.WORKER_MALLOC_ENV}}
 
 
 def _version_here() -> str:
@@ -174,6 +174,7 @@ def test_every_worker_worked_in_its_own_folder_without_prefect(cluster, cluster_
     for name, state in states.items():
         assert state["version"] == run_version, name  # it computed chunks, with the run's code
         assert Path(state["cwd"]) == cluster.root / name
+        assert state["malloc"] == chunks.WORKER_MALLOC_ENV, name  # the README's worker setting works
         scratch = cluster.root / name / "scratch"
         assert not list(scratch.rglob("fieldlimits-chunk-*")), name  # its scratch removed
         assert not list((cluster.root / name).rglob("*.duckdb*"))
