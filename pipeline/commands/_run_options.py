@@ -51,13 +51,14 @@ def add_run_options(parser, *, serve: bool = False) -> None:
     parser.add_argument("--chunk-size", type=int, default=None, metavar="N",
                         help="cases per chunk task (default 32000; whole airfields per chunk)")
     parser.add_argument("--workers", type=int, default=None, metavar="N",
-                        help="parallel chunk tasks (default PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS, 2)")
+                        help="parallel chunk tasks (default PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS, 2); "
+                             "with --cluster local: worker processes")
     parser.add_argument("--cluster", default=None, metavar="ADDRESS",
                         help="run the chunk tasks on a Dask cluster (tcp://host:8786, or 'local' "
                              "for a temporary local cluster); needs the dask extra")
     parser.add_argument("--work-dir", default=None, metavar="PATH",
                         help="folder for the run's temporary case and part files "
-                             "(default: next to the database; must be shared with Dask workers)")
+                             "(default: next to the database; Dask workers need no access to it)")
     # the dispatch rule for landing at route destinations (pipeline.landing)
     parser.add_argument("--landing-jet-share", type=float, default=0.6, metavar="S",
                         help="share of the landing distance available a jet's dry landing "
