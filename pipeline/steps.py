@@ -243,7 +243,8 @@ def content_hashes(inputs: Inputs) -> pd.DataFrame:
     """Per-airfield and per-aircraft-type content hashes (:mod:`schemas.hashing`)."""
     from fieldlimits.schemas import hashing
 
-    rows = [("airfield", k, v) for k, v in hashing.airfield_hashes(inputs.user_tables).items()]
+    rows = [("airfield", k, v)
+            for k, v in hashing.airfield_hashes(inputs.user_tables, inputs.group_digests).items()]
     rows += [("aircraft_type", k, v) for k, v in hashing.aircraft_type_hashes(inputs.user_tables).items()]
     return pd.DataFrame(rows, columns=["kind", "key", "sha256"])
 
@@ -313,35 +314,106 @@ def _folder_signature(folder: Path) -> tuple:
         return ()
 
 
-def _cached_inputs(input_dir) -> Inputs:
+def _file_signature(path: Path) -> tuple:
+    try:
+        st = path.stat()
+        return (st.st_size, st.st_mtime_ns)
+    except OSError:
+        return ()
+
+
+SPOOL_PREFIX = "prepare-"
+"""Spool folders (``<work root>/prepare-<host>-<pid>-<n>``): the streamed input tables between
+validation and the run's work folder."""
+
+
+_SPOOLS: set = set()  # spools made by this process, removed at exit if still there
+
+
+def _new_spool(work_root: Path) -> Path:
+    import atexit
+    import socket
+    import uuid
+
+    if not _SPOOLS:
+        atexit.register(_remove_spools)
+    host = socket.gethostname().replace("-", "_") or "host"
+    spool = work_root / f"{SPOOL_PREFIX}{host}-{os.getpid()}-{uuid.uuid4().hex[:8]}"
+    _SPOOLS.add(spool)
+    return spool
+
+
+def _remove_spools() -> None:
+    for spool in list(_SPOOLS):
+        shutil.rmtree(spool, ignore_errors=True)
+        try:
+            spool.parent.rmdir()
+        except OSError:
+            pass
+    _SPOOLS.clear()
+
+
+def _cached_inputs(input_dir, work_root: Path | None = None) -> Inputs:
     """Load an input folder once per process while its files are unchanged.
 
-    The command line validates before it starts Prefect (so bad input never waits for the
-    Prefect server); the flow's own validation step then finds the same folder here.
+    With ``work_root`` the large tables are streamed to a spool folder there instead of held
+    (:func:`pipeline.inputs.load_inputs`); :func:`build_cases` moves the files into the run's
+    work folder, after which the folder is loaded again by the next run.
     """
     folder = Path(input_dir).resolve()
-    key = (str(folder), _folder_signature(folder))
-    if key[1] and key in _PREPARED:
-        return _PREPARED[key]
-    inputs = load_inputs(folder)
-    _PREPARED.clear()
+    key = (str(folder), _folder_signature(folder), str(work_root))
+    found = _PREPARED.get(key)
+    if key[1] and found is not None and (found.spool is None or found.spool.is_dir()):
+        return found
+    _forget_inputs()
+    inputs = load_inputs(folder, spool=_new_spool(work_root) if work_root is not None else None)
     _PREPARED[key] = inputs
     return inputs
 
 
+def _forget_inputs(inputs: Inputs | None = None) -> None:
+    """Drop cached inputs (all, or ``inputs``) and the prepared runs that hold them (their
+    spools stay until the run takes or removes them, or the process ends)."""
+    for key in [k for k, v in _PREPARED.items() if inputs is None or v is inputs]:
+        del _PREPARED[key]
+    for key in [k for k, v in _PREPARED_RUNS.items() if inputs is None or v.inputs is inputs]:
+        del _PREPARED_RUNS[key]
+
+
+_PREPARED_RUNS: dict = {}  # at most one prepared run not yet registered (prepare_run)
+
+
 def prepare_run(input_dir, db_path, params: RunParams, work_root=None) -> PreparedRun:
-    """Validate and load the inputs and plan the chunks; nothing is written."""
-    inputs = _cached_inputs(input_dir)
+    """Validate and load the inputs and plan the chunks; nothing is written but the spool of
+    the large input tables (``<work root>/prepare-…``, moved into the run's work folder by
+    :func:`build_cases`, removed by :func:`cleanup`).
+
+    The inputs are validated once per process: a second call with the same folder (unchanged
+    files), database (unchanged file), parameters and work root before the run is registered
+    returns the same prepared run (``fieldlimits run`` prepares before it starts Prefect,
+    and the flow's first task prepares again).
+    """
     db = Path(db_path).resolve()
     root = Path(work_root).resolve() if work_root else default_work_root(db)
+    folder = Path(input_dir).resolve()
+    key = (str(folder), _folder_signature(folder), str(db), _file_signature(db),
+           json.dumps(params.as_dict(), sort_keys=True), str(root))
+    found = _PREPARED_RUNS.pop(key, None)
+    if found is not None and (found.inputs.spool is None or found.inputs.spool.is_dir()):
+        return found
+    _PREPARED_RUNS.clear()
+    inputs = _cached_inputs(folder, root)
     code = code_version()
-    key = reuse_key(code, params)
+    key_ = reuse_key(code, params)
     hashes = content_hashes(inputs)
-    reuse = plan_reuse(inputs, hashes, db, key, params.conditions) if params.reuse else None
+    reuse = plan_reuse(inputs, hashes, db, key_, params.conditions) if params.reuse else None
     skip = reuse.skip if reuse else case_io.Skip()
     plan = case_io.plan_chunks(inputs.tables, params.chunk_size, params.conditions, skip)
     n_airfields = int(inputs.tables["runways"]["airfield_id"].nunique())
-    return PreparedRun(inputs, params, plan, code, db, root, key, hashes, reuse, n_airfields)
+    prepared = PreparedRun(inputs, params, plan, code, db, root, key_, hashes, reuse, n_airfields)
+    if key[1]:
+        _PREPARED_RUNS[key] = prepared
+    return prepared
 
 
 @dataclass
@@ -387,6 +459,8 @@ def register(prepared: PreparedRun) -> int:
         reuse_key=prepared.reuse_key,
         work_root=str(prepared.work_root),
     )
+    for key in [k for k, v in _PREPARED_RUNS.items() if v is prepared]:
+        del _PREPARED_RUNS[key]  # a later prepare_run prepares afresh
     run_id = store.register_run(prepared.db_path, record, heartbeat=True)  # until cleanup
     CURRENT.db_path, CURRENT.run_id, CURRENT.recorded = prepared.db_path, run_id, None
     CURRENT.work_dir = work_dir(prepared, run_id)
@@ -413,17 +487,25 @@ def build_cases(prepared: PreparedRun, run_id: int) -> Path:
     from the work folder by the steps that need them).
     """
     inputs = prepared.inputs
-    work = case_io.write_cases(inputs.tables, prepared.plan, work_dir(prepared, run_id),
+    held = {name: frame for name, frame in inputs.tables.items() if frame is not None}
+    work = case_io.write_cases(held, prepared.plan, work_dir(prepared, run_id),
                                prepared.params.temperature_offset_k, prepared.params.conditions,
                                prepared.skip)
     (work / INPUTS_DIR).mkdir(exist_ok=True)
     for name, frame in inputs.user_tables.items():
-        if name in inputs.hashes:
+        if name in inputs.hashes and frame is not None:
             case_io.write_frame(frame, work / INPUTS_DIR / f"{name}.parquet")
+    if inputs.spool is not None:  # the streamed tables, written while they were checked
+        for name in inputs.released:
+            for sub in (INPUTS_DIR, case_io.TABLES_DIR):
+                spooled = inputs.spool / sub / f"{name}.parquet"
+                if spooled.exists():
+                    os.replace(spooled, work / sub / f"{name}.parquet")
+        shutil.rmtree(inputs.spool, ignore_errors=True)
+        inputs.spool = None
     big = [name for name, frame in inputs.user_tables.items() if frame is not None and len(frame) >= RELEASE_MIN_ROWS]
-    if big:
-        for key in [k for k, v in _PREPARED.items() if v is inputs]:
-            del _PREPARED[key]  # a later run in this process loads the folder again
+    if big or inputs.released:
+        _forget_inputs(inputs)  # a later run in this process loads the folder again
         for name in big:
             inputs.release(name)
     return work
@@ -633,6 +715,10 @@ def cleanup(prepared: PreparedRun, run_id: int) -> None:
     """Stop the run's heartbeat; remove its work folder (and the work root if it is empty)."""
     store.stop_heartbeat(prepared.db_path, run_id)
     shutil.rmtree(work_dir(prepared, run_id), ignore_errors=True)
+    if prepared.inputs.spool is not None:  # stopped before build_cases took the spool
+        _forget_inputs(prepared.inputs)
+        shutil.rmtree(prepared.inputs.spool, ignore_errors=True)
+        prepared.inputs.spool = None
     try:
         prepared.work_root.rmdir()
     except OSError:

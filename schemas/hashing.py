@@ -190,19 +190,22 @@ def _user(tables) -> dict[str, pd.DataFrame]:
 def table_hashes(tables) -> dict[str, str]:
     """One hash per table of a :class:`schemas.load.Tables` (or a dict of user frames)."""
     user = _user(tables)
-    return {name: frame_hash(user[name], name) for name in TABLES if name in user}
+    return {name: frame_hash(user[name], name) for name in TABLES
+            if name in user and user[name] is not None}
 
 
-def airfield_hashes(tables) -> dict[str, str]:
+def airfield_hashes(tables, digests: dict | None = None) -> dict[str, str]:
     """One hash per airfield over its airfield, runway, climate and wind-rose rows, and its
     obstacle rows where it has any.
 
     An airfield without obstacles hashes exactly as before the obstacles table existed (the
     table is left out of its hash, not hashed as empty), so adding obstacles to some airfields
-    leaves the others' hashes, and their reusable results, unchanged.
+    leaves the others' hashes, and their reusable results, unchanged. ``digests`` gives, for
+    a table not held in memory, its per-airfield digests (:meth:`StreamedHashes.group_digests`).
     """
     user = _user(tables)
-    parts = {t: _group_hashes(user[t], t, "airfield_id")
+    digests = digests or {}
+    parts = {t: digests[t] if t in digests else _group_hashes(user[t], t, "airfield_id")
              for t in ("airfields", "runways", "climate_monthly", "wind_rose")}
     obstacles = user.get("obstacles")
     obstacle_parts = ({} if obstacles is None or len(obstacles) == 0
@@ -226,3 +229,130 @@ def aircraft_type_hashes(tables) -> dict[str, str]:
     parts = _group_hashes(user["aircraft_types"], "aircraft_types", "aircraft_type_id")
     return {k: f"{VERSION}:{hashlib.sha256(f'{VERSION}:type:'.encode() + v).hexdigest()}"
             for k, v in parts.items()}
+
+
+class StreamedHashes:
+    """The table hash and the per-airfield digests of one table fed block by block.
+
+    For a table too large to hold whole (the wind rose of a large network): each block is
+    hashed as it is read and dropped. The results equal :func:`frame_hash` and the digests of
+    :func:`airfield_hashes` of the whole table when the blocks come in key order, i.e. the
+    ``prefix`` columns (the whole groups each block holds: airfield and month) of every
+    block's first row in key order come strictly after those of the block before, as in a
+    file sorted by airfield and month (what ``generate`` writes). Otherwise :attr:`ordered`
+    turns False and the caller hashes the whole table instead.
+
+    Parameters
+    ----------
+    table : str
+        Table name (:data:`schemas.tables.TABLES`).
+    prefix : tuple of str
+        Leading key columns whose values no two blocks share.
+    """
+
+    def __init__(self, table: str, prefix: tuple[str, ...] = ("airfield_id", "month")):
+        spec = TABLES[table]
+        self.table = table
+        self.prefix = prefix
+        self.by = spec.key[0]
+        self.num = [c.name for c in spec.columns if c.dtype != "str"]
+        self.txt = [c.name for c in spec.columns if c.dtype == "str"]
+        self.header = ",".join(c.name for c in spec.columns).encode()
+        self.ordered = spec.key[:len(prefix)] == prefix
+        # per-group digests cover the numbers and the text columns other than the group's;
+        # the latter would follow all of a group's numbers: streamed only without them
+        self.groups_ok = all(c == self.by for c in self.txt)
+        self._h = hashlib.sha256(f"{VERSION}:{table}:".encode())
+        self._h.update(self.header)
+        if self.num:
+            self._h.update(b"\x1e")
+        self._runs: dict[str, list] = {c: [] for c in self.txt}  # (value, count), key order
+        self._groups: dict = {}
+        self._open = None  # (key, hasher) of the group that may go on in the next block
+        self._last = None  # prefix of the last row so far, in key order
+        self.rows = 0
+
+    def _prefix_at(self, df: pd.DataFrame, row: int):
+        out = []
+        for c in self.prefix:
+            v = df[c].iloc[row]
+            if v is None or (isinstance(v, float) and np.isnan(v)):
+                return None
+            out.append(v if isinstance(v, str) else float(_rounded([v])[0]))
+        return tuple(out)
+
+    def add(self, df: pd.DataFrame) -> None:
+        """Hash the rows of one block (user units, validated; whole groups of ``prefix``)."""
+        if not self.ordered or len(df) == 0:
+            return
+        order = _canonical_order(df, self.table)
+        first, last = self._prefix_at(df, int(order[0])), self._prefix_at(df, int(order[-1]))
+        if first is None or last is None or (self._last is not None and not first > self._last):
+            self.ordered = False
+            return
+        self._last = last
+        self.rows += len(df)
+        for s in range(0, order.size, _BLOCK_ROWS):
+            self._add_rows(df, order[s:s + _BLOCK_ROWS])
+
+    def _add_rows(self, df: pd.DataFrame, rows: np.ndarray) -> None:
+        raw = _num_block(df, self.num, rows) if self.num else b""
+        self._h.update(raw)
+        for c in self.txt:
+            self._add_runs(self._runs[c], _take(df[c], rows))
+        if self.groups_ok:
+            mat = np.frombuffer(raw, dtype=np.float64).reshape(rows.size, len(self.num))
+            self._add_groups(_take(df[self.by], rows), mat)
+
+    @staticmethod
+    def _add_runs(runs: list, values: np.ndarray) -> None:
+        codes, uniq = pd.factorize(pd.Series(values, dtype=object))
+        starts = np.flatnonzero(np.r_[True, codes[1:] != codes[:-1]])
+        counts = np.diff(np.r_[starts, codes.size])
+        for s, n in zip(starts.tolist(), counts.tolist()):
+            v = None if codes[s] < 0 else uniq[codes[s]]
+            if runs and runs[-1][0] == v and (v is not None or runs[-1][0] is None):
+                runs[-1][1] += n
+            else:
+                runs.append([v, n])
+
+    def _add_groups(self, keys: np.ndarray, mat: np.ndarray) -> None:
+        codes, uniq = pd.factorize(pd.Series(keys, dtype=object), use_na_sentinel=False)
+        starts = np.flatnonzero(np.r_[True, codes[1:] != codes[:-1]])
+        ends = np.r_[starts[1:], codes.size]
+        for s, e in zip(starts.tolist(), ends.tolist()):
+            key = uniq[codes[s]]
+            if self._open is not None and self._open[0] == key:
+                h = self._open[1]
+            else:
+                self._close_group()
+                h = hashlib.sha256(self.header)
+                h.update(str(key).encode("utf-8"))
+                self._open = (key, h)
+            h.update(mat[s:e].tobytes())
+
+    def _close_group(self) -> None:
+        if self._open is not None:
+            self._groups[self._open[0]] = self._open[1].digest()
+            self._open = None
+
+    def table_hash(self) -> str:
+        """:func:`frame_hash` of all rows added (only when :attr:`ordered`)."""
+        assert self.ordered
+        h = self._h.copy()
+        for c in self.txt:
+            h.update(b"\x1e")
+            for i, (v, n) in enumerate(self._runs[c]):
+                if i:
+                    h.update(b"\x1f")
+                text = ("\x00" if v is None or (isinstance(v, float) and np.isnan(v))
+                        else str(v)).encode("utf-8")
+                h.update(b"\x1f".join([text] * n))
+        return f"{VERSION}:{h.hexdigest()}"
+
+    def group_digests(self) -> dict:
+        """The digest of each ``airfield_id`` over its rows, as :func:`airfield_hashes`
+        uses them (only when :attr:`ordered` and :attr:`groups_ok`)."""
+        assert self.ordered and self.groups_ok
+        self._close_group()
+        return dict(self._groups)

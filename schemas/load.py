@@ -21,7 +21,7 @@ import pandas as pd
 
 from fieldlimits.schemas.tables import TABLES, THRUST_MODELS, TableSpec
 from fieldlimits.schemas.typeclasses import defaulted_columns, fill_class_defaults
-from fieldlimits.schemas.validate import InputError, Problem, check_folder
+from fieldlimits.schemas.validate import STREAMED, BlockSink, InputError, Problem, check_folder
 
 #: Field order of ``physics.weightlimit.Aircraft`` (DEVELOPERS.md); the SI aircraft frame
 #: carries exactly these columns after ``aircraft_type_id`` and ``name``, then
@@ -80,6 +80,9 @@ class Tables(Mapping):
         The file read for each table.
     class_defaults : dict of str to tuple of str
         Aircraft type id → the columns filled from its class defaults.
+    streamed : tuple of str
+        Tables handed block by block to ``load_folder(stream=…)`` instead of kept: their
+        frames here (SI and ``user``) are None.
     """
 
     airfields: pd.DataFrame
@@ -95,6 +98,7 @@ class Tables(Mapping):
     source: Path | None = None
     files: dict[str, Path] = field(default_factory=dict)
     class_defaults: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    streamed: tuple[str, ...] = ()
 
     def table(self, name: str) -> pd.DataFrame:
         """SI frame of a table by name."""
@@ -114,13 +118,49 @@ class Tables(Mapping):
 
 
 
-def load_folder(path) -> Tables:
+class TableStream:
+    """Receives a large table block by block from ``load_folder(stream=…)``.
+
+    ``start(name)`` opens each reading of the table (a reading that starts over voids what
+    came before it); ``block(name, user, si)`` gets each checked block of whole
+    airfield-months in file order, as :func:`user_frame` and :func:`si_frame` make it. The
+    blocks are given before the folder is known to be valid: keep them aside until
+    ``load_folder`` returns.
+    """
+
+    def start(self, name: str) -> None:  # pragma: no cover - interface
+        raise NotImplementedError
+
+    def block(self, name: str, user: pd.DataFrame, si: pd.DataFrame) -> None:  # pragma: no cover
+        raise NotImplementedError
+
+
+class _Converting(BlockSink):
+    """Checked blocks (as read) → user-unit and SI blocks for a :class:`TableStream`."""
+
+    def __init__(self, stream: TableStream):
+        self.stream = stream
+
+    def start(self, name: str) -> None:
+        self.stream.start(name)
+
+    def block(self, name: str, frame: pd.DataFrame) -> None:
+        spec = TABLES[name]
+        user = user_frame(frame, spec)
+        self.stream.block(name, user, si_frame(user, spec))
+
+
+def load_folder(path, stream: TableStream | None = None) -> Tables:
     """Validate an input folder and return its tables in SI units.
 
     Parameters
     ----------
     path : str or Path
         Folder with the input tables (see :func:`schemas.validate.validate_folder`).
+    stream : TableStream or None
+        Given, the large tables (:data:`schemas.validate.STREAMED`: the wind rose) go to it
+        block by block as they are checked and are not held: ``Tables`` has None for them
+        and names them in ``streamed``. Memory then stays bounded by the block size.
 
     Returns
     -------
@@ -132,12 +172,16 @@ def load_folder(path) -> Tables:
     InputError
         When any error is found; ``exc.problems`` lists every problem (and warning).
     """
-    check = check_folder(path)
+    check = check_folder(path, sink=_Converting(stream) if stream is not None else None)
     if not check.ok:
         raise InputError(check.problems)
     user = {}
     si = {}
+    streamed = tuple(n for n in STREAMED if stream is not None and n in check.rows)
     for name, spec in TABLES.items():
+        if name in streamed:
+            user[name] = si[name] = None
+            continue
         frame = check.frames.get(name)
         if frame is None:
             frame = _empty(spec)
@@ -148,7 +192,8 @@ def load_folder(path) -> Tables:
         si[name] = si_frame(user[name], spec)
     return Tables(**si, user=user,
                   warnings=[p for p in check.problems if p.severity == "warning"],
-                  source=Path(path), files=dict(check.files), class_defaults=class_defaults)
+                  source=Path(path), files=dict(check.files), class_defaults=class_defaults,
+                  streamed=streamed)
 
 
 def _empty(spec: TableSpec) -> pd.DataFrame:
@@ -192,5 +237,5 @@ def aircraft_si_columns() -> tuple[str, ...]:
     return ("aircraft_type_id", "name", *AIRCRAFT_FIELDS, "max_passengers")
 
 
-__all__ = ["Tables", "load_folder", "InputError", "AIRCRAFT_FIELDS", "user_frame",
+__all__ = ["Tables", "TableStream", "load_folder", "InputError", "AIRCRAFT_FIELDS", "user_frame",
            "si_frame", "aircraft_si_columns"]

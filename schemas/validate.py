@@ -207,7 +207,23 @@ _WAITING_BLOCKS = 4
 is checked whole."""
 
 
-def check_folder(path, *, frames: bool = True, progress: Progress | None = None) -> FolderCheck:
+class BlockSink:
+    """Receives the checked blocks of a :data:`STREAMED` table (``check_folder(sink=…)``).
+
+    ``start(name)`` opens each reading of the table (a table read again, whole or as text,
+    starts over: what the sink kept of the earlier reading is void); ``block(name, frame)``
+    gets each checked block of whole groups in file order (user units, as checked).
+    """
+
+    def start(self, name: str) -> None:  # pragma: no cover - interface
+        raise NotImplementedError
+
+    def block(self, name: str, frame: pd.DataFrame) -> None:  # pragma: no cover - interface
+        raise NotImplementedError
+
+
+def check_folder(path, *, frames: bool = True, progress: Progress | None = None,
+                 sink: BlockSink | None = None) -> FolderCheck:
     """Read and check a folder; return typed frames in user units and the problems.
 
     Parameters
@@ -222,6 +238,9 @@ def check_folder(path, *, frames: bool = True, progress: Progress | None = None)
     progress : callable or None
         Called as ``progress(done, total, file)`` (bytes of the table files) after each
         block and table.
+    sink : BlockSink or None
+        Given, the tables of :data:`STREAMED` are handed to it block by block as they are
+        checked and not kept in ``frames`` (bounded memory for a run that writes them out).
     """
     folder = Path(path)
     out = FolderCheck()
@@ -237,8 +256,10 @@ def check_folder(path, *, frames: bool = True, progress: Progress | None = None)
     meter = _Meter(progress, out.files)
     coverage: dict[str, pd.DataFrame] = {}
     for name, located in out.files.items():
+        streamed = name in STREAMED
         _check_table(name, located, out, coverage, meter,
-                     keep=frames or name not in STREAMED)
+                     keep=not streamed or (frames and sink is None),
+                     sink=sink if streamed else None)
         meter.finished(located)
     _completeness(out, coverage)
     from fieldlimits.schemas import plausibility  # feet for metres inside the ranges: warnings
@@ -466,7 +487,7 @@ class _Header:
 
 
 def _check_table(name: str, path: Path, out: FolderCheck, coverage: dict, meter: _Meter,
-                 keep: bool) -> None:
+                 keep: bool, sink: BlockSink | None = None) -> None:
     """Read, convert and check one table; its problems go to ``out.problems``."""
     pre = _Problems()  # problems of the file as a whole, found once
     names = None
@@ -480,9 +501,11 @@ def _check_table(name: str, path: Path, out: FolderCheck, coverage: dict, meter:
     text = False
     while True:
         pr = _Problems()
+        if sink is not None:
+            sink.start(name)
         try:
             frame, rows, months = _check_table_pass(name, path, names, out, pr, meter,
-                                                    blocks, keep, text)
+                                                    blocks, keep, text, sink)
         except _NotNumbers:
             text = True
             continue
@@ -506,7 +529,7 @@ def _check_table(name: str, path: Path, out: FolderCheck, coverage: dict, meter:
         coverage[name] = months
 
 
-def _check_table_pass(name, path, names, out, pr, meter, blocks, keep, text):
+def _check_table_pass(name, path, names, out, pr, meter, blocks, keep, text, sink=None):
     """One reading of a table: ``(frame or None, data rows, month coverage or None)``.
 
     Raises :class:`_NotNumbers` or :class:`_NotGrouped` to ask for another reading (as
@@ -545,6 +568,9 @@ def _check_table_pass(name, path, names, out, pr, meter, blocks, keep, text):
             coverage.append(months)
             if keep:
                 typed_blocks.append(checked)
+            elif sink is not None:
+                sink.block(name, checked)
+            del checked
     if header is None:
         pr.append(Problem("error", file, None, None, None, "at least one data row", empty))
         raise _Unreadable
@@ -555,12 +581,18 @@ def _check_table_pass(name, path, names, out, pr, meter, blocks, keep, text):
             coverage.append(months)
             if keep:
                 typed_blocks.append(checked)
+            elif sink is not None:
+                sink.block(name, checked)
+            del checked
         months = pd.concat(coverage, ignore_index=True).drop_duplicates()
         return (_join_blocks(typed_blocks) if keep else None), rows, months
     frame = typed_blocks[0] if len(typed_blocks) == 1 else pd.concat(typed_blocks)
     del typed_blocks
     frame = _table_checks(name, frame, file, out, pr)
     months = _month_pairs(frame) if name in _MONTHLY else None
+    if sink is not None and not keep:  # a streamed table read whole: one block
+        sink.block(name, frame)
+        return None, rows, months
     return frame, rows, months
 
 
