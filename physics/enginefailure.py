@@ -92,6 +92,9 @@ CLOSE_MASS_CHANGE = 0.001
 #: about 1e-6 of its best (its slope in V1 is of the order of 1e-2 s/m), a few hundredths of
 #: a kilogram of the limit. [m/s]
 V1_STEP_TOL_MPS = 1e-4
+#: The same for the solver's closing evaluations (the limiting factor and the reported
+#: figures: V1 converged). [m/s]
+V1_STEP_TOL_FINAL_MPS = 1e-9
 #: Start each trial of the weight solver from the V_EF predicted for its mass: the secant
 #: through the two previous trials' V_EF (each one Newton step on from its last evaluation),
 #: or the previous V_EF. [–]
@@ -1337,7 +1340,8 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
         final = bool(cases._cache.get("engine_failure_final"))
         r = engine_failure_takeoff(cases.aircraft, cases.site, mass_kg, setup=setup, v1_start_mps=guess,
                                    iterations=iterations, both_stops=False, next_step=PREDICT,
-                                   v1_tolerance_mps=None if final or not PREDICT else V1_STEP_TOL_MPS)
+                                   v1_tolerance_mps=None if not PREDICT else
+                                   V1_STEP_TOL_FINAL_MPS if final else V1_STEP_TOL_MPS)
         if PREDICT:
             if state.get("v1") is not None and np.shape(state["v1"]) == setup.n:
                 state["v1_prev"], state["mass_prev"] = state["v1"], state["mass"]

@@ -1134,9 +1134,13 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         if st and st.get("v1") is not None:
             if v1_state is None:
                 v1_state = {}
-            for key, val in st.items():  # V1, the mass it was found for (and the previous pair)
+            # V1, the mass it was found for (and the previous pair), of the cases this trial
+            # served: a closed bracket evaluated until the batch is compacted keeps the V1 of
+            # its own last trial, so what follows does not depend on the batch
+            used = np.flatnonzero(open_ | check)
+            for key, val in st.items():
                 if np.shape(val) == idx.shape:
-                    v1_state.setdefault(key, np.full(lo.size, np.nan))[idx] = val
+                    v1_state.setdefault(key, np.full(lo.size, np.nan))[idx.take(used)] = val.take(used)
         ok = g <= 0.0
         feas = (open_ | check) & ok
         infeas = open_ & ~ok & ~check
