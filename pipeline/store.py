@@ -529,6 +529,26 @@ def _tidy_work_dirs(con: duckdb.DuckDBPyConnection, work_root) -> None:
         number = path.name.removeprefix("run-")
         if path.is_dir() and number.isdigit() and len(number) == 6 and int(number) not in running:
             shutil.rmtree(path, ignore_errors=True)
+    _tidy_spools(root)
+
+
+def _tidy_spools(root: Path) -> None:
+    """Remove the spools (``prepare-<host>-<pid>-<n>``: input tables written while checked,
+    ``pipeline.steps``) that a process of this machine left when it was killed."""
+    import shutil
+    import socket
+
+    host = socket.gethostname().replace("-", "_") or "host"
+    for path in root.glob(f"prepare-{host}-*"):
+        pid = path.name.removeprefix(f"prepare-{host}-").split("-")[0]
+        if not path.is_dir() or not pid.isdigit():
+            continue
+        try:
+            os.kill(int(pid), 0)
+        except ProcessLookupError:
+            shutil.rmtree(path, ignore_errors=True)
+        except OSError:
+            pass  # alive (or not ours to signal): keep
 
 
 def register_run(db_path: str | os.PathLike, record: RunRecord, heartbeat: bool = False) -> int:

@@ -106,3 +106,23 @@ def test_a_run_validates_once_and_leaves_no_spool(tmp_path, demo_dir, demo_run, 
     steps.run_local(demo_dir, db, steps.RunParams(reliability_levels=(), reuse=False),
                     progress=lambda *a: None)
     assert len(calls) == 2
+
+
+def test_a_killed_process_spool_is_removed_by_the_next_run(tmp_path):
+    import os
+    import socket
+    import subprocess
+    import sys
+
+    from fieldlimits.pipeline import store
+
+    host = socket.gethostname().replace("-", "_") or "host"
+    gone = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"],
+                          capture_output=True, text=True, check=True)
+    dead = tmp_path / f"prepare-{host}-{int(gone.stdout)}-0123abcd"
+    alive = tmp_path / f"prepare-{host}-{os.getpid()}-4567cdef"
+    other = tmp_path / f"prepare-another_host-{int(gone.stdout)}-89abcdef"  # not ours to judge
+    for folder in (dead, alive, other):
+        (folder / "inputs").mkdir(parents=True)
+    store._tidy_spools(tmp_path)
+    assert not dead.exists() and alive.exists() and other.exists()
