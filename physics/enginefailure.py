@@ -1311,7 +1311,9 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
     mass's Newton search starts from the V_EF predicted for it: the secant in the mass
     through the two previous trials' V_EF, each taken one Newton step on from its last
     evaluation (:data:`PREDICT`; the previous V_EF where only one is known); the number of
-    evaluations falls with the relative mass change since the previous trial.
+    evaluations falls with the relative mass change since the previous trial, and a case
+    stops once its Newton step is at most :data:`V1_STEP_TOL_MPS`
+    (:data:`V1_STEP_TOL_FINAL_MPS` in the solver's closing evaluations).
 
     References
     ----------
