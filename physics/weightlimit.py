@@ -794,6 +794,24 @@ def _solve_obstacle_limit(out, cases, index, hi_kg, margin_hi, tol_kg, reqs, fig
         out[key][index] = val
 
 
+#: Slope of the obstacle margin in the terms of the search, d(−ln(1 + margin))/d ln m, where it
+#: binds: median 7.6 (5.2–9.6 for nine cases in ten) on the 2 000-airfield synthetic network
+#: with a third of the runway directions carrying obstacles. [–]
+OBSTACLE_MARGIN_SLOPE = 7.5
+
+
+def _obstacle_search_margin(margin):
+    """The obstacle margin as its search sees it: −ln(1 + margin) scaled by
+    DISTANCE_MASS_EXPONENT / OBSTACLE_MARGIN_SLOPE (same sign, so the same limit; −inf, an
+    impossible case, stays). The search estimates the value at OEW, before evaluating it,
+    with the distance margins' slope; scaled to it, the first step lands near the root
+    (4.3 evaluations per case instead of 5.35 on that network)."""
+    m = np.asarray(margin, dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        scaled = np.expm1(DISTANCE_MASS_EXPONENT / OBSTACLE_MARGIN_SLOPE * np.log1p(m))
+    return np.where(m > -1.0, scaled, m)
+
+
 def _obstacle_search(cases, hi_kg, margin_hi, tol_kg, reqs, figures):
     """The obstacle limit between OEW and ``hi_kg`` (fails the obstacle requirement) and
     the figures there: a dict of :class:`WeightLimit` fields (see
@@ -801,9 +819,14 @@ def _obstacle_search(cases, hi_kg, margin_hi, tol_kg, reqs, figures):
     n = cases.n
     cases._cache.pop("engine_failure_final", None)
     only = [OBSTACLE_REQUIREMENT]
+
+    def margins_fn(cs, mass):
+        margin, memo = requirement_margins(cs, mass, only)
+        return _obstacle_search_margin(margin), memo
+
     lo, _, _, none, _, v1_state = _itp_search(
-        cases, lambda cs, mass: requirement_margins(cs, mass, only), np.asarray(cases.aircraft.oew_kg, dtype=float),
-        np.asarray(hi_kg, dtype=float), margin_hi, tol_kg)
+        cases, margins_fn, np.asarray(cases.aircraft.oew_kg, dtype=float), np.asarray(hi_kg, dtype=float),
+        _obstacle_search_margin(margin_hi), tol_kg)
     out = {f.name: np.full(n, np.nan) for f in fields(WeightLimit)}
     out["tow_limit_kg"] = np.where(none, np.nan, lo)
     out["limiting_factor"] = np.where(none, limits.code("no_takeoff"), limits.code("obstacle_clearance"))
