@@ -946,6 +946,32 @@ class V1Search(NamedTuple):
     v_next_mps: np.ndarray = None  # V_EF one Newton step on from the last evaluation [m/s]
 
 
+def _v1_estimate_mps(model, base, delay_s):
+    """Cold start of the V1 search: the root of h with each ground piece at constant
+    acceleration (taken mid-piece from the middle of the range), clipped to the range.
+
+    With x = V − w, X = V_LOF − w, a_o > 0 the one-engine-inoperative acceleration and b > 0
+    the braking deceleration: h ≈ base − (X² − x²)/(2 a_o) + t_d x + x²/(2 b), a quadratic in
+    x; the middle of the range where it has no usable root.
+    """
+    w = model.headwind_mps
+    lo, hi = model.v1_min_mps, model.v1_max_mps
+    mid = 0.5 * (lo + hi)
+    vlof = model.speeds.vlof_mps
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        a_o = model.one_out.acceleration(0.5 * (mid + vlof))
+        b = -model.stop_all.acceleration(0.5 * (mid + np.fmax(w, 0.0)))
+        big_x = vlof - w
+        quad = 0.5 / a_o + 0.5 / b
+        const = base - 0.5 * big_x * big_x / a_o
+        x = (np.sqrt(delay_s * delay_s - 4.0 * quad * const) - delay_s) / (2.0 * quad)
+        if model.events is not None:  # V_EF one recognition interval before V1
+            x = x - a_o * model.events.recognition_s
+        est = np.clip(w + x, lo, hi)
+    usable = (a_o > 0.0) & (b > 0.0) & np.isfinite(est)
+    return np.where(usable, est, mid)
+
+
 def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, step_tol_mps=None):
     """Newton on h over the engine-failure speed (V1 itself in the idealised sequence).
 
@@ -957,7 +983,7 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
     w = model.headwind_mps
     lo, hi = model.v1_min_mps, model.v1_max_mps
     vlof = model.speeds.vlof_mps
-    v1 = 0.5 * (lo + hi)
+    v1 = _v1_estimate_mps(model, base, delay_s)
     if v1_start_mps is not None:
         start = np.asarray(v1_start_mps, dtype=float)
         v1 = np.where(np.isfinite(start), np.clip(start, lo, hi), v1)
