@@ -683,7 +683,7 @@ def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], bes
         direction_parts=[r.direction_path for r in results],
         airfield_parts=[str(best_path)] + [r.airfield_path for r in results if r.airfield_path],
         inputs=inputs,
-        route_payload=pd.read_parquet(route_path) if route_path else None,
+        route_payload=str(route_path) if route_path else None,  # scanned by the store
         landing_direction=_landing_frame(prepared, run_id, LANDING_FILES[0]),
         landing_airfield=_landing_frame(prepared, run_id, LANDING_FILES[1]),
         hashes=prepared.hashes,

@@ -628,7 +628,7 @@ class LoadSpec:
     direction_parts: Sequence[str]
     airfield_parts: Sequence[str] = ()
     inputs: Sequence[InputTable] = ()
-    route_payload: pd.DataFrame | None = None
+    route_payload: pd.DataFrame | str | None = None  # a frame, or its Parquet file (streamed in)
     landing_direction: pd.DataFrame | None = None  # landing limits of the route destinations
     landing_airfield: pd.DataFrame | None = None
     hashes: pd.DataFrame | None = None  # columns kind, key, sha256 (run_hashes)
@@ -772,15 +772,41 @@ def _load_route_payload(con, spec: LoadSpec) -> int:
         return int(con.execute(sql("count_route_payload"), {"run_id": spec.run_id}).fetchall()[0][0])
     if spec.route_payload is None:
         return 0
-    frame = spec.route_payload.copy()
-    if "run_id" in frame.columns:
-        frame["run_id"] = spec.run_id
-    else:
-        frame.insert(0, "run_id", spec.run_id)
     create = sql("create_route_payload") if sql_exists("create_route_payload") else None
-    _append_frame(con, result_tables.stored_name("route_payload"), frame, create)
+    table = result_tables.stored_name("route_payload")
+    if isinstance(spec.route_payload, pd.DataFrame):
+        frame = spec.route_payload.copy()
+        if "run_id" in frame.columns:
+            frame["run_id"] = spec.run_id
+        else:
+            frame.insert(0, "run_id", spec.run_id)
+        _append_frame(con, table, frame, create)
+        rows = len(frame)
+    else:  # the route step's Parquet file, scanned by DuckDB rather than held as a frame
+        rows = _append_parquet(con, table, str(spec.route_payload), spec.run_id, create)
     run_sql(con, sql("view_latest_route_payload"))
-    return len(frame)
+    return rows
+
+
+def _append_parquet(con, table: str, path: str, run_id: int, create_sql: str | None) -> int:
+    """Insert a Parquet file's rows by column name with ``run_id`` set; return the rows."""
+    import pyarrow.dataset as ds
+
+    _check_ident(table)
+    view = f"_file_{table}"
+    data = ds.dataset(path, format="parquet")
+    con.register(view, data)
+    try:
+        rest = "* EXCLUDE (run_id)" if "run_id" in data.schema.names else "*"
+        if not _table_exists(con, table):
+            run_sql(con, create_sql or f"CREATE TABLE {table} AS SELECT CAST(NULL AS BIGINT) AS "
+                                       f"run_id, {rest} FROM {view} LIMIT 0")
+        _add_missing_columns(con, table, view)
+        run_sql(con, f"INSERT INTO {table} BY NAME SELECT CAST($r AS BIGINT) AS run_id, {rest} "
+                     f"FROM {view}", {"r": run_id})
+    finally:
+        con.unregister(view)
+    return data.count_rows()
 
 
 def _load_run_sources(con, spec: LoadSpec) -> None:
