@@ -716,7 +716,7 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
     if with_obstacles is not None:
         # The obstacle margin falls as the mass rises: where the net path clears every
         # obstacle at the limit found without them they do not bind, and that limit stands
-        # (to the bit); the others are solved again with the obstacle requirement.
+        # (to the bit); the others are searched for the obstacle limit below it.
         obs = keep[with_obstacles]
         obs = obs[np.isfinite(out["tow_limit_kg"][obs])]
         if obs.size:
