@@ -26,14 +26,22 @@ READ_BACK = textwrap.dedent("""
     from prefect.client.orchestration import get_client
     from prefect.client.schemas.filters import (ArtifactFilter, ArtifactFilterKey, LogFilter,
                                                 LogFilterFlowRunId)
+    from prefect.client.schemas.sorting import LogSort
     with get_client(sync_client=True) as client:
         runs = client.read_flow_runs()
         run = runs[0]
-        logs = client.read_logs(log_filter=LogFilter(flow_run_id=LogFilterFlowRunId(any_=[run.id])))
+        messages, offset = [], 0
+        while True:  # every page: the server returns at most a page of logs per call
+            page = client.read_logs(log_filter=LogFilter(flow_run_id=LogFilterFlowRunId(any_=[run.id])),
+                                    limit=200, offset=offset, sort=LogSort.TIMESTAMP_ASC)
+            messages += [entry.message for entry in page]
+            offset += len(page)
+            if len(page) < 200:
+                break
         arts = client.read_artifacts(artifact_filter=ArtifactFilter(
             key=ArtifactFilterKey(any_=["fieldlimits-run-summary"])))
     print(json.dumps({"runs": len(runs), "name": run.name, "state": run.state_name,
-                      "logs": [entry.message for entry in logs],
+                      "logs": messages,
                       "artifacts": [a.data for a in arts]}))
 """)
 
