@@ -240,14 +240,33 @@ def _lost_name(codes: np.ndarray) -> np.ndarray:
     return out
 
 
+#: Destinations solved together for the landing reliability levels: bounds the memory of
+#: the wind points (each case × 144 points × a few arrays) on a large network.
+BLOCK_AIRFIELDS = 100
+
+
+def _destination_blocks(cases: pd.DataFrame, size: int | None):
+    """``cases`` split into blocks of at most ``size`` whole destination airfields."""
+    ids = np.sort(cases["airfield_id"].unique())
+    if size is None or ids.size <= size:
+        yield cases
+        return
+    for start in range(0, ids.size, size):
+        yield cases[cases["airfield_id"].isin(ids[start:start + size])].reset_index(drop=True)
+
+
 def reliability_frame(cases: pd.DataFrame, aircraft_table: pd.DataFrame, climate: pd.DataFrame,
                       wind_rose: pd.DataFrame, *, levels, conditions, rule: LandingRule,
-                      temperature_offset_k: float = 0.0, run_id=None, details: dict | None = None) -> pd.DataFrame:
+                      temperature_offset_k: float = 0.0, run_id=None, details: dict | None = None,
+                      block_airfields: int | None = BLOCK_AIRFIELDS) -> pd.DataFrame:
     """Airfield rows (basis ``reliability``) of the landing cases for the given levels.
 
     ``cases`` are design-day landing cases (:func:`landing_cases`); ``climate`` and
-    ``wind_rose`` the SI input tables (at least the destinations). ``details`` (tests) gets
-    the interpolated point masses, weights and scores.
+    ``wind_rose`` the SI input tables (at least the destinations), or for the wind rose a
+    function of airfield ids that returns their rows (a large run reads it block by block
+    from its Parquet copy). The destinations are solved ``block_airfields`` at a time (None:
+    all at once). ``details`` (tests) gets the interpolated point masses, weights and scores
+    (all destinations in one block).
     """
     from fieldlimits.pipeline import reliability as rel
 
@@ -274,8 +293,13 @@ def reliability_frame(cases: pd.DataFrame, aircraft_table: pd.DataFrame, climate
             out.append(f)
     cs = cases[checked].reset_index(drop=True)
     if len(cs):
-        out.append(_reliability_checked(cs, aircraft_table, climate, wind_rose, levels, rule,
-                                        float(temperature_offset_k), run_id, rel, details))
+        # Whole destinations at a time, so memory stays bounded on a large network (every
+        # case's levels come from its own airfield-month: the blocks give the same rows).
+        size = None if details is not None else block_airfields
+        for block in _destination_blocks(cs, size):
+            rose = wind_rose(block["airfield_id"].unique()) if callable(wind_rose) else wind_rose
+            out.append(_reliability_checked(block, aircraft_table, climate, rose, levels, rule,
+                                            float(temperature_offset_k), run_id, rel, details))
     frame = pd.concat(out, ignore_index=True)
     keys = list(GROUP_KEYS) + ["reliability"]
     return frame.sort_values(keys, kind="stable", ignore_index=True)[list(frame.columns)]
@@ -427,8 +451,9 @@ def landing_frames(tables, params=None, run_id=None, wind_rose: pd.DataFrame | N
         conditions, reliability levels and conditions, the landing rule.
     run_id : int, optional
         Written into the rows (left out when None).
-    wind_rose : DataFrame, optional
-        The wind rose when ``tables`` no longer holds it (a large run releases it).
+    wind_rose : DataFrame or callable, optional
+        The wind rose when ``tables`` no longer holds it (a large run releases it), or a
+        function of airfield ids returning their wind-rose rows (read block by block).
     routes : DataFrame, optional
         Routes (default ``tables["routes"]``).
     """

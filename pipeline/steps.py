@@ -19,6 +19,7 @@ A run, step by step::
 from __future__ import annotations
 
 import dataclasses
+import functools
 import hashlib
 import importlib
 import json
@@ -653,9 +654,9 @@ def landing_rows(prepared: PreparedRun, work: Path) -> pd.DataFrame:
 
     tables = prepared.inputs.tables
     rose = tables.get("wind_rose")
-    if rose is None and prepared.params.reliability_levels:  # released: its Parquet copy
-        rose = landing.read_wind_rose(Path(work) / case_io.TABLES_DIR / "wind_rose.parquet",
-                                      tables["routes"]["destination_id"])
+    if rose is None and prepared.params.reliability_levels:  # released: its Parquet copy,
+        path = Path(work) / case_io.TABLES_DIR / "wind_rose.parquet"  # read block by block
+        rose = functools.partial(landing.read_wind_rose, path)
     frames = landing.landing_frames(tables, prepared.params.as_dict(), wind_rose=rose)
     for frame, name in zip((frames.direction, frames.airfield), LANDING_FILES):
         out = Path(work) / name

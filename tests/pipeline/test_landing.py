@@ -272,6 +272,28 @@ def test_reliability_levels_against_direct_solves_of_every_wind_point(demo_table
     assert set(frame["limiting_factor"]) <= set(physics_landing.LANDING_FACTORS)
 
 
+def test_reliability_rows_by_blocks_of_destinations_equal_all_at_once(demo_tables):
+    """A large run solves the landing levels a few destinations at a time, reading their
+    wind-rose rows as it goes: the rows equal those of one block to the bit."""
+    tables = _with_lda(demo_tables, default=2000.0)
+    routes = tables["routes"]
+    cases = landing.landing_cases(tables, landing.destination_pairs(routes), 0.0, ("dry", "wet"))
+    ac = tables["aircraft_types"].reset_index(drop=True)
+    rose = tables["wind_rose"]
+    asked = []
+
+    def rose_of(ids):
+        asked.append(sorted(ids))
+        return rose[rose["airfield_id"].isin(ids)]
+
+    kw = dict(levels=(0.5, 0.95), conditions=("dry",), rule=landing.LandingRule())
+    whole = landing.reliability_frame(cases, ac, tables["climate_monthly"], rose, block_airfields=None, **kw)
+    blocks = landing.reliability_frame(cases, ac, tables["climate_monthly"], rose_of, block_airfields=2, **kw)
+    n_dest = cases["airfield_id"].nunique()
+    assert n_dest >= 3 and len(asked) == -(-n_dest // 2) and all(len(a) <= 2 for a in asked)
+    pd.testing.assert_frame_equal(blocks, whole)
+
+
 # ------------------------------------------------------------------------------------------
 # explain --landing
 
