@@ -242,7 +242,7 @@ def _lost_name(codes: np.ndarray) -> np.ndarray:
 
 #: Destinations solved together for the landing reliability levels: bounds the memory of
 #: the wind points (each case × 144 points × a few arrays) on a large network.
-BLOCK_AIRFIELDS = 100
+BLOCK_AIRFIELDS = 400
 
 
 def _destination_blocks(cases: pd.DataFrame, size: int | None):
