@@ -285,7 +285,7 @@ def wind_rose_points(direction_deg, sector_width_deg, speed_low_mps, speed_high_
 
 
 def runway_usability(wind_from_true_deg, wind_speed_mps, runway_heading_true_deg,
-                     tailwind_limit_mps, crosswind_limit_mps):
+                     tailwind_limit_mps, crosswind_limit_mps, rows=None):
     """Runway components of wind points, their factored headwind and usability.
 
     Parameters
@@ -298,6 +298,11 @@ def runway_usability(wind_from_true_deg, wind_speed_mps, runway_heading_true_deg
         True heading of the takeoff direction. [deg]
     tailwind_limit_mps, crosswind_limit_mps : array_like
         The aircraft type's limits on the reported components. [m/s]
+    rows : array_like of int, optional
+        Output row i takes the components of row ``rows[i]`` of the wind and heading arrays
+        (first axis); the limits are per output row. Cases that share a runway direction
+        and a month (e.g. several aircraft types) then share one evaluation of the
+        components. Default: the arrays broadcast as they are. [–]
 
     Returns
     -------
@@ -322,10 +327,15 @@ def runway_usability(wind_from_true_deg, wind_speed_mps, runway_heading_true_deg
     """
     head, cross = wind.runway_wind_components(wind_from_true_deg, wind_speed_mps,
                                               runway_heading_true_deg)
+    factored = wind.factored_headwind(head)
+    if rows is not None:
+        rows = np.asarray(rows)
+        head, cross, factored = (np.broadcast_to(a, np.broadcast_shapes(head.shape, cross.shape))[rows]
+                                 for a in (head, cross, factored))
     eps = 1e-9
     cross_exceeded = np.abs(cross) > np.asarray(crosswind_limit_mps, dtype=float) + eps
     tail_exceeded = -head > np.asarray(tailwind_limit_mps, dtype=float) + eps
-    return wind.factored_headwind(head), cross_exceeded, tail_exceeded
+    return factored, cross_exceeded, tail_exceeded
 
 
 def wind_coverage(weight, usable):

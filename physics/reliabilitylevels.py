@@ -101,17 +101,29 @@ def _crossing_score(seg, mass, slope=False):
         return (out, np.zeros(out.shape, dtype=np.float32)) if slope else out
     dz = np.diff(z, axis=-1)
     shape = np.broadcast_shapes(f.shape[:-1], np.shape(m), z.shape[:-1])
-    out = np.broadcast_to(z[..., 0], shape).copy()
+    # In place, in the order of the formula (the same float32 operations as written out):
+    # this is the inner loop of every level search.
+    out = np.empty(shape, dtype=np.float32)
+    out[...] = z[..., 0]
+    c = np.empty(shape, dtype=np.float32)
+    term = np.empty(shape, dtype=np.float32)
     d_out = np.zeros(shape, dtype=np.float32) if slope else None
+    inside = np.empty(shape, dtype=bool) if slope else None
     for k in range(g - 1):  # a fixed, small number of temperature segments
-        c = (f[..., k] - m) * inv[..., k]
+        np.subtract(f[..., k], m, out=c)
+        np.multiply(c, inv[..., k], out=c)
         lo = -np.inf if k == 0 else 0.0
         hi = np.inf if k == g - 2 else 1.0
-        out = out + dz[..., k] * np.clip(c, lo, hi)
+        np.clip(c, lo, hi, out=term)
+        np.multiply(dz[..., k], term, out=term)
+        np.add(out, term, out=out)
         if slope:
-            d_out = d_out - np.where((c > lo) & (c < hi), dz[..., k] * inv[..., k], 0.0)
+            np.greater(c, lo, out=inside)
+            np.logical_and(inside, c < hi, out=inside)
+            np.subtract(d_out, dz[..., k] * inv[..., k], out=d_out, where=inside)
     # Beyond ±_FAR_SCORE the extension is flat in effect (Phi is 0 or 1 to 1e-300).
-    out = np.where(out > _FAR_SCORE, np.inf, np.where(out < -_FAR_SCORE, -np.inf, out))
+    out[out > _FAR_SCORE] = np.inf
+    out[out < -_FAR_SCORE] = -np.inf
     return (out, d_out) if slope else out
 
 

@@ -439,6 +439,13 @@ def _family_ids(cases: pd.DataFrame, keys) -> tuple[np.ndarray, int]:
     return ids, int(ids.max()) + 1 if len(ids) else 0
 
 
+def _first_of(ids, n_ids):
+    """Index of the first row of each id (ids 0 … n_ids − 1, each present)."""
+    first = np.zeros(n_ids, dtype=np.int64)
+    first[ids[::-1]] = np.arange(ids.size)[::-1]
+    return first
+
+
 def _reduce(ids, n_ids, values, how):
     out = np.full(n_ids, np.inf if how is np.minimum else -np.inf)
     how.at(out, ids, values)
@@ -532,8 +539,12 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     c_pv = None if t_pv is None else t_pv[am_pos]
 
     # Wind points on every case's runway direction.
+    # (the components once per runway direction and month, shared by the aircraft types)
+    rm, n_rm = _family_ids(cases, ("airfield_id", "runway_id", "month"))
+    rm_first = _first_of(rm, n_rm)
     h_f, cross_ex, tail_ex = climatology.runway_usability(
-        p_dir[am_pos], p_speed[am_pos], heading[:, None], tail_limit[:, None], cross_limit[:, None])
+        p_dir[am_pos[rm_first]], p_speed[am_pos[rm_first]], heading[rm_first, None],
+        tail_limit[:, None], cross_limit[:, None], rows=rm)
     weight_case = p_weight[am_pos]
     usable = ~cross_ex & ~tail_ex & (weight_case > 0)
 

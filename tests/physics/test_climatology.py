@@ -103,6 +103,27 @@ def test_runway_components_reference_example():
     assert tx2 and h2 / KT_MPS == pytest.approx(-1.5 * 15.32, abs=0.01)
 
 
+
+def test_runway_usability_shared_rows_per_type_limits():
+    # The same hand figures (20 kt from 180° on heading 140°: 15.32 kt headwind, 12.86 kt
+    # crosswind, resolution of a vector, common practice) with the components evaluated once
+    # per runway direction and handed to three cases (``rows``), each with its own limits;
+    # the reverse direction (320°) handed to a fourth. Identical to evaluating every row.
+    rows = np.array([0, 0, 0, 1])
+    h, cx, tx = climatology.runway_usability(
+        np.array([[180.0], [180.0]]), np.array([[20.0], [20.0]]) * KT_MPS, np.array([[140.0], [320.0]]),
+        np.array([[10.0], [10.0], [16.0], [16.0]]) * KT_MPS, np.array([[13.0], [12.0], [13.0], [13.0]]) * KT_MPS,
+        rows=rows)
+    assert h[:3, 0] / KT_MPS == pytest.approx([0.5 * 15.32] * 3, abs=0.01)
+    assert h[3, 0] / KT_MPS == pytest.approx(-1.5 * 15.32, abs=0.01)
+    assert cx[:, 0].tolist() == [False, True, False, False]
+    assert tx[:, 0].tolist() == [False, False, False, False]  # 15.32 kt tailwind within 16 kt
+    full = climatology.runway_usability(
+        np.full((4, 1), 180.0), np.full((4, 1), 20.0 * KT_MPS), np.array([[140.0]] * 3 + [[320.0]]),
+        np.array([[10.0], [10.0], [16.0], [16.0]]) * KT_MPS, np.array([[13.0], [12.0], [13.0], [13.0]]) * KT_MPS)
+    for a, b in zip((h, cx, tx), full):
+        np.testing.assert_array_equal(a, b)
+
 def _cell_coverage_exact(c, w, lo, hi, heading, limit):
     """Share of a cell (uniform in direction and speed) with |V sin(θ − ψ)| ≤ limit."""
     def usable_speed_share(theta_deg):
