@@ -323,6 +323,164 @@ def write_frame(frame: pd.DataFrame, path: Path) -> None:
     _write_parquet_parts(path, parts())
 
 
+AIRFIELD_KEY = "airfield_id"
+"""The column by which input tables are cut into chunks."""
+
+
+def chunk_cuts(plan: ChunkPlan) -> tuple[tuple[str, str], ...]:
+    """Where the row groups of an airfield-keyed table file are cut, in airfield-id order:
+    before each chunk's first airfield (``"left"``) and after its last (``"right"``)."""
+    cuts = []
+    for block in plan.airfield_blocks:
+        if block:
+            cuts += [(str(block[0]), "left"), (str(block[-1]), "right")]
+    return tuple(cuts)
+
+
+def is_text(arrow_type: pa.DataType) -> bool:
+    """Whether an Arrow type is text (``string`` or ``large_string``)."""
+    return pa.types.is_string(arrow_type) or pa.types.is_large_string(arrow_type)
+
+
+class _Texts:
+    """An Arrow text array as a sequence for :mod:`bisect` (one element converted per look)."""
+
+    def __init__(self, values: pa.Array):
+        self.values = values
+
+    def __len__(self) -> int:
+        return len(self.values)
+
+    def __getitem__(self, i: int) -> str:
+        return self.values[i].as_py()
+
+
+def _sorted_by_key(values: pa.Array, previous: str | None) -> bool:
+    """Whether ``values`` (no nulls) never fall, and do not fall below ``previous``."""
+    import pyarrow.compute as pc
+
+    if len(values) == 0:
+        return True
+    if previous is not None and values[0].as_py() < previous:
+        return False
+    return len(values) < 2 or pc.all(pc.greater_equal(values[1:], values[:-1])).as_py()
+
+
+class _Unsorted(Exception):
+    """The rows handed to :func:`_aligned_groups` are not in airfield-id order."""
+
+
+def _aligned_groups(tables, cuts: tuple[tuple[str, str], ...], max_rows: int):
+    """Row groups of rows sorted by airfield id: cut at ``cuts`` (:func:`chunk_cuts`) and after
+    ``max_rows`` rows; ``tables`` gives the rows in order as Arrow tables. Yields
+    ``(table, row count)`` for :func:`_write_parquet_parts`; raises :class:`_Unsorted`."""
+    from bisect import bisect_left, bisect_right
+
+    pending, n_pending, k, last = [], 0, 0, None
+
+    def group(rows: int):
+        nonlocal pending, n_pending
+        whole = pa.concat_tables(pending) if len(pending) > 1 else pending[0]
+        pending = [whole.slice(rows)] if rows < whole.num_rows else []
+        n_pending -= rows
+        return whole.slice(0, rows), rows
+
+    for table in tables:
+        n = table.num_rows
+        if n == 0:
+            continue
+        ids = table.column(AIRFIELD_KEY).combine_chunks()
+        if not is_text(ids.type) or ids.null_count or not _sorted_by_key(ids, last):
+            raise _Unsorted
+        last = ids[n - 1].as_py()
+        texts, start = _Texts(ids), 0
+        while start < n:
+            stop = n
+            if k < len(cuts):
+                value, side = cuts[k]
+                pos = (bisect_left if side == "left" else bisect_right)(texts, value, lo=start)
+                if pos < n:
+                    stop, k = pos, k + 1
+            if stop > start:
+                pending.append(table.slice(start, stop - start))
+                n_pending += stop - start
+            while n_pending >= max_rows:
+                yield group(max_rows)
+            if stop < n and n_pending:
+                yield group(n_pending)
+            start = stop
+    if n_pending:
+        yield group(n_pending)
+
+
+def write_chunk_aligned(frame: pd.DataFrame, path: Path, plan: ChunkPlan) -> None:
+    """Write an input table (Parquet, atomic) sorted by airfield id, with its row groups cut
+    where the chunks of ``plan`` begin and end (:func:`chunk_cuts`), so a chunk reads only
+    its own rows (:func:`pipeline.chunks.read_chunk_table`).
+
+    The sort is stable: each airfield keeps its rows in the table's order. A table without
+    ``airfield_id``, or without rows, is written as it is (:func:`write_frame`).
+    """
+    if AIRFIELD_KEY not in frame.columns or len(frame) == 0 or frame[AIRFIELD_KEY].isna().any():
+        write_frame(frame, path)
+        return
+    if not frame[AIRFIELD_KEY].astype(str).is_monotonic_increasing:
+        frame = frame.sort_values(AIRFIELD_KEY, kind="stable", key=lambda s: s.astype(str))
+
+    def tables():
+        schema = None
+        for start in range(0, len(frame), WRITE_SLICE_ROWS):
+            table = pa.Table.from_pandas(frame.iloc[start:start + WRITE_SLICE_ROWS], preserve_index=False,
+                                         schema=schema)
+            schema = table.schema
+            yield table
+
+    try:
+        _write_parquet_parts(path, _aligned_groups(tables(), chunk_cuts(plan), WRITE_SLICE_ROWS))
+    except _Unsorted:  # ids that are not text: written as they are
+        write_frame(frame, path)
+
+
+#: Rows read at a time when a table file is rewritten in chunk order.
+ALIGN_BATCH_ROWS = 1 << 16
+
+
+def align_table_file(path: Path, plan: ChunkPlan) -> bool:
+    """Rewrite an input table's Parquet file (the streamed wind rose) like
+    :func:`write_chunk_aligned`, in place (atomic); return whether it was rewritten.
+
+    A file already in airfield-id order is read and written ``ALIGN_BATCH_ROWS`` rows at a
+    time (memory of one row group); a file out of order is sorted whole (stable), as the
+    whole table is then read once for its hashes anyway (``pipeline.inputs``). A file
+    without ``airfield_id``, without rows or with a blank id is left as it is.
+    """
+    import pyarrow.compute as pc
+
+    path = Path(path)
+    with pq.ParquetFile(path) as source:
+        field = source.schema_arrow.field(AIRFIELD_KEY) if AIRFIELD_KEY in source.schema_arrow.names else None
+        if field is None or not is_text(field.type) or source.metadata.num_rows == 0:
+            return False
+        cuts = chunk_cuts(plan)
+
+        def batches():
+            for batch in source.iter_batches(batch_size=ALIGN_BATCH_ROWS, use_threads=False):
+                yield pa.Table.from_batches([batch])
+
+        try:
+            # written to a temporary name and renamed: the source stays readable meanwhile
+            _write_parquet_parts(path, _aligned_groups(batches(), cuts, WRITE_SLICE_ROWS))
+            return True
+        except _Unsorted:
+            pass
+        table = source.read(use_threads=False)
+    if table.column(AIRFIELD_KEY).null_count:
+        return False
+    table = table.take(pc.sort_indices(table, [(AIRFIELD_KEY, "ascending")]))  # a stable sort
+    _write_parquet_parts(path, _aligned_groups([table], cuts, WRITE_SLICE_ROWS))
+    return True
+
+
 def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str | os.PathLike,
                 temperature_offset_k: float, conditions: tuple[str, ...] = CONDITIONS,
                 skip: Skip = Skip()) -> Path:
@@ -334,7 +492,7 @@ def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str 
     work = Path(work_dir)
     (work / TABLES_DIR).mkdir(parents=True, exist_ok=True)
     for name, frame in tables.items():
-        write_frame(frame, work / TABLES_DIR / f"{name}.parquet")
+        write_chunk_aligned(frame, work / TABLES_DIR / f"{name}.parquet", plan)
     aircraft = tables["aircraft_types"].reset_index(drop=True)
     _atomic_write_table(pa.Table.from_pandas(aircraft, preserve_index=False), work / AIRCRAFT_FILE)
 

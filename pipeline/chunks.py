@@ -106,15 +106,68 @@ class ChunkContext:
 
 def read_chunk_table(work_dir: Path, name: str, airfield_ids: list[str]) -> pd.DataFrame | None:
     """Input table ``name`` (SI) of the run's work folder, only the rows of ``airfield_ids``
-    where it has an airfield_id; None when the run has no such table."""
+    where it has an airfield_id; None when the run has no such table.
+
+    Only the row groups whose airfield-id range (Parquet statistics) holds one of the ids are
+    read: the work folder's tables are sorted by airfield id and cut where the chunks begin
+    and end (:func:`pipeline.cases.write_chunk_aligned`), so a chunk reads its own rows. The
+    rows come in the file's order, as from a filtered read of the whole file.
+    """
     path = Path(work_dir) / case_io.TABLES_DIR / f"{name}.parquet"
     if not path.exists():
         return None
-    schema_names = pq.read_schema(path).names
+    metadata, lows, highs = _row_group_ranges(path)
     # an empty table has untyped (null) text columns, which a filter cannot be bound to
-    empty = pq.ParquetFile(path).metadata.num_rows == 0
-    filters = [("airfield_id", "in", airfield_ids)] if "airfield_id" in schema_names and not empty else None
-    return pq.read_table(path, filters=filters).to_pandas()
+    if lows is None or metadata.num_rows == 0:
+        return pq.read_table(path).to_pandas()
+    ids = sorted({str(a) for a in airfield_ids})
+    if lows is False:  # no statistics to choose row groups by: filter the whole file
+        return pq.read_table(path, filters=[(case_io.AIRFIELD_KEY, "in", ids)]).to_pandas()
+    from bisect import bisect_left, bisect_right
+
+    import pyarrow.compute as pc
+
+    groups = [g for g, (lo, hi) in enumerate(zip(lows, highs)) if bisect_left(ids, lo) < bisect_right(ids, hi)]
+    with pq.ParquetFile(path, metadata=metadata) as source:
+        table = source.read_row_groups(groups, use_threads=False)
+    column = table.column(case_io.AIRFIELD_KEY)
+    keep = pc.is_in(column, value_set=pa.array(ids, column.type))
+    if not pc.all(keep).as_py():
+        table = table.filter(keep)
+    return table.to_pandas()
+
+
+_RANGES: dict = {}  # path -> (file signature, metadata, lows, highs): read once per process
+_RANGES_KEPT = 32
+
+
+def _row_group_ranges(path: Path):
+    """The file's Parquet metadata and each row group's least and greatest airfield id;
+    the ranges are None when the table has no text ``airfield_id``, False when a row group
+    lacks statistics. Kept per process while the file is unchanged."""
+    st = path.stat()
+    signature = (st.st_ino, st.st_size, st.st_mtime_ns)
+    found = _RANGES.get(str(path))
+    if found is not None and found[0] == signature:
+        return found[1:]
+    metadata = pq.read_metadata(path)
+    schema = metadata.schema.to_arrow_schema()
+    lows = highs = None
+    if case_io.AIRFIELD_KEY in schema.names:
+        column = schema.get_field_index(case_io.AIRFIELD_KEY)
+        lows, highs = ([], []) if case_io.is_text(schema.field(column).type) else (False, False)
+    if isinstance(lows, list):
+        for g in range(metadata.num_row_groups):
+            stats = metadata.row_group(g).column(column).statistics
+            if stats is None or not stats.has_min_max:
+                lows = highs = False
+                break
+            lows.append(stats.min)
+            highs.append(stats.max)
+    if len(_RANGES) >= _RANGES_KEPT:
+        _RANGES.clear()
+    _RANGES[str(path)] = (signature, metadata, lows, highs)
+    return metadata, lows, highs
 
 
 def chunk_key(params: dict, chunk: int, run_id: int) -> str:

@@ -502,6 +502,8 @@ def build_cases(prepared: PreparedRun, run_id: int) -> Path:
                 spooled = inputs.spool / sub / f"{name}.parquet"
                 if spooled.exists():
                     os.replace(spooled, work / sub / f"{name}.parquet")
+            # the chunks' copy sorted by airfield and cut per chunk, as write_cases does
+            case_io.align_table_file(work / case_io.TABLES_DIR / f"{name}.parquet", prepared.plan)
         shutil.rmtree(inputs.spool, ignore_errors=True)
         inputs.spool = None
     big = [name for name, frame in inputs.user_tables.items() if frame is not None and len(frame) >= RELEASE_MIN_ROWS]
