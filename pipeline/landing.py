@@ -33,11 +33,14 @@ as the only destination limit, as before).
 from __future__ import annotations
 
 import dataclasses
+import os
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.parquet as pq
 
 from fieldlimits.physics import (atmosphere, climatology, constants, landing, limits, reliabilitylevels,
                                   solvinggrid)
@@ -240,8 +243,10 @@ def _lost_name(codes: np.ndarray) -> np.ndarray:
     return out
 
 
-#: Destinations solved together for the landing reliability levels: bounds the memory of
-#: the wind points (each case × 144 points × a few arrays) on a large network.
+#: Destination airfields per block of the landing step: a block's landing cases (design
+#: day and reliability levels: each case × 144 wind points × a few arrays) are built, solved
+#: and written together, so memory is bounded by the block, and blocks are the jobs of the
+#: worker processes (:func:`write_landing_parts`).
 BLOCK_AIRFIELDS = 400
 
 
@@ -331,10 +336,18 @@ def _reliability_checked(cases, aircraft_table, climate, wind_rose, levels, rule
     scores = np.asarray(solvinggrid.DEFAULT_SCORE_NODES, dtype=float)
     n_g, n_h = scores.size, h_nodes.shape[1]
 
+    # Each airfield-month on its own distribution: the normal one unless it gives a
+    # percentile (not the piecewise one for all as soon as one destination of the block gives
+    # percentiles: the same in exact arithmetic but not to the bit), so a row does not
+    # depend on the other destinations solved with it.
+    given = None if t_pv is None else np.isfinite(t_pv).any(axis=-1)
+
     def temperature(case, score):
         a = am_pos[case]
-        pv = None if t_pv is None else t_pv[a]
-        return climatology.daily_max_temperature_k(score, t_mean[a], t_sd[a], pv)
+        normal = climatology.daily_max_temperature_k(score, t_mean[a], t_sd[a])
+        if given is None:
+            return normal
+        return np.where(given[a], climatology.daily_max_temperature_k(score, t_mean[a], t_sd[a], t_pv[a]), normal)
 
     t_nodes = temperature(np.arange(n)[:, None], scores[None, :])  # (n, G)
     # the grid: every direction × node, one vectorised solve (mass only), (n, G·H)
@@ -420,7 +433,7 @@ def _reliability_checked(cases, aircraft_table, climate, wind_rose, levels, rule
 
 
 # ------------------------------------------------------------------------------------------
-# the run
+# the run: blocks of destinations, each written to Parquet parts as it is solved
 
 
 @dataclass
@@ -436,9 +449,37 @@ def empty_frame(with_run_id: bool = True) -> pd.DataFrame:
     return pd.DataFrame({c: pd.Series(dtype=object) for c in cols})
 
 
+def _run_settings(params):
+    p = dict(params or {})
+    levels = tuple(float(x) for x in (p.get("reliability_levels") or ()))
+    return (p, LandingRule.from_params(p), float(p.get("temperature_offset_k", 0.0) or 0.0),
+            tuple(p.get("conditions") or result_tables.CONDITIONS), levels,
+            tuple(p.get("reliability_conditions") or ("dry",)))
+
+
+def _block_frames(tables, pairs: pd.DataFrame, params, wind_rose, run_id=None):
+    """(direction rows, design-day airfield rows, reliability airfield rows or None) of some
+    destinations: their landing cases built, solved and turned into rows together."""
+    _, rule, offset, conditions, levels, rel_conditions = _run_settings(params)
+    cases = landing_cases(tables, pairs, offset, conditions)
+    aircraft_table = tables["aircraft_types"].reset_index(drop=True)
+    direction, airfield = design_day_frames(cases, aircraft_table, rule, run_id)
+    rel = None
+    if levels:
+        if wind_rose is None and cases["lda_m"].notna().any():
+            raise ValueError("the wind rose is needed for the landing reliability levels")
+        rel = reliability_frame(cases, aircraft_table, tables["climate_monthly"], wind_rose, levels=levels,
+                                conditions=rel_conditions, rule=rule, temperature_offset_k=offset, run_id=run_id,
+                                block_airfields=None)
+        rel = rel[airfield.columns] if rel is not None and len(rel) else None
+    return direction, airfield, rel
+
+
 def landing_frames(tables, params=None, run_id=None, wind_rose: pd.DataFrame | None = None,
                    routes: pd.DataFrame | None = None) -> LandingFrames:
-    """Landing rows for every route destination × type of a run.
+    """Landing rows for every route destination × type of a run, all in one block and held
+    in memory (tests, small networks; a run writes them block by block with
+    :func:`write_landing_parts`: the same rows).
 
     Parameters
     ----------
@@ -452,37 +493,194 @@ def landing_frames(tables, params=None, run_id=None, wind_rose: pd.DataFrame | N
     run_id : int, optional
         Written into the rows (left out when None).
     wind_rose : DataFrame or callable, optional
-        The wind rose when ``tables`` no longer holds it (a large run releases it), or a
-        function of airfield ids returning their wind-rose rows (read block by block).
+        The wind rose when ``tables`` no longer holds it, or a function of airfield ids
+        returning their wind-rose rows.
     routes : DataFrame, optional
         Routes (default ``tables["routes"]``).
     """
-    p = dict(params or {})
     routes = tables["routes"] if routes is None else routes
     pairs = destination_pairs(routes)
     if len(pairs) == 0:
         return LandingFrames(empty_frame(run_id is not None), empty_frame(run_id is not None))
-    rule = LandingRule.from_params(p)
-    offset = float(p.get("temperature_offset_k", 0.0) or 0.0)
-    conditions = tuple(p.get("conditions") or result_tables.CONDITIONS)
-    cases = landing_cases(tables, pairs, offset, conditions)
-    aircraft_table = tables["aircraft_types"].reset_index(drop=True)
-    direction, airfield = design_day_frames(cases, aircraft_table, rule, run_id)
-    levels = tuple(float(x) for x in (p.get("reliability_levels") or ()))
-    rel_conditions = tuple(p.get("reliability_conditions") or ("dry",))
-    if levels:
-        rose = tables.get("wind_rose") if wind_rose is None else wind_rose
-        if rose is None and cases["lda_m"].notna().any():
-            raise ValueError("the wind rose is needed for the landing reliability levels")
-        rel = reliability_frame(cases, aircraft_table, tables["climate_monthly"], rose, levels=levels,
-                                conditions=rel_conditions, rule=rule, temperature_offset_k=offset, run_id=run_id)
-        if rel is not None and len(rel):
-            airfield = pd.concat([airfield, rel[airfield.columns]], ignore_index=True)
+    rose = tables.get("wind_rose") if wind_rose is None else wind_rose
+    if callable(rose):
+        rose = rose(pairs["airfield_id"].unique())
+    direction, airfield, rel = _block_frames(tables, pairs, params, rose, run_id)
+    if rel is not None:
+        airfield = pd.concat([airfield, rel], ignore_index=True)
     return LandingFrames(direction, airfield)
 
 
 def read_wind_rose(path: Path, airfield_ids) -> pd.DataFrame:
-    """The wind rose of some airfields from a run's Parquet copy (``<work>/tables``)."""
-    import pyarrow.parquet as pq
+    """The wind rose of some airfields from a run's Parquet copy (``<work>/tables``). The
+    range of the ids is part of the filter, so a file in airfield order is read only in the
+    row groups that can hold them (their statistics), not scanned whole for every block."""
+    ids = sorted(set(map(str, airfield_ids)))
+    if not ids:
+        ids = [""]
+    return pq.read_table(path, filters=[("airfield_id", ">=", ids[0]), ("airfield_id", "<=", ids[-1]),
+                                        ("airfield_id", "in", ids)]).to_pandas()
 
-    return pq.read_table(path, filters=[("airfield_id", "in", sorted(set(map(str, airfield_ids))))]).to_pandas()
+
+#: Part folders of the landing rows in the run's work folder (read by the route step and
+#: scanned by the load). Airfield parts: ``design-NNNNN`` then ``reliability-NNNNN``, so the
+#: files in name order give the rows in the order of :func:`landing_frames`.
+DIRECTION_PARTS, AIRFIELD_PARTS = "landing_direction", "landing_airfield"
+#: The block tables a worker gets (the rows of its destinations; aircraft types whole).
+BLOCK_TABLES = ("runways", "airfields", "climate_monthly")
+
+_ARROW_TYPES = {"BIGINT": pa.int64(), "VARCHAR": pa.string(), "TINYINT": pa.int8(), "DOUBLE": pa.float64()}
+PART_SCHEMA = pa.schema([pa.field(c.name, _ARROW_TYPES[c.sql_type]) for c in result_tables.LANDING_COMMON
+                         if c.name != "run_id"])
+"""Arrow schema of every landing part (the stored columns but ``run_id``, set by the load)."""
+
+
+@dataclass(frozen=True)
+class LandingParts:
+    """The landing part files of a run, in row order (see :data:`AIRFIELD_PARTS`)."""
+
+    direction: tuple[str, ...]
+    airfield: tuple[str, ...]
+    rows_direction: int = 0
+    rows_airfield: int = 0
+
+
+@dataclass(frozen=True)
+class BlockJob:
+    """One block of destinations: all a worker process needs to write the block's parts."""
+
+    number: int
+    tables: dict  # BLOCK_TABLES rows of the block's airfields, and aircraft_types
+    pairs: pd.DataFrame  # (airfield_id, aircraft_type_id) of the block
+    wind_rose: object  # the block's rows, the path of the run's Parquet copy, or None
+    params: dict
+    folder: str  # the work folder
+
+
+def _write_part(frame: pd.DataFrame, path: Path) -> int:
+    """One part file with :data:`PART_SCHEMA`, written under a temporary name and renamed."""
+    table = pa.Table.from_pandas(frame[list(PART_SCHEMA.names)], schema=PART_SCHEMA, preserve_index=False)
+    tmp = path.with_name(f".{path.name}.tmp")
+    pq.write_table(table, tmp)
+    os.replace(tmp, path)
+    return table.num_rows
+
+
+def write_block(job: BlockJob) -> tuple[str, ...]:
+    """Solve one block of destinations and write its parts; return their paths (direction,
+    design-day airfield, reliability airfield when there are levels)."""
+    rose = job.wind_rose
+    if isinstance(rose, (str, os.PathLike)):
+        rose = read_wind_rose(Path(rose), job.pairs["airfield_id"].unique())
+    direction, airfield, rel = _block_frames(job.tables, job.pairs, job.params, rose)
+    del rose
+    folder = Path(job.folder)
+    paths = [folder / DIRECTION_PARTS / f"part-{job.number:05d}.parquet",
+             folder / AIRFIELD_PARTS / f"design-{job.number:05d}.parquet"]
+    _write_part(direction, paths[0])
+    _write_part(airfield, paths[1])
+    if rel is not None:
+        paths.append(folder / AIRFIELD_PARTS / f"reliability-{job.number:05d}.parquet")
+        _write_part(rel, paths[2])
+    return tuple(map(str, paths))
+
+
+def destination_blocks(pairs: pd.DataFrame, size: int | None) -> list[np.ndarray]:
+    """The destination airfield ids in blocks of at most ``size`` (None: one block), sorted."""
+    ids = np.sort(pairs["airfield_id"].unique())
+    if size is None or ids.size <= size:
+        return [ids] if ids.size else []
+    return [ids[start:start + size] for start in range(0, ids.size, size)]
+
+
+def _rows_by_block(frame: pd.DataFrame, blocks: list[np.ndarray]) -> list[np.ndarray]:
+    """Row positions of ``frame`` per block of airfield ids (each in the frame's order)."""
+    number = pd.Series(np.repeat(np.arange(len(blocks)), [b.size for b in blocks]),
+                       index=np.concatenate(blocks) if blocks else np.array([], dtype=object))
+    of = number.reindex(frame["airfield_id"].astype(str).to_numpy()).to_numpy(float)
+    have = np.flatnonzero(~np.isnan(of))
+    order = have[np.argsort(of[have], kind="stable")]
+    bounds = np.searchsorted(of[order], np.arange(len(blocks) + 1) - 0.5)
+    return [order[a:b] for a, b in zip(bounds[:-1], bounds[1:])]
+
+
+def _block_jobs(tables, pairs, blocks, params, wind_rose, folder):
+    """The jobs of the blocks, made one at a time (each holds only its block's rows)."""
+    rows = {name: _rows_by_block(tables[name], blocks) for name in BLOCK_TABLES}
+    pair_rows = _rows_by_block(pairs, blocks)
+    rose_rows = _rows_by_block(wind_rose, blocks) if isinstance(wind_rose, pd.DataFrame) else None
+    for n in range(len(blocks)):
+        sub = {name: tables[name].iloc[rows[name][n]] for name in BLOCK_TABLES}
+        sub["aircraft_types"] = tables["aircraft_types"]
+        rose = wind_rose.iloc[rose_rows[n]] if rose_rows is not None else wind_rose
+        yield BlockJob(n, sub, pairs.iloc[pair_rows[n]].reset_index(drop=True), rose, params, str(folder))
+
+
+def write_landing_parts(tables, params, folder, *, wind_rose=None, block_airfields: int | None = BLOCK_AIRFIELDS,
+                        executor=None, routes: pd.DataFrame | None = None) -> LandingParts:
+    """Landing rows for every route destination × type of a run, written block by block to
+    the part folders of ``folder`` (:data:`DIRECTION_PARTS`, :data:`AIRFIELD_PARTS`); the
+    rows are those of :func:`landing_frames` to the bit, in the same order.
+
+    Parameters
+    ----------
+    tables : mapping
+        SI input tables, as for :func:`landing_frames`.
+    params : mapping
+        Run parameters.
+    folder : path
+        The run's work folder; its part folders are emptied first (a retried step).
+    wind_rose : DataFrame or path, optional
+        The wind rose (default ``tables["wind_rose"]``), or the path of its Parquet copy,
+        read by each block for its own airfields.
+    block_airfields : int or None
+        Destination airfields per block (None: one block).
+    executor : concurrent.futures.Executor, optional
+        Runs the blocks (a process pool: each worker solves and writes whole blocks); None:
+        one after the other in this process. At most two blocks per worker are handed on at
+        a time.
+    routes : DataFrame, optional
+        Routes (default ``tables["routes"]``).
+    """
+    import shutil
+
+    folder = Path(folder)
+    for sub in (DIRECTION_PARTS, AIRFIELD_PARTS):
+        shutil.rmtree(folder / sub, ignore_errors=True)
+        (folder / sub).mkdir(parents=True)
+    routes = tables["routes"] if routes is None else routes
+    pairs = destination_pairs(routes)
+    rose = tables.get("wind_rose") if wind_rose is None else wind_rose
+    blocks = destination_blocks(pairs, block_airfields)
+    jobs = _block_jobs(tables, pairs, blocks, dict(params or {}), rose, folder)
+    written: list[tuple[str, ...]] = []
+    if executor is None:
+        written = [write_block(job) for job in jobs]
+    else:
+        from collections import deque
+
+        window = 2 * max(1, int(getattr(executor, "_max_workers", 1) or 1))
+        pending: deque = deque()
+        for job in jobs:
+            pending.append(executor.submit(write_block, job))
+            if len(pending) >= window:
+                written.append(pending.popleft().result())
+        written.extend(f.result() for f in pending)
+    direction = tuple(w[0] for w in written)
+    airfield = tuple(sorted(p for w in written for p in w[1:]))
+    count = lambda files: sum(pq.ParquetFile(f).metadata.num_rows for f in files)  # noqa: E731
+    return LandingParts(direction, airfield, count(direction), count(airfield))
+
+
+#: The landing airfield columns the route step reads (:func:`pipeline.routes.route_payload_frame`).
+ROUTE_COLUMNS = ("airfield_id", "runway_id", "aircraft_type_id", "month", "condition", "basis", "reliability",
+                 "landing_limit_kg", "limiting_factor")
+
+
+def route_rows(parts: LandingParts) -> pd.DataFrame:
+    """The destination rows the route step needs, read from the airfield parts."""
+    if not parts.airfield:
+        return empty_frame(False)[list(ROUTE_COLUMNS)]
+    import pyarrow.dataset as ds
+
+    return ds.dataset(list(parts.airfield), format="parquet").to_table(columns=list(ROUTE_COLUMNS)).to_pandas()

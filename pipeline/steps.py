@@ -19,7 +19,6 @@ A run, step by step::
 from __future__ import annotations
 
 import dataclasses
-import functools
 import hashlib
 import importlib
 import json
@@ -636,7 +635,10 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
         return None
     airfield = _route_airfield_rows(tables["routes"], [Path(best_path)] + sorted(
         (Path(work) / chunks.PARTS_DIR).glob("*.airfield.parquet")))
-    frame = func(tables, airfield, prepared.params.as_dict(), landing=landing_rows(prepared, work))
+    from fieldlimits.pipeline import landing
+
+    frame = func(tables, airfield, prepared.params.as_dict(),
+                 landing=landing.route_rows(landing_rows(prepared, work)))
     if frame is None:
         return None
     out = Path(work) / ROUTE_FILE
@@ -646,31 +648,47 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
     return out
 
 
-LANDING_FILES = ("landing_direction.parquet", "landing_airfield.parquet")
+#: Landing runs with at least this many blocks of destinations solve them in worker processes.
+LANDING_PROCESS_MIN_BLOCKS = 2
 
 
-def landing_rows(prepared: PreparedRun, work: Path) -> pd.DataFrame:
-    """Landing-mass limits of the route destinations (:mod:`pipeline.landing`) written to
-    ``<work>/landing_*.parquet``; returns the airfield rows for the route payloads."""
+def _landing_pool(n_blocks: int):
+    """A process pool for the landing blocks (spawn, as the chunks' pool) when there are
+    enough blocks and cores for one, else None. The caller shuts it down after the step."""
+    size = min(chunks._pool_size(), n_blocks)
+    if n_blocks < LANDING_PROCESS_MIN_BLOCKS or size < 2 or chunks._in_worker_process():
+        return None
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    return ProcessPoolExecutor(max_workers=size, mp_context=multiprocessing.get_context("spawn"))
+
+
+def landing_rows(prepared: PreparedRun, work: Path):
+    """Landing-mass limits of the route destinations (:mod:`pipeline.landing`), solved and
+    written block by block to ``<work>/landing_direction/`` and ``<work>/landing_airfield/``
+    (worker processes on a large run); returns the part files (``landing.LandingParts``): the
+    route step reads the destination rows from them, the load scans them."""
     from fieldlimits.pipeline import landing
 
     tables = prepared.inputs.tables
     rose = tables.get("wind_rose")
     if rose is None and prepared.params.reliability_levels:  # released: its Parquet copy,
-        path = Path(work) / case_io.TABLES_DIR / "wind_rose.parquet"  # read block by block
-        rose = functools.partial(landing.read_wind_rose, path)
-    frames = landing.landing_frames(tables, prepared.params.as_dict(), wind_rose=rose)
-    for frame, name in zip((frames.direction, frames.airfield), LANDING_FILES):
-        out = Path(work) / name
-        tmp = out.with_name(f".{out.name}.tmp")
-        frame.to_parquet(tmp, index=False)
-        os.replace(tmp, out)
-    return frames.airfield
+        rose = str(Path(work) / case_io.TABLES_DIR / "wind_rose.parquet")  # read block by block
+    blocks = landing.destination_blocks(landing.destination_pairs(tables["routes"]), landing.BLOCK_AIRFIELDS)
+    pool = _landing_pool(len(blocks))
+    try:
+        return landing.write_landing_parts(tables, prepared.params.as_dict(), work, wind_rose=rose,
+                                           block_airfields=landing.BLOCK_AIRFIELDS, executor=pool)
+    finally:
+        if pool is not None:  # its memory is free for the load
+            pool.shutdown(wait=True, cancel_futures=True)
 
 
-def _landing_frame(prepared: PreparedRun, run_id: int, name: str) -> pd.DataFrame | None:
-    path = work_dir(prepared, run_id) / name
-    return pd.read_parquet(path) if path.exists() else None
+def _landing_parts(prepared: PreparedRun, run_id: int, folder: str) -> list[str] | None:
+    """The landing part files of a run in row order (None: the landing step did not run)."""
+    path = work_dir(prepared, run_id) / folder
+    return [str(p) for p in sorted(path.glob("*.parquet"))] if path.is_dir() else None
 
 
 def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], best_path: Path,
@@ -687,8 +705,8 @@ def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], bes
         airfield_parts=[str(best_path)] + [r.airfield_path for r in results if r.airfield_path],
         inputs=inputs,
         route_payload=str(route_path) if route_path else None,  # scanned by the store
-        landing_direction=_landing_frame(prepared, run_id, LANDING_FILES[0]),
-        landing_airfield=_landing_frame(prepared, run_id, LANDING_FILES[1]),
+        landing_direction=_landing_parts(prepared, run_id, "landing_direction"),  # scanned by the store
+        landing_airfield=_landing_parts(prepared, run_id, "landing_airfield"),
         hashes=prepared.hashes,
         reused_sources=reused,
         reused_cases=prepared.reused_cases,

@@ -629,8 +629,9 @@ class LoadSpec:
     airfield_parts: Sequence[str] = ()
     inputs: Sequence[InputTable] = ()
     route_payload: pd.DataFrame | str | None = None  # a frame, or its Parquet file (streamed in)
-    landing_direction: pd.DataFrame | None = None  # landing limits of the route destinations
-    landing_airfield: pd.DataFrame | None = None
+    # landing limits of the route destinations: frames, or their Parquet part files (scanned)
+    landing_direction: pd.DataFrame | Sequence[str] | None = None
+    landing_airfield: pd.DataFrame | Sequence[str] | None = None
     hashes: pd.DataFrame | None = None  # columns kind, key, sha256 (run_hashes)
     reused_sources: str | None = None  # Parquet: airfield_id, aircraft_type_id, source_run_id
     reused_cases: int = 0  # design-day direction rows the reused pairs must hold
@@ -750,10 +751,15 @@ def _load_results_airfield(con, spec: LoadSpec) -> None:
 
 def _load_landing(con, spec: LoadSpec) -> None:
     """The landing-mass limits of the route destinations (``landing_direction``,
-    ``landing_airfield``; :mod:`pipeline.landing`)."""
+    ``landing_airfield``; :mod:`pipeline.landing`): frames, or the landing step's Parquet part
+    files, which DuckDB scans rather than holding them in memory."""
     for table, frame in (("landing_direction", spec.landing_direction),
                          ("landing_airfield", spec.landing_airfield)):
         if frame is None or not len(frame):
+            continue
+        if not isinstance(frame, pd.DataFrame):
+            _append_parquet(con, result_tables.stored_name(table), [str(f) for f in frame], spec.run_id,
+                            sql(f"create_{table}"))
             continue
         frame = frame.copy()
         if "run_id" in frame.columns:
@@ -788,8 +794,9 @@ def _load_route_payload(con, spec: LoadSpec) -> int:
     return rows
 
 
-def _append_parquet(con, table: str, path: str, run_id: int, create_sql: str | None) -> int:
-    """Insert a Parquet file's rows by column name with ``run_id`` set; return the rows."""
+def _append_parquet(con, table: str, path: str | Sequence[str], run_id: int, create_sql: str | None) -> int:
+    """Insert the rows of a Parquet file (or of several, in order) by column name with
+    ``run_id`` set; return the rows."""
     import pyarrow.dataset as ds
 
     _check_ident(table)
