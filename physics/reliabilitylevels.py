@@ -322,6 +322,10 @@ class ReliabilityLevels:
     estimate_kg : numpy.ndarray, optional
         Second-order estimate of the exact level (the false-position point of the search's
         final bracket; the level itself where there was no search), ``(N, L)``. [kg]
+    score_slope_kg : numpy.ndarray, optional
+        dm/dz of the binding day's wind point on the surface at the binding score (< 0),
+        NaN where the mass does not fall with temperature there, ``(N, L)``: the first
+        step where a direct solve of the binding day misses the level. [kg]
     """
 
     mass_kg: np.ndarray
@@ -331,6 +335,7 @@ class ReliabilityLevels:
     share_days: np.ndarray
     possible_share: np.ndarray
     estimate_kg: np.ndarray | None = None
+    score_slope_kg: np.ndarray | None = None
 
 
 def _prepare(point_mass_kg):
@@ -650,6 +655,13 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     point = np.where(has_dens, np.argmax(dens, axis=-1), np.argmin(slack, axis=-1))
     zb = np.take_along_axis(zj, point[..., None], axis=-1)[..., 0]
     score = np.where(has_dens & np.isfinite(zb), zb, z_grp[np.arange(n_groups), mid_node][:, None])
+    # The surface's slope dm/dz there (1 / dz*/dM on the binding point's segment).
+    f_s, z_s, inv_s = seg
+    rows = np.arange(n_groups)[:, None]
+    _, dz_dm = _crossing_score((f_s[rows, point], z_s if z_s.ndim == 1 else z_s[:, None, :],
+                                inv_s[rows, point]), m_eval, slope=True)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        score_slope = np.where((dz_dm < 0) & has_dens & np.isfinite(zb), 1.0 / dz_dm.astype(float), np.nan)
 
     # Why days are lost, for levels that are not possible.
     lost = np.full((n_groups, n_pts), -1) if lost_reason is None else np.asarray(lost_reason)
@@ -662,7 +674,7 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     reason_l = np.where(np.isnan(mass), reason[:, None], -1).astype(np.int64)
     return ReliabilityLevels(mass_kg=mass, reason=reason_l, point=point, score=score,
                              share_days=share_target, possible_share=s_oew,
-                             estimate_kg=np.where(search, polished, level))
+                             estimate_kg=np.where(search, polished, level), score_slope_kg=score_slope)
 
 
 # ----------------------------------------------------------------------------------------

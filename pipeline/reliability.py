@@ -58,7 +58,12 @@ chunk's cases (complete airfields, see :mod:`pipeline.cases`):
    on its wind point, :func:`physics.reliabilitylevels.binding_score`) is solved directly (all in
    one call), with at most ``binding_iterations`` secant steps where that solve misses the
    corrected mass by more than ``binding_tol_kg``, so a row's mass, limiting factor,
-   distances and speeds are those of one consistent solve.
+   distances and speeds are those of one consistent solve. A level that was not refined has
+   no sampled day to step from: its binding day gets the secant steps only where its solve
+   misses the level by more than the accuracy bound, starting from the surface's slope
+   there (a level on a plateau — e.g. the climb limit below the flat-rating corner, the
+   same mass on every cooler day — has its binding day where the mass starts to fall,
+   and a direct solve there missed the level by up to 2 % before).
 
 Cost (2-core machine, one chunk of the 2 000-airfield synthetic network, 13 824 dry cases,
 16 128 level rows): 5.3 grid solves per dry case (6.7 when every headwind node was solved),
@@ -775,6 +780,14 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         floor_o = oew[c_o]
         z_cur, m_cur = z_o.copy(), np.where(np.isfinite(sol["tow_limit_kg"]), sol["tow_limit_kg"], floor_o)
         z_prev, m_prev, slope = (start["score"][ok], start["mass_kg"][ok], start["slope_kg"][ok])
+        # A binding day not stepped from a sampled day whose solve misses the level by more
+        # than the accuracy bound sits where the surface is not accurate (typically a level
+        # on a plateau, e.g. the climb limit below the flat-rating corner, whose binding day
+        # lies where the mass starts to fall): its secant starts from the surface's slope.
+        if res.score_slope_kg is not None:
+            bound = np.maximum(settings.refine_bound_share * target, settings.refine_bound_kg)
+            far = ~np.isfinite(slope) & (np.abs(m_cur - target) > bound)
+            slope = np.where(far, res.score_slope_kg[ok], slope)
         for _ in range(settings.binding_iterations):  # a fixed, small number of secant steps
             idx = np.nonzero((np.abs(m_cur - target) > settings.binding_tol_kg) & np.isfinite(slope))[0]
             if idx.size == 0:

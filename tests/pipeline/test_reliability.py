@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import dataclasses
 
+from pathlib import Path
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -255,6 +257,41 @@ def test_interpolation_error_bound_against_direct_solves(demo_tables):
     assert details["solves"]["refine"] <= samples * (len(LEVELS) + 1) * n_grp
     assert details["solves"]["binding"] <= (1 + BOTH.binding_iterations) * both.sum()
 
+
+
+def test_level_on_a_climb_plateau_binding_day_meets_the_level():
+    # An airfield of the synthetic network (tests/pipeline/data/climb_plateau_airfield:
+    # invented, from the network generator) where the narrow-body's July and August levels
+    # are all set by the climb limit below the thrust flat-rating corner: the mass is the
+    # same on every day up to the corner, so each level's binding day sits where the mass
+    # starts to fall. The binding day's direct solve missed the level there by 1.4 t (the
+    # rows said 71 636 kg against 73 070 kg from direct solves of every day, 2 %): now a
+    # binding day that misses the level by more than the accuracy bound is stepped along its
+    # wind point from the surface's slope. Reference: the same levels from direct solves of
+    # every wind point at 41 temperatures (no interpolation); bound 0.2 % or 50 kg.
+    from fieldlimits.schemas.load import load_folder
+
+    tables = dict(load_folder(Path(__file__).parent / "data" / "climb_plateau_airfield"))
+    cases = case_io.block_cases(tables, ["syn-001360"], 0.0)
+    cases = cases[cases["condition"] == "dry"].reset_index(drop=True)
+    details = {}
+    _, airfield = rel.reliability_frames(cases, tables["aircraft_types"], tables["runways"],
+                                         tables["climate_monthly"], tables["wind_rose"],
+                                         levels=LEVELS, run_id=1, details=details)
+    got = airfield["tow_limit_kg"].to_numpy().reshape(-1, len(LEVELS))
+    months = airfield["month"].to_numpy()[:: len(LEVELS)]
+    groups = np.nonzero(np.isin(months, [7, 8]))[0]
+    ref = _brute_force_levels(tables, details["cases"], details, groups, LEVELS)
+    assert np.all(np.isfinite(ref.mass_kg))
+    assert set(airfield["limiting_factor"].to_numpy()[np.isin(airfield["month"], [7, 8])]) == {"climb_gradient"}
+    err = np.abs(got[groups] - ref.mass_kg)
+    assert np.all(err <= np.maximum(0.002 * ref.mass_kg, 50.0)), err
+    # The plateau itself: every July level at about 73.07 t (measured 73 070 kg).
+    assert np.all(np.abs(ref.mass_kg[months[groups] == 7] - 73_070.0) < 5.0)
+    # Every binding day's row is one direct solve: its temperature is at or below the
+    # corner's (the mass falls beyond it), here within the month's usual days.
+    oat = airfield["oat_c"].to_numpy().reshape(-1, len(LEVELS))[groups]
+    assert np.all(oat < 33.0), oat
 
 def test_headwind_nodes_left_unsolved_stay_near_the_solved_grid(demo_tables):
     # Every other headwind node is solved; a node in between is interpolated where the
