@@ -510,6 +510,9 @@ def build_cases(prepared: PreparedRun, run_id: int) -> Path:
         _forget_inputs(inputs)  # a later run in this process loads the folder again
         for name in big:
             inputs.release(name)
+    # validation, hashing and the case blocks are done: their freed memory goes back to the
+    # system instead of staying in this process's heap through the chunk phase
+    chunks.release_free_memory()
     return work
 
 
@@ -802,24 +805,36 @@ ProgressFn = Callable[[int, int, float], None]
 
 
 def run_local(input_dir, db_path, params: RunParams = RunParams(), progress: ProgressFn | None = None,
-              workers: int = 2, work_root=None) -> RunSummary:
-    """Run every step in this process without Prefect (threads for the chunks)."""
+              workers: int = 2, work_root=None, cluster: str | None = None) -> RunSummary:
+    """Run every step in this process without Prefect (threads for the chunks).
+
+    ``cluster``: a Dask scheduler address or ``local`` (:class:`pipeline.chunks.DaskChunks`):
+    the chunks are computed there, everything else here, as with Prefect's Dask runner.
+    """
     t0 = time.monotonic()
     prepared = prepare_run(input_dir, db_path, params, work_root)
     run_id = register(prepared)
+    dask = None
     try:
         work = build_cases(prepared, run_id)
         key_params = prepared.chunk_params()
         results: list[ChunkResult] = []
         n = prepared.plan.n_chunks
-        pool = ThreadPoolExecutor(max_workers=max(1, workers))
+        compute, threads = chunks.compute_chunk, max(1, workers)
+        if cluster:
+            dask = chunks.DaskChunks(cluster, workers).start()
+            # one chunk per worker thread and the next one's inputs read meanwhile
+            compute, threads = dask.compute, dask.threads() + 1
+        pool = ThreadPoolExecutor(max_workers=threads)
         try:
-            futures = [pool.submit(chunks.compute_chunk, work, i, run_id, key_params) for i in range(n)]
+            futures = [pool.submit(compute, work, i, run_id, key_params) for i in range(n)]
             for fut in as_completed(futures):
                 results.append(fut.result())
                 (progress or progress_mod.report)(len(results), n, time.monotonic() - t0)
         finally:  # on a stop, chunks not yet started are dropped, not waited for
             pool.shutdown(wait=False, cancel_futures=True)
+            if dask is not None:
+                dask.close()
         chunks.shutdown_pool()  # the worker processes' memory is free for the load
         results.sort(key=lambda r: r.chunk)
         reused = reference_reused(prepared, run_id, work)

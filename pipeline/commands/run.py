@@ -202,8 +202,11 @@ def run(args) -> int:
         _T0 = time.monotonic()
     params = run_params(args)  # every option checked before any work (exit 2)
     input_dir = input_folder(args)
-    if args.no_prefect and args.cluster:
-        raise BadInput("--cluster needs Prefect; drop --no-prefect")
+    if args.cluster:
+        try:
+            import distributed  # noqa: F401
+        except ImportError:
+            raise BadInput("--cluster needs the dask extra: pip install 'fieldlimits[dask]'") from None
     say = Say(args.quiet)
     stopper = Stopper(say)
     stopper.install()
@@ -240,7 +243,7 @@ def run(args) -> int:
             progress.set_reporter(progress.StderrProgress())
         if args.no_prefect:
             summary = steps.run_local(input_dir, args.db, params, workers=args.workers or 2,
-                                      work_root=args.work_dir)
+                                      work_root=args.work_dir, cluster=args.cluster)
         else:
             if server is not None and not server.ready():
                 say("waiting for Prefect's temporary server to answer")

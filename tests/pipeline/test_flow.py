@@ -19,7 +19,7 @@ from tests.pipeline.conftest import needs_physics
 
 pytestmark = needs_physics
 
-HAVE_DASK = importlib.util.find_spec("prefect_dask") is not None
+HAVE_DASK = importlib.util.find_spec("distributed") is not None
 QUERY = ("SELECT * EXCLUDE (run_id) FROM latest_results_direction ORDER BY airfield_id, runway_id, "
          "aircraft_type_id, month, condition, basis, reliability")
 
@@ -109,7 +109,7 @@ def test_flow_run_equals_local_run_row_for_row(prefect_runs, demo_run):
     pd.testing.assert_frame_equal(a, b)
 
 
-@pytest.mark.skipif(not HAVE_DASK, reason="prefect-dask not installed (pip install '.[dask]')")
+@pytest.mark.skipif(not HAVE_DASK, reason="distributed not installed (pip install '.[dask]')")
 def test_dask_cluster_run_equals_local_run_row_for_row(prefect_runs, demo_run):
     db, summary = prefect_runs["dask"]
     a, (status, n_chunks) = _rows(db)
@@ -117,6 +117,21 @@ def test_dask_cluster_run_equals_local_run_row_for_row(prefect_runs, demo_run):
     assert status == "complete" and n_chunks == summary.chunks > 2
     pd.testing.assert_frame_equal(a, b)
 
+
+
+@pytest.mark.skipif(not HAVE_DASK, reason="distributed not installed (pip install '.[dask]')")
+def test_cluster_without_prefect_equals_local_run_row_for_row(demo_dir, demo_run, tmp_path):
+    # `--no-prefect --cluster local`: the chunks on a temporary Dask cluster, no Prefect at all.
+    from tests.pipeline.conftest import cli
+
+    db = tmp_path / "dask-plain.duckdb"
+    done = cli("run", demo_dir, "--db", db, "--no-prefect", "--cluster", "local", "--workers", "2",
+               "--reliability", "none", "--chunk-size", "4000", "--quiet", timeout=600)
+    assert done.returncode == 0, done.stderr[-2000:]
+    a, (status, n_chunks) = _rows(db)
+    b, _ = _rows(demo_run[0])
+    assert status == "complete" and n_chunks > 2
+    pd.testing.assert_frame_equal(a, b)
 
 def test_logs_go_to_a_server_the_user_points_at():
     """With the temporary server nobody reads the logs (no shipping); a server of the user's
