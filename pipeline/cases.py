@@ -11,7 +11,10 @@ row group per chunk, each chunk holding **complete airfields** (every direction,
 type and condition of each of its airfields), so an airfield-level row producer (e.g. the
 best usable direction for each wind) sees everything it needs inside one chunk. A chunk
 task reads its row group only. The aircraft table (SI) goes to ``<work>/aircraft.parquet``
-and every validated input table to ``<work>/tables/<name>.parquet`` for row producers.
+and every validated input table to ``<work>/tables/<name>.parquet`` for row producers; a
+table with an ``airfield_id`` is sorted by it (stable: each airfield's rows in the table's
+order) and cut into a row group per chunk (:func:`write_chunk_aligned`, and
+:func:`align_table_file` for the streamed wind rose), so a chunk reads only its own rows.
 
 No formulas here: the atmosphere comes from :mod:`physics.atmosphere`, friction from
 :mod:`physics.friction`, screen heights from :mod:`physics.constants`.

@@ -18,7 +18,10 @@ worker processes owned by the calling process: the solver is many short numpy ca
 hold the GIL, so threads alone use about one core. The calling thread (a local thread, a
 Prefect task) waits for its chunk; results and files are the same. Not used inside a Dask
 worker or a child process, nor while :data:`pipeline.producers.ROW_PRODUCERS` holds
-in-process producers. ``FIELDLIMITS_CHUNK_PROCESSES=N`` sets the pool size (0: off).
+in-process producers. ``FIELDLIMITS_CHUNK_PROCESSES=N`` sets the pool size (0: off). The
+processes run with glibc's memory settings of the Dask workers (:data:`WORKER_MALLOC_ENV`,
+:func:`start_chunk_process`) and give freed memory back after each chunk
+(:func:`release_free_memory`).
 
 On a Dask cluster (``fieldlimits run --cluster``) no path is shared: :class:`DaskChunks` reads
 a chunk's inputs from the client's work folder (:func:`chunk_payload`), sends them through
@@ -143,8 +146,8 @@ _RANGES_KEPT = 32
 
 def _row_group_ranges(path: Path):
     """The file's Parquet metadata and each row group's least and greatest airfield id;
-    the ranges are None when the table has no text ``airfield_id``, False when a row group
-    lacks statistics. Kept per process while the file is unchanged."""
+    the ranges are None when the table has no ``airfield_id``, False when it is not text or
+    a row group lacks statistics. Kept per process while the file is unchanged."""
     st = path.stat()
     signature = (st.st_ino, st.st_size, st.st_mtime_ns)
     found = _RANGES.get(str(path))
@@ -322,9 +325,58 @@ def _process_pool(work: Path):
             from concurrent.futures import ProcessPoolExecutor
 
             # spawn: the parent has threads (Prefect, the task runner), so no fork
-            _POOL = ProcessPoolExecutor(max_workers=size, mp_context=multiprocessing.get_context("spawn"))
+            _POOL = ProcessPoolExecutor(max_workers=size, mp_context=multiprocessing.get_context("spawn"),
+                                        initializer=start_chunk_process)
             atexit.register(shutdown_pool)
         return _POOL
+
+
+def _libc():
+    """glibc through ctypes, or None (another C library, another system)."""
+    import ctypes
+    import ctypes.util
+
+    try:
+        libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6")
+        libc.mallopt, libc.malloc_trim  # noqa: B018 (glibc only)
+    except (OSError, AttributeError):
+        return None
+    return libc
+
+
+#: glibc's ``mallopt`` parameter of each variable of :data:`WORKER_MALLOC_ENV` (malloc.h).
+_MALLOPT_PARAMS = {"MALLOC_TRIM_THRESHOLD_": -1, "MALLOC_MMAP_THRESHOLD_": -3}
+_CHUNK_PROCESS: dict = {}  # what start_chunk_process applied in this process
+
+
+def start_chunk_process() -> None:
+    """Initializer of the chunk processes (:func:`_process_pool`): glibc's memory settings of
+    the Dask workers (:data:`WORKER_MALLOC_ENV`). A spawned process has read the environment
+    before this runs, so each setting is applied with ``mallopt``, as glibc applies the
+    variable at start, and put in the process's environment (what it starts inherits it)."""
+    libc = _libc()
+    for name, value in WORKER_MALLOC_ENV.items():
+        os.environ[name] = value
+        if libc is not None:
+            _CHUNK_PROCESS[name] = int(libc.mallopt(_MALLOPT_PARAMS[name], int(value))) == 1
+    _CHUNK_PROCESS["started"] = True
+
+
+def chunk_process_settings() -> dict:
+    """This process's :data:`WORKER_MALLOC_ENV` variables and whether ``mallopt`` took each
+    (for the tests and for diagnosis)."""
+    return {"environ": {name: os.environ.get(name) for name in WORKER_MALLOC_ENV},
+            "applied": dict(_CHUNK_PROCESS)}
+
+
+def release_free_memory() -> None:
+    """Give the memory freed after a chunk back to the system (a chunk process between
+    chunks): glibc keeps freed blocks in its heap, most of a chunk's peak, until
+    ``malloc_trim``; Arrow's pool keeps its own."""
+    pa.default_memory_pool().release_unused()
+    libc = _libc()
+    if libc is not None:
+        libc.malloc_trim(0)
 
 
 def shutdown_pool() -> None:
@@ -357,7 +409,11 @@ def _compute_chunk_here(work_dir: str | os.PathLike, chunk: int, run_id: int, pa
         return done
     cases = case_io.read_chunk_cases(work, chunk)
     direction, airfield, bases = solve_chunk(work, cases, chunk, run_id, params)
-    return write_parts(work, chunk, key, direction, airfield, bases, len(cases))
+    result = write_parts(work, chunk, key, direction, airfield, bases, len(cases))
+    if _CHUNK_PROCESS:  # a chunk process: hold only what the next chunk needs meanwhile
+        del cases, direction, airfield
+        release_free_memory()
+    return result
 
 
 def reused_part(work: Path, chunk: int, key: str) -> ChunkResult | None:

@@ -510,6 +510,9 @@ def build_cases(prepared: PreparedRun, run_id: int) -> Path:
         _forget_inputs(inputs)  # a later run in this process loads the folder again
         for name in big:
             inputs.release(name)
+    # validation, hashing and the case blocks are done: their freed memory goes back to the
+    # system instead of staying in this process's heap through the chunk phase
+    chunks.release_free_memory()
     return work
 
 

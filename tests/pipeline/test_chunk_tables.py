@@ -160,3 +160,30 @@ def test_a_chunk_gives_the_same_rows_from_the_tables_in_input_order(tmp_path, de
     before = chunks.solve_chunk(plain, cases, chunk, run_id, params)
     assert aligned[0].num_rows == len(cases) and aligned[1].num_rows > 0  # reliability rows too
     assert aligned[0].equals(before[0]) and aligned[1].equals(before[1]) and aligned[2] == before[2]
+
+
+def test_chunk_processes_get_the_workers_memory_settings(tmp_path, monkeypatch, demo_work):
+    """The chunk processes run with glibc's settings of the Dask workers (``WORKER_MALLOC_ENV``:
+    in their environment and applied with mallopt), return freed memory after each chunk,
+    and give the rows of a chunk computed here."""
+    prepared, run_id, work = demo_work
+    monkeypatch.setenv("FIELDLIMITS_CHUNK_PROCESSES", "2")
+    monkeypatch.setattr(chunks, "PROCESS_MIN_CASES", 1)  # the demo is a small run
+    chunks.shutdown_pool()
+    try:
+        pool = chunks._process_pool(work)
+        assert pool is not None
+        seen = pool.submit(chunks.chunk_process_settings).result()
+        assert seen["environ"] == chunks.WORKER_MALLOC_ENV
+        assert seen["applied"] == {"started": True, **{name: True for name in chunks.WORKER_MALLOC_ENV}}
+        params = prepared.chunk_params()
+        shutil.copytree(work, tmp_path / "there", ignore=shutil.ignore_patterns(chunks.PARTS_DIR))
+        shutil.copytree(work, tmp_path / "here", ignore=shutil.ignore_patterns(chunks.PARTS_DIR))
+        there = pool.submit(chunks._compute_chunk_here, str(tmp_path / "there"), 0, run_id, params).result()
+    finally:
+        chunks.shutdown_pool()
+    assert chunks.chunk_process_settings()["applied"] == {}  # this process is left as it was
+    here = chunks._compute_chunk_here(tmp_path / "here", 0, run_id, params)
+    assert not there.reused and there.rows == here.rows > 0
+    for a, b in ((there.direction_path, here.direction_path), (there.airfield_path, here.airfield_path)):
+        assert pq.read_table(a).equals(pq.read_table(b))
