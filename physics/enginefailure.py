@@ -95,6 +95,15 @@ V1_STEP_TOL_MPS = 1e-4
 #: The same for the solver's closing evaluations (the limiting factor and the reported
 #: figures: V1 converged). [m/s]
 V1_STEP_TOL_FINAL_MPS = 1e-9
+#: Inside the weight solver's search, a case's V1 search also stops once its Newton step is
+#: at most this, and takes it without evaluating there: V_EF, V1 and each distance are
+#: carried along their slopes in V_EF (the parts of dh/dV_EF, exact). What is left is of the
+#: order of the step squared: for a step of 0.05 m/s at most 1.5e-2 m of a distance (half
+#: the step squared times the slope of (V − w)/a; 7e-3 m measured on mixed cases) and about
+#: 1e-4 m/s of V_EF (Newton's error), as much as the 1e-4 m/s step :data:`V1_STEP_TOL_MPS`
+#: leaves. Not where V1 is held at VR or reaches it within the step, nor where a stop
+#: action piece comes to rest (their slopes change there). [m/s]
+V1_EXTRAPOLATE_MPS = 0.05
 #: Start each trial of the weight solver from the V_EF predicted for its mass: the secant
 #: through the two previous trials' V_EF (each one Newton step on from its last evaluation),
 #: or the previous V_EF. [–]
@@ -428,6 +437,7 @@ class GroundRegime:
         # tailwind cases whose segments may cross V = 0 (reverse-flow drag below it)
         self.tail = np.nonzero(w < 0.0)[0]
         self._forward = None  # groundrun.QuadraticSegments of the V ≥ 0 coefficients, on first use
+        self._reverse = None  # the same of the V < 0 coefficients of the tailwind cases
         if self.prop.size:
             i = self.prop
             a0, _, a2 = self.coeffs
@@ -470,9 +480,19 @@ class GroundRegime:
         if self._forward is None:  # roots of a(V) for V ≥ 0, once for every segment of the regime
             self._forward = groundrun.QuadraticSegments(a0, a1, a2, self.w)
         with np.errstate(invalid="ignore", divide="ignore"):
-            # split at V = 0 (reverse-flow drag below it) only where a segment crosses it
-            s = np.array(groundrun._split_at_zero(a0, a1, a2, self.a2_reverse, c_from, c_to, self.w,
-                                                  forward=self._forward)[0], dtype=float)
+            if self.a2_reverse is None:
+                s = np.array(self._forward.integrals(c_from, c_to)[0], dtype=float)
+            else:
+                s = np.array(self._forward.integrals(np.maximum(c_from, 0.0), np.maximum(c_to, 0.0))[0], dtype=float)
+                # the part below V = 0 (reverse-flow drag) of the tailwind cases, where a segment
+                # crosses it (a case whose segment does not adds an exact zero)
+                t = self.tail
+                r_from, r_to = np.minimum(c_from.take(t), 0.0), np.minimum(c_to.take(t), 0.0)
+                if np.any(np.minimum(r_from, r_to) < 0.0):
+                    if self._reverse is None:  # once for every segment of the regime
+                        self._reverse = groundrun.QuadraticSegments(a0.take(t), a1.take(t), self.a2_reverse.take(t),
+                                                                    self.w.take(t))
+                    s[t] += self._reverse.integrals(r_from, r_to)[0]
         if self.prop.size:
             i = self.prop
             g_from, g_to = np.maximum(v_from[i], self.kink[i]), np.maximum(v_to[i], self.kink[i])
@@ -509,6 +529,11 @@ class GroundRegime:
         new.tail = np.nonzero(new.w < 0.0)[0]
         # the roots and constants found for the whole set are gathered, not found again
         new._forward = None if self._forward is None else _take_segments(self._forward, index)
+        new._reverse = None
+        if self._reverse is not None and new.tail.size:
+            where = np.full(n, -1)
+            where[self.tail] = np.arange(self.tail.size)
+            new._reverse = _take_segments(self._reverse, where.take(np.asarray(index).take(new.tail)))
         if new.prop.size:
             local = (np.cumsum(is_prop) - 1)[np.asarray(index)[sub_prop]]
             new._p_m, new._a0n, new._a2p = self._p_m[local], self._a0n[local], self._a2p[local]
@@ -569,6 +594,23 @@ class GroundRegime:
                 d_out = np.array(d_out, copy=True)
                 d_out[i] = np.where(above_kink, d_above, d_out[i])
         return (out, d_out) if slope else out
+
+
+class _DeferredRegime:
+    """A :class:`GroundRegime` built on first use (``build()`` makes it): the V1 search of the
+    weight solver never needs the engine-failure stop of the idealised sequence."""
+
+    def __init__(self, build):
+        self._build = build
+        self._regime = None
+
+    def __getattr__(self, name):
+        if name.startswith("__"):
+            raise AttributeError(name)
+        regime = self.__dict__["_regime"]
+        if regime is None:
+            regime = self._regime = self._build()
+        return getattr(regime, name)
 
 
 def _take_segments(seg, index):
@@ -800,6 +842,27 @@ def engine_failure_setup(aircraft, site, shape=()):
         area, slope, mu_roll, mu_brake, b(s.headwind_mps), regimes, *times)
 
 
+def _mass_independent(su, aircraft):
+    """The parts of :func:`engine_failure_model` that do not depend on the mass, computed on
+    first use and kept with the setup ``su`` (a setup taken for a subset computes its own)."""
+    fixed = su.__dict__.get("_fixed")
+    if fixed is None:
+        b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), su.n)  # noqa: E731
+        a, rho = aircraft, su.density_kg_m3
+        # as scheduled_speeds_mps: V_S = sqrt(2 m g/(rho S C_Lmax)); V_MCG as a true airspeed
+        vmcg = np.where(su.multi_engine, b(a.vmcg_mps) * np.sqrt(c.RHO0_KG_M3 / rho), 0.0)
+        fixed = {"stall_denominator": rho * b(a.wing_area_m2) * b(a.cl_max_takeoff),
+                 "speed_ratios": (b(a.vr_over_vs), b(a.vlof_over_vs), b(a.v2_over_vs)), "vmcg_mps": vmcg}
+        if su.timed_events:  # StopEvents' friction step, friction lift and lift-dumper terms
+            _, cos_g = groundrun.slope_sin_cos(su.slope)
+            d_mu = su.mu_brake - su.mu_roll
+            half_rho_s = 0.5 * su.density_kg_m3 * su.wing_area_m2
+            fixed["stop_terms"] = (d_mu * c.G0 * cos_g, half_rho_s * su.cl_roll * d_mu,
+                                   half_rho_s * ((su.cd_brake - su.cd_roll) - su.mu_brake * (su.cl_brake - su.cl_roll)))
+        object.__setattr__(su, "_fixed", fixed)  # the dataclass is frozen; this is a cache
+    return fixed
+
+
 def engine_failure_model(aircraft, site, mass_kg, setup=None):
     """Build the ground regimes and speeds of the engine-failure cases for a mass.
 
@@ -831,7 +894,12 @@ def engine_failure_model(aircraft, site, mass_kg, setup=None):
     """
     su = engine_failure_setup(aircraft, site, np.shape(mass_kg)) if setup is None else setup
     m = np.broadcast_to(np.asarray(mass_kg, dtype=float), su.n)
-    speeds = scheduled_speeds_mps(aircraft, mass_kg=m, density_kg_m3=su.density_kg_m3)
+    fixed = _mass_independent(su, aircraft)
+    # scheduled_speeds_mps with its mass-independent parts computed once per solve
+    vs = np.sqrt(2.0 * m * c.G0 / fixed["stall_denominator"])
+    vr, vlof, v2 = (vs * ratio for ratio in fixed["speed_ratios"])
+    raise_by = np.maximum(1.0, fixed["vmcg_mps"] / vr)
+    speeds = TakeoffSpeeds(vs, fixed["vmcg_mps"], vr * raise_by, vlof * raise_by, v2 * raise_by, raise_by > 1.0)
     w = su.headwind_mps
     common = dict(mass_kg=m, wing_area_m2=su.wing_area_m2, density_kg_m3=su.density_kg_m3, slope=su.slope,
                   headwind_mps=w)
@@ -841,19 +909,16 @@ def engine_failure_model(aircraft, site, mass_kg, setup=None):
     all_engines = GroundRegime(su.law_all, cd=su.cd_roll, **roll, terms=t["all_engines"])
     one_out = GroundRegime(su.law_one_out, cd=su.cd_roll_one_out, **roll, terms=t["one_out"])
     stop_all = GroundRegime(su.law_idle_all, cd=su.cd_brake, **brake, terms=t["stop_all"])
-    stop_one_out = GroundRegime(su.law_idle_one_out, cd=su.cd_brake_one_out, **brake, terms=t["stop_one_out"])
+    # the engine-failure stop is needed only for the figures or the timed events: built on first use
+    stop_one_out = _DeferredRegime(lambda: GroundRegime(su.law_idle_one_out, cd=su.cd_brake_one_out, **brake,
+                                                        terms=t["stop_one_out"]))
     events = None
     if su.timed_events:
         a_vr = one_out.acceleration(speeds.vr_mps)
         if np.any(su.rotation_s > 0.0):  # lift-off after the rotation, one engine out
             vlof = takeoffevents.rotation_liftoff_speed_mps(speeds.vr_mps, speeds.vlof_mps, a_vr, su.rotation_s)
             speeds = dataclasses.replace(speeds, vlof_mps=vlof)
-        _, cos_g = groundrun.slope_sin_cos(su.slope)
-        d_mu = su.mu_brake - su.mu_roll
-        half_rho_s = 0.5 * su.density_kg_m3 * su.wing_area_m2
-        events = StopEvents(su.recognition_s, su.action_interval_s, m, d_mu * c.G0 * cos_g,
-                            half_rho_s * su.cl_roll * d_mu,
-                            half_rho_s * ((su.cd_brake - su.cd_roll) - su.mu_brake * (su.cl_brake - su.cl_roll)))
+        events = StopEvents(su.recognition_s, su.action_interval_s, m, *fixed["stop_terms"])
     lo = np.maximum(speeds.vmcg_mps, w)
     hi = np.maximum(speeds.vr_mps, lo)
     if events is not None and np.any(events.recognition_s > 0.0):
@@ -972,22 +1037,30 @@ def _v1_estimate_mps(model, base, delay_s):
     return np.where(usable, est, mid)
 
 
-def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, step_tol_mps=None):
+def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, step_tol_mps=None,
+               extrapolate_mps=None):
     """Newton on h over the engine-failure speed (V1 itself in the idealised sequence).
 
     ``next_step``: also take the Newton step from each case's last evaluation (its h and
     slope are at hand; no distance is evaluated at the new speed), as ``v_next_mps``: the
     start for a nearby mass. ``step_tol_mps``: a case also stops where its Newton step
     (clipped to the range) is at most this; its distances are those of the speed evaluated
-    last, within that step of the root."""
+    last, within that step of the root. ``extrapolate_mps``: a case also stops where its
+    Newton step is at most this, and takes the step: its speeds and distances are carried
+    to the new speed along their slopes in the speed (the slopes that make up dh/dV), off by
+    the step squared (:data:`V1_EXTRAPOLATE_MPS`)."""
     w = model.headwind_mps
     lo, hi = model.v1_min_mps, model.v1_max_mps
     vlof = model.speeds.vlof_mps
-    v1 = _v1_estimate_mps(model, base, delay_s)
-    if v1_start_mps is not None:
-        start = np.asarray(v1_start_mps, dtype=float)
-        v1 = np.where(np.isfinite(start), np.clip(start, lo, hi), v1)
-    v1 = np.broadcast_to(v1, w.shape).astype(float)
+    if v1_start_mps is None:
+        v1 = np.broadcast_to(_v1_estimate_mps(model, base, delay_s), w.shape).astype(float)
+    else:
+        start = np.broadcast_to(np.asarray(v1_start_mps, dtype=float), w.shape)
+        v1 = np.clip(start, lo, hi)
+        cold = np.flatnonzero(~np.isfinite(start))
+        if cold.size:  # the closed-form start only where no earlier trial gives one
+            est = _v1_estimate_mps(model, base, delay_s)
+            v1[cold] = np.broadcast_to(est, w.shape)[cold]
     multi = model.multi_engine
     count = np.broadcast_to(np.asarray(iterations), w.shape)
     total = max(int(np.max(count, initial=0)), 1)  # initial: an empty batch has no maximum
@@ -1023,7 +1096,8 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             h = base[idx] - so + delay_s * (vi - wi) + ss
             vg = vi - wi
             with np.errstate(divide="ignore", invalid="ignore"):
-                dh = vg / oo.acceleration(vi) + delay_s - vg / sa.acceleration(vi)
+                go_slope, stop_slope = vg / oo.acceleration(vi), -vg / sa.acceleration(vi)  # -dS_oei/dV, dS_stop/dV
+                dh = go_slope + delay_s + stop_slope
                 step = h / dh
         else:
             # V_EF = vi; V1 one recognition interval later; the all-engines stop from V1
@@ -1031,8 +1105,8 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             # (accelerations of the timed pieces taken at V1, as by hand)
             a_oo, d_oo = oo.acceleration(vi, slope=True)
             t_r = evi.recognition_s
-            v1i = np.clip(takeoffevents.recognition_v1_mps(vi, a_oo, t_r), vi,
-                          np.maximum(model.speeds.vr_mps[idx], vi))
+            v1_raw = takeoffevents.recognition_v1_mps(vi, a_oo, t_r)
+            v1i = np.clip(v1_raw, vi, np.maximum(model.speeds.vr_mps[idx], vi))
             rec = t_r > 0.0
             (a_ae, d_ae), (a_sa1, d_sa1) = ae.acceleration(v1i, slope=True), sa.acceleration(v1i, slope=True)
             gap, mid = v1i - vi, 0.5 * ((vi - wi) + (v1i - wi))
@@ -1051,9 +1125,24 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
                 # dh/dV_EF through V1 = V_EF + a(V_EF) t_r (exact for the hand pieces, so that
                 # the search converges as fast as without them)
                 dv1 = np.where(rec, 1.0 + d_oo * t_r, 1.0)
-                d_pre = np.where(rec, (0.5 * (1.0 + dv1) * gap + mid * (dv1 - 1.0)) / a_ae
-                                 - mid * gap * d_ae * dv1 / (a_ae * a_ae), 0.0)
-                dh = (vg / a_oo + d_pre + delay_s * dv1) + d_act * dv1 - (v_act - wi) / a_sa * dv_act * dv1
+
+                def slopes(dv1):
+                    d_pre = np.where(rec, (0.5 * (1.0 + dv1) * gap + mid * (dv1 - 1.0)) / a_ae
+                                     - mid * gap * d_ae * dv1 / (a_ae * a_ae), 0.0)
+                    return d_pre, (vg / a_oo + d_pre + delay_s * dv1) + d_act * dv1 - (v_act - wi) / a_sa * dv_act * dv1
+
+                d_pre, dh = slopes(dv1)
+                # V1 held at VR does not move with V_EF: there h's slope has dV1/dV_EF = 0
+                # (with 1 + a' t_r Newton only halved h at each step). Taken where the step
+                # it gives keeps V1 at VR; a step out of that narrow band of V_EF takes the
+                # slope of the free V1 beyond it, as before.
+                held = v1_raw > v1i
+                if held.any():
+                    d_pre_h, dh_h = slopes(np.zeros_like(dv1))
+                    band = (v1_raw - v1i) / dv1  # how far V_EF falls before V1 leaves VR
+                    keep = held & (h / dh_h < band) & (dh_h > 0.0)
+                    dv1 = np.where(keep, 0.0, dv1)
+                    d_pre, dh = np.where(keep, d_pre_h, d_pre), np.where(keep, dh_h, dh)
                 step = h / dh
         # a case stops stepping after its own number of evaluations (last step at k = count − 2)
         step = np.where(np.isfinite(step) & (dh > 0) & multi[idx], step, 0.0)
@@ -1061,6 +1150,32 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
         going = k < count[idx] - 1
         if step_tol_mps is not None:
             going &= np.abs(moved - vi) > step_tol_mps
+        if extrapolate_mps is not None:
+            dv = moved - vi
+            near = np.abs(dv) <= extrapolate_mps
+            if ev is not None:
+                # the slopes hold where V1 is not held at VR nor reaches it within the step,
+                # and the stop actions end above rest (elsewhere the case evaluates on)
+                v1_to = v1i + dv1 * dv
+                near &= (v1i == v1_raw) & (v_act > wi) & (v1_to <= model.speeds.vr_mps[idx]) & (v1_to >= moved)
+            going &= ~near
+            f = np.flatnonzero(near & (dv != 0.0))
+            if f.size:  # the step taken without evaluating there: each part along its slope
+                i, d = idx[f], dv[f]
+                if ev is None:
+                    s_oei[i] -= go_slope[f] * d
+                    s_stop[i] += stop_slope[f] * d
+                else:
+                    dvf = dv1[f] * d
+                    s_oei[i] -= (vg[f] / a_oo[f]) * d
+                    out_pre[i] += d_pre[f] * d
+                    out_act[i] += d_act[f] * dvf
+                    s_stop[i] -= (v_act[f] - wi[f]) / a_sa[f] * dv_act[f] * dvf
+                    out_v1[i] = v1_to[f]
+                    out_a[i] = a_oo[f] + d_oo[f] * d
+                vi = np.array(vi, copy=True)
+                vi[f] = moved[f]
+        if step_tol_mps is not None or extrapolate_mps is not None:
             settled[idx] = ~going
         v1[idx] = np.where(going, moved, vi)
         if next_step:
@@ -1188,7 +1303,8 @@ class EngineFailureTakeoff:
 
 
 def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=None,
-                           iterations=V1_ITERATIONS, both_stops=True, next_step=False, v1_tolerance_mps=None):
+                           iterations=V1_ITERATIONS, both_stops=True, next_step=False, v1_tolerance_mps=None,
+                           v1_extrapolate_mps=None):
     """Continued takeoff and accelerate-stop at a mass, with the V1 that suits the runway.
 
     Parameters
@@ -1215,6 +1331,10 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
     v1_tolerance_mps : float, optional
         Stop a case's search early where its Newton step is at most this (``iterations`` is
         then the most); None: every case makes its ``iterations`` evaluations. [m/s]
+    v1_extrapolate_mps : float, optional
+        Stop a case's search where its Newton step is at most this, and take that step
+        without evaluating there: the distances are carried to the new speed along their
+        slopes (second-order error; :data:`V1_EXTRAPOLATE_MPS`). None: not done. [m/s]
 
     Returns
     -------
@@ -1239,7 +1359,8 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
     air = continued_takeoff_airborne_m(model, su, b(site.screen_height_m))
     go_avail = go_constant_m(toda_m=toda, tora_m=tora, airborne_m=air)
     base = go_avail - asda
-    found = _newton_v1(model, base, v1_start_mps, iterations, STOP_DELAY_S, next_step, v1_tolerance_mps)
+    found = _newton_v1(model, base, v1_start_mps, iterations, STOP_DELAY_S, next_step, v1_tolerance_mps,
+                       v1_extrapolate_mps)
     v_ef, v1 = found.v_ef_mps, found.v1_mps
     w = model.headwind_mps
     multi = model.multi_engine
@@ -1369,7 +1490,8 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
         r = engine_failure_takeoff(cases.aircraft, cases.site, mass_kg, setup=setup, v1_start_mps=guess,
                                    iterations=iterations, both_stops=False, next_step=PREDICT,
                                    v1_tolerance_mps=None if not PREDICT else
-                                   V1_STEP_TOL_FINAL_MPS if final else V1_STEP_TOL_MPS)
+                                   V1_STEP_TOL_FINAL_MPS if final else V1_STEP_TOL_MPS,
+                                   v1_extrapolate_mps=None if final or not PREDICT else V1_EXTRAPOLATE_MPS)
         if PREDICT:
             if state.get("v1") is not None and np.shape(state["v1"]) == setup.n:
                 state["v1_prev"], state["mass_prev"] = state["v1"], state["mass"]

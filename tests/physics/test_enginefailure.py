@@ -458,3 +458,77 @@ def test_cold_start_of_the_v1_search_is_near_the_root():
     mid = np.abs(0.5 * (model.v1_min_mps + model.v1_max_mps) - root)[ok]
     assert np.max(err) < 0.5 and np.median(err) < 0.2 < np.median(mid)
     assert np.all((start >= model.v1_min_mps) & (start <= model.v1_max_mps))
+
+
+def _timed_events(a, n):
+    # the takeoff event sequence at the table's defaults (1 s recognition, 1 s between stop
+    # actions, 8° rotation at 3°/s)
+    import dataclasses
+    return dataclasses.replace(a, **{k: np.full(n, v) for k, v in (
+        ("engine_failure_recognition_s", 1.0), ("stop_action_interval_s", 1.0), ("rotation_pitch_deg", 8.0),
+        ("rotation_rate_deg_per_s", 3.0))})
+
+
+def _search_inputs(timed, n=6000, seed=31):
+    from tests.physics import fleet
+
+    a, s = fleet.random_cases(n, seed=seed)
+    if timed:
+        a = _timed_events(a, n)
+    mass = 0.5 * (a.oew_kg + a.mtow_kg)
+    setup = ef.engine_failure_setup(a, s)
+    model = ef.engine_failure_model(a, s, mass, setup=setup)
+    air = ef.continued_takeoff_airborne_m(model, setup, s.screen_height_m)
+    base = ef.go_constant_m(toda_m=s.toda_m, tora_m=s.tora_m, airborne_m=air) - s.asda_m
+    return model, base
+
+
+@pytest.mark.parametrize("timed", [False, True])
+def test_extrapolated_newton_step_matches_an_evaluation_there(timed):
+    # Inside the weight solver's search a V1 search stops once its Newton step is at most
+    # V1_EXTRAPOLATE_MPS and takes that step without evaluating there: speeds and distances
+    # carried along their slopes in V_EF. Against an evaluation at the speed it stops at,
+    # the difference is the Taylor remainder, ½ S'' δ² (common practice; S'' = d/dV of
+    # (V − w)/a, a few s²/m): about 1e-5 m for a step of 0.01 m/s and 1e-2 m for 0.05 m/s
+    # (the distances are 1–3 km), growing with the square of the step.
+    model, base = _search_inputs(timed)
+    root = ef._newton_v1(model, base, None, 12, ef.STOP_DELAY_S).v_ef_mps
+    worst = {}
+    for off in (0.01, 0.05):
+        got = ef._newton_v1(model, base, root + off, 1, ef.STOP_DELAY_S, next_step=True,
+                            extrapolate_mps=ef.V1_EXTRAPOLATE_MPS)
+        # the cases that took the step (the others, held at VR or at an end of the range,
+        # evaluate on in the search)
+        moved = (np.abs(got.v_ef_mps - (root + off)) > 0.0) & np.isfinite(got.one_out_m + got.braking_m)
+        assert moved.mean() > 0.8
+        there = ef._newton_v1(model, base, got.v_ef_mps, 1, ef.STOP_DELAY_S)
+        assert_allclose(got.v_ef_mps, there.v_ef_mps, rtol=0, atol=0)
+        for part in ("one_out_m", "braking_m", "to_v1_m", "actions_m", "v1_mps"):
+            d = np.abs(getattr(got, part) - getattr(there, part))[moved]
+            worst[off, part] = np.nanmax(d)
+    for part in ("one_out_m", "braking_m", "to_v1_m", "actions_m", "v1_mps"):
+        assert worst[0.05, part] < 1.5e-2
+        assert worst[0.01, part] < 1e-3
+        if worst[0.05, part] > 1e-6:  # second order: a step five times as large, about 25 times the error
+            assert 10.0 < worst[0.05, part] / max(worst[0.01, part], 1e-12) < 40.0
+
+
+def test_v1_held_at_vr_converges_as_fast_as_elsewhere():
+    # With a recognition interval, V1 = V_EF + a t_r is held at VR where that would pass
+    # it; there V1 does not move with V_EF, and Newton's slope must say so: with the slope
+    # of the free case (1 + a' t_r) each step only halved the error (linear convergence:
+    # 1e-4 m/s after four evaluations from 0.01 m/s off, measured). Now four evaluations
+    # reach the converged search's root to 1e-9 m/s from 0.01 m/s off (the first step
+    # starts where V1 is still free), and three from 5e-4 m/s off on either side (quadratic
+    # convergence). Cases chosen where the converged V1 is VR (a narrow band of V_EF just
+    # below the top of its range: three of 40 000 mixed cases at mid-mass).
+    model, base = _search_inputs(True, n=40000, seed=37)
+    root = ef._newton_v1(model, base, None, 20, ef.STOP_DELAY_S)
+    held = np.isfinite(root.one_out_m + root.braking_m) & model.multi_engine & \
+        (root.v1_mps == model.speeds.vr_mps) & (root.v_ef_mps - 0.01 > model.v1_min_mps) & \
+        (root.v_ef_mps < model.v1_max_mps)
+    assert held.sum() >= 3
+    for off, evaluations in ((-0.01, 4), (5e-4, 3), (-5e-4, 3)):
+        start = np.where(held, root.v_ef_mps + off, np.nan)
+        got = ef._newton_v1(model, base, start, evaluations, ef.STOP_DELAY_S).v_ef_mps
+        assert np.max(np.abs(got - root.v_ef_mps)[held]) < 1e-9
