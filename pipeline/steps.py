@@ -636,12 +636,14 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
     func = getattr(routes, "route_payload_frame", None)
     if func is None:
         return None
-    airfield = _route_airfield_rows(tables["routes"], [Path(best_path)] + sorted(
-        (Path(work) / chunks.PARTS_DIR).glob("*.airfield.parquet")))
     from fieldlimits.pipeline import landing
 
-    frame = func(tables, airfield, prepared.params.as_dict(),
-                 landing=landing.route_rows(landing_rows(prepared, work)))
+    # the landing step first: the origins' takeoff rows (millions on a large network) are not
+    # held while it runs
+    parts = landing_rows(prepared, work)
+    airfield = _route_airfield_rows(tables["routes"], [Path(best_path)] + sorted(
+        (Path(work) / chunks.PARTS_DIR).glob("*.airfield.parquet")))
+    frame = func(tables, airfield, prepared.params.as_dict(), landing=landing.route_rows(parts))
     if frame is None:
         return None
     out = Path(work) / ROUTE_FILE
