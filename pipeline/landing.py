@@ -586,6 +586,17 @@ def write_block(job: BlockJob) -> tuple[str, ...]:
     return tuple(map(str, paths))
 
 
+def write_block_in_worker(job: BlockJob) -> tuple[str, ...]:
+    """:func:`write_block` in a worker process, whose freed memory then goes back to the
+    system before its next block (:func:`pipeline.chunks.release_free_memory`)."""
+    from fieldlimits.pipeline.chunks import release_free_memory
+
+    try:
+        return write_block(job)
+    finally:
+        release_free_memory()
+
+
 def destination_blocks(pairs: pd.DataFrame, size: int | None) -> list[np.ndarray]:
     """The destination airfield ids in blocks of at most ``size`` (None: one block), sorted."""
     ids = np.sort(pairs["airfield_id"].unique())
@@ -663,7 +674,7 @@ def write_landing_parts(tables, params, folder, *, wind_rose=None, block_airfiel
         window = 2 * max(1, int(getattr(executor, "_max_workers", 1) or 1))
         pending: deque = deque()
         for job in jobs:
-            pending.append(executor.submit(write_block, job))
+            pending.append(executor.submit(write_block_in_worker, job))
             if len(pending) >= window:
                 written.append(pending.popleft().result())
         written.extend(f.result() for f in pending)

@@ -658,15 +658,17 @@ LANDING_PROCESS_MIN_BLOCKS = 2
 
 
 def _landing_pool(n_blocks: int):
-    """A process pool for the landing blocks (spawn, as the chunks' pool) when there are
-    enough blocks and cores for one, else None. The caller shuts it down after the step."""
+    """A process pool for the landing blocks (spawn and the memory settings of the chunks'
+    pool) when there are enough blocks and cores for one, else None. The caller shuts it
+    down after the step."""
     size = min(chunks._pool_size(), n_blocks)
     if n_blocks < LANDING_PROCESS_MIN_BLOCKS or size < 2 or chunks._in_worker_process():
         return None
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
 
-    return ProcessPoolExecutor(max_workers=size, mp_context=multiprocessing.get_context("spawn"))
+    return ProcessPoolExecutor(max_workers=size, mp_context=multiprocessing.get_context("spawn"),
+                               initializer=chunks.start_chunk_process)
 
 
 def landing_rows(prepared: PreparedRun, work: Path):
