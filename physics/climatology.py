@@ -330,7 +330,8 @@ def runway_usability(wind_from_true_deg, wind_speed_mps, runway_heading_true_deg
     factored = wind.factored_headwind(head)
     if rows is not None:
         rows = np.asarray(rows)
-        head, cross, factored = (np.broadcast_to(a, np.broadcast_shapes(head.shape, cross.shape))[rows]
+        shape = np.broadcast_shapes(head.shape, cross.shape)
+        head, cross, factored = (np.take(np.broadcast_to(a, shape), rows, axis=0)
                                  for a in (head, cross, factored))
     eps = 1e-9
     cross_exceeded = np.abs(cross) > np.asarray(crosswind_limit_mps, dtype=float) + eps

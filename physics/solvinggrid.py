@@ -123,10 +123,13 @@ def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps):
     width = h1 - h0
     s = np.where(width > 0.0, (hc - h0) / np.where(width > 0.0, width, 1.0), 0.0)
     base = (np.arange(rows) * n_h)[:, None]
-    m0 = grid_t[base + k]  # (rows, J, G)
-    m1 = grid_t[base + k1]
-    # NaN propagates from either neighbour (0 × NaN is NaN): the no-takeoff rule.
-    out = m0 + s[..., None] * (m1 - m0)
+    m0 = np.take(grid_t, base + k, axis=0)  # (rows, J, G)
+    out = np.take(grid_t, base + k1, axis=0)
+    # out = m0 + s (m1 − m0), in place; NaN propagates from either neighbour (0 × NaN is
+    # NaN): the no-takeoff rule.
+    np.subtract(out, m0, out=out)
+    np.multiply(s[..., None], out, out=out)
+    np.add(m0, out, out=out)
     return out.reshape(lead + (n_j, n_g))
 
 
