@@ -643,7 +643,9 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
 
     # Binding day at each level mass.
     m_eval = np.where(search, polished, np.where(np.isfinite(level), level, oew[:, None]))
-    zj = _share(seg, z, w, m_eval)[1]  # (N, L, J)
+    f_s, z_s, inv_s = seg  # the crossing scores only (the share of days is not needed)
+    zj = _crossing_score((f_s[:, None], z_s if z_s.ndim == 1 else z_s[:, None, None, :], inv_s[:, None]),
+                         m_eval[:, :, None])  # (N, L, J)
     finite = np.isfinite(zj) & (np.abs(zj) <= _BINDING_SCORE) & (w[:, None, :] > 0)
     dens = np.where(finite, w[:, None, :] * np.exp(-0.5 * np.where(finite, zj, 0.0) ** 2), -1.0)
     z_grp = np.broadcast_to(z, (n_groups, z.shape[-1]))
@@ -656,7 +658,6 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     zb = np.take_along_axis(zj, point[..., None], axis=-1)[..., 0]
     score = np.where(has_dens & np.isfinite(zb), zb, z_grp[np.arange(n_groups), mid_node][:, None])
     # The surface's slope dm/dz there (1 / dz*/dM on the binding point's segment).
-    f_s, z_s, inv_s = seg
     rows = np.arange(n_groups)[:, None]
     _, dz_dm = _crossing_score((f_s[rows, point], z_s if z_s.ndim == 1 else z_s[:, None, :],
                                 inv_s[rows, point]), m_eval, slope=True)
