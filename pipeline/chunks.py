@@ -443,6 +443,7 @@ def solve_chunk(work: Path, cases: pd.DataFrame, chunk: int, run_id: int,
     result = solve_takeoff_weight(aircraft, site, obstacles=obstacles)
     design = design_day_rows(run_id, cases, result, obstacle_ids)
 
+    del result, obstacles, obstacle_ids  # in the rows now; not held while the producers run
     context = ChunkContext(run_id=run_id, chunk=chunk, cases=cases, aircraft=aircraft, site=site,
                            design_rows=design, params=params, work_dir=work,
                            _tables={"obstacles": obstacle_table})
