@@ -602,14 +602,17 @@ def _route_airfield_rows(routes: pd.DataFrame, paths: Sequence[Path]) -> pd.Data
     import pyarrow.dataset as ds
     import pyarrow.parquet as pq
 
-    origins = sorted(routes["origin_id"].astype(str).unique()) if "origin_id" in routes else None
-    types = (sorted(routes["aircraft_type_id"].astype(str).unique())
-             if "aircraft_type_id" in routes else None)
     wanted = None
-    if origins is not None:
-        wanted = ds.field("airfield_id").isin(origins)
-        if types is not None:
-            wanted = wanted & ds.field("aircraft_type_id").isin(types)
+    if "origin_id" in routes and "aircraft_type_id" in routes:
+        # the (origin, type) pairs flown, one term per type: on a large network the origins
+        # × every route type would read several times the rows the routes use
+        pairs = routes[["origin_id", "aircraft_type_id"]].astype(str).drop_duplicates()
+        for type_id, group in pairs.groupby("aircraft_type_id", sort=True):
+            term = (ds.field("aircraft_type_id") == type_id) & \
+                ds.field("airfield_id").isin(sorted(group["origin_id"].unique()))
+            wanted = term if wanted is None else wanted | term
+    elif "origin_id" in routes:
+        wanted = ds.field("airfield_id").isin(sorted(routes["origin_id"].astype(str).unique()))
     frames = []
     for path in paths:
         have = pq.read_schema(path).names

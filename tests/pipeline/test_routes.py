@@ -236,3 +236,25 @@ def test_si_policy_columns_of_the_loaded_routes_table_are_read():
     row = df[df["route_id"] == "saltmere-dunegate-jet"].iloc[0]
     assert_allclose([row["contingency_pct"], row["alternate_distance_km"],
                      row["final_reserve_min"]], [3.0, 100.0, 45.0])
+
+
+
+def test_route_step_reads_only_the_origin_type_pairs_flown(tmp_path):
+    # Two origins × two types stored; the routes fly A with t1 and B with t2 only: the
+    # route step reads those two pairs' rows (not origins × every route type).
+    import pandas as pd
+
+    from fieldlimits.pipeline import steps
+
+    rows = pd.DataFrame({"run_id": 1, "airfield_id": ["A", "A", "B", "B", "C"],
+                         "runway_id": "09", "aircraft_type_id": ["t1", "t2", "t1", "t2", "t1"],
+                         "month": 1, "condition": "dry", "basis": "design_day",
+                         "reliability": float("nan"), "tow_limit_kg": [1.0, 2.0, 3.0, 4.0, 5.0],
+                         "limiting_factor": "structural"})
+    part = tmp_path / "part.parquet"
+    rows.to_parquet(part, index=False)
+    routes = pd.DataFrame({"route_id": ["r1", "r2", "r3"], "origin_id": ["A", "B", "A"],
+                           "destination_id": ["B", "A", "C"], "aircraft_type_id": ["t1", "t2", "t1"]})
+    got = steps._route_airfield_rows(routes, [part])
+    assert sorted(zip(got["airfield_id"], got["aircraft_type_id"], got["tow_limit_kg"])) == \
+        [("A", "t1", 1.0), ("B", "t2", 4.0)]
