@@ -119,6 +119,14 @@ def read_chunk_table(work_dir: Path, name: str, airfield_ids: list[str]) -> pd.D
     path = Path(work_dir) / case_io.TABLES_DIR / f"{name}.parquet"
     if not path.exists():
         return None
+    return read_airfield_rows(path, airfield_ids)
+
+
+def read_airfield_rows(path: Path, airfield_ids) -> pd.DataFrame:
+    """The rows of ``airfield_ids`` of a table file of the work folder (all rows when it has no
+    airfield_id), in the file's order, reading only the row groups that can hold them
+    (:func:`read_chunk_table`)."""
+    path = Path(path)
     metadata, lows, highs = _row_group_ranges(path)
     # an empty table has untyped (null) text columns, which a filter cannot be bound to
     if lows is None or metadata.num_rows == 0:

@@ -513,14 +513,12 @@ def landing_frames(tables, params=None, run_id=None, wind_rose: pd.DataFrame | N
 
 
 def read_wind_rose(path: Path, airfield_ids) -> pd.DataFrame:
-    """The wind rose of some airfields from a run's Parquet copy (``<work>/tables``). The
-    range of the ids is part of the filter, so a file in airfield order is read only in the
-    row groups that can hold them (their statistics), not scanned whole for every block."""
-    ids = sorted(set(map(str, airfield_ids)))
-    if not ids:
-        ids = [""]
-    return pq.read_table(path, filters=[("airfield_id", ">=", ids[0]), ("airfield_id", "<=", ids[-1]),
-                                        ("airfield_id", "in", ids)]).to_pandas()
+    """The wind rose of some airfields from a run's Parquet copy (``<work>/tables``), reading
+    only the row groups that can hold them (:func:`pipeline.chunks.read_airfield_rows`), not
+    the whole file for every block."""
+    from fieldlimits.pipeline.chunks import read_airfield_rows
+
+    return read_airfield_rows(path, airfield_ids)
 
 
 #: Part folders of the landing rows in the run's work folder (read by the route step and

@@ -561,8 +561,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     z_lo, z_hi = settings.score_range
     t_lo_case = climatology.daily_max_temperature_k(z_lo, c_mean, c_sd, c_pv)
     t_hi_case = climatology.daily_max_temperature_k(z_hi, c_mean, c_sd, c_pv)
-    fam_first = np.zeros(n_fam, dtype=np.int64)
-    fam_first[fam[::-1]] = np.arange(n)[::-1]
+    fam_first = _first_of(fam, n_fam)
     t_nodes_fam = solvinggrid.temperature_nodes(
         _reduce(fam, n_fam, t_lo_case, np.minimum), _reduce(fam, n_fam, t_hi_case, np.maximum),
         settings.temperature_nodes, flat_k[fam_first])  # (F, G)
@@ -578,8 +577,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     p_hi = _reduce(trk, n_trk, pressure, np.maximum)
     spread = p_hi - p_lo > settings.pressure_tol_pa
     p_hi = np.where(spread, p_hi, p_lo)
-    trk_first = np.zeros(n_trk, dtype=np.int64)
-    trk_first[trk[::-1]] = np.arange(n)[::-1]
+    trk_first = _first_of(trk, n_trk)
     trk_fam = fam[trk_first]
 
     # Tracks that are structural at MTOW at their worst corner (hottest node, strongest

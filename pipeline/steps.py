@@ -705,6 +705,8 @@ def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], bes
          route_path: Path | None, reused: str | None = None) -> dict[str, int]:
     """The single writer: all of the run in one DuckDB transaction (``reused``: the file of
     :func:`reference_reused`; the computed rows are stored, the reused ones referenced)."""
+    from fieldlimits.pipeline import landing
+
     folder = work_dir(prepared, run_id) / INPUTS_DIR
     inputs = [store.InputTable(name, prepared.inputs.files.get(name), prepared.inputs.hashes[name],
                                path=str(folder / f"{name}.parquet"))
@@ -715,8 +717,8 @@ def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], bes
         airfield_parts=[str(best_path)] + [r.airfield_path for r in results if r.airfield_path],
         inputs=inputs,
         route_payload=str(route_path) if route_path else None,  # scanned by the store
-        landing_direction=_landing_parts(prepared, run_id, "landing_direction"),  # scanned by the store
-        landing_airfield=_landing_parts(prepared, run_id, "landing_airfield"),
+        landing_direction=_landing_parts(prepared, run_id, landing.DIRECTION_PARTS),  # scanned by the store
+        landing_airfield=_landing_parts(prepared, run_id, landing.AIRFIELD_PARTS),
         hashes=prepared.hashes,
         reused_sources=reused,
         reused_cases=prepared.reused_cases,

@@ -29,6 +29,22 @@ def _physics_ready() -> bool:
 needs_physics = pytest.mark.skipif(not _physics_ready(), reason="fieldlimits.physics.weightlimit not available yet")
 
 
+def flow_run_log_messages(client, run_id) -> list[str]:
+    """Every log message of a flow run in time order (a sync Prefect client): the server
+    returns at most a page of logs per call."""
+    from prefect.client.schemas.filters import LogFilter, LogFilterFlowRunId
+    from prefect.client.schemas.sorting import LogSort
+
+    messages, offset = [], 0
+    while True:
+        page = client.read_logs(log_filter=LogFilter(flow_run_id=LogFilterFlowRunId(any_=[run_id])),
+                                limit=200, offset=offset, sort=LogSort.TIMESTAMP_ASC)
+        messages += [entry.message for entry in page]
+        offset += len(page)
+        if len(page) < 200:
+            return messages
+
+
 @pytest.fixture(scope="session")
 def demo_dir() -> Path:
     from fieldlimits.demo_network import demo_path

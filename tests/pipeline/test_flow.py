@@ -15,7 +15,7 @@ import pandas as pd
 import pytest
 
 from fieldlimits.pipeline import store
-from tests.pipeline.conftest import needs_physics
+from tests.pipeline.conftest import flow_run_log_messages, needs_physics
 
 pytestmark = needs_physics
 
@@ -53,9 +53,8 @@ def _what_the_ui_shows() -> dict:
     import time
 
     from prefect.client.orchestration import get_client
-    from prefect.client.schemas.filters import (ArtifactFilter, ArtifactFilterKey, LogFilter,
-                                                LogFilterFlowRunId)
-    from prefect.client.schemas.sorting import FlowRunSort, LogSort
+    from prefect.client.schemas.filters import ArtifactFilter, ArtifactFilterKey
+    from prefect.client.schemas.sorting import FlowRunSort
     from prefect.logging.handlers import APILogWorker
 
     from fieldlimits.pipeline.flow import SUMMARY_ARTIFACT
@@ -65,14 +64,7 @@ def _what_the_ui_shows() -> dict:
         run = client.read_flow_runs(sort=FlowRunSort.START_TIME_DESC, limit=1)[0]
         messages = []
         for _ in range(50):  # the log worker ships in batches
-            messages, offset = [], 0
-            while True:  # every page: the server returns at most a page of logs per call
-                logs = client.read_logs(log_filter=LogFilter(flow_run_id=LogFilterFlowRunId(any_=[run.id])),
-                                        limit=200, offset=offset, sort=LogSort.TIMESTAMP_ASC)
-                messages += [entry.message for entry in logs]
-                offset += len(logs)
-                if len(logs) < 200:
-                    break
+            messages = flow_run_log_messages(client, run.id)
             if any("complete:" in m for m in messages):
                 break
             time.sleep(0.2)

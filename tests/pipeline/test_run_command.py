@@ -24,20 +24,12 @@ pytestmark = needs_physics
 READ_BACK = textwrap.dedent("""
     import json
     from prefect.client.orchestration import get_client
-    from prefect.client.schemas.filters import (ArtifactFilter, ArtifactFilterKey, LogFilter,
-                                                LogFilterFlowRunId)
-    from prefect.client.schemas.sorting import LogSort
+    from prefect.client.schemas.filters import ArtifactFilter, ArtifactFilterKey
+    from tests.pipeline.conftest import flow_run_log_messages
     with get_client(sync_client=True) as client:
         runs = client.read_flow_runs()
         run = runs[0]
-        messages, offset = [], 0
-        while True:  # every page: the server returns at most a page of logs per call
-            page = client.read_logs(log_filter=LogFilter(flow_run_id=LogFilterFlowRunId(any_=[run.id])),
-                                    limit=200, offset=offset, sort=LogSort.TIMESTAMP_ASC)
-            messages += [entry.message for entry in page]
-            offset += len(page)
-            if len(page) < 200:
-                break
+        messages = flow_run_log_messages(client, run.id)
         arts = client.read_artifacts(artifact_filter=ArtifactFilter(
             key=ArtifactFilterKey(any_=["fieldlimits-run-summary"])))
     print(json.dumps({"runs": len(runs), "name": run.name, "state": run.state_name,
