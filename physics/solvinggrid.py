@@ -27,6 +27,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from fieldlimits.physics.compiled import kernel
+
 #: Standard-normal scores of the default temperature grid nodes. [–]
 DEFAULT_SCORE_NODES = (-2.5, -1.25, 0.0, 1.0, 1.75, 2.5)
 
@@ -71,7 +73,7 @@ def headwind_nodes(min_factored_mps, max_factored_mps, *, tail_nodes=2, head_nod
     return np.concatenate([lo[..., None] * t, hi[..., None] * h], axis=-1)
 
 
-def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps):
+def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps, rows=None):
     """Linear interpolation of grid masses in factored headwind, at every temperature node.
 
     Parameters
@@ -83,18 +85,26 @@ def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps):
     headwind_mps : array_like
         Factored headwind of each point, shape ``(..., J)``. Values outside the nodes are
         clamped to the end nodes. [m/s]
+    rows : array_like of int, optional
+        Grid rows to interpolate on: with ``rows``, ``grid_mass_kg`` is ``(N, G, H)`` and
+        ``nodes_mps`` ``(N, H)``, and point ``[..., j]`` of ``headwind_mps`` is interpolated
+        on grid ``grid_mass_kg[rows[...]]`` (the grid is read where it lies, not gathered);
+        ``rows`` and the leading shape of ``headwind_mps`` broadcast. Each in [0, N). [–]
 
     Returns
     -------
     numpy.ndarray
-        Masses at the points on each temperature node, shape ``(..., J, G)``; NaN when
+        Masses at the points on each temperature node, shape ``(..., J, G)`` (the leading
+        shape broadcast from the inputs, or from ``rows`` and ``headwind_mps``); NaN when
         either neighbouring node is NaN (the no-takeoff rule). [kg]
 
     Notes
     -----
-    m(h) = (1 − s) m_k + s m_{k+1}, s = (h − h_k)/(h_{k+1} − h_k), k the cell of h; a
-    zero-width cell gives s = 0. Together with the linear rule in temperature
-    (:func:`physics.reliabilitylevels.reliability_masses`) this is bilinear interpolation.
+    m(h) = m_k + s (m_{k+1} − m_k), s = (h − h_k)/(h_{k+1} − h_k), k the cell of h (the
+    number of interior nodes at or below h); a zero-width cell gives s = 0. Together with
+    the linear rule in temperature (:func:`physics.reliabilitylevels.reliability_masses`)
+    this is bilinear interpolation. Computed by a compiled kernel (:mod:`physics.compiled`)
+    that writes each point's masses straight from the two grid columns around it.
 
     References
     ----------
@@ -106,31 +116,57 @@ def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps):
     h = np.asarray(headwind_mps, dtype=float)
     n_g, n_h = grid.shape[-2:]
     n_j = h.shape[-1]
-    lead = np.broadcast_shapes(grid.shape[:-2], nodes.shape[:-1], h.shape[:-1])
-    rows = int(np.prod(lead, dtype=np.int64))
-    nodes = np.broadcast_to(nodes, lead + (n_h,)).reshape(rows, n_h)
-    h = np.broadcast_to(h, lead + (n_j,)).reshape(rows, n_j)
-    # Grid as (row, H, G): gathering a headwind node fetches all temperature nodes at once.
-    grid_t = np.ascontiguousarray(np.swapaxes(np.broadcast_to(grid, lead + (n_g, n_h)), -1, -2)
-                                  ).reshape(rows * n_h, n_g)
-    hc = np.clip(h, nodes[:, :1], nodes[:, -1:])
-    k = np.zeros((rows, n_j), dtype=np.int64)
-    for i in range(1, n_h - 1):  # a fixed, small number of headwind nodes
-        k += nodes[:, i:i + 1] <= hc
-    k1 = np.minimum(k + 1, n_h - 1)
-    h0 = np.take_along_axis(nodes, k, axis=-1)
-    h1 = np.take_along_axis(nodes, k1, axis=-1)
-    width = h1 - h0
-    s = np.where(width > 0.0, (hc - h0) / np.where(width > 0.0, width, 1.0), 0.0)
-    base = (np.arange(rows) * n_h)[:, None]
-    m0 = np.take(grid_t, base + k, axis=0)  # (rows, J, G)
-    out = np.take(grid_t, base + k1, axis=0)
-    # out = m0 + s (m1 − m0), in place; NaN propagates from either neighbour (0 × NaN is
-    # NaN): the no-takeoff rule.
-    np.subtract(out, m0, out=out)
-    np.multiply(s[..., None], out, out=out)
-    np.add(m0, out, out=out)
+    if rows is None:
+        lead = np.broadcast_shapes(grid.shape[:-2], nodes.shape[:-1], h.shape[:-1])
+        n_rows = int(np.prod(lead, dtype=np.int64))
+        # Copies only where a leading axis is really broadcast.
+        grid = np.broadcast_to(grid, lead + (n_g, n_h)).reshape(n_rows, n_g, n_h)
+        nodes = np.broadcast_to(nodes, lead + (n_h,)).reshape(n_rows, n_h)
+        row_of = np.arange(n_rows, dtype=np.int64)
+    else:
+        if grid.ndim != 3 or nodes.shape != (grid.shape[0], n_h):
+            raise ValueError(f"interpolate_headwind with rows: grid_mass_kg must be (N, G, H) and "
+                             f"nodes_mps (N, H); got {grid.shape} and {nodes.shape}")
+        row_of = np.asarray(rows)
+        if row_of.dtype.kind not in "iu":
+            raise TypeError(f"interpolate_headwind: rows must be integers, got dtype {row_of.dtype}")
+        lead = np.broadcast_shapes(row_of.shape, h.shape[:-1])
+        row_of = np.broadcast_to(row_of, lead).reshape(-1).astype(np.int64, copy=False)
+        if row_of.size and (row_of.min() < 0 or row_of.max() >= grid.shape[0]):
+            raise IndexError(f"interpolate_headwind: rows must lie in [0, {grid.shape[0]}), got "
+                             f"{row_of.min()} … {row_of.max()}")
+    h = np.broadcast_to(h, lead + (n_j,)).reshape(row_of.size, n_j)
+    out = np.empty((row_of.size, n_j, n_g))
+    _interpolate_headwind_kernel(grid, nodes, h, row_of, out)
     return out.reshape(lead + (n_j, n_g))
+
+
+@kernel
+def _interpolate_headwind_kernel(grid, nodes, headwind, row_of, out):
+    """out[i, j, g] = grid[row_of[i], g, ·] interpolated at headwind[i, j] on nodes[row_of[i]]
+    (:func:`interpolate_headwind`; the clamp as numpy's clip, NaN propagating)."""
+    n_g, n_h = grid.shape[1], grid.shape[2]
+    for i in range(row_of.size):
+        r = row_of[i]
+        lo = nodes[r, 0]
+        hi = nodes[r, n_h - 1]
+        for j in range(headwind.shape[1]):
+            x = headwind[i, j]
+            if not (np.isnan(x) or x > lo):  # max(x, lo), NaN kept
+                x = lo
+            if not (np.isnan(x) or x < hi):  # min(x, hi), NaN kept
+                x = hi
+            k = 0
+            for c in range(1, n_h - 1):  # the cell: interior nodes at or below x
+                if nodes[r, c] <= x:
+                    k += 1
+            k1 = min(k + 1, n_h - 1)
+            width = nodes[r, k1] - nodes[r, k]
+            s = (x - nodes[r, k]) / width if width > 0.0 else 0.0
+            for g in range(n_g):
+                m0 = grid[r, g, k]
+                # m0 + s (m1 − m0): NaN from either neighbour propagates (the no-takeoff rule).
+                out[i, j, g] = m0 + s * (grid[r, g, k1] - m0)
 
 
 def temperature_nodes(low_k, high_k, count, corner_k=None):
@@ -330,18 +366,102 @@ def grid_error_indicator(grid_mass_kg):
        interpolation) [from memory for the chapters].
     """
     m = np.asarray(grid_mass_kg, dtype=float)
-    big = np.inf
+    n_g, n_h = m.shape[-2:]
+    lead = m.shape[:-2]
+    n_rows = int(np.prod(lead, dtype=np.int64))
+    out = np.empty((n_rows, max(n_g - 1, 0), max(n_h - 1, 0)))
+    _grid_error_kernel(m.reshape(n_rows, n_g, n_h), out)
+    return out.reshape(lead + out.shape[1:])
 
-    def second(a, axis):
-        a = np.moveaxis(a, axis, -1)
-        if a.shape[-1] < 3:
-            d = np.zeros_like(a)
-        else:
-            inner = np.abs(a[..., 2:] - 2.0 * a[..., 1:-1] + a[..., :-2])
-            d = np.concatenate([inner[..., :1], inner, inner[..., -1:]], axis=-1)
-        return np.moveaxis(np.where(np.isfinite(d), d, big), -1, axis)
 
-    node = np.maximum(second(m, -2), second(m, -1))  # (..., G, H)
-    corner = np.maximum(np.maximum(node[..., :-1, :-1], node[..., 1:, :-1]),
-                        np.maximum(node[..., :-1, 1:], node[..., 1:, 1:]))
-    return 0.5 * corner
+@kernel
+def _grid_error_kernel(grid, out):
+    """out[r] = 0.5 × max of the corner nodes' |second difference| (either axis, inf where
+    not finite) of grid[r] (:func:`grid_error_indicator`)."""
+    n_g, n_h = grid.shape[1], grid.shape[2]
+    node = np.empty((n_g, n_h))
+    for r in range(grid.shape[0]):
+        for g in range(n_g):
+            for k in range(n_h):
+                d = 0.0
+                if n_g >= 3:  # along temperature; an end node takes its neighbour's
+                    c = min(max(g, 1), n_g - 2)
+                    d = abs(grid[r, c + 1, k] - 2.0 * grid[r, c, k] + grid[r, c - 1, k])
+                    if not np.isfinite(d):
+                        d = np.inf
+                e = 0.0
+                if n_h >= 3:  # along headwind
+                    c = min(max(k, 1), n_h - 2)
+                    e = abs(grid[r, g, c + 1] - 2.0 * grid[r, g, c] + grid[r, g, c - 1])
+                    if not np.isfinite(e):
+                        e = np.inf
+                node[g, k] = max(d, e)
+        for g in range(n_g - 1):
+            for k in range(n_h - 1):
+                out[r, g, k] = 0.5 * max(max(node[g, k], node[g + 1, k]),
+                                         max(node[g, k + 1], node[g + 1, k + 1]))
+
+
+def indicator_at_points(indicator_kg, nodes_mps, headwind_mps, rows):
+    """Interpolation-error indicator of the headwind cell each wind point lies in.
+
+    Parameters
+    ----------
+    indicator_kg : array_like
+        Indicator per grid cell, ``(N, G − 1, H − 1)`` (:func:`grid_error_indicator`). [kg]
+    nodes_mps : array_like
+        Headwind nodes of each grid, non-decreasing, ``(N, H)``. [m/s]
+    headwind_mps : array_like
+        Factored headwind of each point, ``(...)``. [m/s]
+    rows : array_like of int
+        Grid of each point, broadcastable with ``headwind_mps``; each in [0, N). [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        Indicator of each point's headwind cell at every temperature cell,
+        ``(..., G − 1)``. [kg]
+
+    Notes
+    -----
+    The cell of h is k = number of interior nodes h_1 … h_{H−2} at or below h (0 below the
+    second node, H − 2 from the last interior node on: a point beyond an end node takes the
+    end cell): the cell of the interpolation (:func:`interpolate_headwind`), there taken
+    after clamping h to the end nodes (the two differ only beside a zero-width end cell).
+    Computed by a compiled kernel that reads the indicator where it lies.
+
+    References
+    ----------
+    .. [2] Press et al. (2007), §3.1 (bracketing a value in a table).
+    """
+    ind = np.asarray(indicator_kg, dtype=float)
+    nodes = np.asarray(nodes_mps, dtype=float)
+    h = np.asarray(headwind_mps, dtype=float)
+    row_of = np.asarray(rows)
+    if ind.ndim != 3 or nodes.shape != (ind.shape[0], ind.shape[2] + 1) or ind.shape[2] < 1:
+        raise ValueError(f"indicator_at_points: indicator_kg must be (N, G - 1, H - 1) and nodes_mps "
+                         f"(N, H) with H >= 2; got {ind.shape} and {nodes.shape}")
+    if row_of.dtype.kind not in "iu":
+        raise TypeError(f"indicator_at_points: rows must be integers, got dtype {row_of.dtype}")
+    lead = np.broadcast_shapes(row_of.shape, h.shape)
+    row_of = np.broadcast_to(row_of, lead).reshape(-1).astype(np.int64, copy=False)
+    if row_of.size and (row_of.min() < 0 or row_of.max() >= ind.shape[0]):
+        raise IndexError(f"indicator_at_points: rows must lie in [0, {ind.shape[0]}), got "
+                         f"{row_of.min()} … {row_of.max()}")
+    out = np.empty((row_of.size, ind.shape[1]))
+    _indicator_at_points_kernel(ind, nodes, np.broadcast_to(h, lead).reshape(-1), row_of, out)
+    return out.reshape(lead + (ind.shape[1],))
+
+
+@kernel
+def _indicator_at_points_kernel(indicator, nodes, headwind, row_of, out):
+    """out[i, :] = indicator[row_of[i], :, cell of headwind[i]] (:func:`indicator_at_points`)."""
+    n_h = nodes.shape[1]
+    for i in range(row_of.size):
+        r = row_of[i]
+        k = 0
+        for c in range(1, n_h - 1):
+            if nodes[r, c] <= headwind[i]:
+                k += 1
+        for g in range(indicator.shape[1]):
+            out[i, g] = indicator[r, g, k]

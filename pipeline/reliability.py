@@ -883,7 +883,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     parts, sample_parts = [], []
     for gb, d_count in blocks:  # blocks of groups: memory, not a loop over cases
         sb = safe[gb, :d_count]
-        pm = solvinggrid.interpolate_headwind(case_grid[sb], h_nodes[sb], h_f[sb])  # (B, D, J, K)
+        pm = solvinggrid.interpolate_headwind(case_grid, h_nodes, h_f[sb], rows=sb)  # (B, D, J, K)
         fb = sb[:, 0]
         flown_b, m_grp, lost = reliabilitylevels.flown_direction(pm, cross_ex[sb], tail_ex[sb])
         prepared = reliabilitylevels.prepare_masses(m_grp, scores[fb])
@@ -896,8 +896,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         h_mid = h_f[c_mid, np.arange(n_pts)]
         key = d_mid * _KEY_STRIDE + h_mid
         # Error indicator of each point's grid cell on that direction, per temperature cell.
-        cell = np.clip(np.sum(h_nodes[c_mid][..., 1:-1] <= h_mid[..., None], axis=-1), 0, n_h - 2)
-        risk = cell_risk[c_mid[..., None], np.arange(k_win - 1), cell[..., None]]  # (B, J, K - 1)
+        risk = solvinggrid.indicator_at_points(cell_risk, h_nodes, h_mid, c_mid)  # (B, J, K - 1)
         sample_parts.append(_refinement_samples(prepared, scores[fb], weight_case[fb], res_b,
                                                 mtow[fb], key, settings, risk))
         parts.append(res_b)
@@ -915,7 +914,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
         for r0 in range(0, g.size, rows):  # blocks of days: memory, not a loop over cases
             gb, jb = g[r0:r0 + rows], j[r0:r0 + rows, None]
             c = safe[gb]  # (R, D)
-            pm_d = solvinggrid.interpolate_headwind(case_grid[c], h_nodes[c], h_f[c, jb][..., None])
+            pm_d = solvinggrid.interpolate_headwind(case_grid, h_nodes, h_f[c, jb][..., None], rows=c)
             use = valid[gb] & ~cross_ex[c, jb] & ~tail_ex[c, jb]
             best[r0:r0 + rows], within[r0:r0 + rows] = reliabilitylevels.direction_at_score(
                 np.where(valid[gb][..., None], pm_d[:, :, 0, :], np.nan), use, scores[c[:, 0]],

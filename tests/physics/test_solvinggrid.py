@@ -39,6 +39,60 @@ def test_interpolation_exact_for_bilinear_and_nan_rule():
     assert np.isfinite(got[2, -1]) and np.isfinite(got[1, -2])
 
 
+def _interpolate_by_loop(grid, nodes, h):
+    """Reference: the cell rule of the docstring, one point and one temperature node at a
+    time in plain Python (the formula and its order of operations, no vectorisation)."""
+    out = np.empty(h.shape + (grid.shape[0],))
+    for j, x in enumerate(h):
+        if not np.isnan(x):
+            x = min(max(x, nodes[0]), nodes[-1])
+        k = sum(1 for c in range(1, nodes.size - 1) if nodes[c] <= x)
+        k1 = min(k + 1, nodes.size - 1)
+        width = nodes[k1] - nodes[k]
+        s = (x - nodes[k]) / width if width > 0.0 else 0.0
+        for g in range(grid.shape[0]):
+            out[j, g] = grid[g, k] + s * (grid[g, k1] - grid[g, k])
+    return out
+
+
+def test_interpolation_equals_the_cell_rule_point_by_point_to_the_bit():
+    # Invented grids with no-takeoff nodes, repeated (zero-width) nodes at calm, points
+    # beyond both ends and a point of unknown headwind (NaN).
+    rng = np.random.default_rng(5)
+    nodes = np.stack([solvinggrid.headwind_nodes(-6.0, 8.0, tail_nodes=3, head_nodes=4),
+                      solvinggrid.headwind_nodes(0.0, 5.0, tail_nodes=3, head_nodes=4)])  # (2, H)
+    grid = rng.normal(60_000.0, 3_000.0, (2, 4, nodes.shape[1]))
+    grid[0, 2, 5] = grid[1, 0, 0] = np.nan
+    h = np.array([[-9.0, -6.0, -1.7, 0.0, 0.4, 3.9, 8.0, 11.0, np.nan],
+                  [-2.0, 0.0, 0.0, 0.1, 1.25, 2.5, 4.99, 5.0, 7.0]])
+    got = solvinggrid.interpolate_headwind(grid, nodes, h)  # (2, J, G)
+    for r in range(2):
+        np.testing.assert_array_equal(got[r], _interpolate_by_loop(grid[r], nodes[r], h[r]))
+    # The same points read through rows (grid and nodes not gathered): grid 1, 0, 1.
+    rows = np.array([1, 0, 1])
+    hr = np.stack([h[1], h[0], h[0]])
+    got = solvinggrid.interpolate_headwind(grid, nodes, hr, rows=rows)
+    for i, r in enumerate(rows):
+        np.testing.assert_array_equal(got[i], _interpolate_by_loop(grid[r], nodes[r], hr[i]))
+    # rows broadcast against the points' leading axes: (2, 1) rows, (2, 3, J) points.
+    h3 = np.broadcast_to(h[:, None, :], (2, 3, h.shape[1]))
+    got = solvinggrid.interpolate_headwind(grid, nodes, h3, rows=np.array([[1], [0]]))
+    assert got.shape == (2, 3, h.shape[1], 4)
+    np.testing.assert_array_equal(got[0, 2], _interpolate_by_loop(grid[1], nodes[1], h[0]))
+    np.testing.assert_array_equal(got[1, 1], _interpolate_by_loop(grid[0], nodes[0], h[1]))
+
+
+def test_interpolation_rows_out_of_range_is_refused():
+    grid = np.zeros((2, 3, 5))
+    nodes = np.tile(np.linspace(-2.0, 2.0, 5), (2, 1))
+    with pytest.raises(IndexError, match=r"rows must lie in \[0, 2\)"):
+        solvinggrid.interpolate_headwind(grid, nodes, np.zeros((1, 4)), rows=np.array([2]))
+    with pytest.raises(IndexError, match="rows must lie"):
+        solvinggrid.interpolate_headwind(grid, nodes, np.zeros((1, 4)), rows=np.array([-1]))
+    with pytest.raises(ValueError, match=r"nodes_mps \(N, H\)"):
+        solvinggrid.interpolate_headwind(grid, nodes[:1], np.zeros((1, 4)), rows=np.array([0]))
+
+
 # --------------------------------------------------------------------------------------
 # The shared solving grid
 # --------------------------------------------------------------------------------------
@@ -114,3 +168,35 @@ def test_grid_error_indicator_zero_for_bilinear_and_the_interpolation_error_at_a
     # No-takeoff corners: unknown, flagged as infinite.
     kink[-1, -1] = np.nan
     assert np.isinf(solvinggrid.grid_error_indicator(kink)[-1, -1])
+
+
+def test_grid_error_indicator_with_two_temperature_nodes_takes_the_headwind_differences():
+    # Two temperature nodes: no second difference in temperature (0), so the indicator is
+    # half the headwind one. Invented rows, second differences by hand: 60 000, 61 000,
+    # 61 500, 61 600 kg -> interior |Δ²| = |61 500 − 122 000 + 60 000| = 500 and
+    # |61 600 − 123 000 + 61 000| = 400; end nodes take their neighbour's (500, 400).
+    row = np.array([60_000.0, 61_000.0, 61_500.0, 61_600.0])
+    grid = np.stack([row, row - 2_000.0])  # (G=2, H=4), linear in temperature
+    ind = solvinggrid.grid_error_indicator(grid)
+    np.testing.assert_array_equal(ind, [[250.0, 250.0, 200.0]])
+    # Leading axes are independent rows.
+    both = solvinggrid.grid_error_indicator(np.stack([grid, 2.0 * grid]))
+    np.testing.assert_array_equal(both, [[[250.0, 250.0, 200.0]], [[500.0, 500.0, 400.0]]])
+
+
+def test_indicator_at_points_takes_each_points_headwind_cell():
+    # Nodes −4 … 4 m/s every 2 m/s (cells 0–3); the indicator of grid r, temperature cell
+    # g, headwind cell k is 100 r + 10 g + k so each pick can be read off.
+    nodes = np.tile(np.linspace(-4.0, 4.0, 5), (2, 1))
+    ind = (100.0 * np.arange(2)[:, None, None] + 10.0 * np.arange(3)[None, :, None]
+           + np.arange(4)[None, None, :])  # (N=2, G−1=3, H−1=4)
+    h = np.array([-7.0, -4.0, -2.0, -0.5, 0.0, 3.9, 4.0, 9.0, np.nan])
+    # Cells: beyond the ends the end cells; on an interior node the cell above it.
+    cells = np.array([0, 0, 1, 1, 2, 3, 3, 3, 0])
+    got = solvinggrid.indicator_at_points(ind, nodes, h, np.ones(h.size, dtype=int))
+    np.testing.assert_array_equal(got, 100.0 + 10.0 * np.arange(3)[None, :] + cells[:, None])
+    got = solvinggrid.indicator_at_points(ind, nodes, h[None, :], np.array([[0], [1]]))
+    assert got.shape == (2, h.size, 3)
+    np.testing.assert_array_equal(got[0, :, 0], cells)
+    with pytest.raises(IndexError, match="rows must lie"):
+        solvinggrid.indicator_at_points(ind, nodes, h, 2)
