@@ -22,6 +22,7 @@ No formulas here: the atmosphere comes from :mod:`physics.atmosphere`, friction 
 
 from __future__ import annotations
 
+import json
 import os
 from dataclasses import dataclass
 from pathlib import Path
@@ -34,7 +35,8 @@ import pyarrow.parquet as pq
 from fieldlimits.physics import atmosphere, constants
 from fieldlimits.schemas.results import CONDITIONS
 
-CASES_FILE = "cases.parquet"
+STATIONS_FILE = "stations.parquet"  # runway direction × month rows, a row group per chunk
+CASE_SPEC_FILE = "cases.json"  # conditions, reused pairs and case counts of the chunks
 AIRCRAFT_FILE = "aircraft.parquet"
 TABLES_DIR = "tables"
 
@@ -185,12 +187,8 @@ def all_stations(tables: dict[str, pd.DataFrame], temperature_offset_k: float) -
     return stations.sort_values(["airfield_id", "runway_id", "month"], kind="stable", ignore_index=True)
 
 
-def block_cases(tables: dict[str, pd.DataFrame], airfield_ids, temperature_offset_k: float,
-                conditions: tuple[str, ...] = CONDITIONS, stations: pd.DataFrame | None = None,
-                skip: Skip = Skip()) -> pd.DataFrame:
-    """All cases of some airfields: directions × months × types × conditions (minus ``skip``)."""
-    if stations is None:
-        stations = all_stations(tables, temperature_offset_k)
+def block_stations(stations: pd.DataFrame, airfield_ids) -> pd.DataFrame:
+    """The rows of ``stations`` (sorted, :func:`all_stations`) of some airfields."""
     ids = list(airfield_ids)
     airfield = stations["airfield_id"].to_numpy(object)
     lo = np.searchsorted(airfield, ids[0], side="left") if len(ids) else 0
@@ -198,13 +196,28 @@ def block_cases(tables: dict[str, pd.DataFrame], airfield_ids, temperature_offse
     block = stations.iloc[lo:hi]
     if set(block["airfield_id"].unique()) != set(ids):  # ids not a contiguous sorted run
         block = stations[stations["airfield_id"].isin(ids)]
-    types = tables["aircraft_types"]["aircraft_type_id"].astype(str).to_numpy()
-    cases = expand_cases(block, types, conditions)
+    return block
+
+
+def station_cases(block: pd.DataFrame, types, conditions: tuple[str, ...] = CONDITIONS,
+                  skip: Skip = Skip()) -> pd.DataFrame:
+    """The cases of station rows (:func:`expand_cases`) minus the pairs in ``skip``."""
+    cases = expand_cases(block, np.asarray(types, dtype=object), conditions)
     if skip:
         reused = (cases["airfield_id"].isin(list(skip.airfields))
                   & cases["aircraft_type_id"].isin(list(skip.types))).to_numpy()
         cases = cases[~reused].reset_index(drop=True)
     return cases
+
+
+def block_cases(tables: dict[str, pd.DataFrame], airfield_ids, temperature_offset_k: float,
+                conditions: tuple[str, ...] = CONDITIONS, stations: pd.DataFrame | None = None,
+                skip: Skip = Skip()) -> pd.DataFrame:
+    """All cases of some airfields: directions × months × types × conditions (minus ``skip``)."""
+    if stations is None:
+        stations = all_stations(tables, temperature_offset_k)
+    types = tables["aircraft_types"]["aircraft_type_id"].astype(str).to_numpy()
+    return station_cases(block_stations(stations, airfield_ids), types, conditions, skip)
 
 
 def obstacle_arrays(cases: pd.DataFrame, obstacles: pd.DataFrame | None):
@@ -489,8 +502,11 @@ def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str 
                 skip: Skip = Skip()) -> Path:
     """Write the run's inputs for the chunk tasks into ``work_dir``; return its path.
 
-    ``cases.parquet`` gets one row group per chunk of ``plan`` (built one block at a time,
-    so memory stays bounded by the chunk size).
+    The cases themselves are not written: ``stations.parquet`` holds each runway direction ×
+    month with its design-day atmosphere, one row group per chunk of ``plan``, and
+    ``cases.json`` the conditions, the reused pairs and the planned case counts; a chunk
+    expands its own row group into its cases (:func:`read_chunk_cases`), so the main
+    process neither builds nor writes the run's millions of case rows.
     """
     work = Path(work_dir)
     (work / TABLES_DIR).mkdir(parents=True, exist_ok=True)
@@ -502,16 +518,40 @@ def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str 
     stations = all_stations(tables, temperature_offset_k)
 
     def parts():
-        for block, expected in zip(plan.airfield_blocks, plan.cases_per_chunk):
-            cases = block_cases(tables, block, temperature_offset_k, conditions, stations, skip)
-            if len(cases) != expected:  # a broken invariant, not a user error
-                raise RuntimeError(f"chunk of {block[:3]}… has {len(cases)} cases, planned {expected}")
-            yield pa.Table.from_pandas(cases, preserve_index=False), max(len(cases), 1)
+        schema = None
+        for block in plan.airfield_blocks:
+            rows = block_stations(stations, block)
+            table = pa.Table.from_pandas(rows, preserve_index=False, schema=schema)
+            schema = table.schema
+            yield table, max(len(rows), 1)
 
-    _write_parquet_parts(work / CASES_FILE, parts())
+    _write_parquet_parts(work / STATIONS_FILE, parts())
+    spec = {"conditions": list(conditions), "skip_airfields": sorted(skip.airfields),
+            "skip_types": sorted(skip.types), "cases_per_chunk": [int(n) for n in plan.cases_per_chunk]}
+    tmp = work / f".{CASE_SPEC_FILE}.{os.getpid()}.tmp"
+    tmp.write_text(json.dumps(spec))
+    os.replace(tmp, work / CASE_SPEC_FILE)
     return work
 
 
+def _case_spec(work: Path) -> dict:
+    return json.loads((work / CASE_SPEC_FILE).read_text())
+
+
+def planned_cases(work_dir: str | os.PathLike, chunk: int | None = None) -> int:
+    """Cases of chunk ``chunk`` of the run in ``work_dir`` (all chunks': None), as planned."""
+    counts = _case_spec(Path(work_dir))["cases_per_chunk"]
+    return int(sum(counts)) if chunk is None else int(counts[chunk])
+
+
 def read_chunk_cases(work_dir: str | os.PathLike, chunk: int) -> pd.DataFrame:
-    """The cases of one chunk (one row group of ``cases.parquet``)."""
-    return pq.ParquetFile(Path(work_dir) / CASES_FILE).read_row_group(chunk).to_pandas()
+    """The cases of one chunk, expanded from its row group of ``stations.parquet``."""
+    work = Path(work_dir)
+    spec = _case_spec(work)
+    block = pq.ParquetFile(work / STATIONS_FILE).read_row_group(chunk).to_pandas()
+    types = pq.read_table(work / AIRCRAFT_FILE, columns=["aircraft_type_id"]).column(0).to_pylist()
+    skip = Skip(frozenset(spec["skip_airfields"]), frozenset(spec["skip_types"]))
+    cases = station_cases(block, [str(t) for t in types], tuple(spec["conditions"]), skip)
+    if len(cases) != spec["cases_per_chunk"][chunk]:  # a broken invariant, not a user error
+        raise RuntimeError(f"chunk {chunk} has {len(cases)} cases, planned {spec['cases_per_chunk'][chunk]}")
+    return cases

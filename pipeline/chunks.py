@@ -323,7 +323,7 @@ def _process_pool(work: Path):
     if size < 2 or producers.ROW_PRODUCERS or _in_worker_process():
         return None
     try:
-        n_cases = pq.ParquetFile(work / case_io.CASES_FILE).metadata.num_rows
+        n_cases = case_io.planned_cases(work)
     except Exception:
         return None
     if n_cases < PROCESS_MIN_CASES:
@@ -429,7 +429,7 @@ def reused_part(work: Path, chunk: int, key: str) -> ChunkResult | None:
     direction_path, airfield_path = part_paths(work, chunk)
     done, bases, rows = _existing_part(direction_path, key)
     if done and (not bases or _existing_part(airfield_path, key)[0]):
-        n_cases = pq.ParquetFile(work / case_io.CASES_FILE).metadata.row_group(chunk).num_rows
+        n_cases = case_io.planned_cases(work, chunk)
         return ChunkResult(chunk, str(direction_path), str(airfield_path) if bases else None,
                            bases, rows, n_cases, reused=True)
     return None
@@ -526,7 +526,7 @@ def chunk_payload(work_dir: str | os.PathLike, chunk: int, run_id: int, params: 
     """Read one chunk's cases and the parts of the input tables it needs from the client's
     work folder (each table with an ``airfield_id`` only for the chunk's airfields)."""
     work = Path(work_dir)
-    cases = pq.ParquetFile(work / case_io.CASES_FILE).read_row_group(chunk)
+    cases = pa.Table.from_pandas(case_io.read_chunk_cases(work, chunk), preserve_index=False)
     airfields = sorted(set(cases.column("airfield_id").to_pylist()))
     files = {case_io.AIRCRAFT_FILE: (work / case_io.AIRCRAFT_FILE).read_bytes()}
     for path in sorted((work / case_io.TABLES_DIR).glob("*.parquet")):
