@@ -1301,7 +1301,10 @@ def _solve_staged(cases, tol_kg, reqs, figures):
     once, at that limit; where they are met
     it stands, elsewhere stage 3 searches them alone below it (every other requirement is
     met there). The factor is the requirement most violated at the bracket's upper end, as
-    in the single search; the figures are taken at the limit with a converged V1.
+    in the single search; the figures are taken at the limit with a converged V1. Where the
+    V1 stage searched, the factor comes from the search's margins at the upper end and, to
+    part go and stop at a balanced V1, from the distances of the figures' evaluation
+    (:func:`_searched_factor`; without the figures: the search's margins alone).
     """
     a = cases.aircraft
     n = cases.n
@@ -1368,13 +1371,14 @@ def _solve_staged(cases, tol_kg, reqs, figures):
     limit = np.where(none, np.nan, limit_at)
     # the factor: the requirement most violated at the upper end. Where the other requirements
     # bind and the engine-failure margins are clear of zero at the limit they cannot bind a
-    # kilogram higher; elsewhere the engine-failure margins there are evaluated (with V1
-    # converged when the figures are wanted: at a balanced V1 the go and stop margins tie and
-    # only a converged V1 names the binding one reproducibly).
+    # kilogram higher; elsewhere, where the V1 stage did not search, the engine-failure
+    # margins there are evaluated (with V1 converged when the figures are wanted: at a
+    # balanced V1 the go and stop margins tie and only a converged V1 names the binding one
+    # reproducibly); where it searched, its margins there name it (with the figures,
+    # _searched_factor parts a balanced go and stop by the distances at the limit).
     clear = np.zeros(n, dtype=bool)
     clear[idx] = least > STAGE_CLEAR_MARGIN
-    again = ~none & ~structural & ~clear
-    again = np.flatnonzero(again | (searched & ~none) if figures else again & ~searched)
+    again = np.flatnonzero(~none & ~structural & ~clear & ~searched)
     if again.size:
         m_again, _ = requirement_margins(final_cases(again), above[again], costly)
         m_above[np.ix_(np.flatnonzero(costly_row), again)] = m_again
@@ -1392,7 +1396,85 @@ def _solve_staged(cases, tol_kg, reqs, figures):
                 if r.report is not None:
                     for key, val in r.report(sub, mass, memo).items():
                         out[key][final] = np.asarray(val, dtype=float)
+            at = np.flatnonzero(searched[final])
+            if at.size:
+                r = memo["engine_failure"]
+                st = sub.site
+                factor[final[at]] = codes[_searched_factor(
+                    reqs, m_above.take(final[at], axis=1),
+                    tuple(np.broadcast_to(x, mass.shape).take(at) for x in (
+                        r.takeoff_distance_m, r.takeoff_run_m, r.accelerate_stop_m)),
+                    tuple(np.broadcast_to(x, mass.shape).take(at) for x in (st.toda_m, st.tora_m, st.asda_m)))]
     return WeightLimit(tow_limit_kg=limit, limiting_factor=factor.astype(np.int64), **out)
+
+
+#: Go and stop excess distances (available − required, V1 converged) within this share of
+#: ASDA of each other are taken as balanced by V1 (:func:`_searched_factor`); a V1 converged
+#: to 1e-9 m/s leaves them within about 1e-10 of it. [–]
+BALANCED_EXCESS_SHARE = 1e-6
+
+
+def _searched_factor(reqs, m_above, required_m, available_m):
+    """Factor of the cases the engine-failure search limited, without evaluating above the limit.
+
+    Parameters
+    ----------
+    reqs : list of Requirement
+        The requirements, in the order of the margins' rows.
+    m_above : numpy.ndarray
+        Every requirement's margin at the upper end of the bracket, V1 from the search's
+        Newton steps (+inf for the requirements not searched), shape (n_requirements, n). [–]
+    required_m : tuple of numpy.ndarray
+        One-engine-inoperative takeoff distance and run, accelerate-stop distance at the
+        limit with V1 converged (the figures' evaluation). [m]
+    available_m : tuple of numpy.ndarray
+        TODA, TORA, ASDA. [m]
+
+    Returns
+    -------
+    numpy.ndarray
+        Index of the requirement most violated at the upper end with V1 converged.
+
+    Notes
+    -----
+    The requirement most violated at the upper end is the factor. The search's margins
+    there have V1 within about 1e-4 m/s of the best, which is exact where V1 is held at
+    V_MCG or VR and changes a margin by about 1e-6 elsewhere. That decides, except between
+    the two requirements V1 balances: the go requirement that binds the continued takeoff
+    and accelerate-stop. Their excess distances e = available − required are equal at a
+    balanced V1, at every mass, so both cross zero together and at the upper end their
+    margins are E/d_go and E/ASD (+ :data:`physics.enginefailure.STOP_TIE_BIAS`), the
+    same E < 0; d_go − ASD = (go available) − ASDA does not change with the mass, so the
+    distances at the limit give the order exactly, and E (from the search's two margins,
+    about 3 % off) only weighs the tie bias where the distances are within micrometres
+    (TODA = ASDA: the go requirement, as a converged evaluation names it). A case counts as
+    balanced where its go and stop excesses at the limit are within
+    :data:`BALANCED_EXCESS_SHARE` of ASDA.
+    """
+    rows = {r.margin: k for k, r in enumerate(reqs)}
+    k_tod = rows.get(enginefailure.engine_out_takeoff_distance_margin)
+    k_tor = rows.get(enginefailure.engine_out_takeoff_run_margin)
+    k_asd = rows.get(enginefailure.accelerate_stop_margin)
+    pred = np.array(m_above, dtype=float, copy=True)
+    if k_tod is not None and k_tor is not None and k_asd is not None:
+        tod, tor, asd = required_m
+        toda, tora, asda = (np.broadcast_to(np.asarray(x, dtype=float), asd.shape) for x in available_m)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            e_tod, e_tor = toda - tod, tora - tor
+            e_go = np.fmin(e_tod, e_tor)
+            d_go = np.where(e_tod <= e_tor, tod, tor)
+            balanced = np.abs(e_go - (asda - asd)) <= BALANCED_EXCESS_SHARE * asda
+            k_go = np.where(e_tod <= e_tor, k_tod, k_tor)
+            m_go = np.take_along_axis(m_above, k_go[None, :], axis=0)[0]
+            big_e = 0.5 * (m_go * d_go + (m_above[k_asd] - enginefailure.STOP_TIE_BIAS) * asd)
+            b = np.flatnonzero(balanced & (big_e < 0.0))
+            if b.size:
+                eb = big_e[b]
+                for k, e, d in ((k_tod, e_tod, tod), (k_tor, e_tor, tor)):
+                    tie = b[e[b] == e_go[b]]  # the binding go requirement (both where equal)
+                    pred[k, tie] = big_e[tie] / d[tie]
+                pred[k_asd, b] = eb / asd[b] + enginefailure.STOP_TIE_BIAS
+    return _least_met(-pred)[0]
 
 
 def _shifted(capture, index):
