@@ -711,8 +711,7 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     win = start[:, None] + np.arange(k_win)  # (n, K)
     t_nodes = np.take_along_axis(t_case_nodes, win, axis=1)
     case_grid = solvinggrid.interpolate_pressure(
-        np.take_along_axis(grid_lo[trk], win[:, :, None], axis=1),
-        np.take_along_axis(grid_hi[trk], win[:, :, None], axis=1),
+        grid_lo[trk[:, None], win], grid_hi[trk[:, None], win],
         p_lo[trk][:, None, None], p_hi[trk][:, None, None], pressure[:, None, None])  # (n, K, H)
     flat = ~(c_sd > 0)  # zero spread: every day at the mean
     with np.errstate(invalid="ignore", divide="ignore"):
