@@ -187,10 +187,12 @@ def all_stations(tables: dict[str, pd.DataFrame], temperature_offset_k: float) -
     return stations.sort_values(["airfield_id", "runway_id", "month"], kind="stable", ignore_index=True)
 
 
-def block_stations(stations: pd.DataFrame, airfield_ids) -> pd.DataFrame:
-    """The rows of ``stations`` (sorted, :func:`all_stations`) of some airfields."""
+def block_stations(stations: pd.DataFrame, airfield_ids, airfield: np.ndarray | None = None) -> pd.DataFrame:
+    """The rows of ``stations`` (sorted, :func:`all_stations`) of some airfields;
+    ``airfield``: its ``airfield_id`` column as an object array, when the caller has it."""
     ids = list(airfield_ids)
-    airfield = stations["airfield_id"].to_numpy(object)
+    if airfield is None:
+        airfield = stations["airfield_id"].to_numpy(object)
     lo = np.searchsorted(airfield, ids[0], side="left") if len(ids) else 0
     hi = np.searchsorted(airfield, ids[-1], side="right") if len(ids) else 0
     block = stations.iloc[lo:hi]
@@ -516,11 +518,12 @@ def write_cases(tables: dict[str, pd.DataFrame], plan: ChunkPlan, work_dir: str 
     _atomic_write_table(pa.Table.from_pandas(aircraft, preserve_index=False), work / AIRCRAFT_FILE)
 
     stations = all_stations(tables, temperature_offset_k)
+    airfield = stations["airfield_id"].to_numpy(object)  # once, not per chunk
 
     def parts():
         schema = None
         for block in plan.airfield_blocks:
-            rows = block_stations(stations, block)
+            rows = block_stations(stations, block, airfield)
             table = pa.Table.from_pandas(rows, preserve_index=False, schema=schema)
             schema = table.schema
             yield table, max(len(rows), 1)
