@@ -8,8 +8,14 @@ of a runway direction (:func:`temperature_nodes`, :func:`headwind_nodes`,
 temperature nodes (:func:`node_window`) at their standard-normal scores, and interpolates
 each wind point's mass on it (:func:`interpolate_headwind`); the levels are then found on
 that surface (:mod:`physics.reliabilitylevels`), treating the temperature distribution as
-continuous, not binned. :func:`grid_error_indicator` says which cells may hold an
-interpolation error worth correcting with direct solves.
+continuous, not binned. :func:`interpolate_day` gives single days (a wind point at a
+temperature score) straight from the grid. :func:`grid_error_indicator` says which cells
+may hold an interpolation error worth correcting with direct solves, and
+:func:`indicator_at_points` which cell each wind point lies in.
+
+The interpolations and the indicator are compiled kernels (:mod:`physics.compiled`) that
+read each grid where it lies: a caller passes the whole grid array and the row of each
+point (``rows``) instead of gathering a copy of the grids per point.
 
 Conventions: ``G`` temperature nodes, ``H`` headwind nodes, ``J`` wind points; masses that
 are not possible are NaN.
@@ -142,31 +148,126 @@ def interpolate_headwind(grid_mass_kg, nodes_mps, headwind_mps, rows=None):
 
 
 @kernel
+def _headwind_cell(nodes, r, x):
+    """Cell k, its upper node k1 and the share s of factored headwind x on the headwind
+    nodes of grid r (:func:`interpolate_headwind`: x clamped as numpy's clip, NaN kept)."""
+    n_h = nodes.shape[1]
+    lo = nodes[r, 0]
+    hi = nodes[r, n_h - 1]
+    if not (np.isnan(x) or x > lo):  # max(x, lo), NaN kept
+        x = lo
+    if not (np.isnan(x) or x < hi):  # min(x, hi), NaN kept
+        x = hi
+    k = 0
+    for c in range(1, n_h - 1):  # the cell: interior nodes at or below x
+        if nodes[r, c] <= x:
+            k += 1
+    k1 = min(k + 1, n_h - 1)
+    width = nodes[r, k1] - nodes[r, k]
+    s = (x - nodes[r, k]) / width if width > 0.0 else 0.0
+    return k, k1, s
+
+
+@kernel
 def _interpolate_headwind_kernel(grid, nodes, headwind, row_of, out):
     """out[i, j, g] = grid[row_of[i], g, ·] interpolated at headwind[i, j] on nodes[row_of[i]]
-    (:func:`interpolate_headwind`; the clamp as numpy's clip, NaN propagating)."""
-    n_g, n_h = grid.shape[1], grid.shape[2]
+    (:func:`interpolate_headwind`)."""
     for i in range(row_of.size):
         r = row_of[i]
-        lo = nodes[r, 0]
-        hi = nodes[r, n_h - 1]
         for j in range(headwind.shape[1]):
-            x = headwind[i, j]
-            if not (np.isnan(x) or x > lo):  # max(x, lo), NaN kept
-                x = lo
-            if not (np.isnan(x) or x < hi):  # min(x, hi), NaN kept
-                x = hi
-            k = 0
-            for c in range(1, n_h - 1):  # the cell: interior nodes at or below x
-                if nodes[r, c] <= x:
-                    k += 1
-            k1 = min(k + 1, n_h - 1)
-            width = nodes[r, k1] - nodes[r, k]
-            s = (x - nodes[r, k]) / width if width > 0.0 else 0.0
-            for g in range(n_g):
+            k, k1, s = _headwind_cell(nodes, r, headwind[i, j])
+            for g in range(grid.shape[1]):
                 m0 = grid[r, g, k]
                 # m0 + s (m1 − m0): NaN from either neighbour propagates (the no-takeoff rule).
                 out[i, j, g] = m0 + s * (grid[r, g, k1] - m0)
+
+
+def interpolate_day(grid_mass_kg, nodes_mps, node_scores, headwind_mps, score, rows):
+    """Mass of days on the solving grid: bilinear in factored headwind and temperature score.
+
+    Parameters
+    ----------
+    grid_mass_kg : array_like
+        Masses solved on the grid, ``(N, G, H)``; NaN where no takeoff. [kg]
+    nodes_mps : array_like
+        Headwind nodes of each grid, non-decreasing, ``(N, H)``. [m/s]
+    node_scores : array_like
+        Standard-normal scores of the temperature nodes, increasing, ``(..., G)``. [–]
+    headwind_mps : array_like
+        Factored headwind of each day, ``(...)``. [m/s]
+    score : array_like
+        Standard-normal score of each day's temperature, ``(...)``. [–]
+    rows : array_like of int
+        Grid of each day, ``(...)``, each in [0, N); the leading shapes broadcast. [–]
+
+    Returns
+    -------
+    numpy.ndarray
+        Mass of each day, ``(...)``; NaN when a temperature node next to its score is not
+        possible there. [kg]
+
+    Notes
+    -----
+    m(h, z) = m_g(h) + s (m_{g+1}(h) − m_g(h)), s = (z − z_g)/(z_{g+1} − z_g), with m_g(h)
+    the headwind interpolation of :func:`interpolate_headwind` on temperature node g, g the
+    segment of z and the linear extension beyond the end nodes of
+    :func:`physics.reliabilitylevels.mass_at_score` (NaN when m_g or m_{g+1} is not
+    finite). Only the two temperature nodes around z are interpolated in headwind, so this
+    is ``mass_at_score(interpolate_headwind(...), scores, z)`` to the bit at 2/G of the
+    work, with no (…, G) intermediate.
+
+    References
+    ----------
+    .. [2] Press et al. (2007), §3.6 (interpolation in two dimensions, bilinear).
+    """
+    grid = np.asarray(grid_mass_kg, dtype=float)
+    nodes = np.asarray(nodes_mps, dtype=float)
+    zn = np.asarray(node_scores, dtype=float)
+    h = np.asarray(headwind_mps, dtype=float)
+    z = np.asarray(score, dtype=float)
+    row_of = np.asarray(rows)
+    n_g = grid.shape[1] if grid.ndim == 3 else 0
+    if grid.ndim != 3 or nodes.shape != (grid.shape[0], grid.shape[2]) or zn.shape[-1:] != (n_g,):
+        raise ValueError(f"interpolate_day: grid_mass_kg must be (N, G, H), nodes_mps (N, H) and "
+                         f"node_scores (..., G); got {grid.shape}, {nodes.shape} and {zn.shape}")
+    if row_of.dtype.kind not in "iu":
+        raise TypeError(f"interpolate_day: rows must be integers, got dtype {row_of.dtype}")
+    lead = np.broadcast_shapes(row_of.shape, h.shape, z.shape, zn.shape[:-1])
+    row_of = np.broadcast_to(row_of, lead).reshape(-1).astype(np.int64, copy=False)
+    if row_of.size and (row_of.min() < 0 or row_of.max() >= grid.shape[0]):
+        raise IndexError(f"interpolate_day: rows must lie in [0, {grid.shape[0]}), got "
+                         f"{row_of.min()} … {row_of.max()}")
+    out = np.empty(row_of.size)
+    _interpolate_day_kernel(grid, nodes, np.broadcast_to(zn, lead + (n_g,)).reshape(-1, n_g),
+                            np.broadcast_to(h, lead).reshape(-1), np.broadcast_to(z, lead).reshape(-1),
+                            row_of, out)
+    return out.reshape(lead)
+
+
+@kernel
+def _interpolate_day_kernel(grid, nodes, node_scores, headwind, score, row_of, out):
+    """out[i] = mass of day i on grid row_of[i] (:func:`interpolate_day`)."""
+    n_g = grid.shape[1]
+    for i in range(row_of.size):
+        r = row_of[i]
+        k, k1, s = _headwind_cell(nodes, r, headwind[i])
+        x = score[i]
+        if n_g == 1:
+            m0 = grid[r, 0, k]
+            out[i] = (m0 + s * (grid[r, 0, k1] - m0)) + 0.0 * x
+            continue
+        g = 0
+        for c in range(1, n_g - 1):  # the temperature segment: interior node scores at or below x
+            if node_scores[i, c] <= x:
+                g += 1
+        m0 = grid[r, g, k]
+        f0 = m0 + s * (grid[r, g, k1] - m0)
+        m0 = grid[r, g + 1, k]
+        f1 = m0 + s * (grid[r, g + 1, k1] - m0)
+        z0 = node_scores[i, g]
+        z1 = node_scores[i, g + 1]
+        t = (x - z0) / ((z1 - z0) if z1 > z0 else np.inf)
+        out[i] = f0 + t * (f1 - f0) if (np.isfinite(f0) and np.isfinite(f1)) else np.nan
 
 
 def temperature_nodes(low_k, high_k, count, corner_k=None):

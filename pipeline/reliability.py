@@ -907,18 +907,14 @@ def reliability_frames(cases: pd.DataFrame, aircraft_table: pd.DataFrame, runway
     def day_directions(g, j, z, margin=0.0):
         """Best usable direction index of days (group g, wind point j, score z), and the
         usable directions within ``margin`` of it (R, D)."""
-        best = np.zeros(g.size, dtype=np.int64)
-        within = np.zeros((g.size, n_dir), dtype=bool)
-        rows = max(1, settings.block_elements // max(1, n_dir * k_win * n_h))
-        for r0 in range(0, g.size, rows):  # blocks of days: memory, not a loop over cases
-            gb, jb = g[r0:r0 + rows], j[r0:r0 + rows, None]
-            c = safe[gb]  # (R, D)
-            pm_d = solvinggrid.interpolate_headwind(case_grid, h_nodes, h_f[c, jb][..., None], rows=c)
-            use = valid[gb] & ~cross_ex[c, jb] & ~tail_ex[c, jb]
-            best[r0:r0 + rows], within[r0:r0 + rows] = reliabilitylevels.direction_at_score(
-                np.where(valid[gb][..., None], pm_d[:, :, 0, :], np.nan), use, scores[c[:, 0]],
-                z[r0:r0 + rows], margin)
-        return best, within
+        c = safe[g]  # (R, D)
+        jc = j[:, None]
+        m_d = solvinggrid.interpolate_day(case_grid, h_nodes, scores[c[:, 0]][:, None, :], h_f[c, jc],
+                                          z[:, None], rows=c)  # (R, D), at each day's own score
+        use = valid[g] & ~cross_ex[c, jc] & ~tail_ex[c, jc]
+        # The masses are at the day's score already: one temperature node, at that score.
+        return reliabilitylevels.direction_at_score(np.where(valid[g], m_d, np.nan)[..., None], use,
+                                                    z[:, None], z, margin)
 
     def solve_group_days(g, j, z):
         """Direct masses of days on the best of their candidate directions (the surface's

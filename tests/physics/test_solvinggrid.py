@@ -93,6 +93,46 @@ def test_interpolation_rows_out_of_range_is_refused():
         solvinggrid.interpolate_headwind(grid, nodes[:1], np.zeros((1, 4)), rows=np.array([0]))
 
 
+def test_day_mass_is_bilinear_in_headwind_and_score():
+    # linear_mass is linear in temperature and headwind, and the node temperatures are
+    # linear in the score (T = 300 K + 3 K z), so the bilinear interpolant is exact, also
+    # beyond the end node scores (the linear extension) and clamped beyond the end
+    # headwind nodes (closed form, by hand).
+    nodes = solvinggrid.headwind_nodes(np.array([-6.0, 0.0]), np.array([8.0, 5.0]))  # (2, H)
+    grid = linear_mass(300.0 + 3.0 * Z[None, :, None], nodes[:, None, :])  # (2, G, H)
+    h = np.array([-7.0, -2.2, 0.0, 3.3, 8.0, 12.0])
+    z = np.array([-3.0, -1.1, 0.0, 0.4, 2.5, 3.2])
+    rows = np.array([0, 1, 0, 1, 0, 1])
+    got = solvinggrid.interpolate_day(grid, nodes, Z, h, z, rows)
+    expected = linear_mass(300.0 + 3.0 * z, np.clip(h, nodes[rows, 0], nodes[rows, -1]))
+    np.testing.assert_allclose(got, expected, rtol=1e-12)
+
+
+def test_day_mass_equals_the_headwind_interpolation_then_the_score_rule_to_the_bit():
+    # Reference: every temperature node interpolated in headwind, then the mass at the
+    # score by physics.reliabilitylevels.mass_at_score (the rule the level search uses).
+    from fieldlimits.physics.reliabilitylevels import mass_at_score
+
+    rng = np.random.default_rng(11)
+    nodes = np.stack([solvinggrid.headwind_nodes(-5.0, 7.0), solvinggrid.headwind_nodes(0.0, 4.0)])
+    grid = rng.normal(60_000.0, 3_000.0, (2, Z.size, nodes.shape[1]))
+    grid[0, 4, 2] = grid[1, 1, 5] = np.nan  # no-takeoff nodes
+    rows = rng.integers(0, 2, (40, 3))
+    h = rng.uniform(-8.0, 9.0, rows.shape)
+    z = rng.normal(0.0, 1.6, 40)
+    scores = np.broadcast_to(Z, (40, Z.size)).copy()
+    scores[:5, 2] = scores[:5, 1]  # a zero-width score segment
+    got = solvinggrid.interpolate_day(grid, nodes, scores[:, None, :], h, z[:, None], rows)
+    ref = mass_at_score(solvinggrid.interpolate_headwind(grid, nodes, h[..., None], rows=rows)[:, :, 0, :],
+                        scores[:, None, :], z[:, None])
+    assert np.isnan(ref).any() and np.isfinite(ref).any()
+    np.testing.assert_array_equal(got, ref)
+    # One temperature node: its headwind interpolation, whatever the score.
+    one = solvinggrid.interpolate_day(grid[:, :1], nodes, [0.0], h, z[:, None], rows)
+    np.testing.assert_array_equal(one, solvinggrid.interpolate_headwind(grid[:, :1], nodes, h[..., None],
+                                                                         rows=rows)[..., 0, 0])
+
+
 # --------------------------------------------------------------------------------------
 # The shared solving grid
 # --------------------------------------------------------------------------------------
