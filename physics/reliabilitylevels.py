@@ -25,12 +25,17 @@ wind point, independent); their masses come from a solving grid
    binding day moved onto the corrected mass (:func:`binding_score`,
    :func:`secant_score`); the caller does the solves.
 
-Conventions (all arrays, no loops over cases):
+Conventions (all arrays in and out, no loops over cases in Python):
 
 - ``N`` groups (airfield × month × aircraft type), ``D`` runway directions of the airfield
   (padded with invalid directions), ``J`` wind points (index 0 is the calm point),
   ``G`` temperature nodes, ``L`` reliability levels.
 - Masses that are not possible are ``-inf`` inside, NaN at the interface.
+- The crossing scores, the share of days, the level search and the binding day are
+  compiled kernels (:mod:`physics.compiled`) that loop over groups, levels and wind points
+  in double precision: many short passes over J and G per group, which as numpy were
+  bound by temporaries and call overhead. They are the only implementation; the tests
+  check them against closed forms and brute-force quantiles.
 
 References
 ----------
@@ -56,7 +61,7 @@ import numpy as np
 from scipy import special
 
 from fieldlimits.physics import limits
-from fieldlimits.physics.climatology import normal_probability
+from fieldlimits.physics.compiled import kernel
 
 #: Default reliability levels (share of days). [–]
 DEFAULT_LEVELS = (0.50, 0.85, 0.95)
@@ -66,65 +71,353 @@ DEFAULT_LEVELS = (0.50, 0.85, 0.95)
 # Reliability levels
 # ----------------------------------------------------------------------------------------
 _NOT_POSSIBLE_KG = -1.0e12  # finite stand-in for "not possible" inside the inversion
-_TIE_KG = 0.05  # masses equal within this count as achieved (float32 inside the search)
+_TIE_KG = 0.05  # masses equal within this count as achieved (absorbs rounding of the nodes)
 _INV_SQRT_2PI = 1.0 / math.sqrt(2.0 * math.pi)
+_INV_SQRT_2 = 1.0 / math.sqrt(2.0)
+_FLAT_INV = 1.0e9  # inverse drop of a flat segment (a crossing there is a step)
 _FAR_SCORE = 6.0  # |z| beyond this is taken as infinite (Phi within 1e-9 of 0 or 1)
 _BINDING_SCORE = 3.5  # a binding day further out than this is not "typical"
+_FLAT_RATE = 1.0  # |dz*/dM| above this (a slope under 1 kg per unit score) counts as flat
+_SHARE_EPS = 1e-9  # S(M) is compared with p − this (rounding of the sum over the points)
+
+# The kernels below are the one implementation of the crossing scores, the share of days
+# and the level search (physics.compiled: loops over groups, levels and wind points in
+# compiled code, no temporaries). Node masses inside are the prepared ones
+# (:func:`prepare_masses`): non-increasing in temperature, "not possible" as
+# _NOT_POSSIBLE_KG, with the inverse drop of each segment beside them; double precision.
 
 
-def _segments(f, scores):
-    """Precompute the inversion of node masses f (..., G), non-increasing, -inf allowed.
+@kernel
+def _scan(f, inv, z, w, i, mass, idx, n_idx, slope, score, rate):
+    """Crossing scores of wind points ``idx[:n_idx]`` of group i at a mass, and their share.
 
-    Single precision: masses to ~0.05 kg and scores to ~1e-6 are plenty here, and the
-    search is bound by memory traffic.
+    f (N, J, G) prepared node masses, inv (N, J, G − 1) inverse drops, z (N, G) node scores,
+    w (N, J) shares of days. For each listed point j (position a), z*_j(M) = sup{z :
+    m_j(z) ≥ M} goes to ``score[a]`` and |dz*_j/dM| to ``rate[a]``; returns Σ w_j Phi(z*_j)
+    and, with ``slope``, dS/dM = −Σ w_j phi(z*_j) |dz*_j/dM| over them (else 0). m_j(z) is
+    linear between the nodes, the first segment extended below the first node and the last
+    beyond the last (a flat end segment: to ±inf in effect); the rate is that of the segment
+    holding z* (0 where z* sits exactly on an inner node from above, and beyond
+    ±_FAR_SCORE, where z* is taken as ±inf). This loop is the one place the crossing is
+    computed: every search, share and crossing below calls it once per group and mass (a
+    call per point would cost more than the point).
     """
-    f = np.where(np.isfinite(f), f, _NOT_POSSIBLE_KG).astype(np.float32)
-    z = np.asarray(scores, dtype=np.float32)
-    d = f[..., :-1] - f[..., 1:]  # drop over each segment, ≥ 0
-    inv = np.where(d > 0.0, 1.0 / np.where(d > 0.0, d, 1.0), 1.0e9).astype(np.float32)
-    return f, z, inv
+    n_nodes = f.shape[2]
+    m = mass - _TIE_KG
+    s = 0.0
+    ds = 0.0
+    for a in range(n_idx):
+        j = idx[a]
+        if n_nodes == 1:
+            zj = math.inf if f[i, j, 0] >= m else -math.inf
+            r = 0.0
+        else:
+            k = 0
+            if f[i, j, 0] >= m:  # the segment where the mass falls below M (else the last)
+                k = n_nodes - 2
+                for g in range(n_nodes - 2):
+                    if f[i, j, g + 1] < m:
+                        k = g
+                        break
+            dz = z[i, k + 1] - z[i, k]
+            c = (f[i, j, k] - m) * inv[i, j, k]
+            zj = z[i, k] + dz * c
+            r = dz * inv[i, j, k]
+            if zj > _FAR_SCORE:
+                zj = math.inf
+                r = 0.0
+            elif zj < -_FAR_SCORE:
+                zj = -math.inf
+                r = 0.0
+            elif k > 0 and c <= 0.0:
+                r = 0.0
+        score[a] = zj
+        rate[a] = r
+        if zj == math.inf:
+            s += w[i, j]
+        elif zj > -math.inf:
+            s += w[i, j] * 0.5 * math.erfc(-zj * _INV_SQRT_2)
+        if slope and r > 0.0:
+            ds -= w[i, j] * math.exp(-0.5 * zj * zj) * r
+    return s, ds * _INV_SQRT_2PI
 
 
-def _crossing_score(seg, mass, slope=False):
-    """z*(M) = sup{z : m(z) ≥ M} for the piecewise-linear m of _segments (mass broadcast).
+@kernel
+def _points_with_days(w, i, idx):
+    """The wind points of group i with a share of days, into ``idx``; returns their count."""
+    n_idx = 0
+    for j in range(w.shape[1]):
+        if w[i, j] > 0.0:
+            idx[n_idx] = j
+            n_idx += 1
+    return n_idx
 
-    z* = z_0 + Σ_g Δz_g c_g with c_g = (f_g − M)/(f_g − f_{g+1}) clipped to [0, 1], except
-    that the first segment is not clipped below and the last not above: the end segments
-    extend linearly beyond the nodes (a flat end segment extends to ±inf in effect).
-    With ``slope``, also dz*/dM = −Σ Δz_g/(f_g − f_{g+1}) over the segments not clipped.
+
+@kernel
+def _prepare_kernel(raw):
+    """Running minimum over the nodes (NaN as -inf), the stand-in masses and inverse drops."""
+    n, n_pts, n_nodes = raw.shape
+    mass = np.empty((n, n_pts, n_nodes))
+    f = np.empty((n, n_pts, n_nodes))
+    inv = np.empty((n, n_pts, max(n_nodes - 1, 0)))
+    for i in range(n):
+        for j in range(n_pts):
+            run = math.inf
+            for k in range(n_nodes):
+                v = raw[i, j, k]
+                if v < run:  # False for NaN: taken as -inf below
+                    run = v
+                elif math.isnan(v):
+                    run = -math.inf
+                mass[i, j, k] = run
+                f[i, j, k] = run if math.isfinite(run) else _NOT_POSSIBLE_KG
+            for k in range(n_nodes - 1):
+                d = f[i, j, k] - f[i, j, k + 1]
+                inv[i, j, k] = 1.0 / d if d > 0.0 else _FLAT_INV
+    return mass, f, inv
+
+
+@kernel
+def _shares_kernel(f, inv, z, w, mass):
+    """S at masses (N, K) of each group."""
+    n, n_mass = mass.shape
+    n_pts = f.shape[1]
+    out = np.empty((n, n_mass))
+    idx = np.empty(n_pts, dtype=np.int64)
+    score = np.empty(n_pts)
+    rate = np.empty(n_pts)
+    for i in range(n):
+        n_idx = _points_with_days(w, i, idx)
+        for c in range(n_mass):
+            out[i, c] = _scan(f, inv, z, w, i, mass[i, c], idx, n_idx, False, score, rate)[0]
+    return out
+
+
+@kernel
+def _single_point_level(f, z, w, i, zq):
+    """First trial of a level of group i: Σ_j w_j m_j(zq) / Σ_j w_j over the points possible
+    at both nodes around zq = Φ⁻¹(p); exact where the wind is one point, NaN where no point
+    is possible."""
+    n_nodes = z.shape[1]
+    if n_nodes < 2:
+        return math.nan
+    k = -1
+    for g in range(n_nodes):
+        if z[i, g] <= zq:
+            k += 1
+    k = min(max(k, 0), n_nodes - 2)
+    s = (zq - z[i, k]) / (z[i, k + 1] - z[i, k])  # beyond the end nodes: linear extension
+    total = 0.0
+    acc = 0.0
+    for j in range(f.shape[1]):
+        f0 = f[i, j, k]
+        f1 = f[i, j, k + 1]
+        if f0 > 0.5 * _NOT_POSSIBLE_KG and f1 > 0.5 * _NOT_POSSIBLE_KG:
+            total += w[i, j]
+            acc += w[i, j] * (f0 + s * (f1 - f0))
+    return acc / total if total > 0.0 else math.nan
+
+
+@kernel
+def _level_search(f, inv, z, w, i, p, lo, hi, s_lo, s_hi, trial, tol, idx, n_idx, z_lo, z_hi,
+                  act, z_x, r_x):
+    """The level of group i on the bracket [lo, hi] with S(lo) − p = s_lo ≥ 0 > s_hi:
+    returns the certified lower end (hi − lo ≤ tol), the false-position point of the
+    final bracket (see :func:`reliability_masses`) and the number of points still undecided
+    on that bracket (listed in ``act``).
+
+    idx[:n_idx] the points with days, z_lo and z_hi their z*_j at lo and hi (by position);
+    act, z_x and r_x (J,) are work space. z*_j(M) does not increase with M, so a point with
+    z*_j = +inf at the upper end of the bracket counts w_j on all of it and one with −inf
+    at the lower end nothing: only the points undecided on the bracket are evaluated, and
+    each new end of the bracket decides more of them.
     """
-    f, z, inv = seg
-    m = (np.asarray(mass, dtype=float) - _TIE_KG).astype(np.float32)
-    g = f.shape[-1]
-    if g == 1:
-        out = np.where(f[..., 0] >= m, np.inf, -np.inf)
-        return (out, np.zeros(out.shape, dtype=np.float32)) if slope else out
-    dz = np.diff(z, axis=-1)
-    shape = np.broadcast_shapes(f.shape[:-1], np.shape(m), z.shape[:-1])
-    # In place, in the order of the formula (the same float32 operations as written out):
-    # this is the inner loop of every level search.
-    out = np.empty(shape, dtype=np.float32)
-    out[...] = z[..., 0]
-    c = np.empty(shape, dtype=np.float32)
-    term = np.empty(shape, dtype=np.float32)
-    d_out = np.zeros(shape, dtype=np.float32) if slope else None
-    inside = np.empty(shape, dtype=bool) if slope else None
-    for k in range(g - 1):  # a fixed, small number of temperature segments
-        np.subtract(f[..., k], m, out=c)
-        np.multiply(c, inv[..., k], out=c)
-        lo = -np.inf if k == 0 else 0.0
-        hi = np.inf if k == g - 2 else 1.0
-        np.clip(c, lo, hi, out=term)
-        np.multiply(dz[..., k], term, out=term)
-        np.add(out, term, out=out)
-        if slope:
-            np.greater(c, lo, out=inside)
-            np.logical_and(inside, c < hi, out=inside)
-            np.subtract(d_out, dz[..., k] * inv[..., k], out=d_out, where=inside)
-    # Beyond ±_FAR_SCORE the extension is flat in effect (Phi is 0 or 1 to 1e-300).
-    out[out > _FAR_SCORE] = np.inf
-    out[out < -_FAR_SCORE] = -np.inf
-    return (out, d_out) if slope else out
+    n_act = 0
+    base = 0.0  # share of the points achieving every mass of the bracket
+    for a in range(n_idx):
+        if z_lo[a] == -math.inf:
+            continue
+        if z_hi[a] == math.inf:
+            base += w[i, idx[a]]
+            continue
+        act[n_act] = idx[a]
+        n_act += 1
+    side = 0  # end retained last step: +1 lo, -1 hi
+    width_2 = math.inf  # bracket width one and two steps ago
+    width_1 = math.inf
+    newton = trial  # estimate for the next trial
+    max_steps = 3 * int(math.ceil(math.log2(max(hi - lo, tol) / tol))) + 3
+    for _ in range(max_steps):
+        width = hi - lo
+        if width <= tol:
+            break
+        drop = s_lo - s_hi
+        t = s_lo / (drop if drop > 0.0 else 1.0)
+        use_n = newton > lo and newton < hi  # False for NaN
+        est = newton if use_n else lo + min(max(t, 0.01), 0.99) * width
+        bisect = width > 0.5 * width_2
+        width_2 = width_1
+        width_1 = width
+        x = 0.5 * (lo + hi) if bisect else est
+        near_lo = (newton - lo if use_n else t * width) <= 0.5 * tol
+        if near_lo:
+            x = lo + tol
+        elif use_n and hi - newton <= 0.5 * tol:
+            x = hi - tol
+        x = min(x, hi)
+        s_x, ds = _scan(f, inv, z, w, i, x, act, n_act, True, z_x, r_x)
+        s_x += base - p
+        newton = x - s_x / ds if ds < 0.0 else math.nan
+        ok = s_x >= -_SHARE_EPS
+        if ok:
+            # Illinois: halve the function value at an end retained twice in a row.
+            if side == -1:
+                s_hi *= 0.5
+            lo = x
+            s_lo = s_x
+            side = -1
+        else:
+            if side == 1:
+                s_lo *= 0.5
+            hi = x
+            s_hi = s_x
+            side = 1
+        kept = 0
+        for a in range(n_act):  # the points the new end decides
+            if ok and z_x[a] == -math.inf:
+                continue
+            if not ok and z_x[a] == math.inf:
+                base += w[i, act[a]]
+                continue
+            act[kept] = act[a]
+            kept += 1
+        n_act = kept
+    drop = s_lo - s_hi
+    t = min(max(s_lo / drop, 0.0), 1.0) if drop > 0.0 else 0.0
+    return lo, lo + t * (hi - lo), n_act
+
+
+@kernel
+def _binding_day(f, z, w, i, mass, mid, tol, idx, n_idx, pts, n_scored, z_x, r_x):
+    """Binding wind point, its score and the slope dm/dz there of group i at a level mass
+    (see :func:`reliability_masses`); mid is the node nearest the median, idx[:n_idx] the
+    points with days, and pts[:n_scored] those of them with z*_j(M) possibly finite, their
+    z*_j(M) and |dz*_j/dM| in z_x and r_x (by position)."""
+    best = -1.0
+    point = 0
+    zb = 0.0
+    rate_b = 0.0
+    slack_min = math.inf
+    slack_point = 0
+    for a in range(n_scored):
+        zj = z_x[a]
+        if abs(zj) <= _BINDING_SCORE:
+            dens = w[i, pts[a]] * math.exp(-0.5 * zj * zj)
+            if dens > best:
+                best, point, zb, rate_b = dens, pts[a], zj, r_x[a]
+    for a in range(n_idx):
+        j = idx[a]
+        f_mid = f[i, j, mid]
+        if f_mid >= mass - tol and f_mid - mass < slack_min:
+            slack_min = f_mid - mass
+            slack_point = j
+    if best > 0.0:
+        return point, zb, (-1.0 / rate_b if rate_b > 0.0 else math.nan)
+    return slack_point, z[i, mid], math.nan
+
+
+@kernel
+def _levels_kernel(f, inv, z, w, oew, mtow, target, p, zq, lost, lost_codes, tol):
+    """Every output of :func:`reliability_masses` for groups (N) × levels (L)."""
+    n, n_pts, n_nodes = f.shape
+    n_lev = p.shape[0]
+    mass = np.full((n, n_lev), math.nan)
+    estimate = np.full((n, n_lev), math.nan)
+    reason = np.full((n, n_lev), -1, dtype=np.int64)
+    point = np.zeros((n, n_lev), dtype=np.int64)
+    score = np.empty((n, n_lev))
+    score_slope = np.empty((n, n_lev))
+    share_target = np.empty(n)
+    share_oew = np.empty(n)
+    idx = np.empty(n_pts, dtype=np.int64)
+    act = np.empty(n_pts, dtype=np.int64)
+    z_top = np.empty(n_pts)
+    r_top = np.empty(n_pts)
+    z_low = np.empty(n_pts)
+    r_low = np.empty(n_pts)
+    z_x = np.empty(n_pts)
+    r_x = np.empty(n_pts)
+    for i in range(n):
+        n_idx = _points_with_days(w, i, idx)
+        s_top = _scan(f, inv, z, w, i, mtow[i], idx, n_idx, False, z_top, r_top)[0]
+        s_low = _scan(f, inv, z, w, i, oew[i], idx, n_idx, False, z_low, r_low)[0]
+        share_target[i] = s_top if target[i] == mtow[i] else \
+            _scan(f, inv, z, w, i, target[i], idx, n_idx, False, z_x, r_x)[0]
+        share_oew[i] = s_low
+        mid = 0
+        for g in range(1, n_nodes):
+            if abs(z[i, g]) < abs(z[i, mid]):
+                mid = g
+        lost_any = False
+        for l in range(n_lev):
+            # The binding day at the level (MTOW, the search's estimate, or OEW where the
+            # level is not possible) from the crossings there: those of the group's ends are
+            # known; after a search only the points undecided on its final bracket can cross.
+            if s_top >= p[l] - _SHARE_EPS:
+                mass[i, l] = mtow[i]
+                estimate[i, l] = mtow[i]
+                point[i, l], score[i, l], score_slope[i, l] = _binding_day(
+                    f, z, w, i, mtow[i], mid, tol, idx, n_idx, idx, n_idx, z_top, r_top)
+            elif s_low >= p[l] - _SHARE_EPS:
+                trial = _single_point_level(f, z, w, i, zq[l])
+                level, m_eval, n_act = _level_search(
+                    f, inv, z, w, i, p[l], oew[i], mtow[i], s_low - p[l], s_top - p[l], trial,
+                    tol, idx, n_idx, z_low, z_top, act, z_x, r_x)
+                mass[i, l] = level
+                estimate[i, l] = m_eval
+                _scan(f, inv, z, w, i, m_eval, act, n_act, False, z_x, r_x)
+                point[i, l], score[i, l], score_slope[i, l] = _binding_day(
+                    f, z, w, i, m_eval, mid, tol, idx, n_idx, act, n_act, z_x, r_x)
+            else:
+                lost_any = True
+                point[i, l], score[i, l], score_slope[i, l] = _binding_day(
+                    f, z, w, i, oew[i], mid, tol, idx, n_idx, idx, n_idx, z_low, r_low)
+        if lost_any:
+            # Why days are lost: crosswind, tailwind (points usable nowhere) or too hot.
+            shares = np.zeros(3)
+            for a in range(n_idx):
+                j = idx[a]
+                if lost[i, j] == lost_codes[0]:
+                    shares[0] += w[i, j]
+                elif lost[i, j] == lost_codes[1]:
+                    shares[1] += w[i, j]
+                elif lost[i, j] < 0:
+                    shares[2] += w[i, j] * (1.0 - 0.5 * math.erfc(-z_low[a] * _INV_SQRT_2))
+            code = lost_codes[np.argmax(shares)]
+            for l in range(n_lev):
+                if math.isnan(mass[i, l]):
+                    reason[i, l] = code
+    return mass, reason, point, score, share_target, share_oew, estimate, score_slope
+
+
+@kernel
+def _crossings_kernel(f, inv, z, w, mass):
+    """z*_j, dm_j/dz and density of every wind point of each group at a mass (N,)."""
+    n, n_pts, _ = f.shape
+    score = np.empty((n, n_pts))
+    slope = np.full((n, n_pts), math.nan)
+    density = np.zeros((n, n_pts))
+    idx = np.arange(n_pts)
+    rate = np.empty(n_pts)
+    for i in range(n):
+        _scan(f, inv, z, w, i, mass[i], idx, n_pts, False, score[i], rate)
+        for j in range(n_pts):
+            zj = score[i, j]
+            r = rate[j]
+            if r > 0.0 and r < _FLAT_RATE and abs(zj) <= _BINDING_SCORE and w[i, j] > 0.0:
+                density[i, j] = w[i, j] * math.exp(-0.5 * zj * zj) * _INV_SQRT_2PI * r
+                slope[i, j] = -1.0 / r
+    return score, slope, density
 
 
 def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=None,
@@ -338,12 +631,6 @@ class ReliabilityLevels:
     score_slope_kg: np.ndarray | None = None
 
 
-def _prepare(point_mass_kg):
-    f = np.asarray(point_mass_kg, dtype=float)
-    f = np.where(np.isnan(f), -np.inf, f)
-    return np.minimum.accumulate(f, axis=-1)
-
-
 @dataclass(frozen=True)
 class PreparedMasses:
     """Point masses made ready for repeated level and crossing searches on one surface
@@ -359,7 +646,9 @@ class PreparedMasses:
     scores : numpy.ndarray
         Node scores, ``(G,)`` or ``(N, G)``. [–]
     segments : tuple
-        The single-precision inversion of the piecewise-linear masses (internal).
+        The inversion of the piecewise-linear masses, the compiled kernels' input (internal):
+        node masses with a finite stand-in for "not possible" ``(N, J, G)``, node scores
+        ``(N, G)`` and the inverse drop of each segment ``(N, J, G − 1)``.
     """
 
     mass_kg: np.ndarray
@@ -370,7 +659,7 @@ class PreparedMasses:
         """The same for groups ``rows`` only."""
         f, z, inv = self.segments
         return PreparedMasses(self.mass_kg[rows], self.scores if self.scores.ndim == 1 else self.scores[rows],
-                              (f[rows], z if z.ndim == 1 else z[rows], inv[rows]))
+                              (f[rows], z[rows], inv[rows]))
 
 
 def prepare_masses(point_mass_kg, scores):
@@ -392,60 +681,26 @@ def prepare_masses(point_mass_kg, scores):
     Notes
     -----
     m_j(z) is made non-increasing by a running minimum over the nodes (which can only lower
-    it, :func:`share_of_days`); each segment's drop f_g − f_{g+1} and its inverse are kept
-    for the crossing scores z*_j(M).
+    it, :func:`share_of_days`); each segment's inverse drop 1/(f_g − f_{g+1}) is kept for
+    the crossing scores z*_j(M) (a flat segment: 1e9, a step). One pass in compiled code
+    (:mod:`physics.compiled`).
 
     References
     ----------
     .. [1] Press et al. (2007), §3.1 (linear interpolation).
     """
-    f = _prepare(point_mass_kg)
+    raw = np.ascontiguousarray(point_mass_kg, dtype=float)
     z = np.asarray(scores, dtype=float)
-    return PreparedMasses(f, z, _segments(f, z))
+    mass, f, inv = _prepare_kernel(raw)
+    z_grp = np.ascontiguousarray(np.broadcast_to(z, (raw.shape[0], raw.shape[-1])))
+    return PreparedMasses(mass, z, (f, z_grp, inv))
 
 
 def _prepared(point_mass_kg, scores):
-    """(masses, segments) of point masses or of a PreparedMasses."""
-    if isinstance(point_mass_kg, PreparedMasses):
-        return point_mass_kg.mass_kg, point_mass_kg.segments
-    f = _prepare(point_mass_kg)
-    return f, _segments(f, np.asarray(scores, dtype=float))
-
-
-def _single_point_level(f, scores, weight, p):
-    """First estimate of each level: Σ_j w_j m_j(Φ⁻¹(p)) / Σ_j w_j over the possible points.
-
-    f (n, J, G) float32 node masses (not possible: _NOT_POSSIBLE_KG), scores (G,) or (n, G),
-    weight (n, J), p (n,). Exact where the wind is one point; NaN where no point is possible.
-    """
-    z = np.broadcast_to(np.asarray(scores, dtype=float), (f.shape[0], f.shape[-1]))
-    zq = special.ndtri(np.clip(np.asarray(p, dtype=float), 1e-9, 1.0 - 1e-9))
-    k = np.clip(np.sum(z <= zq[:, None], axis=1) - 1, 0, z.shape[1] - 2)  # segment (n,)
-    z0 = np.take_along_axis(z, k[:, None], 1)[:, 0]
-    z1 = np.take_along_axis(z, k[:, None] + 1, 1)[:, 0]
-    s = (zq - z0) / (z1 - z0)  # beyond the end nodes: linear extension
-    f0 = np.take_along_axis(f, k[:, None, None], 2)[..., 0].astype(float)
-    f1 = np.take_along_axis(f, k[:, None, None] + 1, 2)[..., 0].astype(float)
-    m = f0 + s[:, None] * (f1 - f0)
-    possible = (f0 > 0.5 * _NOT_POSSIBLE_KG) & (f1 > 0.5 * _NOT_POSSIBLE_KG)
-    w = np.where(possible, weight, 0.0)
-    total = w.sum(axis=1)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(total > 0, (w * np.where(possible, m, 0.0)).sum(axis=1) / total, np.nan)
-
-
-def _share(f, scores, weight, m):
-    """S(m) for f (N, J, G) (or its _segments) and m (N,) or (N, L); also z*_j,
-    shape m.shape + (J,)."""
-    f, z, inv = f if isinstance(f, tuple) else _segments(f, scores)
-    # A levels axis after the groups; per-group scores (N, G) line up with (N, L, J, G).
-    seg = (f[:, None], z if z.ndim == 1 else z[:, None, None, :], inv[:, None])
-    m = np.asarray(m, dtype=float)
-    zj = _crossing_score(seg, m.reshape(m.shape[0], math.prod(m.shape[1:]))[:, :, None])
-    s = np.sum(weight[:, None, :] * special.ndtr(zj), axis=-1, dtype=float)
-    if m.ndim == 1:
-        return s[:, 0], zj[:, 0]
-    return s, zj
+    """The kernels' inputs (f, z, inv) of point masses or of a PreparedMasses."""
+    if not isinstance(point_mass_kg, PreparedMasses):
+        point_mass_kg = prepare_masses(point_mass_kg, scores)
+    return point_mass_kg.segments
 
 
 def share_of_days(mass_kg, point_mass_kg, scores, weight):
@@ -483,9 +738,11 @@ def share_of_days(mass_kg, point_mass_kg, scores, weight):
     ----------
     .. [4] Wilks (2011), §4.4.2; total probability over independent variables.
     """
+    f, z, inv = _prepared(point_mass_kg, scores)
     m = np.asarray(mass_kg, dtype=float)
-    return _share(_prepared(point_mass_kg, scores)[1], np.asarray(scores, dtype=float),
-                  np.asarray(weight, dtype=float), m)[0]
+    s = _shares_kernel(f, inv, z, np.ascontiguousarray(weight, dtype=float),
+                       np.ascontiguousarray(m.reshape(m.shape[0], -1)))
+    return s.reshape(m.shape)
 
 
 def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
@@ -529,8 +786,12 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     ``tol_kg``: first trial the weighted mean of the wind points' masses at the score
     Φ⁻¹(p), then Newton steps (dS/dM from the crossing scores' slopes) where they land
     inside the bracket, false position with the Illinois modification [5] otherwise, and a
-    bisection where the bracket has not halved in two steps; only the (group, level) pairs
-    still open are evaluated.
+    bisection where the bracket has not halved in two steps (at most 3 ⌈log2(span/tol)⌉ + 3
+    steps per pair). Each (group, level) pair is searched on its own in one compiled kernel
+    (:mod:`physics.compiled`, double precision): a wind point whose crossing score is +inf
+    at the bracket's upper end achieves every mass of the bracket and one at −inf at its
+    lower end none (z*_j(M) does not increase with M), so each evaluation of S sums only
+    the points still undecided on the bracket; the same holds for the binding day below.
     Equivalently M_p is the lower (1 − p) quantile of the day-to-day mass, days that are
     not possible counting as mass 0.
 
@@ -553,163 +814,28 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     .. [5] M. Dowell and P. Jarratt, "A modified regula falsi method for computing the
        root of an equation", *BIT* 11 (1971) 168–174 (the Illinois method).
     """
-    f, seg = _prepared(point_mass_kg, scores)
-    z = np.asarray(scores, dtype=float)
-    w = np.asarray(weight, dtype=float)
-    oew = np.asarray(oew_kg, dtype=float)
-    mtow = np.asarray(mtow_kg, dtype=float)
-    p = np.asarray(levels, dtype=float)
+    f, z, inv = _prepared(point_mass_kg, scores)
     n_groups, n_pts, _ = f.shape
-    eps = 1e-9
-
-    s_mtow = _share(seg, z, w, mtow)[0]
-    s_oew, zj_oew = _share(seg, z, w, oew)
-    share_target = s_mtow if target_mass_kg is None else _share(
-        seg, z, w, np.asarray(target_mass_kg, dtype=float))[0]
-    at_top = s_mtow[:, None] >= p[None, :] - eps
-    search = (s_oew[:, None] >= p[None, :] - eps) & ~at_top
-    # Each (group, level) pair still searching is iterated on its own, on the bracket
-    # [OEW, MTOW] (S(lo) ≥ p > S(hi)). The first trial is the weighted mean over the wind
-    # points of their mass at the score Φ⁻¹(p) (the level itself were the wind one point);
-    # then Newton from the last trial (S and dS/dM = Σ w φ(z*) dz*/dM come with each
-    # evaluation) where it lands inside the bracket, else false position with the Illinois
-    # halving of a retained end; a bisection where the bracket has not halved over the last
-    # two steps (so it at least halves every third step). Once the estimate is within tol/2
-    # of lo, a step to lo + tol certifies it (S(lo + tol) < p closes the bracket, also where
-    # S is a step); within tol/2 of hi, a step to hi − tol does the same from above.
-    lo = np.repeat(oew[:, None], p.size, axis=1)
-    polished = lo.copy()
-    g_idx, l_idx = np.nonzero(search)
-    if g_idx.size:
-        f_s, z_s, inv_s = seg
-        z_p = z if z.ndim == 1 else z_s[g_idx]
-        f_p, inv_p, w_p = f_s[g_idx], inv_s[g_idx], w[g_idx]
-        pp = p[l_idx]
-        lo_p = oew[g_idx].copy()
-        hi_p = mtow[g_idx].copy()
-        s_lo = s_oew[g_idx] - pp
-        s_hi = s_mtow[g_idx] - pp
-        side = np.zeros(g_idx.size, dtype=np.int8)  # end retained last step: +1 lo, -1 hi
-        width_2 = np.full(g_idx.size, np.inf)  # bracket width one and two steps ago
-        width_1 = np.full(g_idx.size, np.inf)
-        newton = _single_point_level(f_p, z_p, w_p, pp)  # estimate for the next trial
-        span = float(np.max(hi_p - lo_p))
-        max_steps = 3 * int(np.ceil(np.log2(max(span, tol_kg) / tol_kg))) + 3
-        act = np.arange(g_idx.size)
-        for step in range(max_steps):
-            act = act[hi_p[act] - lo_p[act] > tol_kg]
-            if act.size == 0:
-                break
-            lo_a, hi_a, sl, sh = lo_p[act], hi_p[act], s_lo[act], s_hi[act]
-            width = hi_a - lo_a
-            drop = sl - sh
-            t = sl / np.where(drop > 0, drop, 1.0)
-            est = lo_a + np.clip(t, 0.01, 0.99) * width
-            xn = newton[act]
-            use_n = (xn > lo_a) & (xn < hi_a)
-            est = np.where(use_n, xn, est)
-            bisect = width > 0.5 * width_2[act]
-            width_2[act], width_1[act] = width_1[act], width
-            x = np.where(bisect, 0.5 * (lo_a + hi_a), est)
-            near_lo = np.where(use_n, xn - lo_a, t * width) <= 0.5 * tol_kg
-            near_hi = use_n & (hi_a - xn <= 0.5 * tol_kg) & ~near_lo
-            x = np.where(near_lo, lo_a + tol_kg, np.where(near_hi, hi_a - tol_kg, x))
-            x = np.minimum(x, hi_a)
-            zz = z_p if z_p.ndim == 1 else z_p[act][:, None, :]
-            zj, dzj = _crossing_score((f_p[act], zz, inv_p[act]), x[:, None], slope=True)
-            s_x = np.sum(w_p[act] * special.ndtr(zj), axis=-1, dtype=float) - pp[act]
-            with np.errstate(invalid="ignore", over="ignore"):
-                fin = np.isfinite(zj)
-                phi = np.where(fin, np.exp(-0.5 * np.where(fin, zj, 0.0) ** 2), 0.0)
-                ds = np.sum(w_p[act] * phi * dzj, axis=-1, dtype=float) * _INV_SQRT_2PI
-            with np.errstate(divide="ignore", invalid="ignore"):
-                newton[act] = np.where(ds < 0.0, x - s_x / np.where(ds < 0.0, ds, -1.0), np.nan)
-            ok = s_x >= -eps
-            # Illinois: halve the function value at an end retained twice in a row.
-            sd = side[act]
-            new_sl = np.where(ok, s_x, np.where(sd == 1, 0.5 * sl, sl))
-            new_sh = np.where(ok, np.where(sd == -1, 0.5 * sh, sh), s_x)
-            lo_p[act] = np.where(ok, x, lo_a)
-            hi_p[act] = np.where(ok, hi_a, x)
-            s_lo[act], s_hi[act] = new_sl, new_sh
-            side[act] = np.where(ok, -1, 1)
-        lo[g_idx, l_idx] = lo_p
-        # For the binding day only: the false-position point of the final bracket, a
-        # second-order estimate of the exact level (the level itself stays lo, certified).
-        t = s_lo / np.where(s_lo - s_hi > 0, s_lo - s_hi, np.inf)
-        polished[g_idx, l_idx] = lo_p + np.clip(t, 0.0, 1.0) * (hi_p - lo_p)
-    level = np.where(at_top, mtow[:, None], np.where(search, lo, np.nan))
-    mass = level
-
-    # Binding day at each level mass.
-    m_eval = np.where(search, polished, np.where(np.isfinite(level), level, oew[:, None]))
-    f_s, z_s, inv_s = seg  # the crossing scores only (the share of days is not needed)
-    zj = _crossing_score((f_s[:, None], z_s if z_s.ndim == 1 else z_s[:, None, None, :], inv_s[:, None]),
-                         m_eval[:, :, None])  # (N, L, J)
-    finite = np.isfinite(zj) & (np.abs(zj) <= _BINDING_SCORE) & (w[:, None, :] > 0)
-    dens = np.where(finite, w[:, None, :] * np.exp(-0.5 * np.where(finite, zj, 0.0) ** 2), -1.0)
-    z_grp = np.broadcast_to(z, (n_groups, z.shape[-1]))
-    mid_node = np.argmin(np.abs(z_grp), axis=-1)  # node nearest the median, per group
-    f_mid = np.take_along_axis(f, mid_node[:, None, None], axis=-1)[:, None, :, 0]
-    slack = np.where((f_mid >= m_eval[..., None] - tol_kg) & (w[:, None, :] > 0),
-                     f_mid - m_eval[..., None], np.inf)
-    has_dens = np.max(dens, axis=-1) > 0.0
-    point = np.where(has_dens, np.argmax(dens, axis=-1), np.argmin(slack, axis=-1))
-    zb = np.take_along_axis(zj, point[..., None], axis=-1)[..., 0]
-    score = np.where(has_dens & np.isfinite(zb), zb, z_grp[np.arange(n_groups), mid_node][:, None])
-    # The surface's slope dm/dz there (1 / dz*/dM on the binding point's segment).
-    rows = np.arange(n_groups)[:, None]
-    _, dz_dm = _crossing_score((f_s[rows, point], z_s if z_s.ndim == 1 else z_s[:, None, :],
-                                inv_s[rows, point]), m_eval, slope=True)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        score_slope = np.where((dz_dm < 0) & has_dens & np.isfinite(zb), 1.0 / dz_dm.astype(float), np.nan)
-
-    # Why days are lost, for levels that are not possible.
-    lost = np.full((n_groups, n_pts), -1) if lost_reason is None else np.asarray(lost_reason)
-    cross_share = np.sum(w * (lost == limits.code("crosswind_limit")), axis=-1)
-    tail_share = np.sum(w * (lost == limits.code("tailwind_limit")), axis=-1)
-    temp_share = np.sum(w * (lost < 0) * (1.0 - normal_probability(zj_oew)), axis=-1)
+    w = np.ascontiguousarray(weight, dtype=float)
+    oew = np.ascontiguousarray(oew_kg, dtype=float)
+    mtow = np.ascontiguousarray(mtow_kg, dtype=float)
+    target = mtow if target_mass_kg is None else np.ascontiguousarray(target_mass_kg, dtype=float)
+    p = np.ascontiguousarray(levels, dtype=float)
+    zq = special.ndtri(np.clip(p, 1e-9, 1.0 - 1e-9))
+    lost = (np.full((n_groups, n_pts), -1, dtype=np.int64) if lost_reason is None
+            else np.ascontiguousarray(lost_reason, dtype=np.int64))
     codes = np.array([limits.code("crosswind_limit"), limits.code("tailwind_limit"),
-                      limits.code("no_takeoff")])
-    reason = codes[np.argmax(np.stack([cross_share, tail_share, temp_share], axis=-1), axis=-1)]
-    reason_l = np.where(np.isnan(mass), reason[:, None], -1).astype(np.int64)
-    return ReliabilityLevels(mass_kg=mass, reason=reason_l, point=point, score=score,
+                      limits.code("no_takeoff")], dtype=np.int64)
+    mass, reason, point, score, share_target, s_oew, estimate, score_slope = _levels_kernel(
+        f, inv, z, w, oew, mtow, target, p, zq, lost, codes, float(tol_kg))
+    return ReliabilityLevels(mass_kg=mass, reason=reason, point=point, score=score,
                              share_days=share_target, possible_share=s_oew,
-                             estimate_kg=np.where(search, polished, level), score_slope_kg=score_slope)
+                             estimate_kg=estimate, score_slope_kg=score_slope)
 
 
 # ----------------------------------------------------------------------------------------
 # Refinement of the levels with direct solves
 # ----------------------------------------------------------------------------------------
-_FLAT_RATE = 1.0  # |dz*/dM| above this (a slope under 1 kg per unit score) counts as flat
-
-
-def _crossing_score_rate(seg, mass):
-    """z*(M) as :func:`_crossing_score`, and |dz*/dM| there (0 beyond ±_FAR_SCORE).
-
-    dz*/dM = −Σ_g Δz_g / (f_g − f_{g+1}) over the segment whose c_g is strictly inside its
-    clip range (the one holding z*; the end segments unbounded outwards).
-    """
-    f, z, inv = seg
-    m = (np.asarray(mass, dtype=float) - _TIE_KG).astype(np.float32)
-    g = f.shape[-1]
-    shape = np.broadcast_shapes(f.shape[:-1], np.shape(m), z.shape[:-1])
-    if g == 1:
-        return np.where(f[..., 0] >= m, np.inf, -np.inf), np.zeros(shape, dtype=np.float32)
-    dz = np.diff(z, axis=-1)
-    out = np.broadcast_to(z[..., 0], shape).copy()
-    rate = np.zeros(shape, dtype=np.float32)
-    for k in range(g - 1):  # a fixed, small number of temperature segments
-        c = (f[..., k] - m) * inv[..., k]
-        lo = -np.inf if k == 0 else 0.0
-        hi = np.inf if k == g - 2 else 1.0
-        out = out + dz[..., k] * np.clip(c, lo, hi)
-        rate = rate + np.where((c > lo) & (c < hi), dz[..., k] * inv[..., k], 0.0)
-    far = np.abs(out) > _FAR_SCORE
-    out = np.where(out > _FAR_SCORE, np.inf, np.where(out < -_FAR_SCORE, -np.inf, out))
-    return out, np.where(far, 0.0, rate)
-
-
 def level_crossings(point_mass_kg, scores, weight, mass_kg):
     """Crossing day of each wind point at a mass, the slope there and its mass density.
 
@@ -754,21 +880,9 @@ def level_crossings(point_mass_kg, scores, weight, mass_kg):
     .. [4] Wilks (2011), §4.4.2 (Gaussian density) and §4.2 (distributions of functions
        of a random variable) [from memory for the section numbers].
     """
-    _, seg = _prepared(point_mass_kg, scores)
-    z = np.asarray(scores, dtype=float)
-    w = np.asarray(weight, dtype=float)
-    m = np.asarray(mass_kg, dtype=float)
-    zs = seg[1]
-    zj, rate = _crossing_score_rate((seg[0], zs if zs.ndim == 1 else zs[:, None, :], seg[2]),
-                                    m[:, None])
-    zj = zj.astype(float)
-    rate = rate.astype(float)
-    steep = (rate > 0.0) & (rate < _FLAT_RATE) & (np.abs(np.where(np.isfinite(zj), zj, np.inf))
-                                                 <= _BINDING_SCORE) & (w > 0)
-    zc = np.where(steep, zj, 0.0)
-    density = np.where(steep, w * np.exp(-0.5 * zc**2) / np.sqrt(2.0 * np.pi) * rate, 0.0)
-    slope = np.where(steep, -1.0 / np.where(steep, rate, 1.0), np.nan)
-    return zj, slope, density
+    f, z, inv = _prepared(point_mass_kg, scores)
+    return _crossings_kernel(f, inv, z, np.ascontiguousarray(weight, dtype=float),
+                             np.ascontiguousarray(mass_kg, dtype=float))
 
 
 @dataclass(frozen=True)
