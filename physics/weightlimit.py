@@ -1063,11 +1063,29 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     side = np.zeros(lo.size, dtype=np.int8)  # +1: the low end moved last, −1: the high end
     fails = np.zeros(lo.size, dtype=np.int8)  # trials failed while the low end is not yet known
     sub = cases
+    # V1, the mass it was found for (and the previous pair) of each case's own last trial: a
+    # closed bracket evaluated until the batch is compacted keeps those of the trial before
+    # it closed (taken when it is first left out, or when the batch is compacted), so what
+    # follows does not depend on the batch
+    kept = np.zeros(lo.size, dtype=bool)
+
+    def keep_v1(k):
+        nonlocal v1_state
+        st = sub._cache.get("engine_failure_state")
+        if k.size and st and st.get("v1") is not None:
+            if v1_state is None:
+                v1_state = {}
+            i = idx.take(k)
+            for key, val in st.items():
+                if np.shape(val) == idx.shape:
+                    v1_state.setdefault(key, np.full(lo.size, np.nan))[i] = val.take(k)
+            kept[k] = True
 
     def flush(k, A, B):
         i = idx.take(k)
         lo_out[i], hi_out[i], none_out[i] = A.take(k), B.take(k), none.take(k)
         mhi_out[:, i] = MH.take(k, axis=1)
+        keep_v1(k[~kept.take(k)])
 
     j = 0
     limit_iter = int(n_max.max()) + 3
@@ -1085,7 +1103,8 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
             sub = sub.take(keep)
             F, MH, H, AR = F.take(keep, axis=1), MH.take(keep, axis=1), H.take(keep, axis=2), AR.take(keep, axis=1)
             A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq, gl, gp, gq = F
-            idx, known, none, side, fails, w, open_ = (v.take(keep) for v in (idx, known, none, side, fails, w, open_))
+            idx, known, none, side, fails, w, open_, kept = (
+                v.take(keep) for v in (idx, known, none, side, fails, w, open_, kept))
         xh = 0.5 * (A + B)
         r = r_base * 2.0 ** -j - 0.5 * w
         np.maximum(r, 0.0, out=r)
@@ -1150,20 +1169,11 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
             check |= below | (fails >= OEW_CHECK_FAILS)
         check &= ~known
         np.copyto(x, A, where=check)
+        if j:  # the cases this trial does not serve for the first time: their last trial's V1
+            keep_v1(np.flatnonzero(~(open_ | check | kept)))
         mg, memo = margins_fn(sub, x)
         gi = _itp_value(mg)
         ar, g = _least_met(gi)
-        st = sub._cache.get("engine_failure_state")
-        if st and st.get("v1") is not None:
-            if v1_state is None:
-                v1_state = {}
-            # V1, the mass it was found for (and the previous pair), of the cases this trial
-            # served: a closed bracket evaluated until the batch is compacted keeps the V1 of
-            # its own last trial, so what follows does not depend on the batch
-            used = np.flatnonzero(open_ | check)
-            for key, val in st.items():
-                if np.shape(val) == idx.shape:
-                    v1_state.setdefault(key, np.full(lo.size, np.nan))[idx.take(used)] = val.take(used)
         ok = g <= 0.0
         feas = (open_ | check) & ok
         infeas = open_ & ~ok & ~check
