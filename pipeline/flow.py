@@ -222,10 +222,13 @@ def _run(input_dir: str, db_path: str, params: RunParams, work_root: str | None,
         n = prepared.plan.n_chunks
         dask = _dask_chunks()
         futures = [compute_chunk_task.submit(work, i, run_id, key_params, dask) for i in range(n)]
+        if dask is None:  # the landing blocks in the chunks' process pool, beside the chunks
+            steps.start_landing(prepared, work)
         results = []
         for done, fut in enumerate(as_completed(futures), start=1):
             results.append(fut.result())
             progress.report(done, n, time.monotonic() - t0)
+        steps.await_landing(work)  # its blocks share the chunks' pool
         chunks.shutdown_pool()  # the worker processes' memory is free for the load
         results.sort(key=lambda r: r.chunk)
         reused = reference_reused_task(prepared, run_id, work)

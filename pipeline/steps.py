@@ -4,8 +4,10 @@ A run, step by step::
 
     prepare_run        validate + load the inputs, plan the chunks        (nothing written)
     register           record the run as 'running'                       (short DB write)
-    build_cases        case arrays → <work>/cases.parquet, one row group per chunk
-    compute_chunk      per chunk: solve, write parts/part-NNNNN.*.parquet (pipeline.chunks)
+    build_cases        stations → <work>/stations.parquet, one row group per chunk
+    compute_chunk      per chunk: expand its cases, solve, write parts/part-NNNNN.*.parquet
+    start_landing      the route destinations' landing limits, solved in the chunks' process
+                       pool while the chunks run (large runs; else in route_payloads)
     reference_reused   which earlier run's stored rows each unchanged airfield × type reads
     best_directions    best runway direction per airfield → <work>/airfield_best.parquet
     route_payloads     routes → <work>/route_payload.parquet (when a routes table exists)
@@ -28,7 +30,7 @@ import os
 import shutil
 import threading
 import time
-from concurrent.futures import ThreadPoolExecutor, as_completed
+from concurrent.futures import Future, ThreadPoolExecutor, as_completed
 from dataclasses import asdict, dataclass, field
 from importlib import metadata
 from pathlib import Path
@@ -621,10 +623,10 @@ def _route_airfield_rows(routes: pd.DataFrame, paths: Sequence[Path]) -> pd.Data
     return pd.concat(frames, ignore_index=True) if len(frames) > 1 else frames[0]
 
 
-def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path | None:
-    """Route payloads through ``pipeline.routes.route_payload_frame`` when routes exist (none
-    when the whole input is unchanged: the load points the run at the earlier route payloads
-    and landing limits)."""
+def _route_function(prepared: PreparedRun) -> Callable | None:
+    """``pipeline.routes.route_payload_frame`` when this run computes route payloads (routes
+    exist and the whole input is not unchanged: then the load points the run at the earlier
+    route payloads and landing limits), else None."""
     if prepared.reuse and prepared.reuse.routes_from_run_id is not None:
         return None
     tables = prepared.inputs.tables
@@ -636,14 +638,87 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
         if exc.name == "fieldlimits.pipeline.routes":
             return None
         raise
-    func = getattr(routes, "route_payload_frame", None)
+    return getattr(routes, "route_payload_frame", None)
+
+
+#: Landing steps started early (:func:`start_landing`), by work folder.
+_LANDING: dict[str, Future] = {}
+_LANDING_LOCK = threading.Lock()
+
+
+def start_landing(prepared: PreparedRun, work: Path) -> bool:
+    """Start the landing step now, beside the chunks, when the run uses the chunks' process
+    pool in this process and the route step will need it; return whether it started.
+
+    Its blocks go to the same worker processes as the chunks (:func:`landing_rows` with the
+    pool as executor), from a thread of this process: they fill the pool's gaps while the
+    chunks run and its tail, with no second pool to start. :func:`route_payloads` takes its
+    parts (the same files, row for row); :func:`await_landing` waits for it before the pool
+    is closed; :func:`cleanup` stops it on a failed run. The rows do not depend on where a
+    block is solved.
+    """
+    if _route_function(prepared) is None:
+        return False
+    pool = chunks._process_pool(Path(work))
+    if pool is None:
+        return False
+    future: Future = Future()
+
+    def run() -> None:
+        if not future.set_running_or_notify_cancel():
+            return
+        try:
+            future.set_result(landing_rows(prepared, work, executor=pool))
+        except BaseException as exc:  # handed to whoever waits for it
+            future.set_exception(exc)
+
+    with _LANDING_LOCK:
+        _LANDING[str(work)] = future
+    threading.Thread(target=run, name="fieldlimits-landing", daemon=True).start()
+    return True
+
+
+def await_landing(work: Path) -> None:
+    """Wait for a landing step started by :func:`start_landing` (its error is raised by the
+    route step that takes its parts)."""
+    with _LANDING_LOCK:
+        future = _LANDING.get(str(work))
+    if future is not None:
+        future.exception()
+
+
+def _take_landing(work: Path):
+    """The parts of the landing step started early for ``work`` (None: not started)."""
+    with _LANDING_LOCK:
+        future = _LANDING.pop(str(work), None)
+    return None if future is None else future.result()
+
+
+def _drop_landing(work: Path) -> None:
+    """Stop a landing step started early (a failed or stopped run): its blocks not yet
+    started are cancelled with the pool; wait for the thread, ignoring its error."""
+    with _LANDING_LOCK:
+        future = _LANDING.pop(str(work), None)
+    if future is None:
+        return
+    chunks.shutdown_pool()
+    future.exception()
+
+
+def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path | None:
+    """Route payloads through ``pipeline.routes.route_payload_frame`` when routes exist (none
+    when the whole input is unchanged: the load points the run at the earlier route payloads
+    and landing limits)."""
+    early = _take_landing(work)
+    func = _route_function(prepared)
     if func is None:
         return None
+    tables = prepared.inputs.tables
     from fieldlimits.pipeline import landing
 
-    # the landing step first: the origins' takeoff rows (millions on a large network) are not
-    # held while it runs
-    parts = landing_rows(prepared, work)
+    # the landing step first (or its parts, started beside the chunks): the origins' takeoff
+    # rows (millions on a large network) are not held while it runs
+    parts = early if early is not None else landing_rows(prepared, work)
     airfield = _route_airfield_rows(tables["routes"], [Path(best_path)] + sorted(
         (Path(work) / chunks.PARTS_DIR).glob("*.airfield.parquet")))
     frame = func(tables, airfield, prepared.params.as_dict(), landing=landing.route_rows(parts))
@@ -674,17 +749,21 @@ def _landing_pool(n_blocks: int):
                                initializer=chunks.start_chunk_process)
 
 
-def landing_rows(prepared: PreparedRun, work: Path):
+def landing_rows(prepared: PreparedRun, work: Path, executor=None):
     """Landing-mass limits of the route destinations (:mod:`pipeline.landing`), solved and
     written block by block to ``<work>/landing_direction/`` and ``<work>/landing_airfield/``
-    (worker processes on a large run); returns the part files (``landing.LandingParts``): the
-    route step reads the destination rows from them, the load scans them."""
+    (worker processes on a large run: ``executor``, else a pool of its own); returns the part
+    files (``landing.LandingParts``): the route step reads the destination rows from them,
+    the load scans them."""
     from fieldlimits.pipeline import landing
 
     tables = prepared.inputs.tables
     rose = tables.get("wind_rose")
     if rose is None and prepared.params.reliability_levels:  # released: its Parquet copy,
         rose = str(Path(work) / case_io.TABLES_DIR / "wind_rose.parquet")  # read block by block
+    if executor is not None:
+        return landing.write_landing_parts(tables, prepared.params.as_dict(), work, wind_rose=rose,
+                                           block_airfields=landing.BLOCK_AIRFIELDS, executor=executor)
     blocks = landing.destination_blocks(landing.destination_pairs(tables["routes"]), landing.BLOCK_AIRFIELDS)
     pool = _landing_pool(len(blocks))
     try:
@@ -747,6 +826,7 @@ def fail(prepared: PreparedRun, run_id: int, exc: BaseException) -> None:
 def cleanup(prepared: PreparedRun, run_id: int) -> None:
     """Stop the run's heartbeat; remove its work folder (and the work root if it is empty)."""
     store.stop_heartbeat(prepared.db_path, run_id)
+    _drop_landing(work_dir(prepared, run_id))  # a failed run's landing step, if still running
     shutil.rmtree(work_dir(prepared, run_id), ignore_errors=True)
     if prepared.inputs.spool is not None:  # stopped before build_cases took the spool
         _forget_inputs(prepared.inputs)
@@ -837,6 +917,8 @@ def run_local(input_dir, db_path, params: RunParams = RunParams(), progress: Pro
         pool = ThreadPoolExecutor(max_workers=threads)
         try:
             futures = [pool.submit(compute, work, i, run_id, key_params) for i in range(n)]
+            if dask is None:
+                start_landing(prepared, work)
             for fut in as_completed(futures):
                 results.append(fut.result())
                 (progress or progress_mod.report)(len(results), n, time.monotonic() - t0)
@@ -844,6 +926,7 @@ def run_local(input_dir, db_path, params: RunParams = RunParams(), progress: Pro
             pool.shutdown(wait=False, cancel_futures=True)
             if dask is not None:
                 dask.close()
+        await_landing(work)  # its blocks share the chunks' pool
         chunks.shutdown_pool()  # the worker processes' memory is free for the load
         results.sort(key=lambda r: r.chunk)
         reused = reference_reused(prepared, run_id, work)

@@ -120,3 +120,45 @@ def test_a_run_with_landing_blocks_in_worker_processes_stores_the_rows_of_one_bl
     assert len(m) == len(rp)
     np.testing.assert_array_equal(m["destination_landing_limit_kg"].to_numpy(float),
                                   m["landing_limit_kg"].to_numpy(float))
+
+
+def test_landing_blocks_beside_the_chunks_in_their_pool_store_the_rows_of_one_block(
+        demo_dir, demo_tables, tmp_path, monkeypatch):
+    """A run whose chunks use the worker processes starts the landing step beside them, its
+    blocks in the same pool (no pool of its own): the stored landing tables and the route
+    payloads' destination limits are those of all destinations solved at once here."""
+    from fieldlimits.pipeline import chunks
+
+    monkeypatch.setenv("FIELDLIMITS_CHUNK_PROCESSES", "2")
+    monkeypatch.setattr(chunks, "PROCESS_MIN_CASES", 1)  # the demo is a small run
+    monkeypatch.setattr(landing, "BLOCK_AIRFIELDS", 3)
+    own_pools, started = [], []
+    monkeypatch.setattr(steps, "_landing_pool", lambda n: own_pools.append(n))
+    real_start = steps.start_landing
+    monkeypatch.setattr(steps, "start_landing", lambda p, w: started.append(real_start(p, w)) or started[-1])
+    params = steps.RunParams(reliability_levels=(0.5, 0.95), conditions=("dry",))
+    db = tmp_path / "beside.duckdb"
+    chunks.shutdown_pool()
+    try:
+        steps.run_local(demo_dir, db, params, progress=lambda *a: None)
+    finally:
+        chunks.shutdown_pool()
+    assert started == [True] and own_pools == []  # started early, in the chunks' pool
+    assert steps._LANDING == {}
+    one = landing.landing_frames(demo_tables, params.as_dict())
+    with duckdb.connect(str(db), read_only=True) as con:
+        stored = {t: con.sql(f"SELECT * EXCLUDE (run_id) FROM {t}").df()
+                  for t in ("landing_direction", "landing_airfield")}
+        rp = con.sql("SELECT destination_id, aircraft_type_id, month, condition, basis, reliability, "
+                     "destination_landing_limit_kg FROM route_payload").df()
+    for table, frame in (("landing_direction", one.direction), ("landing_airfield", one.airfield)):
+        got = stored[table].sort_values(KEYS, ignore_index=True)
+        exp = frame.sort_values(KEYS, ignore_index=True)
+        assert len(got) == len(exp) > 0
+        pd.testing.assert_frame_equal(got, exp, check_exact=True, check_dtype=False)
+    limits = one.airfield.rename(columns={"airfield_id": "destination_id"})
+    m = rp.merge(limits, on=["destination_id", "aircraft_type_id", "month", "condition", "basis"], how="left")
+    m = m[(m["reliability_x"] == m["reliability_y"]) | (m["reliability_x"].isna() & m["reliability_y"].isna())]
+    assert len(m) == len(rp) > 0
+    np.testing.assert_array_equal(m["destination_landing_limit_kg"].to_numpy(float),
+                                  m["landing_limit_kg"].to_numpy(float))
