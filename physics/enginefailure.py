@@ -755,14 +755,21 @@ class EngineFailureSetup:
         """The setup of the cases at ``index`` (integer array), gathered, not recomputed."""
         index = np.asarray(index)
         vals = {}
+        laws = {}  # each thrust law once (the regimes' terms hold the same laws)
+
+        def law(x):
+            if id(x) not in laws:
+                laws[id(x)] = x.take(index)
+            return laws[id(x)]
+
         for f in dataclasses.fields(self):
             v = getattr(self, f.name)
             if f.name == "n":
                 v = (index.size,)
             elif f.name == "regime_terms":  # groundrun.GroundRunTerms per regime
-                v = {k: type(t)(t.law.take(index), *(np.asarray(x)[index] for x in t[1:])) for k, t in v.items()}
+                v = {k: type(t)(law(t.law), *(np.asarray(x)[index] for x in t[1:])) for k, t in v.items()}
             elif f.name.startswith("law_"):
-                v = v.take(index)
+                v = law(v)
             elif v is None:
                 pass
             else:

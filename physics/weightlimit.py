@@ -1044,8 +1044,7 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     # each requirement's value at the last three evaluations, and which was least met (where
     # that changed, the steps interpolate each requirement on its own: the least margin has
     # a kink there)
-    H = np.full((3,) + MH.shape, np.nan)
-    H[0] = _itp_value(MH)
+    H = [_itp_value(MH), np.full(MH.shape, np.nan), np.full(MH.shape, np.nan)]  # newest first
     AR = np.full((3, lo.size), -1, dtype=np.int8)
     AR[0], GB[:] = _least_met(H[0])
     with np.errstate(invalid="ignore"):
@@ -1101,7 +1100,8 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
             flush(np.flatnonzero(~live), A, B)
             keep = np.flatnonzero(live)
             sub = sub.take(keep)
-            F, MH, H, AR = F.take(keep, axis=1), MH.take(keep, axis=1), H.take(keep, axis=2), AR.take(keep, axis=1)
+            F, MH, AR = F.take(keep, axis=1), MH.take(keep, axis=1), AR.take(keep, axis=1)
+            H = [h.take(keep, axis=1) for h in H]
             A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq, gl, gp, gq = F
             idx, known, none, side, fails, w, open_, kept = (
                 v.take(keep) for v in (idx, known, none, side, fails, w, open_, kept))
@@ -1128,14 +1128,14 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
                 k = np.flatnonzero(kink)  # never with one requirement
                 if k.size:  # (take: fancy indexing on the last axis gives strided views)
                     uak, ubk = uA.take(k), uB.take(k)
-                    e = _interpolated_root(ul.take(k), up.take(k), uq.take(k), *H.take(k, axis=2), j)
+                    e = _interpolated_root(ul.take(k), up.take(k), uq.take(k), *(h.take(k, axis=1) for h in H), j)
                     lowest = np.where((e > uak) & (e < ubk), e, np.inf).min(axis=0)
                     uf[k] = np.where(lowest < np.inf, lowest, rf.take(k))
                 unknown = np.flatnonzero(~known)
                 if unknown.size:  # the secants of the requirements, through failed trials
                     below = np.zeros(known.shape, dtype=bool)
                     ubu = uB.take(unknown)
-                    e = _interpolated_root(ul.take(unknown), up.take(unknown), None, *H[:2].take(unknown, axis=2),
+                    e = _interpolated_root(ul.take(unknown), up.take(unknown), None, *(h.take(unknown, axis=1) for h in H[:2]),
                                            None, 1)
                     below[unknown] = np.where(e < ubu, e, np.inf).min(axis=0) <= uA.take(unknown)
             xf = np.exp(uf)
@@ -1203,10 +1203,10 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         side = prev.copy()
         side[fi] = 1
         side[ii] = -1
-        side[check] = 0
+        side *= ~check  # 0 where OEW was checked (a multiply: the mask is random)
         uq[:], up[:], ul[:] = up, ul, ux
         gq[:], gp[:], gl[:] = gp, gl, g
-        H[2], H[1], H[0] = H[1], H[0], gi
+        H = [gi, H[0], H[1]]
         AR[2], AR[1], AR[0] = AR[1], AR[0], ar
         j += 1
     flush(np.arange(idx.size), A, B)
