@@ -412,12 +412,73 @@ def _crossings_kernel(f, inv, z, w, mass):
     for i in range(n):
         _scan(f, inv, z, w, i, mass[i], idx, n_pts, False, score[i], rate)
         for j in range(n_pts):
-            zj = score[i, j]
-            r = rate[j]
-            if r > 0.0 and r < _FLAT_RATE and abs(zj) <= _BINDING_SCORE and w[i, j] > 0.0:
-                density[i, j] = w[i, j] * math.exp(-0.5 * zj * zj) * _INV_SQRT_2PI * r
-                slope[i, j] = -1.0 / r
+            density[i, j] = _density(w[i, j], score[i, j], rate[j])
+            if density[i, j] > 0.0:
+                slope[i, j] = -1.0 / rate[j]
     return score, slope, density
+
+
+@kernel
+def _density(weight, score, rate):
+    """Density of the day-to-day mass from one wind point, w phi(z*) |dz*/dM|
+    (:func:`level_crossings`); 0 beyond ±_BINDING_SCORE, on a flat segment or without days."""
+    if rate > 0.0 and rate < _FLAT_RATE and abs(score) <= _BINDING_SCORE and weight > 0.0:
+        return weight * math.exp(-0.5 * score * score) * _INV_SQRT_2PI * rate
+    return 0.0
+
+@kernel
+def _flown_kernel(raw, cross_ex, tail_ex, valid, cross_code, tail_code):
+    """:func:`flown_direction` over groups (N), wind points (J) and nodes (G) in one pass."""
+    n, n_dir, n_pts, n_nodes = raw.shape
+    direction = np.empty((n, n_pts, n_nodes), dtype=np.int64)
+    mass = np.empty((n, n_pts, n_nodes))
+    reason = np.full((n, n_pts), -1, dtype=np.int64)
+    usable = np.empty(n_dir, dtype=np.bool_)
+    for i in range(n):
+        for j in range(n_pts):
+            first_usable = -1
+            for d in range(n_dir):
+                usable[d] = valid[i, d] and not cross_ex[i, d, j] and not tail_ex[i, d, j]
+                if usable[d] and first_usable < 0:
+                    first_usable = d
+            if first_usable < 0:
+                # Usable nowhere: the best candidate (highest mass summed over the nodes,
+                # limits ignored, first on ties) names the limit that excludes it.
+                cand = 0
+                merit_best = -math.inf
+                for d in range(n_dir):
+                    if not valid[i, d]:
+                        continue
+                    merit = 0.0
+                    for g in range(n_nodes):
+                        v = raw[i, d, j, g]
+                        if not math.isnan(v):
+                            merit += v
+                    if merit > merit_best:
+                        merit_best = merit
+                        cand = d
+                for g in range(n_nodes):
+                    direction[i, j, g] = cand
+                    mass[i, j, g] = -math.inf
+                reason[i, j] = cross_code if cross_ex[i, cand, j] else tail_code
+                continue
+            for g in range(n_nodes):
+                # The best usable direction and its mass, first on ties.
+                top = -math.inf
+                best = 0
+                for d in range(n_dir):
+                    v = raw[i, d, j, g]
+                    if usable[d] and v > top:  # False for NaN
+                        top = v
+                        best = d
+                if math.isfinite(top):
+                    direction[i, j, g] = best
+                    mass[i, j, g] = top
+                else:
+                    direction[i, j, g] = first_usable
+                    mass[i, j, g] = math.nan
+    return direction, mass, reason
+
 
 
 def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=None,
@@ -457,45 +518,23 @@ def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=No
     between nodes is the best one at its own temperature (:func:`direction_at_score`). A
     point usable nowhere is lost; its reason is the limit that excludes the best candidate
     (the direction with the highest mass summed over the nodes, limits ignored), crosswind
-    when that direction exceeds both.
+    when that direction exceeds both. One pass over groups, wind points, directions and
+    nodes in a compiled kernel (:mod:`physics.compiled`).
 
     References
     ----------
     .. [2] ICAO Annex 14, Vol. I, §3.1.1 and Attachment A §1 (usability of a runway system).
     """
-    raw = np.asarray(point_mass_kg, dtype=float)
+    raw = np.ascontiguousarray(point_mass_kg, dtype=float)
     shape3 = raw.shape[:3]
     cross_ex = (np.zeros(shape3, dtype=bool) if crosswind_exceeded is None
-                else np.broadcast_to(np.asarray(crosswind_exceeded, dtype=bool), shape3))
+                else np.ascontiguousarray(np.broadcast_to(np.asarray(crosswind_exceeded, dtype=bool), shape3)))
     tail_ex = (np.zeros(shape3, dtype=bool) if tailwind_exceeded is None
-               else np.broadcast_to(np.asarray(tailwind_exceeded, dtype=bool), shape3))
+               else np.ascontiguousarray(np.broadcast_to(np.asarray(tailwind_exceeded, dtype=bool), shape3)))
     valid = (np.ones(raw.shape[:2], dtype=bool) if direction_valid is None
-             else np.asarray(direction_valid, dtype=bool))[:, :, None]
-    usable = valid & ~cross_ex & ~tail_ex  # (N, D, J)
-    any_usable = np.any(usable, axis=1)  # (N, J)
-    # The best usable direction and its mass, first on ties: a pass over the few
-    # directions (elementwise over the rest; numpy's argmax over a middle axis copies).
-    top = np.where(usable[:, 0, :, None] & ~np.isnan(raw[:, 0]), raw[:, 0], -np.inf)  # (N, J, G)
-    best = np.zeros(top.shape, dtype=np.int64)
-    for d in range(1, raw.shape[1]):  # a handful of runway directions, not a loop over cases
-        cand_d = np.where(usable[:, d, :, None] & ~np.isnan(raw[:, d]), raw[:, d], -np.inf)
-        better = cand_d > top
-        best[better] = d
-        top = np.where(better, cand_d, top)
-    # The best candidate of a point usable nowhere (only those need one).
-    cand = np.zeros(any_usable.shape, dtype=np.int64)  # (N, J)
-    lost_n, lost_j = np.nonzero(~any_usable)
-    if lost_n.size:
-        r = raw[lost_n, :, lost_j]  # (P, D, G)
-        merit = np.where(valid[lost_n, :, 0], np.sum(np.where(np.isnan(r), 0.0, r), axis=-1), -np.inf)
-        cand[lost_n, lost_j] = np.argmax(merit, axis=1)
-    direction = np.where(any_usable[..., None] & np.isfinite(top), best,
-                         np.where(any_usable, np.argmax(usable, axis=1), cand)[..., None])
-    mass = np.where(any_usable[..., None], np.where(np.isfinite(top), top, np.nan), -np.inf)
-    c_ex = np.take_along_axis(cross_ex, cand[:, None, :], axis=1)[:, 0]
-    reason = np.where(any_usable, -1, np.where(c_ex, limits.code("crosswind_limit"),
-                                                limits.code("tailwind_limit")))
-    return direction, mass, reason.astype(np.int64)
+             else np.ascontiguousarray(np.broadcast_to(np.asarray(direction_valid, dtype=bool), raw.shape[:2])))
+    return _flown_kernel(raw, cross_ex, tail_ex, valid, limits.code("crosswind_limit"),
+                         limits.code("tailwind_limit"))
 
 
 def mass_at_score(node_mass_kg, scores, score):
@@ -953,50 +992,100 @@ def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count,
     density), standing for f/K (a point picked by several k stands for their sum: one
     solve). A dominant point (often the calm) is then solved once and carries its own
     share; the others spread along the contour, so a smooth error is integrated by the
-    midpoint rule over the density.
+    midpoint rule over the density. Row by row in a compiled kernel (:mod:`physics.compiled`):
+    the crossings of :func:`level_crossings`, a stable sort of the contour key, the
+    cumulative density and the K positions.
 
     References
     ----------
     .. [6] W. G. Cochran, *Sampling Techniques*, 3rd ed., Wiley, 1977, ch. 8 (systematic
        sampling) [from memory for the chapter].
     """
-    zj, slope, dens = level_crossings(point_mass_kg, scores, weight, mass_kg)
-    n_rows, n_pts = dens.shape
+    f, z_seg, inv = _prepared(point_mass_kg, scores)
+    n_rows, n_pts, n_nodes = f.shape
+    z = np.ascontiguousarray(np.broadcast_to(np.asarray(scores, dtype=float), (n_rows, n_nodes)))
     key = np.asarray(order_key, dtype=float)
-    if key.ndim == 3:
-        z = np.broadcast_to(np.asarray(scores, dtype=float), (n_rows, key.shape[-1]))
-        node = np.argmin(np.abs(z[:, None, :] - np.where(np.isfinite(zj), zj, 0.0)[..., None]),
-                         axis=-1)
-        key = np.take_along_axis(key, node[..., None], axis=-1)[..., 0]
-    order = np.argsort(key, axis=1, kind="stable")
-    cum = np.cumsum(np.take_along_axis(dens, order, axis=1), axis=1)  # (N, J)
-    total = cum[:, -1] if n_pts else np.zeros(n_rows)
-    k = max(1, int(count))
-    target = (np.arange(k) + 0.5)[None, :] / k * total[:, None]  # (N, K)
-    pos = np.minimum(np.sum(cum[:, None, :] < target[..., None], axis=-1), n_pts - 1)
-    best = np.take_along_axis(order, pos, axis=1)  # (N, K), non-decreasing positions
-    share = np.repeat(np.where(total > 0, total / k, 0.0)[:, None], k, axis=1)
-    for i in range(k - 1, 0, -1):  # merge repeats into the first slot (a fixed, small K)
-        same = pos[:, i] == pos[:, i - 1]
-        share[:, i - 1] += np.where(same, share[:, i], 0.0)
-        share[:, i] = np.where(same, 0.0, share[:, i])
-    filled = share > 0
-    take = lambda a: np.take_along_axis(a, best, axis=-1)  # noqa: E731
-    risk = np.zeros(n_rows)
-    if risk_kg is not None:
-        u = np.asarray(risk_kg, dtype=float)
-        n_seg = u.shape[-1]
-        z = np.broadcast_to(np.asarray(scores, dtype=float), (n_rows, n_seg + 1))
-        seg = np.clip(np.sum(z[:, None, 1:-1] <= np.where(np.isfinite(zj), zj, 0.0)[..., None],
-                             axis=-1), 0, n_seg - 1)
-        u_pt = np.take_along_axis(u, seg[..., None], axis=-1)[..., 0]
-        with np.errstate(invalid="ignore"):
-            risk = np.where(total > 0, np.sum(np.where(dens > 0, dens * u_pt, 0.0), axis=-1)
-                            / np.where(total > 0, total, 1.0), 0.0)
-    return RefinementSamples(point=np.where(filled, best, -1),
-                             score=np.where(filled, take(zj), np.nan),
-                             slope_kg=np.where(filled, take(slope), np.nan),
-                             stratum_density_per_kg=share, density_per_kg=total, risk_kg=risk)
+    per_node = key.ndim == 3
+    key = np.ascontiguousarray(key if per_node else key[..., None])
+    has_risk = risk_kg is not None
+    risk = np.ascontiguousarray(risk_kg, dtype=float) if has_risk else np.zeros((n_rows, n_pts, 1))
+    point, score, slope, share, total, risk_row = _samples_kernel(
+        f, inv, z_seg, np.ascontiguousarray(weight, dtype=float),
+        np.ascontiguousarray(mass_kg, dtype=float), z, key, per_node, max(1, int(count)), risk, has_risk)
+    return RefinementSamples(point=point, score=score, slope_kg=slope, stratum_density_per_kg=share,
+                             density_per_kg=total, risk_kg=risk_row)
+
+
+@kernel
+def _samples_kernel(f, inv, z_seg, w, mass, z, key, per_node, count, risk, has_risk):
+    """:func:`refinement_samples` row by row (key (N, J, 1) or per node (N, J, G); risk
+    (N, J, G − 1) when ``has_risk``)."""
+    n, n_pts, n_nodes = f.shape
+    point = np.full((n, count), -1, dtype=np.int64)
+    score = np.full((n, count), math.nan)
+    slope = np.full((n, count), math.nan)
+    share = np.zeros((n, count))
+    total = np.zeros(n)
+    risk_row = np.zeros(n)
+    idx = np.arange(n_pts)
+    zj = np.empty(n_pts)
+    rate = np.empty(n_pts)
+    dens = np.empty(n_pts)
+    key_j = np.empty(n_pts)
+    cum = np.empty(n_pts)
+    pos = np.empty(count, dtype=np.int64)
+    n_seg = risk.shape[2]
+    for i in range(n):
+        _scan(f, inv, z_seg, w, i, mass[i], idx, n_pts, False, zj, rate)
+        risk_sum = 0.0
+        for j in range(n_pts):
+            zc = zj[j] if math.isfinite(zj[j]) else 0.0
+            dens[j] = _density(w[i, j], zj[j], rate[j])
+            if per_node:  # the key at the node nearest the crossing
+                node = 0
+                for g in range(1, n_nodes):
+                    if abs(z[i, g] - zc) < abs(z[i, node] - zc):
+                        node = g
+                key_j[j] = key[i, j, node]
+            else:
+                key_j[j] = key[i, j, 0]
+            if has_risk and dens[j] > 0.0:  # the error indicator of the crossing's segment
+                seg = 0
+                for g in range(1, n_nodes - 1):
+                    if z[i, g] <= zc:
+                        seg += 1
+                risk_sum += dens[j] * risk[i, j, min(seg, n_seg - 1)]
+        order = np.argsort(key_j, kind="mergesort")  # stable: ties keep the point order
+        acc = 0.0
+        for a in range(n_pts):
+            acc += dens[order[a]]
+            cum[a] = acc
+        tot = acc
+        total[i] = tot
+        if has_risk and tot > 0.0:
+            risk_row[i] = risk_sum / tot
+        if tot <= 0.0:
+            continue
+        # Sample k: the first point in contour order whose cumulative density reaches
+        # (k + 1/2)/K of the total (the last point at most).
+        a = 0
+        for k in range(count):
+            target = (k + 0.5) / count * tot
+            while a < n_pts and cum[a] < target:
+                a += 1
+            pos[k] = min(a, n_pts - 1)
+            share[i, k] = tot / count
+        for k in range(count - 1, 0, -1):  # repeats merged into their first slot
+            if pos[k] == pos[k - 1]:
+                share[i, k - 1] += share[i, k]
+                share[i, k] = 0.0
+        for k in range(count):
+            if share[i, k] > 0.0:
+                j = order[pos[k]]
+                point[i, k] = j
+                score[i, k] = zj[j]
+                slope[i, k] = -1.0 / rate[j] if dens[j] > 0.0 else math.nan
+    return point, score, slope, share, total, risk_row
 
 
 def refined_level_masses(mass_kg, excess_share, density_per_kg, stratum_density_per_kg,
