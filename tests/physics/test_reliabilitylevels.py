@@ -212,6 +212,77 @@ def test_scalar_group_equals_batch_element():
     np.testing.assert_allclose(batch.mass_kg[1], single.mass_kg[0], atol=1.0)
 
 
+def _brute_force_quantile(node_mass, scores, weight, p, oew, mtow, n_days=200_001):
+    """Lower (1 − p) quantile of the day-to-day mass from a dense sample of days, and the
+    quantiles at p ± 0.5/n_days (the sample's own uncertainty: with equal-probability
+    temperature strata represented by their medians, a point's share of days achieving a
+    mass is within half a stratum, w_j × 0.5/n_days, of the exact one).
+
+    Each wind point j gets n_days equal-probability temperature scores; a day's mass is its
+    point's node masses interpolated linearly in the score (extended linearly beyond the end
+    nodes), capped at MTOW, and 0 (no takeoff) where not possible or below OEW. The level is
+    the largest mass achieved on at least p of the days, weighted by the points' shares.
+    """
+    zz = stats.norm.ppf((np.arange(n_days) + 0.5) / n_days)
+    k = np.clip(np.searchsorted(scores, zz, side="right") - 1, 0, scores.size - 2)
+    s = (zz - scores[k]) / (scores[k + 1] - scores[k])
+    with np.errstate(invalid="ignore"):
+        day = node_mass[:, k] + s * (node_mass[:, k + 1] - node_mass[:, k])  # (J, n_days)
+    day = np.where(np.isfinite(day) & (day >= oew), np.minimum(day, mtow), 0.0).ravel()
+    share = np.repeat(weight / n_days, n_days)
+    order = np.argsort(-day, kind="stable")
+    cum = np.cumsum(share[order])
+    q = lambda x: day[order][min(np.searchsorted(cum, x - 1e-12), day.size - 1)]  # noqa: E731
+    return [(q(x + 0.5 / n_days), q(x), q(x - 0.5 / n_days)) for x in p]
+
+
+@pytest.mark.parametrize("tol_kg", [1.0, 0.1])
+def test_level_search_agrees_with_a_brute_force_quantile_of_the_days(tol_kg):
+    # Outside check: the definition of the lower (1 − p) quantile of the day-to-day mass
+    # (Wilks 2011, §3.1), from 200 001 sampled days per wind point, against the kernel's
+    # search on the same piecewise-linear surface. The search stops at a certified lower
+    # end of a bracket narrower than tol_kg, and masses within 0.05 kg count as achieved,
+    # so the level lies in [M_p − tol, M_p + 0.05] (M_p within the sample's band).
+    rng = np.random.default_rng(19)
+    n_pts = 24
+    head = np.concatenate([[0.0], rng.uniform(-5.0, 15.0, n_pts - 1)])  # factored headwind
+    weight = np.concatenate([[0.3], rng.random(n_pts - 1)])
+    weight[5] = 0.0  # a point without days
+    weight /= weight.sum()
+    groups = []
+    t = climatology.daily_max_temperature_k(Z, 301.0, 3.5)
+    base = curved_mass(t[None, :], head[:, None])  # (J, G)
+    lost = base.copy()
+    lost[[3, 7]] = -np.inf  # points usable on no direction
+    groups.append((lost, Z))
+    groups.append((np.minimum(base, 58_500.0), Z))  # a plateau: a climb cap on cool days
+    hot = curved_mass(climatology.daily_max_temperature_k(Z, 306.0, 2.0)[None, :], head[:, None])
+    hot[:, -2:] = np.nan  # no takeoff on the hottest days
+    groups.append((hot, Z))
+    z_shift = Z + np.array([0.0, 0.0, 0.2, 0.1, -0.1, 0.0])  # a node moved (e.g. onto a corner)
+    groups.append((curved_mass(climatology.daily_max_temperature_k(z_shift, 299.0, 4.0)[None, :],
+                               head[:, None]), z_shift))
+    levels = (0.3, 0.5, 0.85, 0.95, 0.99)
+    oew, mtow = 40_000.0, 66_000.0
+    masses = np.stack([g[0] for g in groups])
+    scores = np.stack([g[1] for g in groups])
+    res = reliabilitylevels.reliability_masses(masses, scores, np.repeat(weight[None], len(groups), axis=0),
+                                               np.full(len(groups), oew), np.full(len(groups), mtow),
+                                               levels=levels, tol_kg=tol_kg)
+    searched = 0
+    for i, (m, z) in enumerate(groups):
+        for l, (q_hi, q, q_lo) in enumerate(_brute_force_quantile(m, z, weight, levels, oew, mtow)):
+            got = res.mass_kg[i, l]
+            if q_lo < oew:  # not possible on p of the days
+                assert np.isnan(got), (i, levels[l])
+                continue
+            assert q_lo - q_hi < 1.0  # the sample resolves the level (0.3 kg but at 0.99)
+            assert q_hi - tol_kg - 1e-6 <= got <= q_lo + 0.05 + 1e-6, (i, levels[l], got, q)
+            searched += q < mtow
+    assert searched >= 12  # most levels come from the search, not the caps
+    assert np.isnan(res.mass_kg[2, -1])  # 1 % of days too hot for any takeoff
+
+
 # --------------------------------------------------------------------------------------
 # Refinement with direct solves
 # --------------------------------------------------------------------------------------
