@@ -617,29 +617,7 @@ def _take_segments(seg, index):
     """A :class:`physics.groundrun.QuadraticSegments` for the cases at ``index`` (integer
     array), its constants gathered. Each case keeps the form (real roots or special) it had,
     so every distance is the one the whole set gives."""
-    n = seg.a0.shape[0]
-    index = np.asarray(index)
-    new = object.__new__(type(seg))
-    new.a0, new.a1, new.a2, new.w = (x.take(index) for x in (seg.a0, seg.a1, seg.a2, seg.w))
-    new.special_first = seg.special_first
-    whole = seg._special_c if seg.special_first else seg._real_c  # over every case
-    part = seg._real_c if seg.special_first else seg._special_c  # over seg.others
-    whole = tuple(x.take(index) if np.ndim(x) == 1 and np.shape(x)[0] == n else x for x in whole)
-    others = None
-    if seg.others is not None:
-        where = np.full(n, -1)
-        where[seg.others] = np.arange(seg.others.size)
-        local = where.take(index)
-        inside = local >= 0
-        if inside.any():
-            others = np.flatnonzero(inside)
-            part = tuple(x.take(local[inside]) for x in part)
-    if seg.special_first:
-        new._special_c, new._real_c = whole, (part if others is not None else None)
-    else:
-        new._real_c, new._special_c = whole, (part if others is not None else None)
-    new.others = others
-    return new
+    return seg.take(index)
 
 
 @dataclass(frozen=True)

@@ -40,11 +40,13 @@ References
 
 from __future__ import annotations
 
+import math
 from typing import NamedTuple
 
 import numpy as np
 
 from fieldlimits.physics import constants as c
+from fieldlimits.physics.compiled import kernel
 from fieldlimits.physics.thrust import _trail
 
 #: Reason codes returned beside NaN results.
@@ -170,14 +172,84 @@ def acceleration_coefficients(*, mass_kg, wing_area_m2, density_kg_m3, cd, cl, m
     return AccelerationCoefficients(a0, a1, a2)
 
 
-def _log1p_ratio(x, log1p_x):
-    """log1p(x)/x, accurate near 0 (log1p_x = log1p(x) already computed)."""
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ratio = log1p_x / x
-    small = np.abs(x) < 1e-5
-    if np.any(small):
-        ratio = np.where(small, 1.0 - x * (0.5 - x / 3.0), ratio)
-    return ratio
+#: Form of a(V) = a0 + a1 V + a2 V² per case in :class:`QuadraticSegments`: distinct real
+#: roots, complex roots, a double root (the last two, with constant acceleration where the
+#: V terms vanish on the segment, are the special forms). [–]
+FORM_REAL, FORM_COMPLEX, FORM_DOUBLE = 0, 1, 2
+
+
+@kernel
+def _segment_forms(a0, a1, a2, form, k0, k1, k2):
+    """Form and constants of each case's a(V) (:class:`QuadraticSegments`), in place."""
+    for j in range(a0.shape[0]):
+        a1sq = a1[j] * a1[j]
+        four_a0a2 = 4.0 * a0[j] * a2[j]
+        disc = a1sq - four_a0a2
+        # the real-root form is singular or ill-conditioned here (double root, constant
+        # acceleration), or does not apply (complex roots)
+        if disc <= 1e-12 * (a1sq + abs(four_a0a2)):  # includes every disc < 0
+            form[j] = FORM_DOUBLE if abs(disc) <= 1e-12 * (a1sq + abs(four_a0a2)) else FORM_COMPLEX
+            k0[j] = np.sqrt(abs(disc))
+            k1[j] = 0.0
+            k2[j] = 0.0
+        else:
+            # a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q, a2 (r1 − r2) = −sq
+            form[j] = FORM_REAL
+            sq = math.copysign(np.sqrt(max(disc, 0.0)), a1[j])
+            q = -0.5 * (a1[j] + sq)
+            k0[j] = sq
+            k1[j] = q
+            k2[j] = a0[j] / q
+
+
+@kernel
+def _segment_integrals(a0, a1, a2, w, form, k0, k1, k2, vi, vf, dist, time):
+    """∫(V − w)/a dV and ∫dV/a from vi to vf per case (:meth:`QuadraticSegments.integrals`)."""
+    for j in range(a0.shape[0]):
+        v_i, v_f = vi[j], vf[j]
+        dv = v_f - v_i
+        a_0, a_1, a_2, w_j = a0[j], a1[j], a2[j], w[j]
+        a_i = a_0 + (a_1 + a_2 * v_i) * v_i
+        if form[j] == FORM_REAL:
+            # written to stay exact as a2 → 0: (r1 − w) ln((vf − r1)/(vi − r1)) through log1p
+            sq, q, r2 = k0[j], k1[j], k2[j]
+            inv_sq = 1.0 / sq
+            u = dv / (a_2 * v_i - q)
+            x1 = a_2 * u
+            log1 = np.log1p(x1)
+            ratio = 1.0 - x1 * (0.5 - x1 / 3.0) if abs(x1) < 1e-5 else log1 / x1
+            term1 = (q - a_2 * w_j) * ratio * u
+            log2 = np.log1p(dv / (v_i - r2))
+            d = ((r2 - w_j) * log2 - term1) * inv_sq
+            t = (log2 - log1) * inv_sq
+        else:
+            vmax = max(abs(v_i), abs(v_f))
+            if (abs(a_1) + abs(a_2) * vmax) * vmax <= 1e-13 * abs(a_0):  # constant acceleration
+                d = dv * (v_f + v_i - 2.0 * w_j) / (2.0 * a_0)
+                t = dv / a_0
+            elif form[j] == FORM_DOUBLE:  # a = a2 (V − r)²
+                r = -a_1 / (2.0 * a_2)
+                inv = 1.0 / (v_i - r) - 1.0 / (v_f - r)
+                d = (np.log((v_f - r) / (v_i - r)) + (r - w_j) * inv) / a_2
+                t = inv / a_2
+            else:  # complex roots ([3] 2.172, the atan difference written with atan2, exact branch)
+                sd = k0[j]
+                two_a2 = 2.0 * a_2
+                x = (two_a2 * v_f + a_1) / sd
+                y = (two_a2 * v_i + a_1) / sd
+                t = 2.0 / sd * np.arctan2(two_a2 * dv / sd, 1.0 + x * y)
+                ln = np.log1p(dv * (a_1 + a_2 * (v_f + v_i)) / a_i)
+                d = (ln - (two_a2 * w_j + a_1) * t) / two_a2
+        # a(vi) with the sign of vf − vi (dv·ai cannot underflow for speeds and accelerations);
+        # a root inside the segment makes a logarithm's argument negative: NaN or ±inf
+        if not (dv * a_i > 0.0 and np.isfinite(d)):
+            d = np.nan
+            t = np.nan
+        if dv == 0.0:
+            d = 0.0
+            t = 0.0
+        dist[j] = d
+        time[j] = t
 
 
 class QuadraticSegments:
@@ -199,7 +271,9 @@ class QuadraticSegments:
     and the constants of its form; :meth:`integrals` then evaluates the formulas of
     :func:`segment_distance_quadratic_m` for the segment's ends only. A caller integrating
     several segments of one a(V) (the V1 search of :mod:`physics.enginefailure`) builds
-    this once; :func:`_quadratic_integrals` builds it for a single segment.
+    this once; :func:`_quadratic_integrals` builds it for a single segment. Both steps are
+    compiled kernels (:mod:`physics.compiled`: one pass over the cases, each case's own
+    form, no temporaries); the closed forms written with numpy are the tests' reference.
 
     References
     ----------
@@ -207,87 +281,23 @@ class QuadraticSegments:
     """
 
     def __init__(self, a0, a1, a2, w):
-        a0, a1, a2, w = (np.atleast_1d(x) for x in np.broadcast_arrays(_f(a0), _f(a1), _f(a2), _f(w)))
+        a0, a1, a2, w = (_f(x) for x in (a0, a1, a2, w))
+        shape = np.broadcast_shapes(a0.shape, a1.shape, a2.shape, w.shape) or (1,)
+        a0, a1, a2, w = (np.ascontiguousarray(np.broadcast_to(x, shape)) for x in (a0, a1, a2, w))
         self.a0, self.a1, self.a2, self.w = a0, a1, a2, w
-        a1sq = a1 * a1
-        four_a0a2 = 4.0 * a0 * a2
-        disc = a1sq - four_a0a2
-        # the real-root form is singular or ill-conditioned here (double root, constant
-        # acceleration), or does not apply (complex roots)
-        special = disc <= 1e-12 * (a1sq + np.abs(four_a0a2))  # includes every disc < 0
-        n_special = int(np.count_nonzero(special))
-        # each form on its own cases: the real-root form on all cases when few need another,
-        # else the special forms on all and the real-root form on the rest (a reverse-flow
-        # segment, with drag adding to the acceleration, has complex roots throughout)
-        self.special_first = n_special > 0.5 * special.size
-        if self.special_first:
-            self.others = np.flatnonzero(~special) if n_special < special.size else None
-            self._special_c = self._special_constants(a0, a1, a2, w, disc)
-            self._real_c = None if self.others is None else self._real_constants(
-                *(x.take(self.others) for x in (a0, a1, a2, w, disc)))
-        else:
-            self.others = np.flatnonzero(special) if n_special else None
-            self._real_c = self._real_constants(a0, a1, a2, w, disc)
-            self._special_c = None if self.others is None else self._special_constants(
-                *(x.take(self.others) for x in (a0, a1, a2, w, disc)))
+        n = a0.shape[0]
+        self.form = np.empty(n, dtype=np.int8)
+        self.k = np.empty((3, n))  # real roots: sqrt(Δ) with a1's sign, q, r2; special: sqrt(|Δ|)
+        _segment_forms(a0, a1, a2, self.form, *self.k)
 
-    @staticmethod
-    def _real_constants(a0, a1, a2, w, disc):
-        # a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q, and a2 (r1 − r2) = −sq.
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            sq = np.copysign(np.sqrt(np.maximum(disc, 0.0)), a1)
-            q = -0.5 * (a1 + sq)
-            r2 = a0 / q
-            return a2, q, r2, 1.0 / sq, q - a2 * w, r2 - w
-
-    @staticmethod
-    def _special_constants(a0, a1, a2, w, disc):
-        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            sd = np.sqrt(np.abs(disc))
-            two_a2 = 2.0 * a2
-            double = np.abs(disc) <= 1e-12 * (a1 * a1 + np.abs(4.0 * a0 * a2))
-            return a0, a1, a2, w, sd, two_a2, 2.0 / sd, two_a2 * w + a1, double
-
-    @staticmethod
-    def _real_root(const, vi, dv):
-        """Real-root form (distinct roots), written to stay exact as a2 → 0."""
-        a2, q, r2, inv_sq, q_w, r2_w = const
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            u = dv / (a2 * vi - q)
-            x1 = a2 * u
-            log1 = np.log1p(x1)
-            term1 = q_w * _log1p_ratio(x1, log1) * u  # (r1 − w) ln((vf − r1)/(vi − r1))
-            log2 = np.log1p(dv / (vi - r2))
-            dist = (r2_w * log2 - term1) * inv_sq
-            time = (log2 - log1) * inv_sq
-        return dist, time
-
-    @staticmethod
-    def _special(const, vi, vf, dv, ai):
-        """Complex roots ([3] 2.172, the atan difference written with atan2, exact branch);
-        double root and constant acceleration only where present."""
-        a0, a1, a2, w, sd, two_a2, two_over_sd, two_a2_w_a1, double = const
-        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            x = (two_a2 * vf + a1) / sd
-            y = (two_a2 * vi + a1) / sd
-            time = two_over_sd * np.arctan2(two_a2 * dv / sd, 1.0 + x * y)
-            ln = np.log1p(dv * (a1 + a2 * (vf + vi)) / ai)
-            dist = (ln - two_a2_w_a1 * time) / two_a2
-        vmax = np.maximum(np.abs(vi), np.abs(vf))
-        const = (np.abs(a1) + np.abs(a2) * vmax) * vmax <= 1e-13 * np.abs(a0)
-        double = double & ~const
-        if np.any(double):
-            with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-                # double root r: a = a2 (V − r)²
-                r = -a1 / two_a2
-                inv = 1.0 / (vi - r) - 1.0 / (vf - r)
-                dist = np.where(double, (np.log((vf - r) / (vi - r)) + (r - w) * inv) / a2, dist)
-                time = np.where(double, inv / a2, time)
-        if np.any(const):
-            with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-                dist = np.where(const, dv * (vf + vi - 2.0 * w) / (2.0 * a0), dist)
-                time = np.where(const, dv / a0, time)
-        return dist, time
+    def take(self, index):
+        """The segments of the cases at ``index`` (integer array): forms and constants
+        gathered, so each case keeps the form it had."""
+        index = np.asarray(index)
+        new = object.__new__(type(self))
+        new.a0, new.a1, new.a2, new.w = (x.take(index) for x in (self.a0, self.a1, self.a2, self.w))
+        new.form, new.k = self.form.take(index), self.k.take(index, axis=1)
+        return new
 
     def integrals(self, vi, vf):
         """Distance and time from airspeed ``vi`` to ``vf``.
@@ -314,28 +324,9 @@ class QuadraticSegments:
         ----------
         .. [3] Gradshteyn & Ryzhik, 2.172, 2.175.
         """
-        a0, a1, a2 = self.a0, self.a1, self.a2
-        vi, vf = (np.broadcast_to(np.atleast_1d(_f(x)), a0.shape) for x in (vi, vf))
-        dv = vf - vi
-        ai = a0 + (a1 + a2 * vi) * vi
-        o = self.others
-        if self.special_first:
-            dist, time = self._special(self._special_c, vi, vf, dv, ai)
-            if o is not None:
-                dist[o], time[o] = self._real_root(self._real_c, vi.take(o), dv.take(o))
-        else:
-            dist, time = self._real_root(self._real_c, vi, dv)
-            if o is not None:
-                dist[o], time[o] = self._special(self._special_c, vi.take(o), vf.take(o), dv.take(o), ai.take(o))
-        # a(vi) with the sign of vf − vi (dv·ai cannot underflow for speeds and accelerations)
-        ok = (dv * ai > 0.0) & np.isfinite(dist)
-        if not ok.all():
-            dist = np.where(ok, dist, np.nan)
-            time = np.where(ok, time, np.nan)
-        zero = dv == 0.0
-        if np.any(zero):
-            dist[zero] = 0.0
-            time[zero] = 0.0
+        vi, vf = (np.broadcast_to(np.atleast_1d(_f(x)), self.a0.shape) for x in (vi, vf))
+        dist, time = np.empty(self.a0.shape), np.empty(self.a0.shape)
+        _segment_integrals(self.a0, self.a1, self.a2, self.w, self.form, *self.k, vi, vf, dist, time)
         return dist, time
 
 
@@ -343,8 +334,9 @@ def _quadratic_integrals(a0, a1, a2, vi, vf, w):
     """Closed-form ∫(V − w)/a dV and ∫dV/a from vi to vf for a = a0 + a1 V + a2 V²
     (:class:`QuadraticSegments` for one segment). Returns (distance, time), NaN where the
     segment is infeasible. Arrays broadcast."""
-    a0, a1, a2, vi, vf, w = np.broadcast_arrays(_f(a0), _f(a1), _f(a2), _f(vi), _f(vf), _f(w))
-    shape = a0.shape
+    args = [_f(x) for x in (a0, a1, a2, vi, vf, w)]
+    shape = np.broadcast_shapes(*(x.shape for x in args))
+    a0, a1, a2, vi, vf, w = (np.broadcast_to(x, shape).ravel() for x in args)
     dist, time = QuadraticSegments(a0, a1, a2, w).integrals(vi, vf)
     return dist.reshape(shape), time.reshape(shape)
 
@@ -601,24 +593,37 @@ def _propeller_power_closed(pm, c2, c0, v0, v1, w, root=None):
     .. [3] Gradshteyn & Ryzhik, 2.103, 2.172. .. [6] Abramowitz & Stegun, 3.8.2 (cubic).
     """
     r, p, d_inv, e = _cubic_root(pm, c2, c0) if root is None else root  # mass-dependent only
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        r2 = r * r
-        dv = v1 - v0
-        l1 = np.log1p(-dv / (r - v0))
-        l2 = np.log1p(dv * (v1 + v0 + r) / (v0 * (v0 + r) + r2 + p))
-        x = (2.0 * v1 + r) / e
-        y = (2.0 * v0 + r) / e
-        theta = (2.0 / e) * np.arctan2(2.0 * dv / e, 1.0 + x * y)
-        i1 = (r * (l1 - 0.5 * l2) + (1.5 * r2 + p) * theta) * d_inv
-        i2 = (r2 * l1 + (r2 + 0.5 * p) * l2 + 0.5 * r * p * theta) * d_inv
-        time = -i1 / c2
-        dist = -(i2 - w * i1) / c2
-    zero = dv == 0.0
-    ok = ((dv * (pm / v1 - c2 * v1 * v1 - c0) > 0.0) & np.isfinite(dist) & np.isfinite(time)) | zero
-    dist, time = np.where(ok, dist, np.nan), np.where(ok, time, np.nan)
-    if np.any(zero):
-        dist, time = np.where(zero, 0.0, dist), np.where(zero, 0.0, time)
-    return dist, time
+    args = [_f(x) for x in (pm, c2, c0, v0, v1, w, r, p, d_inv, e)]
+    shape = np.broadcast_shapes(*(x.shape for x in args))
+    dist, time = np.empty(shape).ravel(), np.empty(shape).ravel()
+    _propeller_pieces(*(np.broadcast_to(x, shape).ravel() for x in args), dist, time)
+    return dist.reshape(shape), time.reshape(shape)
+
+
+@kernel
+def _propeller_pieces(pm, c2, c0, v0, v1, w, r, p, d_inv, e, dist, time):
+    """The pieces of :func:`_propeller_power_closed`, one case at a time, in place."""
+    for j in range(dist.shape[0]):
+        rj, pj, ej, v_0, v_1 = r[j], p[j], e[j], v0[j], v1[j]
+        r2 = rj * rj
+        dv = v_1 - v_0
+        l1 = np.log1p(-dv / (rj - v_0))
+        l2 = np.log1p(dv * (v_1 + v_0 + rj) / (v_0 * (v_0 + rj) + r2 + pj))
+        x = (2.0 * v_1 + rj) / ej
+        y = (2.0 * v_0 + rj) / ej
+        theta = (2.0 / ej) * np.arctan2(2.0 * dv / ej, 1.0 + x * y)
+        i1 = (rj * (l1 - 0.5 * l2) + (1.5 * r2 + pj) * theta) * d_inv[j]
+        i2 = (r2 * l1 + (r2 + 0.5 * pj) * l2 + 0.5 * rj * pj * theta) * d_inv[j]
+        t = -i1 / c2[j]
+        d = -(i2 - w[j] * i1) / c2[j]
+        if dv == 0.0:
+            d = 0.0
+            t = 0.0
+        elif not (dv * (pm[j] / v_1 - c2[j] * v_1 * v_1 - c0[j]) > 0.0 and np.isfinite(d) and np.isfinite(t)):
+            d = np.nan
+            t = np.nan
+        dist[j] = d
+        time[j] = t
 
 
 def _propeller_power_piece(pm, c2, c0, v0, v1, w, nodes):

@@ -183,6 +183,109 @@ def test_propeller_batch_mixing_closed_form_and_gauss_legendre_equals_single_cas
         assert float(single.time_s[0]) == pytest.approx(float(batch.time_s[i]), rel=1e-13)
 
 
+def _closed_form_reference(a0, a1, a2, w, vi, vf):
+    """The closed forms of ∫(V − w)/a dV and ∫dV/a written with numpy over whole arrays (the
+    path the compiled kernels of groundrun replace): every form computed for every case,
+    then chosen. Gradshteyn & Ryzhik 2.172, 2.175; real roots as in Numerical Recipes §5.6."""
+    with np.errstate(all="ignore"):
+        dv = vf - vi
+        ai = a0 + (a1 + a2 * vi) * vi
+        a1sq, four = a1 * a1, 4.0 * a0 * a2
+        disc = a1sq - four
+        special = disc <= 1e-12 * (a1sq + np.abs(four))
+        double = np.abs(disc) <= 1e-12 * (a1sq + np.abs(four))
+        # distinct real roots: a = a2 (V − r1)(V − r2), r1 = q/a2, r2 = a0/q
+        sq = np.copysign(np.sqrt(np.maximum(disc, 0.0)), a1)
+        q = -0.5 * (a1 + sq)
+        r2 = a0 / q
+        u = dv / (a2 * vi - q)
+        x1 = a2 * u
+        log1 = np.log1p(x1)
+        ratio = np.where(np.abs(x1) < 1e-5, 1.0 - x1 * (0.5 - x1 / 3.0), log1 / x1)
+        log2 = np.log1p(dv / (vi - r2))
+        d_real = ((r2 - w) * log2 - (q - a2 * w) * ratio * u) / sq
+        t_real = (log2 - log1) / sq
+        # complex roots (the atan difference as one atan2)
+        sd = np.sqrt(np.abs(disc))
+        x, y = (2.0 * a2 * vf + a1) / sd, (2.0 * a2 * vi + a1) / sd
+        t_cx = 2.0 / sd * np.arctan2(2.0 * a2 * dv / sd, 1.0 + x * y)
+        d_cx = (np.log1p(dv * (a1 + a2 * (vf + vi)) / ai) - (2.0 * a2 * w + a1) * t_cx) / (2.0 * a2)
+        # double root r: a = a2 (V − r)²
+        r = -a1 / (2.0 * a2)
+        inv = 1.0 / (vi - r) - 1.0 / (vf - r)
+        d_db, t_db = (np.log((vf - r) / (vi - r)) + (r - w) * inv) / a2, inv / a2
+        # constant acceleration
+        vmax = np.maximum(np.abs(vi), np.abs(vf))
+        const = special & ((np.abs(a1) + np.abs(a2) * vmax) * vmax <= 1e-13 * np.abs(a0))
+        d_c, t_c = dv * (vf + vi - 2.0 * w) / (2.0 * a0), dv / a0
+        dist = np.select([const, special & double, special], [d_c, d_db, d_cx], d_real)
+        time = np.select([const, special & double, special], [t_c, t_db, t_cx], t_real)
+        ok = (dv * ai > 0.0) & np.isfinite(dist)
+        dist, time = np.where(ok, dist, np.nan), np.where(ok, time, np.nan)
+        return np.where(dv == 0.0, 0.0, dist), np.where(dv == 0.0, 0.0, time)
+
+
+def test_compiled_segments_equal_the_closed_forms_written_with_numpy():
+    # QuadraticSegments (compiled: one pass, each case's own form) against the closed forms
+    # over whole arrays (_closed_form_reference) on a mix of every form: real roots (either
+    # sign of a1, a1 = ±0, a2 = 0), complex roots, double roots, constant acceleration,
+    # accelerating, decelerating, empty and infeasible segments. Same NaN cases; values to
+    # 1e-11 relative (log1p and atan2 of numpy's vector loops and of the C library may differ
+    # in the last bit, which cancellation in the real-root form amplifies a little).
+    rng = np.random.default_rng(11)
+    n = 60_000
+    a0, a1 = rng.uniform(-3.0, 3.0, n), rng.uniform(-0.02, 0.02, n)
+    a2, w = rng.uniform(-2e-4, 2e-4, n), rng.uniform(-8.0, 8.0, n)
+    a1[::7], a1[1::13], a2[::11] = 0.0, -0.0, 0.0
+    k = slice(3, None, 17)
+    a2[k] = a1[k] ** 2 / (4.0 * a0[k])  # double roots
+    a1[5::23], a2[5::23] = 0.0, 0.0  # constant acceleration
+    vi, vf = rng.uniform(-10.0, 70.0, n), rng.uniform(-10.0, 70.0, n)
+    vf[::19] = vi[::19]
+    seg = gr.QuadraticSegments(a0, a1, a2, w)
+    assert np.all(np.bincount(seg.form, minlength=3) > 1000)
+    dist, time = seg.integrals(vi, vf)
+    d_ref, t_ref = _closed_form_reference(a0, a1, a2, w, vi, vf)
+    np.testing.assert_array_equal(np.isnan(dist), np.isnan(d_ref))
+    np.testing.assert_array_equal(np.isnan(time), np.isnan(t_ref))
+    assert 0.3 < np.isfinite(dist).mean() < 0.7
+    assert_allclose(dist, d_ref, rtol=1e-11, atol=1e-9)
+    assert_allclose(time, t_ref, rtol=1e-11, atol=1e-12)
+    # a subset taken keeps each case's form and gives the same numbers
+    part = np.arange(0, n, 3)
+    np.testing.assert_array_equal(seg.take(part).integrals(vi[part], vf[part])[0], dist[part])
+
+
+def test_compiled_propeller_pieces_equal_the_closed_form_written_with_numpy():
+    # The propeller piece above the power kink (compiled) against its partial fractions over
+    # whole arrays (Gradshteyn & Ryzhik 2.103, 2.172; see groundrun._propeller_power_closed),
+    # accelerating, decelerating, empty and infeasible pieces; to 1e-12 relative.
+    rng = np.random.default_rng(12)
+    n = 20_000
+    pm, c2, c0 = rng.uniform(20.0, 200.0, n), rng.uniform(1e-5, 1e-4, n), rng.uniform(0.1, 1.0, n)
+    w, v0, v1 = rng.uniform(-5.0, 5.0, n), rng.uniform(5.0, 60.0, n), rng.uniform(5.0, 60.0, n)
+    v1[::9] = v0[::9]
+    root = gr._cubic_root(pm, c2, c0)
+    r, p, d_inv, e = root
+    with np.errstate(all="ignore"):
+        dv = v1 - v0
+        l1 = np.log1p(-dv / (r - v0))
+        l2 = np.log1p(dv * (v1 + v0 + r) / (v0 * (v0 + r) + r * r + p))
+        x, y = (2.0 * v1 + r) / e, (2.0 * v0 + r) / e
+        theta = (2.0 / e) * np.arctan2(2.0 * dv / e, 1.0 + x * y)
+        i1 = (r * (l1 - 0.5 * l2) + (1.5 * r * r + p) * theta) * d_inv
+        i2 = (r * r * l1 + (r * r + 0.5 * p) * l2 + 0.5 * r * p * theta) * d_inv
+        t_ref, d_ref = -i1 / c2, -(i2 - w * i1) / c2
+        ok = (dv * (pm / v1 - c2 * v1 * v1 - c0) > 0.0) & np.isfinite(d_ref) & np.isfinite(t_ref)
+    d_ref, t_ref = np.where(ok, d_ref, np.nan), np.where(ok, t_ref, np.nan)
+    d_ref[dv == 0.0], t_ref[dv == 0.0] = 0.0, 0.0
+    dist, time = gr._propeller_power_closed(pm, c2, c0, v0, v1, w, root)
+    np.testing.assert_array_equal(np.isnan(dist), np.isnan(d_ref))
+    assert 0.3 < np.isfinite(dist).mean() < 0.8
+    assert_allclose(dist, d_ref, rtol=1e-12)
+    assert_allclose(time, t_ref, rtol=1e-12)
+
+
 def test_quadratic_segments_kept_for_several_segments_equal_one_off_segments():
     # QuadraticSegments finds each case's regime and roots once; every segment from it equals
     # the closed form computed afresh (segment_distance_quadratic_m, checked above against
