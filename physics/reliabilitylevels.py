@@ -155,9 +155,9 @@ def _points_with_days(w, i, idx):
 
 @kernel
 def _prepare_kernel(raw):
-    """Running minimum over the nodes (NaN as -inf), the stand-in masses and inverse drops."""
+    """Running minimum over the nodes (NaN as -inf) with the stand-in for "not possible",
+    and the inverse drops."""
     n, n_pts, n_nodes = raw.shape
-    mass = np.empty((n, n_pts, n_nodes))
     f = np.empty((n, n_pts, n_nodes))
     inv = np.empty((n, n_pts, max(n_nodes - 1, 0)))
     for i in range(n):
@@ -169,12 +169,11 @@ def _prepare_kernel(raw):
                     run = v
                 elif math.isnan(v):
                     run = -math.inf
-                mass[i, j, k] = run
                 f[i, j, k] = run if math.isfinite(run) else _NOT_POSSIBLE_KG
             for k in range(n_nodes - 1):
                 d = f[i, j, k] - f[i, j, k + 1]
                 inv[i, j, k] = 1.0 / d if d > 0.0 else _FLAT_INV
-    return mass, f, inv
+    return f, inv
 
 
 @kernel
@@ -679,25 +678,30 @@ class PreparedMasses:
 
     Attributes
     ----------
-    mass_kg : numpy.ndarray
-        Masses non-increasing in temperature (running minimum over the nodes), ``(N, J, G)``;
-        -inf where not possible. [kg]
     scores : numpy.ndarray
         Node scores, ``(G,)`` or ``(N, G)``. [–]
     segments : tuple
         The inversion of the piecewise-linear masses, the compiled kernels' input (internal):
         node masses with a finite stand-in for "not possible" ``(N, J, G)``, node scores
         ``(N, G)`` and the inverse drop of each segment ``(N, J, G − 1)``.
+    mass_kg : numpy.ndarray
+        Masses non-increasing in temperature (running minimum over the nodes), ``(N, J, G)``;
+        -inf where not possible (made from ``segments`` when asked for). [kg]
     """
 
-    mass_kg: np.ndarray
     scores: np.ndarray
     segments: tuple
+
+    @property
+    def mass_kg(self):
+        """Masses non-increasing in temperature, -inf where not possible, ``(N, J, G)``. [kg]"""
+        f = self.segments[0]
+        return np.where(f > 0.5 * _NOT_POSSIBLE_KG, f, -np.inf)
 
     def take(self, rows):
         """The same for groups ``rows`` only."""
         f, z, inv = self.segments
-        return PreparedMasses(self.mass_kg[rows], self.scores if self.scores.ndim == 1 else self.scores[rows],
+        return PreparedMasses(self.scores if self.scores.ndim == 1 else self.scores[rows],
                               (f[rows], z[rows], inv[rows]))
 
 
@@ -730,9 +734,9 @@ def prepare_masses(point_mass_kg, scores):
     """
     raw = np.ascontiguousarray(point_mass_kg, dtype=float)
     z = np.asarray(scores, dtype=float)
-    mass, f, inv = _prepare_kernel(raw)
+    f, inv = _prepare_kernel(raw)
     z_grp = np.ascontiguousarray(np.broadcast_to(z, (raw.shape[0], raw.shape[-1])))
-    return PreparedMasses(mass, z, (f, z_grp, inv))
+    return PreparedMasses(z, (f, z_grp, inv))
 
 
 def _prepared(point_mass_kg, scores):
