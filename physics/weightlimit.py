@@ -1399,22 +1399,28 @@ def _solve_staged(cases, tol_kg, reqs, figures):
     if figures:
         final = np.flatnonzero(~none)
         if final.size:
-            sub = final_cases(final)
-            mass = limit[final]
+            if final.size > COMPACT_SHARE * idx.size:
+                # evaluate every case of the V1 stage (those without a limit at OEW, their
+                # figures left out) rather than gather the set-up for most of them
+                sub, rows = ef, pos[final]
+                sub._cache["engine_failure_final"] = True
+                mass = limit_at[idx]
+            else:
+                sub, rows = final_cases(final), np.arange(final.size)
+                mass = limit[final]
             _, memo = requirement_margins(sub, mass, reqs)
             for r in reqs:
                 if r.report is not None:
                     for key, val in r.report(sub, mass, memo).items():
-                        out[key][final] = np.asarray(val, dtype=float)
+                        out[key][final] = np.broadcast_to(np.asarray(val, dtype=float), mass.shape).take(rows)
             at = np.flatnonzero(searched[final])
             if at.size:
-                r = memo["engine_failure"]
-                st = sub.site
+                r, st, rows_at = memo["engine_failure"], sub.site, rows.take(at)
                 factor[final[at]] = codes[_searched_factor(
                     reqs, m_above.take(final[at], axis=1),
-                    tuple(np.broadcast_to(x, mass.shape).take(at) for x in (
+                    tuple(np.broadcast_to(x, mass.shape).take(rows_at) for x in (
                         r.takeoff_distance_m, r.takeoff_run_m, r.accelerate_stop_m)),
-                    tuple(np.broadcast_to(x, mass.shape).take(at) for x in (st.toda_m, st.tora_m, st.asda_m)))]
+                    tuple(np.broadcast_to(x, mass.shape).take(rows_at) for x in (st.toda_m, st.tora_m, st.asda_m)))]
     return WeightLimit(tow_limit_kg=limit, limiting_factor=factor.astype(np.int64), **out)
 
 
