@@ -293,6 +293,50 @@ def part_paths(work_dir: Path, chunk: int) -> tuple[Path, Path]:
             parts / f"part-{chunk:05d}.airfield.parquet")
 
 
+def best_part_path(work_dir: Path, chunk: int) -> Path:
+    """The chunk's best-direction rows (:func:`write_best_part`)."""
+    return Path(work_dir) / PARTS_DIR / f"part-{chunk:05d}.best.parquet"
+
+
+def best_direction_rows(direction: pa.Table, airfield_level_bases) -> pa.Table:
+    """Best runway direction per airfield × month × type × condition × basis of direction rows
+    (``pipeline/sql/best_direction.sql``, a DuckDB of its own with one thread), the bases in
+    ``airfield_level_bases`` left out; the result columns and types of the direction rows."""
+    import duckdb
+
+    from fieldlimits.pipeline import store
+
+    con = duckdb.connect()
+    try:
+        con.execute("SET threads = 1")
+        con.register("direction_rows", direction)
+        rows = con.sql(store.sql("best_direction"),
+                       params={"airfield_level_bases": list(airfield_level_bases)}).to_arrow_table()
+    finally:
+        con.close()
+    return rows.select(direction.schema.names).cast(direction.schema.remove_metadata())
+
+
+def write_best_part(direction: pa.Table, path: Path, key: str, airfield_level_bases) -> None:
+    """Write a chunk's best-direction rows to ``path`` (atomic), marked with the chunk's key
+    and the bases left out (a chunk's airfields are whole, so its best directions are the
+    run's)."""
+    _write_part(best_direction_rows(direction, airfield_level_bases), path, key, tuple(airfield_level_bases))
+
+
+def best_part(work_dir: Path, result: "ChunkResult", airfield_level_bases) -> str | None:
+    """The best-direction part of a chunk result when it was written with the same key as the
+    chunk's direction part and for these bases, else None."""
+    direction = Path(result.direction_path)
+    best = best_part_path(direction.parent.parent, result.chunk)
+    try:
+        key = (pq.read_schema(direction).metadata or {}).get(_KEY_META, b"").decode()
+    except Exception:
+        return None
+    done, bases, _ = _existing_part(best, key)
+    return str(best) if key and done and sorted(bases) == sorted(airfield_level_bases) else None
+
+
 _POOL = None
 _POOL_LOCK = threading.Lock()
 
@@ -473,13 +517,15 @@ def solve_chunk(work: Path, cases: pd.DataFrame, chunk: int, run_id: int,
 
 def write_parts(work: Path, chunk: int, key: str, direction: pa.Table, airfield: pa.Table | None,
                 bases: tuple[str, ...], n_cases: int) -> ChunkResult:
-    """Write a chunk's part files (airfield part first: the direction part marks it done)."""
+    """Write a chunk's part files (airfield and best-direction parts first: the direction part
+    marks it done)."""
     direction_path, airfield_path = part_paths(work, chunk)
     direction_path.parent.mkdir(parents=True, exist_ok=True)
     airfield_out = None
     if airfield is not None:
         _write_part(airfield, airfield_path, key, bases)
         airfield_out = str(airfield_path)
+    write_best_part(direction, best_part_path(work, chunk), key, bases)
     _write_part(direction, direction_path, key, bases)
     return ChunkResult(chunk, str(direction_path), airfield_out, bases, direction.num_rows, n_cases)
 

@@ -76,17 +76,17 @@ def reference_reused_task(prepared, run_id: int, work: str):
 
 @task(name="best-directions", cache_policy=NO_CACHE)
 def best_directions_task(work: str, results):
-    return str(steps.best_directions(work, results))
+    return steps.best_directions(work, results)
 
 
 @task(name="route-payloads", cache_policy=NO_CACHE)
-def route_payloads_task(prepared, work: str, best_path: str):
+def route_payloads_task(prepared, work: str, best_path: list[str]):
     out = steps.route_payloads(prepared, work, best_path)
     return str(out) if out else None
 
 
 @task(name="write-duckdb", cache_policy=NO_CACHE)
-def load_task(prepared, run_id: int, results, best_path: str, route_path: str | None, reused=None):
+def load_task(prepared, run_id: int, results, best_path: list[str], route_path: str | None, reused=None):
     return steps.load(prepared, run_id, results, best_path, route_path, reused)
 
 

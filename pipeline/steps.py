@@ -9,7 +9,7 @@ A run, step by step::
     start_landing      the route destinations' landing limits, solved in the chunks' process
                        pool while the chunks run (large runs; else in route_payloads)
     reference_reused   which earlier run's stored rows each unchanged airfield × type reads
-    best_directions    best runway direction per airfield → <work>/airfield_best.parquet
+    best_directions    best runway direction per airfield: the chunks' parts/part-NNNNN.best.parquet
     route_payloads     routes → <work>/route_payload.parquet (when a routes table exists)
     load               everything into DuckDB in ONE transaction, run marked complete
     finish / fail      summary, or the run recorded as failed; the work folder removed
@@ -36,7 +36,6 @@ from importlib import metadata
 from pathlib import Path
 from typing import Callable, Sequence
 
-import duckdb
 import pandas as pd
 
 from fieldlimits.pipeline import cases as case_io
@@ -562,36 +561,34 @@ def _sources_table(frame: pd.DataFrame):
                      "source_run_id": pa.array(frame["source_run_id"].astype("int64"), pa.int64())})
 
 
-def best_directions(work: Path, results: Sequence[ChunkResult]) -> Path:
-    """Best runway direction per airfield × month × type × condition × basis → Parquet.
+def best_directions(work: Path, results: Sequence[ChunkResult]) -> list[str]:
+    """Best runway direction per airfield × month × type × condition × basis: the chunks'
+    best-direction parts (each chunk holds whole airfields, so its best directions are the
+    run's; ``pipeline/sql/best_direction.sql``), in chunk order; return their paths.
 
-    Uses an in-memory DuckDB over the part files (``pipeline/sql/best_direction.sql``);
-    bases that a producer supplied at airfield level are left out here.
+    Bases that a producer supplied at airfield level are left out. A chunk whose part is
+    missing or was written for other bases (a part from before, a chunk on a Dask worker
+    whose rows came back without one) gets it here from its direction rows.
     """
-    out = Path(work) / BEST_FILE
-    tmp = out.with_name(f".{out.name}.tmp")
-    bases = sorted({b for r in results for b in r.airfield_bases})
     import pyarrow.parquet as pq
 
     if not results:
+        out = Path(work) / BEST_FILE
+        tmp = out.with_name(f".{out.name}.tmp")
         pq.write_table(chunks.RESULT_SCHEMA.empty_table(), tmp)
         os.replace(tmp, out)
-        return out
-    con = duckdb.connect()
-    try:
-        con.execute("SET threads = 2")
-        # big networks: the window sort spills to the work folder, and the result streams
-        # to Parquet (COPY) instead of being held as one Arrow table
-        spill = Path(work) / "duckdb-spill"
-        store.run_sql(con, "SET temp_directory = $d", {"d": str(spill)})
-        store.run_sql(con, "SET memory_limit = $m", {"m": store.duckdb_memory_limit()})
-        query = store.sql("best_direction").strip().rstrip(";")
-        store.run_sql(con, f"COPY ({query}) TO $out (FORMAT parquet)", {
-            "files": [r.direction_path for r in results], "airfield_level_bases": bases, "out": str(tmp)})
-    finally:
-        con.close()
-    os.replace(tmp, out)
-    return out
+        return [str(out)]
+    bases = sorted({b for r in results for b in r.airfield_bases})
+    paths = []
+    for r in results:
+        path = chunks.best_part(work, r, bases)
+        if path is None:
+            key = (pq.read_schema(r.direction_path).metadata or {}).get(b"fieldlimits_chunk_key", b"").decode()
+            out = chunks.best_part_path(Path(r.direction_path).parent.parent, r.chunk)
+            chunks.write_best_part(pq.read_table(r.direction_path), out, key, bases)
+            path = str(out)
+        paths.append(path)
+    return paths
 
 
 ROUTE_AIRFIELD_COLUMNS = ("run_id", "airfield_id", "runway_id", "aircraft_type_id", "month", "condition",
@@ -599,8 +596,9 @@ ROUTE_AIRFIELD_COLUMNS = ("run_id", "airfield_id", "runway_id", "aircraft_type_i
 """The ``results_airfield`` columns the route step reads."""
 
 
-def _route_airfield_rows(routes: pd.DataFrame, paths: Sequence[Path]) -> pd.DataFrame:
-    """Airfield rows of the route origins and route types only (not the whole network)."""
+def _route_airfield_rows(routes: pd.DataFrame, paths: Sequence[Path], best: Sequence[str] = ()) -> pd.DataFrame:
+    """Airfield rows of the route origins and route types only (not the whole network), from
+    the best-direction parts ``best`` and the airfield part files ``paths``."""
     import pyarrow.dataset as ds
     import pyarrow.parquet as pq
 
@@ -616,6 +614,10 @@ def _route_airfield_rows(routes: pd.DataFrame, paths: Sequence[Path]) -> pd.Data
     elif "origin_id" in routes:
         wanted = ds.field("airfield_id").isin(sorted(routes["origin_id"].astype(str).unique()))
     frames = []
+    if best:  # the chunks' best-direction parts: one schema, read as one dataset
+        data = ds.dataset([str(p) for p in best], format="parquet")
+        frames.append(data.to_table(columns=[c for c in ROUTE_AIRFIELD_COLUMNS if c in data.schema.names],
+                                    filter=wanted).to_pandas())
     for path in paths:
         have = pq.read_schema(path).names
         frames.append(pq.read_table(path, columns=[c for c in ROUTE_AIRFIELD_COLUMNS if c in have],
@@ -705,7 +707,12 @@ def _drop_landing(work: Path) -> None:
     future.exception()
 
 
-def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path | None:
+def _best_list(best) -> list[str]:
+    """The best-direction parts as a list (:func:`best_directions`; one path allowed)."""
+    return [str(best)] if isinstance(best, (str, os.PathLike)) else [str(p) for p in best]
+
+
+def route_payloads(prepared: PreparedRun, work: Path, best_path) -> Path | None:
     """Route payloads through ``pipeline.routes.route_payload_frame`` when routes exist (none
     when the whole input is unchanged: the load points the run at the earlier route payloads
     and landing limits)."""
@@ -719,8 +726,8 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path: Path) -> Path |
     # the landing step first (or its parts, started beside the chunks): the origins' takeoff
     # rows (millions on a large network) are not held while it runs
     parts = early if early is not None else landing_rows(prepared, work)
-    airfield = _route_airfield_rows(tables["routes"], [Path(best_path)] + sorted(
-        (Path(work) / chunks.PARTS_DIR).glob("*.airfield.parquet")))
+    airfield = _route_airfield_rows(tables["routes"], sorted(
+        (Path(work) / chunks.PARTS_DIR).glob("*.airfield.parquet")), best=_best_list(best_path))
     frame = func(tables, airfield, prepared.params.as_dict(), landing=landing.route_rows(parts))
     if frame is None:
         return None
@@ -780,7 +787,7 @@ def _landing_parts(prepared: PreparedRun, run_id: int, folder: str) -> list[str]
     return [str(p) for p in sorted(path.glob("*.parquet"))] if path.is_dir() else None
 
 
-def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], best_path: Path,
+def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], best_path,
          route_path: Path | None, reused: str | None = None) -> dict[str, int]:
     """The single writer: all of the run in one DuckDB transaction (``reused``: the file of
     :func:`reference_reused`; the computed rows are stored, the reused ones referenced)."""
@@ -793,7 +800,7 @@ def load(prepared: PreparedRun, run_id: int, results: Sequence[ChunkResult], bes
     spec = store.LoadSpec(
         run_id=run_id,
         direction_parts=[r.direction_path for r in results],
-        airfield_parts=[str(best_path)] + [r.airfield_path for r in results if r.airfield_path],
+        airfield_parts=_best_list(best_path) + [r.airfield_path for r in results if r.airfield_path],
         inputs=inputs,
         route_payload=str(route_path) if route_path else None,  # scanned by the store
         landing_direction=_landing_parts(prepared, run_id, landing.DIRECTION_PARTS),  # scanned by the store

@@ -214,3 +214,27 @@ def test_demo_has_some_obstacle_limited_months_and_types(frames):
     assert free["governing_obstacle_id"].isna().all() and free["obstacle_clearance_m"].isna().all()
     assert (airfield["limiting_factor"] == "obstacle_clearance").any()
 
+
+
+def test_best_directions_of_many_chunks_are_the_whole_runs(demo_dir, tmp_path):
+    """Each chunk writes the best runway directions of its own airfields (its airfields are
+    whole): a run cut into ten chunks stores, for every airfield × type × month × condition of
+    the design day, the full row of the direction with the highest limit (ties to the first
+    runway id, no takeoff last), computed here from all its direction rows at once."""
+    from fieldlimits.pipeline.steps import RunParams, run_local
+
+    db = tmp_path / "ten.duckdb"
+    summary = run_local(demo_dir, db, RunParams(chunk_size=1500, reliability_levels=()), progress=lambda *a: None)
+    with store.reader(db) as con:
+        chunks_done = con.sql("SELECT chunks FROM latest_run").fetchall()[0][0]
+        direction = con.sql("SELECT * FROM latest_results_direction WHERE basis = 'design_day'").df()
+        airfield = con.sql("SELECT * FROM latest_results_airfield WHERE basis = 'design_day'").df()
+    assert chunks_done == summary.chunks >= 10
+    keys = ["airfield_id", "aircraft_type_id", "month", "condition"]
+    ranked = direction.assign(no_takeoff=direction["tow_limit_kg"].isna()).sort_values(
+        keys + ["no_takeoff", "tow_limit_kg", "runway_id"], ascending=[True] * 4 + [True, False, True],
+        kind="stable")
+    expected = ranked.drop_duplicates(keys).drop(columns="no_takeoff").sort_values(keys, ignore_index=True)
+    got = airfield.sort_values(keys, ignore_index=True)[expected.columns]
+    assert len(got) == len(expected) > 0
+    pd.testing.assert_frame_equal(got, expected, check_exact=True)

@@ -49,12 +49,9 @@ def _write_part(tmp_path, run_id, frame, name="direction"):
 
 
 def _best(tmp_path, run_id, direction_path):
-    con = duckdb.connect()
-    table = con.sql(store.sql("best_direction"), params={
-        "files": [direction_path], "airfield_level_bases": []}).to_arrow_table()
-    con.close()
     import pyarrow.parquet as pq
 
+    table = chunks.best_direction_rows(pq.read_table(direction_path), [])
     path = tmp_path / f"run{run_id}.best.parquet"
     pq.write_table(table, path)
     return str(path)
