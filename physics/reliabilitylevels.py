@@ -88,11 +88,11 @@ _SHARE_EPS = 1e-9  # S(M) is compared with p − this (rounding of the sum over 
 
 
 @kernel
-def _scan(f, inv, z, w, i, mass, idx, n_idx, slope, score, rate):
+def _scan(f, inv, z, row, w, i, mass, idx, n_idx, slope, score, rate):
     """Crossing scores of wind points ``idx[:n_idx]`` of group i at a mass, and their share.
 
-    f (N, J, G) prepared node masses, inv (N, J, G − 1) inverse drops, z (N, G) node scores,
-    w (N, J) shares of days. For each listed point j (position a), z*_j(M) = sup{z :
+    f (N', J, G) prepared node masses, inv (N', J, G − 1) inverse drops, z (N', G) node
+    scores, the group's at ``row``; w (N, J) shares of days. For each listed point j (position a), z*_j(M) = sup{z :
     m_j(z) ≥ M} goes to ``score[a]`` and |dz*_j/dM| to ``rate[a]``; returns Σ w_j Phi(z*_j)
     and, with ``slope``, dS/dM = −Σ w_j phi(z*_j) |dz*_j/dM| over them (else 0). m_j(z) is
     linear between the nodes, the first segment extended below the first node and the last
@@ -109,20 +109,20 @@ def _scan(f, inv, z, w, i, mass, idx, n_idx, slope, score, rate):
     for a in range(n_idx):
         j = idx[a]
         if n_nodes == 1:
-            zj = math.inf if f[i, j, 0] >= m else -math.inf
+            zj = math.inf if f[row, j, 0] >= m else -math.inf
             r = 0.0
         else:
             k = 0
-            if f[i, j, 0] >= m:  # the segment where the mass falls below M (else the last)
+            if f[row, j, 0] >= m:  # the segment where the mass falls below M (else the last)
                 k = n_nodes - 2
                 for g in range(n_nodes - 2):
-                    if f[i, j, g + 1] < m:
+                    if f[row, j, g + 1] < m:
                         k = g
                         break
-            dz = z[i, k + 1] - z[i, k]
-            c = (f[i, j, k] - m) * inv[i, j, k]
-            zj = z[i, k] + dz * c
-            r = dz * inv[i, j, k]
+            dz = z[row, k + 1] - z[row, k]
+            c = (f[row, j, k] - m) * inv[row, j, k]
+            zj = z[row, k] + dz * c
+            r = dz * inv[row, j, k]
             if zj > _FAR_SCORE:
                 zj = math.inf
                 r = 0.0
@@ -177,8 +177,8 @@ def _prepare_kernel(raw):
 
 
 @kernel
-def _shares_kernel(f, inv, z, w, mass):
-    """S at masses (N, K) of each group."""
+def _shares_kernel(f, inv, z, rows, w, mass):
+    """S at masses (N, K) of each group (its prepared masses at ``rows``)."""
     n, n_mass = mass.shape
     n_pts = f.shape[1]
     out = np.empty((n, n_mass))
@@ -188,12 +188,12 @@ def _shares_kernel(f, inv, z, w, mass):
     for i in range(n):
         n_idx = _points_with_days(w, i, idx)
         for c in range(n_mass):
-            out[i, c] = _scan(f, inv, z, w, i, mass[i, c], idx, n_idx, False, score, rate)[0]
+            out[i, c] = _scan(f, inv, z, rows[i], w, i, mass[i, c], idx, n_idx, False, score, rate)[0]
     return out
 
 
 @kernel
-def _single_point_level(f, z, w, i, zq):
+def _single_point_level(f, z, row, w, i, zq):
     """First trial of a level of group i: Σ_j w_j m_j(zq) / Σ_j w_j over the points possible
     at both nodes around zq = Φ⁻¹(p); exact where the wind is one point, NaN where no point
     is possible."""
@@ -202,15 +202,15 @@ def _single_point_level(f, z, w, i, zq):
         return math.nan
     k = -1
     for g in range(n_nodes):
-        if z[i, g] <= zq:
+        if z[row, g] <= zq:
             k += 1
     k = min(max(k, 0), n_nodes - 2)
-    s = (zq - z[i, k]) / (z[i, k + 1] - z[i, k])  # beyond the end nodes: linear extension
+    s = (zq - z[row, k]) / (z[row, k + 1] - z[row, k])  # beyond the end nodes: linear extension
     total = 0.0
     acc = 0.0
     for j in range(f.shape[1]):
-        f0 = f[i, j, k]
-        f1 = f[i, j, k + 1]
+        f0 = f[row, j, k]
+        f1 = f[row, j, k + 1]
         if f0 > 0.5 * _NOT_POSSIBLE_KG and f1 > 0.5 * _NOT_POSSIBLE_KG:
             total += w[i, j]
             acc += w[i, j] * (f0 + s * (f1 - f0))
@@ -218,12 +218,13 @@ def _single_point_level(f, z, w, i, zq):
 
 
 @kernel
-def _level_search(f, inv, z, w, i, p, lo, hi, s_lo, s_hi, trial, tol, idx, n_idx, z_lo, z_hi,
-                  act, z_x, r_x):
+def _level_search(f, inv, z, row, w, i, p, lo, hi, s_lo, s_hi, ds_hi, trial, tol, idx, n_idx, z_lo,
+                  z_hi, act, z_x, r_x):
     """The level of group i on the bracket [lo, hi] with S(lo) − p = s_lo ≥ 0 > s_hi:
     returns the certified lower end (hi − lo ≤ tol), the false-position point of the
     final bracket (see :func:`reliability_masses`) and the number of points still undecided
-    on that bracket (listed in ``act``).
+    on that bracket (listed in ``act``). The first trial is ``trial`` where it lies inside
+    the bracket, else the Newton step from hi (ds_hi = dS/dM there).
 
     idx[:n_idx] the points with days, z_lo and z_hi their z*_j at lo and hi (by position);
     act, z_x and r_x (J,) are work space. z*_j(M) does not increase with M, so a point with
@@ -244,7 +245,10 @@ def _level_search(f, inv, z, w, i, p, lo, hi, s_lo, s_hi, trial, tol, idx, n_idx
     side = 0  # end retained last step: +1 lo, -1 hi
     width_2 = math.inf  # bracket width one and two steps ago
     width_1 = math.inf
-    newton = trial  # estimate for the next trial
+    if trial > lo and trial < hi:  # estimate for the next trial
+        newton = trial
+    else:
+        newton = hi - s_hi / ds_hi if ds_hi < 0.0 else math.nan
     max_steps = 3 * int(math.ceil(math.log2(max(hi - lo, tol) / tol))) + 3
     for _ in range(max_steps):
         width = hi - lo
@@ -264,7 +268,7 @@ def _level_search(f, inv, z, w, i, p, lo, hi, s_lo, s_hi, trial, tol, idx, n_idx
         elif use_n and hi - newton <= 0.5 * tol:
             x = hi - tol
         x = min(x, hi)
-        s_x, ds = _scan(f, inv, z, w, i, x, act, n_act, True, z_x, r_x)
+        s_x, ds = _scan(f, inv, z, row, w, i, x, act, n_act, True, z_x, r_x)
         s_x += base - p
         newton = x - s_x / ds if ds < 0.0 else math.nan
         ok = s_x >= -_SHARE_EPS
@@ -297,7 +301,7 @@ def _level_search(f, inv, z, w, i, p, lo, hi, s_lo, s_hi, trial, tol, idx, n_idx
 
 
 @kernel
-def _binding_day(f, z, w, i, mass, mid, tol, idx, n_idx, pts, n_scored, z_x, r_x):
+def _binding_day(f, z, row, w, i, mass, mid, tol, idx, n_idx, pts, n_scored, z_x, r_x):
     """Binding wind point, its score and the slope dm/dz there of group i at a level mass
     (see :func:`reliability_masses`); mid is the node nearest the median, idx[:n_idx] the
     points with days, and pts[:n_scored] those of them with z*_j(M) possibly finite, their
@@ -316,19 +320,21 @@ def _binding_day(f, z, w, i, mass, mid, tol, idx, n_idx, pts, n_scored, z_x, r_x
                 best, point, zb, rate_b = dens, pts[a], zj, r_x[a]
     for a in range(n_idx):
         j = idx[a]
-        f_mid = f[i, j, mid]
+        f_mid = f[row, j, mid]
         if f_mid >= mass - tol and f_mid - mass < slack_min:
             slack_min = f_mid - mass
             slack_point = j
     if best > 0.0:
         return point, zb, (-1.0 / rate_b if rate_b > 0.0 else math.nan)
-    return slack_point, z[i, mid], math.nan
+    return slack_point, z[row, mid], math.nan
 
 
 @kernel
-def _levels_kernel(f, inv, z, w, oew, mtow, target, p, zq, lost, lost_codes, tol):
-    """Every output of :func:`reliability_masses` for groups (N) × levels (L)."""
-    n, n_pts, n_nodes = f.shape
+def _levels_kernel(f, inv, z, rows, w, oew, mtow, target, p, zq, lost, lost_codes, tol):
+    """Every output of :func:`reliability_masses` for groups (N) × levels (L) (a group's
+    prepared masses at ``rows``)."""
+    n = rows.shape[0]
+    n_pts, n_nodes = f.shape[1], f.shape[2]
     n_lev = p.shape[0]
     mass = np.full((n, n_lev), math.nan)
     estimate = np.full((n, n_lev), math.nan)
@@ -347,15 +353,16 @@ def _levels_kernel(f, inv, z, w, oew, mtow, target, p, zq, lost, lost_codes, tol
     z_x = np.empty(n_pts)
     r_x = np.empty(n_pts)
     for i in range(n):
+        row = rows[i]
         n_idx = _points_with_days(w, i, idx)
-        s_top = _scan(f, inv, z, w, i, mtow[i], idx, n_idx, False, z_top, r_top)[0]
-        s_low = _scan(f, inv, z, w, i, oew[i], idx, n_idx, False, z_low, r_low)[0]
+        s_top, ds_top = _scan(f, inv, z, row, w, i, mtow[i], idx, n_idx, True, z_top, r_top)
+        s_low = _scan(f, inv, z, row, w, i, oew[i], idx, n_idx, False, z_low, r_low)[0]
         share_target[i] = s_top if target[i] == mtow[i] else \
-            _scan(f, inv, z, w, i, target[i], idx, n_idx, False, z_x, r_x)[0]
+            _scan(f, inv, z, row, w, i, target[i], idx, n_idx, False, z_x, r_x)[0]
         share_oew[i] = s_low
         mid = 0
         for g in range(1, n_nodes):
-            if abs(z[i, g]) < abs(z[i, mid]):
+            if abs(z[row, g]) < abs(z[row, mid]):
                 mid = g
         lost_any = False
         for l in range(n_lev):
@@ -366,21 +373,21 @@ def _levels_kernel(f, inv, z, w, oew, mtow, target, p, zq, lost, lost_codes, tol
                 mass[i, l] = mtow[i]
                 estimate[i, l] = mtow[i]
                 point[i, l], score[i, l], score_slope[i, l] = _binding_day(
-                    f, z, w, i, mtow[i], mid, tol, idx, n_idx, idx, n_idx, z_top, r_top)
+                    f, z, row, w, i, mtow[i], mid, tol, idx, n_idx, idx, n_idx, z_top, r_top)
             elif s_low >= p[l] - _SHARE_EPS:
-                trial = _single_point_level(f, z, w, i, zq[l])
+                trial = _single_point_level(f, z, row, w, i, zq[l])
                 level, m_eval, n_act = _level_search(
-                    f, inv, z, w, i, p[l], oew[i], mtow[i], s_low - p[l], s_top - p[l], trial,
-                    tol, idx, n_idx, z_low, z_top, act, z_x, r_x)
+                    f, inv, z, row, w, i, p[l], oew[i], mtow[i], s_low - p[l], s_top - p[l], ds_top,
+                    trial, tol, idx, n_idx, z_low, z_top, act, z_x, r_x)
                 mass[i, l] = level
                 estimate[i, l] = m_eval
-                _scan(f, inv, z, w, i, m_eval, act, n_act, False, z_x, r_x)
+                _scan(f, inv, z, row, w, i, m_eval, act, n_act, False, z_x, r_x)
                 point[i, l], score[i, l], score_slope[i, l] = _binding_day(
-                    f, z, w, i, m_eval, mid, tol, idx, n_idx, act, n_act, z_x, r_x)
+                    f, z, row, w, i, m_eval, mid, tol, idx, n_idx, act, n_act, z_x, r_x)
             else:
                 lost_any = True
                 point[i, l], score[i, l], score_slope[i, l] = _binding_day(
-                    f, z, w, i, oew[i], mid, tol, idx, n_idx, idx, n_idx, z_low, r_low)
+                    f, z, row, w, i, oew[i], mid, tol, idx, n_idx, idx, n_idx, z_low, r_low)
         if lost_any:
             # Why days are lost: crosswind, tailwind (points usable nowhere) or too hot.
             shares = np.zeros(3)
@@ -400,16 +407,16 @@ def _levels_kernel(f, inv, z, w, oew, mtow, target, p, zq, lost, lost_codes, tol
 
 
 @kernel
-def _crossings_kernel(f, inv, z, w, mass):
+def _crossings_kernel(f, inv, z, rows, w, mass):
     """z*_j, dm_j/dz and density of every wind point of each group at a mass (N,)."""
-    n, n_pts, _ = f.shape
+    n, n_pts = rows.shape[0], f.shape[1]
     score = np.empty((n, n_pts))
     slope = np.full((n, n_pts), math.nan)
     density = np.zeros((n, n_pts))
     idx = np.arange(n_pts)
     rate = np.empty(n_pts)
     for i in range(n):
-        _scan(f, inv, z, w, i, mass[i], idx, n_pts, False, score[i], rate)
+        _scan(f, inv, z, rows[i], w, i, mass[i], idx, n_pts, False, score[i], rate)
         for j in range(n_pts):
             density[i, j] = _density(w[i, j], score[i, j], rate[j])
             if density[i, j] > 0.0:
@@ -682,8 +689,11 @@ class PreparedMasses:
         Node scores, ``(G,)`` or ``(N, G)``. [–]
     segments : tuple
         The inversion of the piecewise-linear masses, the compiled kernels' input (internal):
-        node masses with a finite stand-in for "not possible" ``(N, J, G)``, node scores
-        ``(N, G)`` and the inverse drop of each segment ``(N, J, G − 1)``.
+        node masses with a finite stand-in for "not possible" ``(N', J, G)``, node scores
+        ``(N', G)`` and the inverse drop of each segment ``(N', J, G − 1)``, of the surface
+        prepared, which may hold more groups than this one.
+    rows : numpy.ndarray of int, optional
+        Index of each group in ``segments``, ``(N,)`` (:meth:`take`); None: all, in order. [–]
     mass_kg : numpy.ndarray
         Masses non-increasing in temperature (running minimum over the nodes), ``(N, J, G)``;
         -inf where not possible (made from ``segments`` when asked for). [kg]
@@ -691,18 +701,20 @@ class PreparedMasses:
 
     scores: np.ndarray
     segments: tuple
+    rows: np.ndarray | None = None
 
     @property
     def mass_kg(self):
         """Masses non-increasing in temperature, -inf where not possible, ``(N, J, G)``. [kg]"""
-        f = self.segments[0]
+        f = self.segments[0] if self.rows is None else self.segments[0][self.rows]
         return np.where(f > 0.5 * _NOT_POSSIBLE_KG, f, -np.inf)
 
     def take(self, rows):
-        """The same for groups ``rows`` only."""
-        f, z, inv = self.segments
-        return PreparedMasses(self.scores if self.scores.ndim == 1 else self.scores[rows],
-                              (f[rows], z[rows], inv[rows]))
+        """The same for groups ``rows`` only (an index into the prepared arrays, no copy)."""
+        n = self.segments[0].shape[0] if self.rows is None else self.rows.size
+        index = np.arange(n)[rows]
+        return PreparedMasses(self.scores if self.scores.ndim == 1 else self.scores[rows], self.segments,
+                              index if self.rows is None else self.rows[index])
 
 
 def prepare_masses(point_mass_kg, scores):
@@ -740,10 +752,12 @@ def prepare_masses(point_mass_kg, scores):
 
 
 def _prepared(point_mass_kg, scores):
-    """The kernels' inputs (f, z, inv) of point masses or of a PreparedMasses."""
+    """The kernels' inputs (f, z, inv, rows) of point masses or of a PreparedMasses."""
     if not isinstance(point_mass_kg, PreparedMasses):
         point_mass_kg = prepare_masses(point_mass_kg, scores)
-    return point_mass_kg.segments
+    f, z, inv = point_mass_kg.segments
+    rows = point_mass_kg.rows
+    return f, z, inv, np.arange(f.shape[0]) if rows is None else rows
 
 
 def share_of_days(mass_kg, point_mass_kg, scores, weight):
@@ -781,9 +795,9 @@ def share_of_days(mass_kg, point_mass_kg, scores, weight):
     ----------
     .. [4] Wilks (2011), §4.4.2; total probability over independent variables.
     """
-    f, z, inv = _prepared(point_mass_kg, scores)
+    f, z, inv, rows = _prepared(point_mass_kg, scores)
     m = np.asarray(mass_kg, dtype=float)
-    s = _shares_kernel(f, inv, z, np.ascontiguousarray(weight, dtype=float),
+    s = _shares_kernel(f, inv, z, rows, np.ascontiguousarray(weight, dtype=float),
                        np.ascontiguousarray(m.reshape(m.shape[0], -1)))
     return s.reshape(m.shape)
 
@@ -827,7 +841,7 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     with p − 1e-9 to absorb rounding). It is MTOW if S(MTOW) ≥ p, not possible if
     S(OEW) < p, and otherwise found on the bracket [OEW, MTOW] until it is narrower than
     ``tol_kg``: first trial the weighted mean of the wind points' masses at the score
-    Φ⁻¹(p), then Newton steps (dS/dM from the crossing scores' slopes) where they land
+    Φ⁻¹(p) (where that lies outside the bracket, the Newton step from MTOW), then Newton steps (dS/dM from the crossing scores' slopes) where they land
     inside the bracket, false position with the Illinois modification [5] otherwise, and a
     bisection where the bracket has not halved in two steps (at most 3 ⌈log2(span/tol)⌉ + 3
     steps per pair). Each (group, level) pair is searched on its own in one compiled kernel
@@ -857,8 +871,8 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     .. [5] M. Dowell and P. Jarratt, "A modified regula falsi method for computing the
        root of an equation", *BIT* 11 (1971) 168–174 (the Illinois method).
     """
-    f, z, inv = _prepared(point_mass_kg, scores)
-    n_groups, n_pts, _ = f.shape
+    f, z, inv, rows = _prepared(point_mass_kg, scores)
+    n_groups, n_pts = rows.size, f.shape[1]
     w = np.ascontiguousarray(weight, dtype=float)
     oew = np.ascontiguousarray(oew_kg, dtype=float)
     mtow = np.ascontiguousarray(mtow_kg, dtype=float)
@@ -870,7 +884,7 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     codes = np.array([limits.code("crosswind_limit"), limits.code("tailwind_limit"),
                       limits.code("no_takeoff")], dtype=np.int64)
     mass, reason, point, score, share_target, s_oew, estimate, score_slope = _levels_kernel(
-        f, inv, z, w, oew, mtow, target, p, zq, lost, codes, float(tol_kg))
+        f, inv, z, rows, w, oew, mtow, target, p, zq, lost, codes, float(tol_kg))
     return ReliabilityLevels(mass_kg=mass, reason=reason, point=point, score=score,
                              share_days=share_target, possible_share=s_oew,
                              estimate_kg=estimate, score_slope_kg=score_slope)
@@ -923,8 +937,8 @@ def level_crossings(point_mass_kg, scores, weight, mass_kg):
     .. [4] Wilks (2011), §4.4.2 (Gaussian density) and §4.2 (distributions of functions
        of a random variable) [from memory for the section numbers].
     """
-    f, z, inv = _prepared(point_mass_kg, scores)
-    return _crossings_kernel(f, inv, z, np.ascontiguousarray(weight, dtype=float),
+    f, z, inv, rows = _prepared(point_mass_kg, scores)
+    return _crossings_kernel(f, inv, z, rows, np.ascontiguousarray(weight, dtype=float),
                              np.ascontiguousarray(mass_kg, dtype=float))
 
 
@@ -1005,8 +1019,8 @@ def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count,
     .. [6] W. G. Cochran, *Sampling Techniques*, 3rd ed., Wiley, 1977, ch. 8 (systematic
        sampling) [from memory for the chapter].
     """
-    f, z_seg, inv = _prepared(point_mass_kg, scores)
-    n_rows, n_pts, n_nodes = f.shape
+    f, z_seg, inv, rows = _prepared(point_mass_kg, scores)
+    n_rows, n_pts, n_nodes = rows.size, f.shape[1], f.shape[2]
     z = np.ascontiguousarray(np.broadcast_to(np.asarray(scores, dtype=float), (n_rows, n_nodes)))
     key = np.asarray(order_key, dtype=float)
     per_node = key.ndim == 3
@@ -1014,17 +1028,18 @@ def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count,
     has_risk = risk_kg is not None
     risk = np.ascontiguousarray(risk_kg, dtype=float) if has_risk else np.zeros((n_rows, n_pts, 1))
     point, score, slope, share, total, risk_row = _samples_kernel(
-        f, inv, z_seg, np.ascontiguousarray(weight, dtype=float),
+        f, inv, z_seg, rows, np.ascontiguousarray(weight, dtype=float),
         np.ascontiguousarray(mass_kg, dtype=float), z, key, per_node, max(1, int(count)), risk, has_risk)
     return RefinementSamples(point=point, score=score, slope_kg=slope, stratum_density_per_kg=share,
                              density_per_kg=total, risk_kg=risk_row)
 
 
 @kernel
-def _samples_kernel(f, inv, z_seg, w, mass, z, key, per_node, count, risk, has_risk):
+def _samples_kernel(f, inv, z_seg, rows, w, mass, z, key, per_node, count, risk, has_risk):
     """:func:`refinement_samples` row by row (key (N, J, 1) or per node (N, J, G); risk
     (N, J, G − 1) when ``has_risk``)."""
-    n, n_pts, n_nodes = f.shape
+    n = rows.shape[0]
+    n_pts, n_nodes = f.shape[1], f.shape[2]
     point = np.full((n, count), -1, dtype=np.int64)
     score = np.full((n, count), math.nan)
     slope = np.full((n, count), math.nan)
@@ -1040,7 +1055,7 @@ def _samples_kernel(f, inv, z_seg, w, mass, z, key, per_node, count, risk, has_r
     pos = np.empty(count, dtype=np.int64)
     n_seg = risk.shape[2]
     for i in range(n):
-        _scan(f, inv, z_seg, w, i, mass[i], idx, n_pts, False, zj, rate)
+        _scan(f, inv, z_seg, rows[i], w, i, mass[i], idx, n_pts, False, zj, rate)
         risk_sum = 0.0
         for j in range(n_pts):
             zc = zj[j] if math.isfinite(zj[j]) else 0.0
