@@ -71,6 +71,16 @@ def _f(x):
     return np.asarray(x, dtype=float)
 
 
+def _kernel_args(args, shape):
+    """``args`` (float arrays) as one-dimensional arrays of ``shape``'s size for a compiled
+    kernel, broadcast only where needed (a broadcast costs microseconds of Python per call,
+    and the V1 search makes thousands of small calls)."""
+    # (a broadcast array, stride 0, is copied: numpy warns when one from np.broadcast_arrays
+    # is inspected for writing)
+    return [x.reshape(-1) if x.shape == shape and 0 not in x.strides
+            else np.ascontiguousarray(np.broadcast_to(x, shape)).reshape(-1) for x in args]
+
+
 class AccelerationCoefficients(NamedTuple):
     """a(V) = a0 + a1 V + a2 V² [m/s², 1/s, 1/m]."""
 
@@ -283,7 +293,7 @@ class QuadraticSegments:
     def __init__(self, a0, a1, a2, w):
         a0, a1, a2, w = (_f(x) for x in (a0, a1, a2, w))
         shape = np.broadcast_shapes(a0.shape, a1.shape, a2.shape, w.shape) or (1,)
-        a0, a1, a2, w = (np.ascontiguousarray(np.broadcast_to(x, shape)) for x in (a0, a1, a2, w))
+        a0, a1, a2, w = _kernel_args((a0, a1, a2, w), shape)
         self.a0, self.a1, self.a2, self.w = a0, a1, a2, w
         n = a0.shape[0]
         self.form = np.empty(n, dtype=np.int8)
@@ -324,7 +334,7 @@ class QuadraticSegments:
         ----------
         .. [3] Gradshteyn & Ryzhik, 2.172, 2.175.
         """
-        vi, vf = (np.broadcast_to(np.atleast_1d(_f(x)), self.a0.shape) for x in (vi, vf))
+        vi, vf = _kernel_args((_f(vi), _f(vf)), self.a0.shape)
         dist, time = np.empty(self.a0.shape), np.empty(self.a0.shape)
         _segment_integrals(self.a0, self.a1, self.a2, self.w, self.form, *self.k, vi, vf, dist, time)
         return dist, time
@@ -336,7 +346,7 @@ def _quadratic_integrals(a0, a1, a2, vi, vf, w):
     segment is infeasible. Arrays broadcast."""
     args = [_f(x) for x in (a0, a1, a2, vi, vf, w)]
     shape = np.broadcast_shapes(*(x.shape for x in args))
-    a0, a1, a2, vi, vf, w = (np.broadcast_to(x, shape).ravel() for x in args)
+    a0, a1, a2, vi, vf, w = _kernel_args(args, shape)
     dist, time = QuadraticSegments(a0, a1, a2, w).integrals(vi, vf)
     return dist.reshape(shape), time.reshape(shape)
 
@@ -595,8 +605,8 @@ def _propeller_power_closed(pm, c2, c0, v0, v1, w, root=None):
     r, p, d_inv, e = _cubic_root(pm, c2, c0) if root is None else root  # mass-dependent only
     args = [_f(x) for x in (pm, c2, c0, v0, v1, w, r, p, d_inv, e)]
     shape = np.broadcast_shapes(*(x.shape for x in args))
-    dist, time = np.empty(shape).ravel(), np.empty(shape).ravel()
-    _propeller_pieces(*(np.broadcast_to(x, shape).ravel() for x in args), dist, time)
+    dist, time = np.empty(shape).reshape(-1), np.empty(shape).reshape(-1)
+    _propeller_pieces(*_kernel_args(args, shape), dist, time)
     return dist.reshape(shape), time.reshape(shape)
 
 
