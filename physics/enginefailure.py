@@ -388,6 +388,12 @@ def scheduled_speeds_mps(aircraft, *, mass_kg, density_kg_m3):
 PROPELLER_NODES = 8
 
 
+def _as_shape(x, shape):
+    """``x`` as a float array of ``shape`` (a view; no broadcast where it has that shape)."""
+    x = np.asarray(x, dtype=float)
+    return x if x.shape == shape else np.broadcast_to(x, shape)
+
+
 class GroundRegime:
     """One engine and configuration state on the ground: a(V) and segment distances.
 
@@ -414,11 +420,11 @@ class GroundRegime:
     """
 
     def __init__(self, thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, slope, headwind_mps,
-                 terms=None):
+                 terms=None, cases_index=None):
         from fieldlimits.physics import groundrun
 
         n = np.shape(thrust_law.t0_n)
-        m, w = (np.broadcast_to(np.asarray(x, dtype=float), n) for x in (mass_kg, headwind_mps))
+        m, w = (_as_shape(x, n) for x in (mass_kg, headwind_mps))
         if terms is None:
             terms = groundrun.ground_run_terms(thrust_law, wing_area_m2=wing_area_m2, density_kg_m3=density_kg_m3,
                                                cd=cd, cl=cl, mu=mu, slope=slope)
@@ -426,24 +432,25 @@ class GroundRegime:
         # as groundrun.acceleration_coefficients, with the mass-independent parts given
         aero = terms.drag_term_kg_m / m
         a0 = np.asarray(thrust_law.t0_n, dtype=float) / m - terms.resistance_mps2
-        a1 = np.broadcast_to(np.asarray(thrust_law.t1_n_per_mps, dtype=float) / m, n)
+        a1 = _as_shape(np.asarray(thrust_law.t1_n_per_mps, dtype=float) / m, n)
         t2m = np.asarray(thrust_law.t2_n_per_mps2, dtype=float) / m
-        self.coeffs = groundrun.AccelerationCoefficients(np.broadcast_to(a0, n), a1, np.broadcast_to(t2m - aero, n))
-        # below V = 0 drag and lift act on V|V| (reverse flow)
-        self.a2_reverse = np.broadcast_to(t2m + aero, n) if np.any(w < 0.0) else None
-        is_prop = np.asarray(thrust_law.is_propeller, dtype=bool)
-        self.kink = np.broadcast_to(terms.kink_mps, n)
-        self.prop = np.nonzero(is_prop)[0]
-        # tailwind cases whose segments may cross V = 0 (reverse-flow drag below it)
-        self.tail = np.nonzero(w < 0.0)[0]
+        self.coeffs = groundrun.AccelerationCoefficients(_as_shape(a0, n), a1, _as_shape(t2m - aero, n))
+        # the propeller cases, and the tailwind cases whose segments may cross V = 0
+        # (reverse-flow drag below it): per case, given by the caller once per solve
+        if cases_index is None:
+            cases_index = (np.nonzero(np.asarray(thrust_law.is_propeller, dtype=bool))[0], np.nonzero(w < 0.0)[0])
+        self.prop, self.tail = cases_index
+        self.a2_reverse = _as_shape(t2m + aero, n) if self.tail.size else None
+        self.kink = _as_shape(terms.kink_mps, n)
         self._forward = None  # groundrun.QuadraticSegments of the V ≥ 0 coefficients, on first use
         self._reverse = None  # the same of the V < 0 coefficients of the tailwind cases
         if self.prop.size:
             i = self.prop
             a0, _, a2 = self.coeffs
-            self._p_m = np.asarray(thrust_law.propeller_power_w)[i] / m[i]
-            self._a0n = a0[i] - np.asarray(thrust_law.t0_n)[i] / m[i]
-            self._a2p = a2[i]
+            m_i = m.take(i)
+            self._p_m = np.asarray(thrust_law.propeller_power_w).take(i) / m_i
+            self._a0n = a0.take(i) - np.asarray(thrust_law.t0_n).take(i) / m_i
+            self._a2p = a2.take(i)
             # the closed form above the kink where the cubic of a = 0 has one real root
             self._closed = (self._a0n < 0.0) & (self._a2p < 0.0) & (self._p_m > 0.0)
             self._root = None  # groundrun.CubicRoot of the closed cases, on first use
@@ -837,7 +844,10 @@ def _mass_independent(su, aircraft):
         # as scheduled_speeds_mps: V_S = sqrt(2 m g/(rho S C_Lmax)); V_MCG as a true airspeed
         vmcg = np.where(su.multi_engine, b(a.vmcg_mps) * np.sqrt(c.RHO0_KG_M3 / rho), 0.0)
         fixed = {"stall_denominator": rho * b(a.wing_area_m2) * b(a.cl_max_takeoff),
-                 "speed_ratios": (b(a.vr_over_vs), b(a.vlof_over_vs), b(a.v2_over_vs)), "vmcg_mps": vmcg}
+                 "speed_ratios": (b(a.vr_over_vs), b(a.vlof_over_vs), b(a.v2_over_vs)), "vmcg_mps": vmcg,
+                 # the propeller and the tailwind cases (GroundRegime): the same in every regime
+                 "cases_index": (np.nonzero(np.asarray(su.law_all.is_propeller, dtype=bool))[0],
+                                 np.nonzero(su.headwind_mps < 0.0)[0])}
         if su.timed_events:  # StopEvents' friction step, friction lift and lift-dumper terms
             _, cos_g = groundrun.slope_sin_cos(su.slope)
             d_mu = su.mu_brake - su.mu_roll
@@ -891,6 +901,7 @@ def engine_failure_model(aircraft, site, mass_kg, setup=None):
     roll = dict(common, mu=su.mu_roll, cl=su.cl_roll)
     brake = dict(common, mu=su.mu_brake, cl=su.cl_brake)
     t = su.regime_terms
+    roll["cases_index"] = brake["cases_index"] = fixed["cases_index"]
     all_engines = GroundRegime(su.law_all, cd=su.cd_roll, **roll, terms=t["all_engines"])
     one_out = GroundRegime(su.law_one_out, cd=su.cd_roll_one_out, **roll, terms=t["one_out"])
     stop_all = GroundRegime(su.law_idle_all, cd=su.cd_brake, **brake, terms=t["stop_all"])

@@ -562,17 +562,31 @@ class CubicRoot(NamedTuple):
 
 def _cubic_root(pm, c2, c0):
     """:class:`CubicRoot` of a(V) = pm/V − c2 V² − c0 = 0 (pm, c2, c0 > 0); see
-    :func:`_propeller_power_closed`."""
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        p = c0 / c2
-        q = -pm / c2
+    :func:`_propeller_power_closed`. Compiled (:func:`_cubic_roots`)."""
+    args = [_f(x) for x in (pm, c2, c0)]
+    shape = np.broadcast_shapes(*(x.shape for x in args))
+    out = np.empty((4,) + shape).reshape(4, -1)
+    _cubic_roots(*_kernel_args(args, shape), *out)
+    return CubicRoot(*(x.reshape(shape) for x in out))
+
+
+@kernel
+def _cubic_roots(pm, c2, c0, r_out, p_out, d_inv_out, e_out):
+    """The root r of V³ + p V + q (p = c0/c2, q = −pm/c2) by Cardano's formula in the form
+    r = u − p/(3u), then two Newton steps; with 1/(3r² + p) and √(3r² + 4p), in place."""
+    for j in range(pm.shape[0]):
+        p = c0[j] / c2[j]
+        q = -pm[j] / c2[j]
         u = np.cbrt(-0.5 * q + np.sqrt(0.25 * q * q + p * p * p / 27.0))
         r = u - p / (3.0 * u)
         for _ in range(2):  # Newton on r³ + p r + q
             r2 = r * r
             r = r - (r * (r2 + p) + q) / (3.0 * r2 + p)
         r2 = r * r
-        return CubicRoot(r, p, 1.0 / (3.0 * r2 + p), np.sqrt(3.0 * r2 + 4.0 * p))
+        r_out[j] = r
+        p_out[j] = p
+        d_inv_out[j] = 1.0 / (3.0 * r2 + p)
+        e_out[j] = np.sqrt(3.0 * r2 + 4.0 * p)
 
 
 def _propeller_power_closed(pm, c2, c0, v0, v1, w, root=None):
