@@ -267,6 +267,12 @@ def test_compiled_propeller_pieces_equal_the_closed_form_written_with_numpy():
     v1[::9] = v0[::9]
     root = gr._cubic_root(pm, c2, c0)
     r, p, d_inv, e = root
+    # the compiled root against its definition: a(r) = pm/r − c2 r² − c0 = 0, p = c0/c2 (to
+    # rounding: a's terms are of order c0)
+    assert_allclose(pm / r - c2 * r * r, c0, rtol=1e-12)
+    assert_allclose(p, c0 / c2, rtol=1e-15)
+    assert_allclose(d_inv, 1.0 / (3.0 * r * r + p), rtol=1e-15)
+    assert_allclose(e, np.sqrt(3.0 * r * r + 4.0 * p), rtol=1e-15)
     with np.errstate(all="ignore"):
         dv = v1 - v0
         l1 = np.log1p(-dv / (r - v0))
