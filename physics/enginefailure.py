@@ -817,7 +817,9 @@ def engine_failure_setup(aircraft, site, shape=()):
         a, p, t, engines_operating=ops, throttle=tau)
     rho_b, area, slope = b(rho), b(a.wing_area_m2), b(s.slope)
     cl_roll, cl_brake, mu_roll, mu_brake = b(a.cl_ground_roll), b(a.braking_cl), b(s.mu_roll), b(s.mu_brake)
-    laws = law(n_eng), law(n_out), law(n_eng, idle), law(n_out, idle)
+    # T is linear in engines × throttle (physics.thrust.thrust_law): one engine's law, scaled
+    one = law(1.0)
+    laws = tuple(one.scaled(ops * tau) for ops, tau in ((n_eng, 1.0), (n_out, 1.0), (n_eng, idle), (n_out, idle)))
     terms = lambda lw, cd, cl, mu: groundrun.ground_run_terms(  # noqa: E731
         lw, wing_area_m2=area, density_kg_m3=rho_b, cd=cd, cl=cl, mu=mu, slope=slope)
     regimes = {"all_engines": terms(laws[0], cd_roll, cl_roll, mu_roll),

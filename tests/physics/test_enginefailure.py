@@ -532,3 +532,24 @@ def test_v1_held_at_vr_converges_as_fast_as_elsewhere():
         start = np.where(held, root.v_ef_mps + off, np.nan)
         got = ef._newton_v1(model, base, start, evaluations, ef.STOP_DELAY_S).v_ef_mps
         assert np.max(np.abs(got - root.v_ef_mps)[held]) < 1e-9
+
+
+def test_setup_thrust_laws_equal_the_law_of_each_engine_state():
+    # engine_failure_setup scales one engine's law (thrust is linear in engines operating ×
+    # throttle, physics.thrust.thrust_law): each of its four laws equals the law computed for
+    # that engine state, to the bit, for a mix of the three thrust models.
+    from fieldlimits.physics import thrust
+    from tests.physics import fleet
+
+    a, site = fleet.random_cases(3000, seed=3)
+    su = ef.engine_failure_setup(a, site)
+    n_eng = np.broadcast_to(np.asarray(a.engine_count, dtype=float), su.n)
+    n_out = np.where(n_eng > 1, n_eng - 1.0, n_eng)
+    idle = np.broadcast_to(np.asarray(a.idle_thrust_fraction, dtype=float), su.n)
+    assert len(set(np.asarray(a.thrust_model).tolist())) == 3
+    for law, (ops, tau) in zip((su.law_all, su.law_one_out, su.law_idle_all, su.law_idle_one_out),
+                               ((n_eng, 1.0), (n_out, 1.0), (n_eng, idle), (n_out, idle))):
+        ref = thrust.thrust_law_for_aircraft(a, site.pressure_pa, site.temperature_k, engines_operating=ops,
+                                             throttle=tau)
+        for f in ("t0_n", "t1_n_per_mps", "t2_n_per_mps2", "propeller_power_w", "is_propeller"):
+            np.testing.assert_array_equal(getattr(law, f), getattr(ref, f))
