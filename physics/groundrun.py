@@ -72,13 +72,21 @@ def _f(x):
 
 
 def _kernel_args(args, shape):
-    """``args`` (float arrays) as one-dimensional arrays of ``shape``'s size for a compiled
-    kernel, broadcast only where needed (a broadcast costs microseconds of Python per call,
-    and the V1 search makes thousands of small calls)."""
-    # (a broadcast array, stride 0, is copied: numpy warns when one from np.broadcast_arrays
-    # is inspected for writing)
-    return [x.reshape(-1) if x.shape == shape and 0 not in x.strides
-            else np.ascontiguousarray(np.broadcast_to(x, shape)).reshape(-1) for x in args]
+    """``args`` (float arrays) as writable C-contiguous one-dimensional arrays of ``shape``'s
+    size for a compiled kernel: one machine-code version per kernel (Numba compiles one for
+    each layout and read-only flag it meets), broadcast and copied only where needed (a
+    broadcast costs microseconds of Python, and the V1 search makes thousands of small calls).
+    A broadcast array (stride 0) is always copied: numpy warns when one made by
+    np.broadcast_arrays is inspected for writing."""
+    out = []
+    for x in args:
+        if x.shape != shape or 0 in x.strides:
+            x = np.array(np.broadcast_to(x, shape))
+        x = x.reshape(-1)
+        if not (x.flags.c_contiguous and x.flags.writeable):
+            x = np.array(x)
+        out.append(x)
+    return out
 
 
 class AccelerationCoefficients(NamedTuple):
