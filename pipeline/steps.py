@@ -50,7 +50,7 @@ from fieldlimits.schemas.results import CONDITIONS
 log = logging.getLogger("fieldlimits.run")
 log.setLevel(logging.INFO)  # shown only where a handler is attached (the CLI, the flow)
 
-DEFAULT_CHUNK_SIZE = 32000  # ~30 000 cases: numpy call overhead per case about halved vs 8 000
+DEFAULT_CHUNK_SIZE = 64000  # numpy call overhead per case: about halved at 32 000 vs 8 000, 7-8 % less again at 64 000
 DEFAULT_RELIABILITY_LEVELS = (0.50, 0.85, 0.95)
 BEST_FILE = "airfield_best.parquet"
 ROUTE_FILE = "route_payload.parquet"
