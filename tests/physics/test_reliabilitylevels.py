@@ -29,6 +29,41 @@ def _levels(point_mass, weight, levels=reliabilitylevels.DEFAULT_LEVELS, **kw):
                                    levels=levels, **kw)
 
 
+def test_flown_direction_equals_a_plain_loop_over_days():
+    # The definition written out day by day (a plain loop, no arrays): each wind point and
+    # node flies the usable direction with the highest mass (first on ties); a point usable
+    # on no direction is lost to the limit that excludes its best candidate (highest mass
+    # summed over the nodes, NaN as 0; crosswind where that direction exceeds both).
+    rng = np.random.default_rng(23)
+    n, n_dir, n_pts, n_nodes = 40, 4, 15, 6
+    raw = np.round(rng.uniform(40_000.0, 70_000.0, (n, n_dir, n_pts, n_nodes)), -3)  # ties
+    raw[rng.random(raw.shape) < 0.15] = np.nan
+    raw[0, :, 0, :] = np.nan  # no takeoff on any direction
+    cross = rng.random((n, n_dir, n_pts)) < 0.35
+    tail = rng.random((n, n_dir, n_pts)) < 0.25
+    valid = rng.random((n, n_dir)) < 0.85
+    direction, mass, lost = reliabilitylevels.flown_direction(raw, cross, tail, valid)
+    cw, tw = limits.code("crosswind_limit"), limits.code("tailwind_limit")
+    for i in range(n):
+        for j in range(n_pts):
+            usable = [d for d in range(n_dir) if valid[i, d] and not cross[i, d, j] and not tail[i, d, j]]
+            if not usable:
+                merit = [np.nansum(raw[i, d, j]) if valid[i, d] else -np.inf for d in range(n_dir)]
+                best = int(np.argmax(merit))
+                assert lost[i, j] == (cw if cross[i, best, j] else tw)
+                assert np.all(direction[i, j] == best) and np.all(mass[i, j] == -np.inf)
+                continue
+            assert lost[i, j] == -1
+            for g in range(n_nodes):
+                cand = [(raw[i, d, j, g], -d) for d in usable if not np.isnan(raw[i, d, j, g])]
+                if cand:
+                    top, neg_d = max(cand)
+                    assert (direction[i, j, g], mass[i, j, g]) == (-neg_d, top)
+                else:
+                    assert direction[i, j, g] == usable[0] and np.isnan(mass[i, j, g])
+    assert np.any(lost >= 0) and np.any(np.isnan(mass))  # both cases met
+
+
 def test_single_wind_point_zero_spread_is_the_direct_value_on_the_best_direction():
     # All wind from 250° at 8 m/s; directions 250° (into wind) and 070° (downwind).
     heading = np.array([250.0, 70.0])
