@@ -63,6 +63,7 @@ from typing import NamedTuple
 import numpy as np
 
 from fieldlimits.physics import constants as c
+from fieldlimits.physics.compiled import kernel
 from fieldlimits.physics import groundrun
 from fieldlimits.physics import takeoffevents
 
@@ -580,27 +581,39 @@ class GroundRegime:
         ----------
         .. [1] Raymer, Eq. 17.100.
         """
-        v = np.broadcast_to(np.asarray(v, dtype=float), self.w.shape)
-        a0, a1, a2 = self.coeffs
-        if self.a2_reverse is not None:
-            a2 = np.where(v < 0.0, self.a2_reverse, a2)
-        out = a0 + (a1 + a2 * v) * v
-        if slope:
-            d_out = a1 + 2.0 * a2 * v
-        if self.prop.size:
-            i = self.prop
-            vi = v[i]
-            above_kink = vi > self.kink[i]
-            with np.errstate(divide="ignore", invalid="ignore"):
-                above = self._p_m / vi + self._a0n + self._a2p * vi * vi
-                if slope:
-                    d_above = -self._p_m / (vi * vi) + 2.0 * self._a2p * vi
-            out = np.array(out, copy=True)
-            out[i] = np.where(above_kink, above, out[i])
-            if slope:
-                d_out = np.array(d_out, copy=True)
-                d_out[i] = np.where(above_kink, d_above, d_out[i])
+        args = self.__dict__.get("_acceleration_args")
+        if args is None:  # the regime's coefficients for the compiled kernel, once
+            n = self.w.shape
+            a2r = self.a2_reverse if self.a2_reverse is not None else np.zeros(0)
+            prop = np.asarray(self.prop, dtype=np.intp)
+            pa = (self._p_m, self._a0n, self._a2p) if prop.size else (np.zeros(0),) * 3
+            args = (*groundrun._kernel_args([_as_shape(x, n) for x in (*self.coeffs, self.kink)], n),
+                    *groundrun._kernel_args([np.asarray(a2r, dtype=float)], np.shape(a2r)), prop,
+                    *groundrun._kernel_args([np.asarray(x, dtype=float) for x in pa], np.shape(pa[0])))
+            self._acceleration_args = args
+        (v,) = groundrun._kernel_args([_as_shape(v, self.w.shape)], self.w.shape)
+        out, d_out = np.empty(v.shape), np.empty(v.shape)
+        _regime_acceleration(v, *args, out, d_out)
         return (out, d_out) if slope else out
+
+
+@kernel
+def _regime_acceleration(v, a0, a1, a2, kink, a2_reverse, prop, p_m, a0n, a2p, out, d_out):
+    """a(V) and da/dV of a :class:`GroundRegime` at one airspeed per case, in place: the
+    polynomial (reverse-flow a2 below V = 0 where ``a2_reverse`` is given), then the
+    propeller cases ``prop`` above their kink."""
+    reverse = a2_reverse.shape[0] > 0
+    for j in range(v.shape[0]):
+        vj = v[j]
+        a2j = a2_reverse[j] if reverse and vj < 0.0 else a2[j]
+        out[j] = a0[j] + (a1[j] + a2j * vj) * vj
+        d_out[j] = a1[j] + 2.0 * a2j * vj
+    for k in range(prop.shape[0]):
+        j = prop[k]
+        vj = v[j]
+        if vj > kink[j]:
+            out[j] = p_m[k] / vj + a0n[k] + a2p[k] * vj * vj
+            d_out[j] = -p_m[k] / (vj * vj) + 2.0 * a2p[k] * vj
 
 
 class _DeferredRegime:

@@ -553,3 +553,35 @@ def test_setup_thrust_laws_equal_the_law_of_each_engine_state():
                                              throttle=tau)
         for f in ("t0_n", "t1_n_per_mps", "t2_n_per_mps2", "propeller_power_w", "is_propeller"):
             np.testing.assert_array_equal(getattr(law, f), getattr(ref, f))
+
+
+def test_regime_acceleration_equals_the_equation_of_motion():
+    # GroundRegime.acceleration (a compiled kernel) against a(V) = [T(V) − ½ rho S (C_D −
+    # mu C_L) V|V|]/m − g (mu cos g + sin g) from the thrust law (groundrun.
+    # acceleration_function, Raymer Eq. 17.100), for the three thrust models, tailwinds
+    # (reverse flow below V = 0) and propellers on both sides of the power kink; the slope
+    # against a central difference (step 1e-3 m/s: the error of order step², far below 1e-6).
+    from fieldlimits.physics import groundrun, thrust
+    from tests.physics import fleet
+
+    n = 4000
+    a, site = fleet.random_cases(n, seed=5)
+    rng = np.random.default_rng(5)
+    law = thrust.thrust_law_for_aircraft(a, site.pressure_pa, site.temperature_k)
+    rho = site.pressure_pa / (c.R_AIR * site.temperature_k)
+    w = rng.uniform(-8.0, 10.0, n)
+    kw = dict(mass_kg=rng.uniform(0.7, 1.0, n) * a.mtow_kg, wing_area_m2=a.wing_area_m2, density_kg_m3=rho,
+              cd=rng.uniform(0.03, 0.1, n), cl=a.cl_ground_roll, mu=site.mu_roll, slope=site.slope)
+    regime = ef.GroundRegime(law, **kw, headwind_mps=w)
+    v = np.where(rng.random(n) < 0.2, rng.uniform(-8.0, 0.0, n), rng.uniform(0.0, 80.0, n))
+    assert np.any((v < 0) & (w < 0)) and np.any(law.is_propeller & (v > regime.kink))
+    assert np.any(law.is_propeller & (v < regime.kink))
+    acc, slope = regime.acceleration(v, slope=True)
+    assert_allclose(acc, groundrun.acceleration_function(law, **kw)(v), rtol=1e-12, atol=1e-12)
+    h = 1e-3
+    central = (regime.acceleration(v + h) - regime.acceleration(v - h)) / (2.0 * h)
+    smooth = (np.abs(v) > 2 * h) & (np.abs(v - regime.kink) > 2 * h)
+    assert_allclose(slope[smooth], central[smooth], rtol=1e-6, atol=1e-9)
+    # a subset taken from the regime gives the same numbers
+    part = np.arange(0, n, 3)
+    np.testing.assert_array_equal(regime.take(part).acceleration(v[part]), acc[part])
