@@ -262,8 +262,10 @@ def _level_search(f, inv, z, row, w, i, p, lo, hi, s_lo, s_hi, ds_hi, trial, tol
         width_2 = width_1
         width_1 = width
         x = 0.5 * (lo + hi) if bisect else est
-        near_lo = (newton - lo if use_n else t * width) <= 0.5 * tol
-        if near_lo:
+        # An estimate within tol/2 of an end: a step to tol from it certifies that end. Not
+        # where S equals p at lo (S − p = 0 on a stretch of masses: false position stays on
+        # lo, and each certifying step would move lo by tol only).
+        if (newton - lo if use_n else (t * width if s_lo > 0.0 else math.inf)) <= 0.5 * tol:
             x = lo + tol
         elif use_n and hi - newton <= 0.5 * tol:
             x = hi - tol
@@ -1068,7 +1070,7 @@ def _samples_kernel(f, inv, z_seg, rows, w, mass, z, key, per_node, count, risk,
                 key_j[j] = key[i, j, node]
             else:
                 key_j[j] = key[i, j, 0]
-            if has_risk and dens[j] > 0.0:  # the error indicator of the crossing's segment
+            if has_risk and n_seg > 0 and dens[j] > 0.0:  # the indicator of the crossing's segment
                 seg = 0
                 for g in range(1, n_nodes - 1):
                     if z[i, g] <= zc:

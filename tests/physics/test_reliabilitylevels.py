@@ -132,6 +132,19 @@ def test_levels_fall_as_p_rises_and_match_a_fine_discretisation():
         assert g == pytest.approx(ref, abs=60.0)
 
 
+def test_level_on_a_share_of_days_exactly_p_is_the_top_of_that_stretch():
+    # Zero temperature spread: 50 % of days at 60 t, 30 % at 50 t, 20 % with no takeoff. For
+    # p = 0.5 the share of days is exactly p for every mass in (50 t, 60 t]: by the definition
+    # of the lower (1 − p) quantile the level is 60 t (the search stops within its 1 kg
+    # tolerance below it; it used to creep up from its first estimate 1 kg a step).
+    node = np.array([60_000.0, 50_000.0, np.nan])[None, :, None]
+    m = np.repeat(node, Z.size, axis=2)
+    r = _levels(m, np.array([[0.5, 0.3, 0.2]]), levels=(0.5, 0.8, 0.85))
+    assert 60_000.0 - 1.0 <= r.mass_kg[0, 0] <= 60_000.0 + 0.05
+    assert 50_000.0 - 1.0 <= r.mass_kg[0, 1] <= 50_000.0 + 0.05
+    assert np.isnan(r.mass_kg[0, 2]) and r.reason[0, 2] == limits.code("no_takeoff")
+
+
 def test_crosswind_limit_removes_exactly_the_share_above_the_limit():
     # Runway 000/180; cells from 090° and 270° at 12–16 m/s are wholly above a 10 m/s
     # crosswind limit (12 sin 75° = 11.6); they carry 7 % of days.
