@@ -80,10 +80,11 @@ _BINDING_SCORE = 3.5  # a binding day further out than this is not "typical"
 _FLAT_RATE = 1.0  # |dz*/dM| above this (a slope under 1 kg per unit score) counts as flat
 _SHARE_EPS = 1e-9  # S(M) is compared with p − this (rounding of the sum over the points)
 
-# The kernels below are the one implementation of the crossing scores, the share of days
-# and the level search (physics.compiled: loops over groups, levels and wind points in
-# compiled code, no temporaries). Node masses inside are the prepared ones
-# (:func:`prepare_masses`): non-increasing in temperature, "not possible" as
+# The kernels below are the one implementation of the crossing scores, the share of days,
+# the level search, the binding day, the flown direction and the refinement samples
+# (physics.compiled: loops over groups, levels and wind points in compiled code, no
+# temporaries; the public functions further down wrap them). Node masses inside are the
+# prepared ones (:func:`prepare_masses`): non-increasing in temperature, "not possible" as
 # _NOT_POSSIBLE_KG, with the inverse drop of each segment beside them; double precision.
 
 
@@ -92,9 +93,10 @@ def _scan(f, inv, z, row, w, i, mass, idx, n_idx, slope, score, rate):
     """Crossing scores of wind points ``idx[:n_idx]`` of group i at a mass, and their share.
 
     f (N', J, G) prepared node masses, inv (N', J, G − 1) inverse drops, z (N', G) node
-    scores, the group's at ``row``; w (N, J) shares of days. For each listed point j (position a), z*_j(M) = sup{z :
-    m_j(z) ≥ M} goes to ``score[a]`` and |dz*_j/dM| to ``rate[a]``; returns Σ w_j Phi(z*_j)
-    and, with ``slope``, dS/dM = −Σ w_j phi(z*_j) |dz*_j/dM| over them (else 0). m_j(z) is
+    scores, the group's at ``row``; w (N, J) shares of days, the group's at i. For each
+    listed point j (position a), z*_j(M) = sup{z : m_j(z) ≥ M} goes to ``score[a]`` and
+    |dz*_j/dM| to ``rate[a]``; returns Σ w_j Phi(z*_j) with Phi(z) = erfc(−z/√2)/2 and,
+    with ``slope``, dS/dM = −Σ w_j phi(z*_j) |dz*_j/dM| over them (else 0). m_j(z) is
     linear between the nodes, the first segment extended below the first node and the last
     beyond the last (a flat end segment: to ±inf in effect); the rate is that of the segment
     holding z* (0 where z* sits exactly on an inner node from above, and beyond
@@ -535,12 +537,14 @@ def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=No
     """
     raw = np.ascontiguousarray(point_mass_kg, dtype=float)
     shape3 = raw.shape[:3]
-    cross_ex = (np.zeros(shape3, dtype=bool) if crosswind_exceeded is None
-                else np.ascontiguousarray(np.broadcast_to(np.asarray(crosswind_exceeded, dtype=bool), shape3)))
-    tail_ex = (np.zeros(shape3, dtype=bool) if tailwind_exceeded is None
-               else np.ascontiguousarray(np.broadcast_to(np.asarray(tailwind_exceeded, dtype=bool), shape3)))
-    valid = (np.ones(raw.shape[:2], dtype=bool) if direction_valid is None
-             else np.ascontiguousarray(np.broadcast_to(np.asarray(direction_valid, dtype=bool), raw.shape[:2])))
+    def flags(a, shape, default):
+        if a is None:
+            return np.full(shape, default)
+        return np.ascontiguousarray(np.broadcast_to(np.asarray(a, dtype=bool), shape))
+
+    cross_ex = flags(crosswind_exceeded, shape3, False)
+    tail_ex = flags(tailwind_exceeded, shape3, False)
+    valid = flags(direction_valid, raw.shape[:2], True)
     return _flown_kernel(raw, cross_ex, tail_ex, valid, limits.code("crosswind_limit"),
                          limits.code("tailwind_limit"))
 
@@ -843,14 +847,18 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     with p − 1e-9 to absorb rounding). It is MTOW if S(MTOW) ≥ p, not possible if
     S(OEW) < p, and otherwise found on the bracket [OEW, MTOW] until it is narrower than
     ``tol_kg``: first trial the weighted mean of the wind points' masses at the score
-    Φ⁻¹(p) (where that lies outside the bracket, the Newton step from MTOW), then Newton steps (dS/dM from the crossing scores' slopes) where they land
-    inside the bracket, false position with the Illinois modification [5] otherwise, and a
-    bisection where the bracket has not halved in two steps (at most 3 ⌈log2(span/tol)⌉ + 3
-    steps per pair). Each (group, level) pair is searched on its own in one compiled kernel
-    (:mod:`physics.compiled`, double precision): a wind point whose crossing score is +inf
-    at the bracket's upper end achieves every mass of the bracket and one at −inf at its
-    lower end none (z*_j(M) does not increase with M), so each evaluation of S sums only
-    the points still undecided on the bracket; the same holds for the binding day below.
+    Φ⁻¹(p) (where that lies outside the bracket, the Newton step from MTOW), then Newton
+    steps (dS/dM from the crossing scores' slopes) where they land inside the bracket, false
+    position with the Illinois modification [5] otherwise, and a bisection where the bracket
+    has not halved in two steps (at most 3 ⌈log2(span/tol)⌉ + 3 steps per pair). An
+    estimate within tol/2 of an end is replaced by a step tol from that end, which closes
+    the bracket when it lands across the level (also where S is a step; not from lo where
+    S(lo) = p exactly, where it would move lo by tol a step). Each (group, level) pair is
+    searched on its own in one compiled kernel (:mod:`physics.compiled`, double
+    precision): a wind point whose crossing score is +inf at the bracket's upper end
+    achieves every mass of the bracket and one at −inf at its lower end none (z*_j(M) does
+    not increase with M), so each evaluation of S sums only the points still undecided on
+    the bracket; the same holds for the binding day below.
     Equivalently M_p is the lower (1 − p) quantile of the day-to-day mass, days that are
     not possible counting as mass 0.
 
