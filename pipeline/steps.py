@@ -729,12 +729,16 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path) -> Path | None:
     airfield = _route_airfield_rows(tables["routes"], sorted(
         (Path(work) / chunks.PARTS_DIR).glob("*.airfield.parquet")), best=_best_list(best_path))
     frame = func(tables, airfield, prepared.params.as_dict(), landing=landing.route_rows(parts))
+    del airfield
     if frame is None:
+        chunks.release_free_memory()
         return None
     out = Path(work) / ROUTE_FILE
     tmp = out.with_name(f".{out.name}.tmp")
     frame.to_parquet(tmp, index=False)
     os.replace(tmp, out)
+    del frame
+    chunks.release_free_memory()  # the origins' rows and the payloads' frames, before the load
     return out
 
 
