@@ -371,6 +371,50 @@ def test_refinement_samples_spread_over_the_density_and_a_dominant_point_is_solv
     assert one.stratum_density_per_kg.sum() == pytest.approx(one.density_per_kg[0], rel=1e-12)
 
 
+def test_refinement_samples_equal_a_plain_loop_of_the_systematic_sample():
+    # The systematic sample written out (Cochran 1977, ch. 8): points in contour order (the
+    # key at the node nearest each crossing, stable), cumulative density C; sample k is the
+    # first point with C ≥ (k + ½)/K × f and stands for f/K, repeats merged into the first;
+    # the risk is the density-weighted mean indicator of the crossings' segments.
+    m, wt, h = _curved_rose_masses()
+    rng = np.random.default_rng(5)
+    n_rows = 3
+    masses = np.repeat(m, n_rows, axis=0)
+    weight = np.repeat(wt, n_rows, axis=0)
+    level = np.array([57_000.0, 54_000.0, 60_500.0])
+    key = np.round(h[None, :, None] + rng.normal(0.0, 0.5, (n_rows, h.size, Z.size)), 1)  # ties
+    risk = rng.uniform(0.0, 80.0, (n_rows, h.size, Z.size - 1))
+    count = 8
+    smp = reliabilitylevels.refinement_samples(masses, Z, weight, level, key, count, risk)
+    zj, slope, dens = reliabilitylevels.level_crossings(masses, Z, weight, level)
+    for i in range(n_rows):
+        zc = np.where(np.isfinite(zj[i]), zj[i], 0.0)
+        k_at = [key[i, j, int(np.argmin(np.abs(Z - zc[j])))] for j in range(h.size)]
+        order = sorted(range(h.size), key=lambda j: k_at[j])  # Python's sort is stable
+        cum, total = [], 0.0
+        for j in order:
+            total += dens[i, j]
+            cum.append(total)
+        pos = [min(next((a for a, c in enumerate(cum) if c >= (k + 0.5) / count * total), h.size), h.size - 1)
+               for k in range(count)]
+        share = [total / count] * count
+        for k in range(count - 1, 0, -1):
+            if pos[k] == pos[k - 1]:
+                share[k - 1] += share[k]
+                share[k] = 0.0
+        point = [order[pos[k]] if share[k] > 0 else -1 for k in range(count)]
+        np.testing.assert_array_equal(smp.point[i], point)
+        np.testing.assert_allclose(smp.stratum_density_per_kg[i], share, rtol=1e-12)
+        np.testing.assert_allclose(smp.density_per_kg[i], total, rtol=1e-12)
+        filled = np.array(point) >= 0
+        np.testing.assert_array_equal(smp.score[i, filled], zj[i, np.array(point)[filled]])
+        np.testing.assert_array_equal(smp.slope_kg[i, filled], slope[i, np.array(point)[filled]])
+        seg = [min(int(np.sum(Z[1:-1] <= zc[j])), Z.size - 2) for j in range(h.size)]
+        mean_risk = sum(dens[i, j] * risk[i, j, seg[j]] for j in range(h.size) if dens[i, j] > 0) / total
+        assert smp.risk_kg[i] == pytest.approx(mean_risk, rel=1e-12)
+        assert filled.sum() >= 4 and np.all(np.isnan(smp.score[i, ~filled]))
+
+
 def test_refined_level_recovers_a_uniformly_shifted_surface():
     # The "true" masses are the interpolated ones plus 300 kg on every day: the level moves
     # by exactly 300 kg, and one Newton step from sampled days finds it.
