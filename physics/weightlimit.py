@@ -1135,7 +1135,8 @@ def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
                 if unknown.size:  # the secants of the requirements, through failed trials
                     below = np.zeros(known.shape, dtype=bool)
                     ubu = uB.take(unknown)
-                    e = _interpolated_root(ul.take(unknown), up.take(unknown), None, *(h.take(unknown, axis=1) for h in H[:2]),
+                    e = _interpolated_root(ul.take(unknown), up.take(unknown), None,
+                                           *(h.take(unknown, axis=1) for h in H[:2]),
                                            None, 1)
                     below[unknown] = np.where(e < ubu, e, np.inf).min(axis=0) <= uA.take(unknown)
             xf = np.exp(uf)
