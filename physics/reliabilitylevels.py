@@ -80,6 +80,12 @@ _BINDING_SCORE = 3.5  # a binding day further out than this is not "typical"
 _FLAT_RATE = 1.0  # |dz*/dM| above this (a slope under 1 kg per unit score) counts as flat
 _SHARE_EPS = 1e-9  # S(M) is compared with p − this (rounding of the sum over the points)
 
+def _kernel_array(a, dtype=float):
+    """``a`` as a C-contiguous, writable array of ``dtype``: the one layout the kernels are
+    compiled for (another layout or a read-only view would compile another version)."""
+    return np.require(a, dtype=dtype, requirements=("C", "W"))
+
+
 # The kernels below are the one implementation of the crossing scores, the share of days,
 # the level search, the binding day, the flown direction and the refinement samples
 # (physics.compiled: loops over groups, levels and wind points in compiled code, no
@@ -535,12 +541,12 @@ def flown_direction(point_mass_kg, crosswind_exceeded=None, tailwind_exceeded=No
     ----------
     .. [2] ICAO Annex 14, Vol. I, §3.1.1 and Attachment A §1 (usability of a runway system).
     """
-    raw = np.ascontiguousarray(point_mass_kg, dtype=float)
+    raw = _kernel_array(point_mass_kg, dtype=float)
     shape3 = raw.shape[:3]
     def flags(a, shape, default):
         if a is None:
             return np.full(shape, default)
-        return np.ascontiguousarray(np.broadcast_to(np.asarray(a, dtype=bool), shape))
+        return _kernel_array(np.broadcast_to(np.asarray(a, dtype=bool), shape), bool)
 
     cross_ex = flags(crosswind_exceeded, shape3, False)
     tail_ex = flags(tailwind_exceeded, shape3, False)
@@ -750,10 +756,10 @@ def prepare_masses(point_mass_kg, scores):
     ----------
     .. [1] Press et al. (2007), §3.1 (linear interpolation).
     """
-    raw = np.ascontiguousarray(point_mass_kg, dtype=float)
+    raw = _kernel_array(point_mass_kg, dtype=float)
     z = np.asarray(scores, dtype=float)
     f, inv = _prepare_kernel(raw)
-    z_grp = np.ascontiguousarray(np.broadcast_to(z, (raw.shape[0], raw.shape[-1])))
+    z_grp = _kernel_array(np.broadcast_to(z, (raw.shape[0], raw.shape[-1])))
     return PreparedMasses(z, (f, z_grp, inv))
 
 
@@ -803,8 +809,8 @@ def share_of_days(mass_kg, point_mass_kg, scores, weight):
     """
     f, z, inv, rows = _prepared(point_mass_kg, scores)
     m = np.asarray(mass_kg, dtype=float)
-    s = _shares_kernel(f, inv, z, rows, np.ascontiguousarray(weight, dtype=float),
-                       np.ascontiguousarray(m.reshape(m.shape[0], -1)))
+    s = _shares_kernel(f, inv, z, rows, _kernel_array(weight, dtype=float),
+                       _kernel_array(m.reshape(m.shape[0], -1)))
     return s.reshape(m.shape)
 
 
@@ -883,14 +889,14 @@ def reliability_masses(point_mass_kg, scores, weight, oew_kg, mtow_kg, *,
     """
     f, z, inv, rows = _prepared(point_mass_kg, scores)
     n_groups, n_pts = rows.size, f.shape[1]
-    w = np.ascontiguousarray(weight, dtype=float)
-    oew = np.ascontiguousarray(oew_kg, dtype=float)
-    mtow = np.ascontiguousarray(mtow_kg, dtype=float)
-    target = mtow if target_mass_kg is None else np.ascontiguousarray(target_mass_kg, dtype=float)
-    p = np.ascontiguousarray(levels, dtype=float)
+    w = _kernel_array(weight, dtype=float)
+    oew = _kernel_array(oew_kg, dtype=float)
+    mtow = _kernel_array(mtow_kg, dtype=float)
+    target = mtow if target_mass_kg is None else _kernel_array(target_mass_kg, dtype=float)
+    p = _kernel_array(levels, dtype=float)
     zq = special.ndtri(np.clip(p, 1e-9, 1.0 - 1e-9))
     lost = (np.full((n_groups, n_pts), -1, dtype=np.int64) if lost_reason is None
-            else np.ascontiguousarray(lost_reason, dtype=np.int64))
+            else _kernel_array(lost_reason, np.int64))
     codes = np.array([limits.code("crosswind_limit"), limits.code("tailwind_limit"),
                       limits.code("no_takeoff")], dtype=np.int64)
     mass, reason, point, score, share_target, s_oew, estimate, score_slope = _levels_kernel(
@@ -948,8 +954,8 @@ def level_crossings(point_mass_kg, scores, weight, mass_kg):
        of a random variable) [from memory for the section numbers].
     """
     f, z, inv, rows = _prepared(point_mass_kg, scores)
-    return _crossings_kernel(f, inv, z, rows, np.ascontiguousarray(weight, dtype=float),
-                             np.ascontiguousarray(mass_kg, dtype=float))
+    return _crossings_kernel(f, inv, z, rows, _kernel_array(weight, dtype=float),
+                             _kernel_array(mass_kg, dtype=float))
 
 
 @dataclass(frozen=True)
@@ -1031,15 +1037,15 @@ def refinement_samples(point_mass_kg, scores, weight, mass_kg, order_key, count,
     """
     f, z_seg, inv, rows = _prepared(point_mass_kg, scores)
     n_rows, n_pts, n_nodes = rows.size, f.shape[1], f.shape[2]
-    z = np.ascontiguousarray(np.broadcast_to(np.asarray(scores, dtype=float), (n_rows, n_nodes)))
+    z = _kernel_array(np.broadcast_to(np.asarray(scores, dtype=float), (n_rows, n_nodes)))
     key = np.asarray(order_key, dtype=float)
     per_node = key.ndim == 3
-    key = np.ascontiguousarray(key if per_node else key[..., None])
+    key = _kernel_array(key if per_node else key[..., None])
     has_risk = risk_kg is not None
-    risk = np.ascontiguousarray(risk_kg, dtype=float) if has_risk else np.zeros((n_rows, n_pts, 1))
+    risk = _kernel_array(risk_kg, dtype=float) if has_risk else np.zeros((n_rows, n_pts, 1))
     point, score, slope, share, total, risk_row = _samples_kernel(
-        f, inv, z_seg, rows, np.ascontiguousarray(weight, dtype=float),
-        np.ascontiguousarray(mass_kg, dtype=float), z, key, per_node, max(1, int(count)), risk, has_risk)
+        f, inv, z_seg, rows, _kernel_array(weight, dtype=float),
+        _kernel_array(mass_kg, dtype=float), z, key, per_node, max(1, int(count)), risk, has_risk)
     return RefinementSamples(point=point, score=score, slope_kg=slope, stratum_density_per_kg=share,
                              density_per_kg=total, risk_kg=risk_row)
 
