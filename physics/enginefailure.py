@@ -454,7 +454,7 @@ class GroundRegime:
             self._a2p = a2.take(i)
             # the closed form above the kink where the cubic of a = 0 has one real root
             self._closed = (self._a0n < 0.0) & (self._a2p < 0.0) & (self._p_m > 0.0)
-            self._root = None  # groundrun.CubicRoot of the closed cases, on first use
+            self._root = None  # groundrun.CubicRoot of the propeller cases, on first use
 
     def distance_m(self, v_from, v_to):
         """Ground distance between two true airspeeds (NaN where not reachable).
@@ -479,47 +479,56 @@ class GroundRegime:
         ----------
         .. [1] Raymer, §17.8; see :mod:`physics.groundrun`. .. [2] Trefethen (2008).
         """
-        from fieldlimits.physics import groundrun
+        args = self.__dict__.get("_distance_args")
+        if args is None:
+            args = self._distance_args = self._kernel_terms()
+        n = self.w.shape
+        v_from, v_to = groundrun._kernel_args([_as_shape(v_from, n), _as_shape(v_to, n)], n)
+        s = np.empty(n)
+        _regime_distance(v_from, v_to, *args, s)
+        gl = self.__dict__.get("_gauss_legendre")
+        if gl is not None and gl.size:
+            # propeller cases above the kink without the closed form: Gauss–Legendre
+            i, k = self.prop.take(gl), gl
+            g_from, g_to = np.maximum(v_from.take(i), self.kink.take(i)), np.maximum(v_to.take(i), self.kink.take(i))
+            s[i] += groundrun._propeller_power_piece(self._p_m.take(k), -self._a2p.take(k), -self._a0n.take(k), g_from,
+                                                     g_to, self.w.take(i), PROPELLER_NODES)[0]
+        return s
 
+    def _kernel_terms(self):
+        """The regime's constants for :func:`_regime_distance`: each case's form and roots of
+        a(V) for V ≥ 0, of the reverse-flow a(V) below 0 (tailwind cases), and above the
+        propeller kink (the cubic's root; Gauss–Legendre where that form does not apply)."""
         a0, a1, a2 = self.coeffs
-        v_from = np.broadcast_to(np.asarray(v_from, dtype=float), self.w.shape)
-        v_to = np.broadcast_to(np.asarray(v_to, dtype=float), self.w.shape)
-        c_from, c_to = np.minimum(v_from, self.kink), np.minimum(v_to, self.kink)
+        n = self.w.shape
         if self._forward is None:  # roots of a(V) for V ≥ 0, once for every segment of the regime
             self._forward = groundrun.QuadraticSegments(a0, a1, a2, self.w)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            if self.a2_reverse is None:
-                s = np.array(self._forward.integrals(c_from, c_to)[0], dtype=float)
-            else:
-                s = np.array(self._forward.integrals(np.maximum(c_from, 0.0), np.maximum(c_to, 0.0))[0], dtype=float)
-                # the part below V = 0 (reverse-flow drag) of the tailwind cases, where a segment
-                # crosses it (a case whose segment does not adds an exact zero)
-                t = self.tail
-                r_from, r_to = np.minimum(c_from.take(t), 0.0), np.minimum(c_to.take(t), 0.0)
-                if np.any(np.minimum(r_from, r_to) < 0.0):
-                    if self._reverse is None:  # once for every segment of the regime
-                        self._reverse = groundrun.QuadraticSegments(a0.take(t), a1.take(t), self.a2_reverse.take(t),
-                                                                    self.w.take(t))
-                    s[t] += self._reverse.integrals(r_from, r_to)[0]
+        fw = self._forward
+        t = self.tail
+        reverse_at = np.full(n, -1, dtype=np.intp)
+        if self.a2_reverse is not None and t.size:
+            if self._reverse is None:
+                self._reverse = groundrun.QuadraticSegments(a0.take(t), a1.take(t), self.a2_reverse.take(t),
+                                                            self.w.take(t))
+            rv = self._reverse
+            reverse_at[t] = np.arange(t.size)
+            rev = (rv.a0, rv.a1, rv.a2, rv.w, rv.form, *rv.k)
+        else:
+            rev = (*(np.zeros(0),) * 4, np.zeros(0, dtype=np.int8), *(np.zeros(0),) * 3)
+        prop_at = np.full(n, -1, dtype=np.intp)
+        closed = np.zeros(0, dtype=np.bool_)
+        prop_terms = (np.zeros(0),) * 7
         if self.prop.size:
-            i = self.prop
-            g_from, g_to = np.maximum(v_from[i], self.kink[i]), np.maximum(v_to[i], self.kink[i])
-            pm, a0n, a2p, w = self._p_m, self._a0n, self._a2p, self.w[i]
-            closed_all = self._closed.all()
-            if self._root is None:  # a(V) is the same for every piece of this regime
-                c = slice(None) if closed_all else np.flatnonzero(self._closed)
-                self._root = groundrun._cubic_root(pm[c], -a2p[c], -a0n[c])
-            if closed_all:
-                part = groundrun._propeller_power_closed(pm, -a2p, -a0n, g_from, g_to, w, self._root)[0]
-            else:
-                part = np.empty(i.size)
-                c, gl = np.flatnonzero(self._closed), np.flatnonzero(~self._closed)
-                part[c] = groundrun._propeller_power_closed(pm[c], -a2p[c], -a0n[c], g_from[c], g_to[c], w[c],
-                                                            self._root)[0]
-                part[gl] = groundrun._propeller_power_piece(pm[gl], -a2p[gl], -a0n[gl], g_from[gl], g_to[gl], w[gl],
-                                                            PROPELLER_NODES)[0]
-            s[i] += part
-        return s
+            prop_at[self.prop] = np.arange(self.prop.size)
+            closed = np.ascontiguousarray(self._closed, dtype=np.bool_)
+            pm, c2, c0 = self._p_m, -self._a2p, -self._a0n
+            if self._root is None:  # the cubic's root of every propeller case (used where the form applies)
+                self._root = groundrun._cubic_root(pm, c2, c0)
+            prop_terms = tuple(groundrun._kernel_args([np.asarray(x, dtype=float) for x in (pm, c2, c0, *self._root)],
+                                                      pm.shape))
+            self._gauss_legendre = np.flatnonzero(~closed)
+        return (*groundrun._kernel_args([_as_shape(self.kink, n)], n), self.a2_reverse is not None,
+                fw.a0, fw.a1, fw.a2, fw.w, fw.form, *fw.k, reverse_at, *rev, prop_at, closed, *prop_terms)
 
     def take(self, index):
         """The regime for a subset of the cases (``index``: integer array)."""
@@ -546,15 +555,7 @@ class GroundRegime:
             local = (np.cumsum(is_prop) - 1)[np.asarray(index)[sub_prop]]
             new._p_m, new._a0n, new._a2p = self._p_m[local], self._a0n[local], self._a2p[local]
             new._closed = self._closed[local]
-            new._root = None
-            if self._root is not None:
-                closed = np.flatnonzero(self._closed)
-                if closed.size == self._closed.size:
-                    new._root = type(self._root)(*(np.asarray(x)[local] for x in self._root))
-                elif new._closed.all():
-                    where = np.full(self._closed.size, -1)
-                    where[closed] = np.arange(closed.size)
-                    new._root = type(self._root)(*(np.asarray(x)[where[local]] for x in self._root))
+            new._root = None if self._root is None else type(self._root)(*(x.take(local) for x in self._root))
         return new
 
     def acceleration(self, v, slope=False):
@@ -614,6 +615,33 @@ def _regime_acceleration(v, a0, a1, a2, kink, a2_reverse, prop, p_m, a0n, a2p, o
         if vj > kink[j]:
             out[j] = p_m[k] / vj + a0n[k] + a2p[k] * vj * vj
             d_out[j] = -p_m[k] / (vj * vj) + 2.0 * a2p[k] * vj
+
+
+@kernel
+def _regime_distance(v_from, v_to, kink, split, fa0, fa1, fa2, fw, fform, fk0, fk1, fk2, reverse_at, ra0, ra1, ra2,
+                     rw, rform, rk0, rk1, rk2, prop_at, closed, pm, c2, c0, r, p, d_inv, e, out):
+    """Ground distance of a :class:`GroundRegime` between two airspeeds per case, in place:
+    the closed form below the propeller kink (split at V = 0 where the regime has tailwind
+    cases: reverse-flow drag below it) and the propeller piece above it where its closed
+    form applies (the others are added afterwards by Gauss–Legendre)."""
+    for j in range(v_from.shape[0]):
+        c_from, c_to = min(v_from[j], kink[j]), min(v_to[j], kink[j])
+        if split:
+            s = groundrun._segment_one(fa0[j], fa1[j], fa2[j], fw[j], fform[j], fk0[j], fk1[j], fk2[j],
+                                       max(c_from, 0.0), max(c_to, 0.0))[0]
+            i = reverse_at[j]
+            r_from, r_to = min(c_from, 0.0), min(c_to, 0.0)
+            if i >= 0 and min(r_from, r_to) < 0.0:
+                s += groundrun._segment_one(ra0[i], ra1[i], ra2[i], rw[i], rform[i], rk0[i], rk1[i], rk2[i],
+                                            r_from, r_to)[0]
+        else:
+            s = groundrun._segment_one(fa0[j], fa1[j], fa2[j], fw[j], fform[j], fk0[j], fk1[j], fk2[j], c_from,
+                                       c_to)[0]
+        k = prop_at[j]
+        if k >= 0 and closed[k]:
+            s += groundrun._propeller_one(pm[k], c2[k], c0[k], max(v_from[j], kink[j]), max(v_to[j], kink[j]),
+                                          fw[j], r[k], p[k], d_inv[k], e[k])[0]
+        out[j] = s
 
 
 class _DeferredRegime:

@@ -221,53 +221,57 @@ def _segment_forms(a0, a1, a2, form, k0, k1, k2):
 
 
 @kernel
+def _segment_one(a_0, a_1, a_2, w_j, form, k0, k1, k2, v_i, v_f):
+    """∫(V − w)/a dV and ∫dV/a from v_i to v_f for one case of :class:`QuadraticSegments`
+    (its coefficients, form and constants). Returns (distance, time)."""
+    dv = v_f - v_i
+    a_i = a_0 + (a_1 + a_2 * v_i) * v_i
+    if form == FORM_REAL:
+        # written to stay exact as a2 → 0: (r1 − w) ln((vf − r1)/(vi − r1)) through log1p
+        sq, q, r2 = k0, k1, k2
+        inv_sq = 1.0 / sq
+        u = dv / (a_2 * v_i - q)
+        x1 = a_2 * u
+        log1 = np.log1p(x1)
+        ratio = 1.0 - x1 * (0.5 - x1 / 3.0) if abs(x1) < 1e-5 else log1 / x1
+        term1 = (q - a_2 * w_j) * ratio * u
+        log2 = np.log1p(dv / (v_i - r2))
+        d = ((r2 - w_j) * log2 - term1) * inv_sq
+        t = (log2 - log1) * inv_sq
+    else:
+        vmax = max(abs(v_i), abs(v_f))
+        if (abs(a_1) + abs(a_2) * vmax) * vmax <= 1e-13 * abs(a_0):  # constant acceleration
+            d = dv * (v_f + v_i - 2.0 * w_j) / (2.0 * a_0)
+            t = dv / a_0
+        elif form == FORM_DOUBLE:  # a = a2 (V − r)²
+            r = -a_1 / (2.0 * a_2)
+            inv = 1.0 / (v_i - r) - 1.0 / (v_f - r)
+            d = (np.log((v_f - r) / (v_i - r)) + (r - w_j) * inv) / a_2
+            t = inv / a_2
+        else:  # complex roots ([3] 2.172, the atan difference written with atan2, exact branch)
+            sd = k0
+            two_a2 = 2.0 * a_2
+            x = (two_a2 * v_f + a_1) / sd
+            y = (two_a2 * v_i + a_1) / sd
+            t = 2.0 / sd * np.arctan2(two_a2 * dv / sd, 1.0 + x * y)
+            ln = np.log1p(dv * (a_1 + a_2 * (v_f + v_i)) / a_i)
+            d = (ln - (two_a2 * w_j + a_1) * t) / two_a2
+    # a(vi) with the sign of vf − vi (dv·ai cannot underflow for speeds and accelerations);
+    # a root inside the segment makes a logarithm's argument negative: NaN or ±inf
+    if not (dv * a_i > 0.0 and np.isfinite(d)):
+        d = np.nan
+        t = np.nan
+    if dv == 0.0:
+        d = 0.0
+        t = 0.0
+    return d, t
+
+
+@kernel
 def _segment_integrals(a0, a1, a2, w, form, k0, k1, k2, vi, vf, dist, time):
     """∫(V − w)/a dV and ∫dV/a from vi to vf per case (:meth:`QuadraticSegments.integrals`)."""
     for j in range(a0.shape[0]):
-        v_i, v_f = vi[j], vf[j]
-        dv = v_f - v_i
-        a_0, a_1, a_2, w_j = a0[j], a1[j], a2[j], w[j]
-        a_i = a_0 + (a_1 + a_2 * v_i) * v_i
-        if form[j] == FORM_REAL:
-            # written to stay exact as a2 → 0: (r1 − w) ln((vf − r1)/(vi − r1)) through log1p
-            sq, q, r2 = k0[j], k1[j], k2[j]
-            inv_sq = 1.0 / sq
-            u = dv / (a_2 * v_i - q)
-            x1 = a_2 * u
-            log1 = np.log1p(x1)
-            ratio = 1.0 - x1 * (0.5 - x1 / 3.0) if abs(x1) < 1e-5 else log1 / x1
-            term1 = (q - a_2 * w_j) * ratio * u
-            log2 = np.log1p(dv / (v_i - r2))
-            d = ((r2 - w_j) * log2 - term1) * inv_sq
-            t = (log2 - log1) * inv_sq
-        else:
-            vmax = max(abs(v_i), abs(v_f))
-            if (abs(a_1) + abs(a_2) * vmax) * vmax <= 1e-13 * abs(a_0):  # constant acceleration
-                d = dv * (v_f + v_i - 2.0 * w_j) / (2.0 * a_0)
-                t = dv / a_0
-            elif form[j] == FORM_DOUBLE:  # a = a2 (V − r)²
-                r = -a_1 / (2.0 * a_2)
-                inv = 1.0 / (v_i - r) - 1.0 / (v_f - r)
-                d = (np.log((v_f - r) / (v_i - r)) + (r - w_j) * inv) / a_2
-                t = inv / a_2
-            else:  # complex roots ([3] 2.172, the atan difference written with atan2, exact branch)
-                sd = k0[j]
-                two_a2 = 2.0 * a_2
-                x = (two_a2 * v_f + a_1) / sd
-                y = (two_a2 * v_i + a_1) / sd
-                t = 2.0 / sd * np.arctan2(two_a2 * dv / sd, 1.0 + x * y)
-                ln = np.log1p(dv * (a_1 + a_2 * (v_f + v_i)) / a_i)
-                d = (ln - (two_a2 * w_j + a_1) * t) / two_a2
-        # a(vi) with the sign of vf − vi (dv·ai cannot underflow for speeds and accelerations);
-        # a root inside the segment makes a logarithm's argument negative: NaN or ±inf
-        if not (dv * a_i > 0.0 and np.isfinite(d)):
-            d = np.nan
-            t = np.nan
-        if dv == 0.0:
-            d = 0.0
-            t = 0.0
-        dist[j] = d
-        time[j] = t
+        dist[j], time[j] = _segment_one(a0[j], a1[j], a2[j], w[j], form[j], k0[j], k1[j], k2[j], vi[j], vf[j])
 
 
 class QuadraticSegments:
@@ -633,29 +637,34 @@ def _propeller_power_closed(pm, c2, c0, v0, v1, w, root=None):
 
 
 @kernel
+def _propeller_one(pm, c2, c0, v_0, v_1, w, r, p, d_inv, e):
+    """One case of :func:`_propeller_power_closed` (its cubic's root and constants).
+    Returns (distance, time)."""
+    r2 = r * r
+    dv = v_1 - v_0
+    l1 = np.log1p(-dv / (r - v_0))
+    l2 = np.log1p(dv * (v_1 + v_0 + r) / (v_0 * (v_0 + r) + r2 + p))
+    x = (2.0 * v_1 + r) / e
+    y = (2.0 * v_0 + r) / e
+    theta = (2.0 / e) * np.arctan2(2.0 * dv / e, 1.0 + x * y)
+    i1 = (r * (l1 - 0.5 * l2) + (1.5 * r2 + p) * theta) * d_inv
+    i2 = (r2 * l1 + (r2 + 0.5 * p) * l2 + 0.5 * r * p * theta) * d_inv
+    t = -i1 / c2
+    d = -(i2 - w * i1) / c2
+    if dv == 0.0:
+        d = 0.0
+        t = 0.0
+    elif not (dv * (pm / v_1 - c2 * v_1 * v_1 - c0) > 0.0 and np.isfinite(d) and np.isfinite(t)):
+        d = np.nan
+        t = np.nan
+    return d, t
+
+
+@kernel
 def _propeller_pieces(pm, c2, c0, v0, v1, w, r, p, d_inv, e, dist, time):
     """The pieces of :func:`_propeller_power_closed`, one case at a time, in place."""
     for j in range(dist.shape[0]):
-        rj, pj, ej, v_0, v_1 = r[j], p[j], e[j], v0[j], v1[j]
-        r2 = rj * rj
-        dv = v_1 - v_0
-        l1 = np.log1p(-dv / (rj - v_0))
-        l2 = np.log1p(dv * (v_1 + v_0 + rj) / (v_0 * (v_0 + rj) + r2 + pj))
-        x = (2.0 * v_1 + rj) / ej
-        y = (2.0 * v_0 + rj) / ej
-        theta = (2.0 / ej) * np.arctan2(2.0 * dv / ej, 1.0 + x * y)
-        i1 = (rj * (l1 - 0.5 * l2) + (1.5 * r2 + pj) * theta) * d_inv[j]
-        i2 = (r2 * l1 + (r2 + 0.5 * pj) * l2 + 0.5 * rj * pj * theta) * d_inv[j]
-        t = -i1 / c2[j]
-        d = -(i2 - w[j] * i1) / c2[j]
-        if dv == 0.0:
-            d = 0.0
-            t = 0.0
-        elif not (dv * (pm[j] / v_1 - c2[j] * v_1 * v_1 - c0[j]) > 0.0 and np.isfinite(d) and np.isfinite(t)):
-            d = np.nan
-            t = np.nan
-        dist[j] = d
-        time[j] = t
+        dist[j], time[j] = _propeller_one(pm[j], c2[j], c0[j], v0[j], v1[j], w[j], r[j], p[j], d_inv[j], e[j])
 
 
 def _propeller_power_piece(pm, c2, c0, v0, v1, w, nodes):
