@@ -197,27 +197,27 @@ FORM_REAL, FORM_COMPLEX, FORM_DOUBLE = 0, 1, 2
 
 
 @kernel
+def _form_one(a_0, a_1, a_2):
+    """Form and constants (k0, k1, k2) of one case's a(V) (:class:`QuadraticSegments`)."""
+    a1sq = a_1 * a_1
+    four_a0a2 = 4.0 * a_0 * a_2
+    disc = a1sq - four_a0a2
+    # the real-root form is singular or ill-conditioned here (double root, constant
+    # acceleration), or does not apply (complex roots)
+    if disc <= 1e-12 * (a1sq + abs(four_a0a2)):  # includes every disc < 0
+        form = FORM_DOUBLE if abs(disc) <= 1e-12 * (a1sq + abs(four_a0a2)) else FORM_COMPLEX
+        return form, np.sqrt(abs(disc)), 0.0, 0.0
+    # a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q, a2 (r1 − r2) = −sq
+    sq = math.copysign(np.sqrt(max(disc, 0.0)), a_1)
+    q = -0.5 * (a_1 + sq)
+    return FORM_REAL, sq, q, a_0 / q
+
+
+@kernel
 def _segment_forms(a0, a1, a2, form, k0, k1, k2):
     """Form and constants of each case's a(V) (:class:`QuadraticSegments`), in place."""
     for j in range(a0.shape[0]):
-        a1sq = a1[j] * a1[j]
-        four_a0a2 = 4.0 * a0[j] * a2[j]
-        disc = a1sq - four_a0a2
-        # the real-root form is singular or ill-conditioned here (double root, constant
-        # acceleration), or does not apply (complex roots)
-        if disc <= 1e-12 * (a1sq + abs(four_a0a2)):  # includes every disc < 0
-            form[j] = FORM_DOUBLE if abs(disc) <= 1e-12 * (a1sq + abs(four_a0a2)) else FORM_COMPLEX
-            k0[j] = np.sqrt(abs(disc))
-            k1[j] = 0.0
-            k2[j] = 0.0
-        else:
-            # a = a2 (V − r1)(V − r2), r1 = q/a2 (may be → ∞), r2 = a0/q, a2 (r1 − r2) = −sq
-            form[j] = FORM_REAL
-            sq = math.copysign(np.sqrt(max(disc, 0.0)), a1[j])
-            q = -0.5 * (a1[j] + sq)
-            k0[j] = sq
-            k1[j] = q
-            k2[j] = a0[j] / q
+        form[j], k0[j], k1[j], k2[j] = _form_one(a0[j], a1[j], a2[j])
 
 
 @kernel
@@ -583,22 +583,25 @@ def _cubic_root(pm, c2, c0):
 
 
 @kernel
-def _cubic_roots(pm, c2, c0, r_out, p_out, d_inv_out, e_out):
+def _cubic_one(pm, c2, c0):
     """The root r of V³ + p V + q (p = c0/c2, q = −pm/c2) by Cardano's formula in the form
-    r = u − p/(3u), then two Newton steps; with 1/(3r² + p) and √(3r² + 4p), in place."""
-    for j in range(pm.shape[0]):
-        p = c0[j] / c2[j]
-        q = -pm[j] / c2[j]
-        u = np.cbrt(-0.5 * q + np.sqrt(0.25 * q * q + p * p * p / 27.0))
-        r = u - p / (3.0 * u)
-        for _ in range(2):  # Newton on r³ + p r + q
-            r2 = r * r
-            r = r - (r * (r2 + p) + q) / (3.0 * r2 + p)
+    r = u − p/(3u), then two Newton steps; returns (r, p, 1/(3r² + p), √(3r² + 4p))."""
+    p = c0 / c2
+    q = -pm / c2
+    u = np.cbrt(-0.5 * q + np.sqrt(0.25 * q * q + p * p * p / 27.0))
+    r = u - p / (3.0 * u)
+    for _ in range(2):  # Newton on r³ + p r + q
         r2 = r * r
-        r_out[j] = r
-        p_out[j] = p
-        d_inv_out[j] = 1.0 / (3.0 * r2 + p)
-        e_out[j] = np.sqrt(3.0 * r2 + 4.0 * p)
+        r = r - (r * (r2 + p) + q) / (3.0 * r2 + p)
+    r2 = r * r
+    return r, p, 1.0 / (3.0 * r2 + p), np.sqrt(3.0 * r2 + 4.0 * p)
+
+
+@kernel
+def _cubic_roots(pm, c2, c0, r_out, p_out, d_inv_out, e_out):
+    """:func:`_cubic_one` for each case, in place."""
+    for j in range(pm.shape[0]):
+        r_out[j], p_out[j], d_inv_out[j], e_out[j] = _cubic_one(pm[j], c2[j], c0[j])
 
 
 def _propeller_power_closed(pm, c2, c0, v0, v1, w, root=None):
@@ -1082,72 +1085,112 @@ def ground_run_from_terms(terms, *, mass_kg, v_lof_mps, headwind_mps=0.0, nodes=
     law = terms.law
     n1 = terms.valid.shape
     m, vlof, w = (np.broadcast_to(np.atleast_1d(_f(x)), n1) for x in (mass_kg, v_lof_mps, headwind_mps))
-    inv_m = 1.0 / m
-    drag = terms.drag_term_kg_m
-    t2 = law.t2_n_per_mps2
-    a0 = law.t0_n * inv_m - terms.resistance_mps2
-    a1 = law.t1_n_per_mps * inv_m
-    a2 = (t2 - drag) * inv_m
-    a2r = (t2 + drag) * inv_m if np.any(w < 0.0) else None
-    vk = terms.kink_mps
-    v_first = np.maximum(np.minimum(vlof, vk), w)  # polynomial cases: vk = inf → whole run
-    dist, time = _split_at_zero(a0, a1, a2, a2r, w, v_first, w)
-    valid = terms.valid & (m > 0)
-    reason = np.where(np.isnan(dist), REASON_NO_ACCELERATION, REASON_OK)
-    if not np.all(valid):
-        reason = np.where(valid, reason, REASON_INVALID)
-        dist = np.where(valid, dist, np.nan)
-        time = np.where(valid, time, np.nan)
-    prop = law.is_propeller & (vk < vlof) & (w < vlof) & (reason == REASON_OK)
-    if np.any(prop):
-        idx = np.nonzero(prop)[0]
-        # Above the kink V ≥ V_k > 0: T = P_eta/V exactly and V|V| = V², so
-        # a(V) = P_eta/(m V) − c2 V² − c0 (the general acceleration_function, specialised).
-        inv_mi = inv_m.take(idx)
-        pm = law.propeller_power_w.take(idx) * inv_mi
+    t0, t1, t2, power, drag, resistance, kink, m, vlof, w = _kernel_args(
+        [_f(x) for x in (law.t0_n, law.t1_n_per_mps, law.t2_n_per_mps2, law.propeller_power_w,
+                         terms.drag_term_kg_m, terms.resistance_mps2, terms.kink_mps, m, vlof, w)], n1)
+    is_prop, valid = (np.ascontiguousarray(np.broadcast_to(x, n1), dtype=np.bool_).reshape(-1)
+                      for x in (law.is_propeller, terms.valid))
+    dist, time = np.empty(m.shape), np.empty(m.shape)
+    reason, rest = np.empty(m.shape, dtype=np.int64), np.empty(m.shape, dtype=np.intp)
+    n_rest = _ground_run_pass(t0, t1, t2, power, is_prop, drag, resistance, kink, valid, m, vlof, w, nodes is None,
+                              dist, time, reason, rest)
+    if n_rest:
+        # propeller cases above the kink without the closed form (or all of them when nodes
+        # are given): Gauss–Legendre
+        idx = rest[:n_rest]
+        inv_mi = 1.0 / m.take(idx)
+        pm = power.take(idx) * inv_mi
         c2 = drag.take(idx) * inv_mi
-        c0 = terms.resistance_mps2.take(idx)
-        v0 = np.maximum(vk.take(idx), w.take(idx))
+        c0 = resistance.take(idx)
+        v0 = np.maximum(kink.take(idx), w.take(idx))
         v1 = vlof.take(idx)
         wi = w.take(idx)
-        s2 = np.empty(idx.size)
-        t2p = np.empty(idx.size)
-        # closed form where the cubic of a(V) = 0 has one real root (friction and drag
-        # positive, the usual case); Gauss–Legendre elsewhere and when nodes are given
-        if nodes is None:
-            closed = (c0 > 0.0) & (c2 > 0.0) & (pm > 0.0)
-            if closed.all():
-                s2, t2p = _propeller_power_closed(pm, c2, c0, v0, v1, wi)
-                rest = np.empty(0, dtype=np.intp)
-            else:
-                jc = np.flatnonzero(closed)
-                s2[jc], t2p[jc] = _propeller_power_closed(pm.take(jc), c2.take(jc), c0.take(jc), v0.take(jc),
-                                                          v1.take(jc), wi.take(jc))
-                rest = np.flatnonzero(~closed)
+        if nodes is None:  # per case, from the acceleration ratio over the piece
+            a_start = pm / v0 - c2 * v0 * v0 - c0
+            a_end = pm / v1 - c2 * v1 * v1 - c0
+            per_case = nodes_for_ratio(a_end / a_start)
         else:
-            rest = np.arange(idx.size)
-        if rest.size:
-            pmr, c2r, c0r, v0r, v1r = (x.take(rest) for x in (pm, c2, c0, v0, v1))
-            if nodes is None:  # per case, from the acceleration ratio over the piece
-                a_start = pmr / v0r - c2r * v0r * v0r - c0r
-                a_end = pmr / v1r - c2r * v1r * v1r - c0r
-                per_case = nodes_for_ratio(a_end / a_start)
-            else:
-                per_case = np.full(rest.size, int(nodes))
-            # a few node counts, not a loop over cases (bincount: np.unique sorts or hashes,
-            # many times slower on this small set of values)
-            for k in np.flatnonzero(np.bincount(per_case)):
-                j = np.flatnonzero(per_case == k)
-                jr = rest.take(j)
-                s2[jr], t2p[jr] = _propeller_power_piece(pmr.take(j), c2r.take(j), c0r.take(j), v0r.take(j),
-                                                         v1r.take(j), wi.take(jr), int(k))
-        dist = np.array(dist)
-        time = np.array(time)
-        reason = np.array(reason)
+            per_case = np.full(idx.size, int(nodes))
+        s2, t2p = np.empty(idx.size), np.empty(idx.size)
+        # a few node counts, not a loop over cases (bincount: np.unique sorts or hashes,
+        # many times slower on this small set of values)
+        for k in np.flatnonzero(np.bincount(per_case)):
+            j = np.flatnonzero(per_case == k)
+            s2[j], t2p[j] = _propeller_power_piece(pm.take(j), c2.take(j), c0.take(j), v0.take(j), v1.take(j),
+                                                   wi.take(j), int(k))
         dist[idx] += s2
         time[idx] += t2p
-        reason[idx] = np.where(np.isnan(s2), REASON_NO_ACCELERATION, reason[idx])
-    return GroundRun(dist, time, reason)
+        reason[idx] = np.where(np.isnan(s2), REASON_NO_ACCELERATION, reason.take(idx))
+    return GroundRun(dist.reshape(n1), time.reshape(n1), reason.reshape(n1))
+
+
+@kernel
+def _nan_min(x, y):
+    """np.minimum of two floats (NaN if either is NaN)."""
+    if x != x or y != y:
+        return x + y
+    return x if x < y else y
+
+
+@kernel
+def _nan_max(x, y):
+    """np.maximum of two floats (NaN if either is NaN)."""
+    if x != x or y != y:
+        return x + y
+    return x if x > y else y
+
+
+@kernel
+def _ground_run_pass(t0, t1, t2, power, is_prop, drag, resistance, kink, valid, m, vlof, w, closed_form, dist, time,
+                     reason, rest):
+    """:func:`ground_run_from_terms` in one pass per case, in place: a(V) from the terms, its
+    form and constants (:func:`_form_one`), the closed form from rest to the propeller kink
+    (or lift-off), split at V = 0 for a tailwind (reverse-flow drag below it), the reason,
+    and above the kink the propeller piece in closed form where its cubic has one real root
+    (``closed_form``). The propeller cases left for Gauss–Legendre are written to ``rest``;
+    returns their number."""
+    n_rest = 0
+    for j in range(m.shape[0]):
+        inv_m = 1.0 / m[j]
+        a0 = t0[j] * inv_m - resistance[j]
+        a1 = t1[j] * inv_m
+        a2 = (t2[j] - drag[j]) * inv_m
+        wj = w[j]
+        vk = kink[j]
+        v_first = _nan_max(_nan_min(vlof[j], vk), wj)  # polynomial cases: vk = inf → whole run
+        form, k0, k1, k2 = _form_one(a0, a1, a2)
+        if wj < 0.0:  # from rest at V = w < 0: reverse flow up to V = 0
+            d, t = _segment_one(a0, a1, a2, wj, form, k0, k1, k2, 0.0, _nan_max(v_first, 0.0))
+            a2r = (t2[j] + drag[j]) * inv_m
+            rform, r0, r1, r2 = _form_one(a0, a1, a2r)
+            dr, tr = _segment_one(a0, a1, a2r, wj, rform, r0, r1, r2, wj, _nan_min(v_first, 0.0))
+            d += dr
+            t += tr
+        else:
+            d, t = _segment_one(a0, a1, a2, wj, form, k0, k1, k2, wj, v_first)
+        code = REASON_NO_ACCELERATION if d != d else REASON_OK
+        if not (valid[j] and m[j] > 0.0):
+            code = REASON_INVALID
+            d = np.nan
+            t = np.nan
+        if is_prop[j] and vk < vlof[j] and wj < vlof[j] and code == REASON_OK:
+            pm = power[j] * inv_m
+            c2 = drag[j] * inv_m
+            c0 = resistance[j]
+            if closed_form and c0 > 0.0 and c2 > 0.0 and pm > 0.0:
+                r, p, d_inv, e = _cubic_one(pm, c2, c0)
+                dp, tp = _propeller_one(pm, c2, c0, _nan_max(vk, wj), vlof[j], wj, r, p, d_inv, e)
+                d += dp
+                t += tp
+                if dp != dp:
+                    code = REASON_NO_ACCELERATION
+            else:
+                rest[n_rest] = j
+                n_rest += 1
+        dist[j] = d
+        time[j] = t
+        reason[j] = code
+    return n_rest
 
 
 def ground_run_for_thrust_law(thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, v_lof_mps,

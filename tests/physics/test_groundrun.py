@@ -183,6 +183,42 @@ def test_propeller_batch_mixing_closed_form_and_gauss_legendre_equals_single_cas
         assert float(single.time_s[0]) == pytest.approx(float(batch.time_s[i]), rel=1e-13)
 
 
+def test_one_pass_ground_run_of_a_mixed_batch_against_time_integration():
+    # ground_run_from_terms is one compiled pass per case (form and roots of a(V), the piece
+    # below the propeller kink split at V = 0 for a tailwind, the propeller piece above it);
+    # on a batch of every thrust model with head- and tailwinds (reverse-flow drag below
+    # V = 0), uphill and downhill, each case against the independent time integration of
+    # m dV/dt = T − D − mu (W cos − L) − W sin (solve_ivp, DOP853); an invalid mass in the
+    # same batch is NaN with its reason and leaves the others alone.
+    from tests.physics import fleet
+    from fieldlimits.physics.weightlimit import prepare_cases
+
+    a, site = fleet.random_cases(400, seed=23)
+    cs = prepare_cases(a, site)
+    mass = 0.5 * (a.oew_kg + a.mtow_kg)
+    mass[7] = -1.0
+    vs = aero.stall_speed_mps(np.abs(mass), cs.density_kg_m3, a.wing_area_m2, a.cl_max_takeoff)
+    vlof = a.vlof_over_vs * vs
+    law = cs.thrust_all_engines
+    terms = gr.ground_run_terms(law, wing_area_m2=a.wing_area_m2, density_kg_m3=cs.density_kg_m3,
+                                cd=cs.cd_ground_roll, cl=a.cl_ground_roll, mu=site.mu_roll, slope=site.slope)
+    res = gr.ground_run_from_terms(terms, mass_kg=mass, v_lof_mps=vlof, headwind_mps=site.headwind_mps)
+    assert np.isnan(res.distance_m[7]) and res.reason[7] == gr.REASON_INVALID
+    rest = np.delete(np.arange(400), 7)
+    assert np.all(np.isfinite(res.distance_m[rest])) and np.all(res.reason[rest] == gr.REASON_OK)
+    tail, prop = site.headwind_mps < 0.0, a.thrust_model == thrust.PROPELLER
+    kinds = [kind & (np.arange(400) != 7) for kind in (tail & prop, tail & ~prop, ~tail & prop, ~tail & ~prop)]
+    sample = [i for kind in kinds for i in np.flatnonzero(kind)[:5]]
+    assert len(sample) == 20
+    for i in sample:
+        one = law.take(np.array([i]))
+        s_ivp, t_ivp = _ivp_ground_run(lambda v: float(one.thrust_n(np.array([v]))[0]), mass[i], a.wing_area_m2[i],
+                                       cs.density_kg_m3[i], cs.cd_ground_roll[i], a.cl_ground_roll[i],
+                                       site.mu_roll[i], vlof[i], site.headwind_mps[i], site.slope[i])
+        assert res.distance_m[i] == pytest.approx(s_ivp, rel=1e-6)
+        assert res.time_s[i] == pytest.approx(t_ivp, rel=1e-6)
+
+
 def _closed_form_reference(a0, a1, a2, w, vi, vf):
     """The closed forms of ∫(V − w)/a dV and ∫dV/a written with numpy over whole arrays (the
     path the compiled kernels of groundrun replace): every form computed for every case,
