@@ -49,7 +49,7 @@ def add_run_options(parser, *, serve: bool = False) -> None:
                         help="runway conditions that get reliability rows, comma separated "
                              "(default dry; dry,wet doubles the cost of the reliability step)")
     parser.add_argument("--chunk-size", type=int, default=None, metavar="N",
-                        help="cases per chunk task (default 64000; whole airfields per chunk)")
+                        help="cases per chunk task (default 48000; whole airfields per chunk)")
     parser.add_argument("--workers", type=int, default=None, metavar="N",
                         help="parallel chunk tasks (default PREFECT_TASKS_RUNNER_THREAD_POOL_MAX_WORKERS, 2); "
                              "with --cluster local: worker processes")
