@@ -644,6 +644,54 @@ def _regime_distance(v_from, v_to, kink, split, fa0, fa1, fa2, fw, fform, fk0, f
         out[j] = s
 
 
+@kernel
+def _timed_slopes(dv1, rec, gap, mid, a_ae, d_ae, vg, a_oo, delay_s, d_act, v_act, w, a_sa, dv_act):
+    """d(pre)/dV_EF and dh/dV_EF of one case of :func:`_timed_newton_step`, for dV1/dV_EF =
+    ``dv1``. Returns (d_pre, dh)."""
+    d_pre = 0.0
+    if rec:
+        d_pre = (0.5 * (1.0 + dv1) * gap + mid * (dv1 - 1.0)) / a_ae - mid * gap * d_ae * dv1 / (a_ae * a_ae)
+    dh = (vg / a_oo + d_pre + delay_s * dv1) + d_act * dv1 - (v_act - w) / a_sa * dv_act * dv1
+    return d_pre, dh
+
+
+@kernel
+def _timed_newton_step(base, so, ss, v_ef, w, v1, v1_raw, t_r, a_oo, d_oo, a_ae, d_ae, a_sa1, a_sa_act, interval,
+                       v_act, act, dv_act, d_act, delay_s, pre_out, dv1_out, d_pre_out, a_sa_out, dh_out, step_out):
+    """One Newton step of the V1 search with the timed events, per case, in place.
+
+    h = C_go − ASDA − S_oei(V_EF → V_LOF) + pre + t_d (V1 − w) + S_actions + S_stop, where
+    pre is the distance over the recognition interval (at the mean ground speed, the
+    all-engines acceleration at V1), V1 = V_EF + a_oei(V_EF) t_r (clipped to [V_EF, VR] by the
+    caller), S_actions the stop actions from V1 and S_stop the full stop from their end.
+    dh/dV_EF through dV1/dV_EF = 1 + a_oei' t_r (exact for the hand pieces); where V1 is held
+    at VR and the step keeps it there, dV1/dV_EF = 0. Writes pre, dV1/dV_EF, d(pre)/dV_EF,
+    the full-stop acceleration at the end of the actions, dh and the step h/dh."""
+    for j in range(v_ef.shape[0]):
+        vi, wi, v1i = v_ef[j], w[j], v1[j]
+        rec = t_r[j] > 0.0
+        gap = v1i - vi
+        mid = 0.5 * ((vi - wi) + (v1i - wi))
+        pre = mid * gap / a_ae[j] if rec else 0.0
+        h = base[j] - so[j] + pre + delay_s * (v1i - wi) + act[j] + ss[j]
+        vg = vi - wi
+        a_sa = a_sa_act[j] if interval[j] > 0.0 else a_sa1[j]
+        dv1 = 1.0 + d_oo[j] * t_r[j] if rec else 1.0
+        d_pre, dh = _timed_slopes(dv1, rec, gap, mid, a_ae[j], d_ae[j], vg, a_oo[j], delay_s, d_act[j], v_act[j], wi,
+                                  a_sa, dv_act[j])
+        # V1 held at VR does not move with V_EF: there h's slope has dV1/dV_EF = 0 (with
+        # 1 + a' t_r Newton only halved h at each step). Taken where the step it gives keeps
+        # V1 at VR; a step out of that narrow band of V_EF takes the slope of the free V1.
+        if v1_raw[j] > v1i:
+            d_pre_h, dh_h = _timed_slopes(0.0, rec, gap, mid, a_ae[j], d_ae[j], vg, a_oo[j], delay_s, d_act[j],
+                                          v_act[j], wi, a_sa, dv_act[j])
+            band = (v1_raw[j] - v1i) / dv1  # how far V_EF falls before V1 leaves VR
+            if h / dh_h < band and dh_h > 0.0:
+                dv1, d_pre, dh = 0.0, d_pre_h, dh_h
+        pre_out[j], dv1_out[j], d_pre_out[j], a_sa_out[j], dh_out[j] = pre, dv1, d_pre, a_sa, dh
+        step_out[j] = h / dh
+
+
 class _DeferredRegime:
     """A :class:`GroundRegime` built on first use (``build()`` makes it): the V1 search of the
     weight solver never needs the engine-failure stop of the idealised sequence."""
@@ -723,18 +771,33 @@ class StopEvents:
         (idle, lift dumpers) accelerations at V1 of the engine state (all engines, or N − 1).
         ``slopes``: their da/dV at V1; then also d(speed)/dV1 and d(distance)/dV1.
         """
-        v1 = np.asarray(v1_mps, dtype=float)
-        v2 = v1 * v1
-        brakes = accel_roll_mps2 - self.friction_step_mps2 + self.friction_lift_kg_m * v2 / self.mass_kg
-        idle = accel_stop_mps2 + self.dumper_kg_m * v2 / self.mass_kg
-        out = takeoffevents.stop_actions(v1, interval_s=self.action_interval_s, accel_brakes_mps2=brakes,
-                                         accel_idle_mps2=idle, headwind_mps=headwind_mps)
-        if slopes is None:
-            return out
-        d_brakes = slopes[0] + 2.0 * self.friction_lift_kg_m * v1 / self.mass_kg
-        d_idle = slopes[1] + 2.0 * self.dumper_kg_m * v1 / self.mass_kg
-        return out + takeoffevents.stop_actions_slope(interval_s=self.action_interval_s, accel_brakes_mps2=brakes,
-                                                      accel_brakes_slope=d_brakes, accel_idle_slope=d_idle)
+        n = np.shape(self.mass_kg)
+        with_slopes = slopes is not None
+        d_roll, d_stop = slopes if with_slopes else (np.zeros(n), np.zeros(n))
+        args = groundrun._kernel_args([_as_shape(np.asarray(x, dtype=float), n) for x in (
+            v1_mps, headwind_mps, accel_roll_mps2, accel_stop_mps2, d_roll, d_stop, self.action_interval_s,
+            self.mass_kg, self.friction_step_mps2, self.friction_lift_kg_m, self.dumper_kg_m)], n)
+        out = tuple(np.empty(args[0].shape) for _ in range(4 if with_slopes else 2))
+        _stop_actions_pass(*args, with_slopes, *out, *(out if not with_slopes else ()))
+        return tuple(x.reshape(n) for x in out)
+
+
+@kernel
+def _stop_actions_pass(v1, w, a_roll, a_stop, d_roll, d_stop, dt, m, f_step, f_lift, dumper, with_slopes, v_out,
+                       s_out, dv_out, ds_out):
+    """:meth:`StopEvents.actions` per case, in place: the braking accelerations at V1 from the
+    roll and stop ones (the friction step and the lift dumpers' terms), then
+    :func:`physics.takeoffevents.stop_actions` and, ``with_slopes``, its slopes in V1."""
+    for j in range(v1.shape[0]):
+        v = v1[j]
+        v2 = v * v
+        brakes = a_roll[j] - f_step[j] + f_lift[j] * v2 / m[j]
+        idle = a_stop[j] + dumper[j] * v2 / m[j]
+        v_out[j], s_out[j] = takeoffevents._stop_actions_one(v, dt[j], brakes, idle, w[j])
+        if with_slopes:
+            d_brakes = d_roll[j] + 2.0 * f_lift[j] * v / m[j]
+            d_idle = d_stop[j] + 2.0 * dumper[j] * v / m[j]
+            dv_out[j], ds_out[j] = takeoffevents._stop_actions_slope_one(dt[j], d_brakes, d_idle)
 
 
 @dataclass(frozen=True)
@@ -1146,43 +1209,20 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             t_r = evi.recognition_s
             v1_raw = takeoffevents.recognition_v1_mps(vi, a_oo, t_r)
             v1i = np.clip(v1_raw, vi, np.maximum(model.speeds.vr_mps[idx], vi))
-            rec = t_r > 0.0
             (a_ae, d_ae), (a_sa1, d_sa1) = ae.acceleration(v1i, slope=True), sa.acceleration(v1i, slope=True)
-            gap, mid = v1i - vi, 0.5 * ((vi - wi) + (v1i - wi))
-            with np.errstate(divide="ignore", invalid="ignore"):
-                pre = np.where(rec, mid * gap / a_ae, 0.0)
             v_act, act, dv_act, d_act = evi.actions(v1i, wi, a_ae, a_sa1, slopes=(d_ae, d_sa1))
             ss = sa.distance_m(v_act, wi)
+            # h, its slope in V_EF and the Newton step, one pass per case (_timed_newton_step)
+            pre, dv1, d_pre, a_sa, dh, step = (np.empty(idx.size) for _ in range(6))
+            _timed_newton_step(*groundrun._kernel_args(
+                [base[idx], so, ss, vi, wi, v1i, v1_raw, _as_shape(t_r, vi.shape), a_oo, d_oo, a_ae, d_ae, a_sa1,
+                 sa.acceleration(v_act), _as_shape(evi.action_interval_s, vi.shape), v_act, act, dv_act, d_act],
+                vi.shape), float(delay_s), pre, dv1, d_pre, a_sa, dh, step)
             s_oei[idx], s_stop[idx] = so, ss
             out_v1[idx], out_pre[idx], out_act[idx], out_a[idx] = v1i, pre, act, a_oo
             if k == total - 1 and not next_step:
                 break
-            h = base[idx] - so + pre + delay_s * (v1i - wi) + act + ss
             vg = vi - wi
-            a_sa = np.where(evi.action_interval_s > 0.0, sa.acceleration(v_act), a_sa1)
-            with np.errstate(divide="ignore", invalid="ignore"):
-                # dh/dV_EF through V1 = V_EF + a(V_EF) t_r (exact for the hand pieces, so that
-                # the search converges as fast as without them)
-                dv1 = np.where(rec, 1.0 + d_oo * t_r, 1.0)
-
-                def slopes(dv1):
-                    d_pre = np.where(rec, (0.5 * (1.0 + dv1) * gap + mid * (dv1 - 1.0)) / a_ae
-                                     - mid * gap * d_ae * dv1 / (a_ae * a_ae), 0.0)
-                    return d_pre, (vg / a_oo + d_pre + delay_s * dv1) + d_act * dv1 - (v_act - wi) / a_sa * dv_act * dv1
-
-                d_pre, dh = slopes(dv1)
-                # V1 held at VR does not move with V_EF: there h's slope has dV1/dV_EF = 0
-                # (with 1 + a' t_r Newton only halved h at each step). Taken where the step
-                # it gives keeps V1 at VR; a step out of that narrow band of V_EF takes the
-                # slope of the free V1 beyond it, as before.
-                held = v1_raw > v1i
-                if held.any():
-                    d_pre_h, dh_h = slopes(np.zeros_like(dv1))
-                    band = (v1_raw - v1i) / dv1  # how far V_EF falls before V1 leaves VR
-                    keep = held & (h / dh_h < band) & (dh_h > 0.0)
-                    dv1 = np.where(keep, 0.0, dv1)
-                    d_pre, dh = np.where(keep, d_pre_h, d_pre), np.where(keep, dh_h, dh)
-                step = h / dh
         # a case stops stepping after its own number of evaluations (last step at k = count − 2)
         step = np.where(np.isfinite(step) & (dh > 0) & multi[idx], step, 0.0)
         moved = np.clip(vi - step, lo[idx], hi[idx])

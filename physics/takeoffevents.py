@@ -47,6 +47,7 @@ import numpy as np
 
 from fieldlimits.physics import constants as c
 from fieldlimits.physics import groundrun
+from fieldlimits.physics.compiled import kernel
 
 
 def ground_acceleration_mps2(thrust_n, *, mass_kg, airspeed_mps, density_kg_m3, wing_area_m2, cd, cl, mu,
@@ -123,19 +124,37 @@ def timed_piece(v_start_mps, accel_mps2, duration_s, headwind_mps=0.0):
     ----------
     .. [2] FAA AC 25-7 (time delays taken at constant speed change, common practice).
     """
-    v0 = np.asarray(v_start_mps, dtype=float)
-    a = np.asarray(accel_mps2, dtype=float)
-    t = np.asarray(duration_s, dtype=float)
-    w = np.asarray(headwind_mps, dtype=float)
+    return _per_case(_timed_pieces, (v_start_mps, accel_mps2, duration_s, headwind_mps), 2)
+
+
+def _per_case(loop, args, outputs):
+    """``loop`` (a compiled kernel over one-dimensional arrays) on ``args`` broadcast to each
+    other; returns its ``outputs`` arrays in the broadcast shape."""
+    args = [np.asarray(x, dtype=float) for x in args]
+    shape = np.broadcast_shapes(*(x.shape for x in args))
+    flat = groundrun._kernel_args(args, shape)
+    out = [np.empty(flat[0].shape) for _ in range(outputs)]
+    loop(*flat, *out)
+    return tuple(x.reshape(shape) for x in out)
+
+
+@kernel
+def _timed_piece_one(v0, a, t, w):
+    """:func:`timed_piece` for one case. Returns (v_end, distance)."""
     g0 = v0 - w
     v1 = v0 + a * t
     s = g0 * t + 0.5 * a * t * t
-    stops = v1 < w  # only a deceleration can take the ground speed below zero
-    if np.any(stops):
-        with np.errstate(divide="ignore", invalid="ignore"):
-            s = np.where(stops, g0 * g0 / (2.0 * np.abs(a)), s)
-        v1 = np.where(stops, w, v1)
+    if v1 < w:  # only a deceleration can take the ground speed below zero
+        s = g0 * g0 / (2.0 * abs(a))
+        v1 = w
     return v1, s
+
+
+@kernel
+def _timed_pieces(v0, a, t, w, v_out, s_out):
+    """:func:`timed_piece` per case, in place."""
+    for j in range(v0.shape[0]):
+        v_out[j], s_out[j] = _timed_piece_one(v0[j], a[j], t[j], w[j])
 
 
 def recognition_v1_mps(v_ef_mps, accel_one_out_mps2, recognition_s):
@@ -263,13 +282,24 @@ def stop_actions(v1_mps, *, interval_s, accel_brakes_mps2, accel_idle_mps2, head
     ----------
     .. [1] 14 CFR 25.109(a). .. [2] FAA AC 25-7 (1 s between actions, common practice).
     """
-    v1 = np.asarray(v1_mps, dtype=float)
-    dt = np.asarray(interval_s, dtype=float)
-    a_1 = np.asarray(accel_brakes_mps2, dtype=float)
-    v_a, s_a = timed_piece(v1, a_1, dt, headwind_mps)
-    v_b, s_b = timed_piece(v_a, 0.5 * (a_1 + np.asarray(accel_idle_mps2, dtype=float)), dt, headwind_mps)
-    some = dt > 0.0
-    return np.where(some, v_b, v1), np.where(some, s_a + s_b, 0.0)
+    return _per_case(_stop_actions_all, (v1_mps, interval_s, accel_brakes_mps2, accel_idle_mps2, headwind_mps), 2)
+
+
+@kernel
+def _stop_actions_one(v1, dt, a_1, a_idle, w):
+    """:func:`stop_actions` for one case. Returns (speed, distance)."""
+    if not dt > 0.0:
+        return v1, 0.0
+    v_a, s_a = _timed_piece_one(v1, a_1, dt, w)
+    v_b, s_b = _timed_piece_one(v_a, 0.5 * (a_1 + a_idle), dt, w)
+    return v_b, s_a + s_b
+
+
+@kernel
+def _stop_actions_all(v1, dt, a_1, a_idle, w, v_out, s_out):
+    """:func:`stop_actions` per case, in place."""
+    for j in range(v1.shape[0]):
+        v_out[j], s_out[j] = _stop_actions_one(v1[j], dt[j], a_1[j], a_idle[j], w[j])
 
 
 def stop_actions_slope(*, interval_s, accel_brakes_mps2, accel_brakes_slope, accel_idle_slope):
@@ -301,13 +331,23 @@ def stop_actions_slope(*, interval_s, accel_brakes_mps2, accel_brakes_slope, acc
     ----------
     .. [1] 14 CFR 25.109(a). .. [2] FAA AC 25-7.
     """
-    dt = np.asarray(interval_s, dtype=float)
-    d1 = np.asarray(accel_brakes_slope, dtype=float)
-    d_mean = 0.5 * (d1 + np.asarray(accel_idle_slope, dtype=float))
-    some = dt > 0.0
-    speed = np.where(some, 1.0 + (d1 + d_mean) * dt, 1.0)
-    dist = np.where(some, dt + 0.5 * d1 * dt * dt + (1.0 + d1 * dt) * dt + 0.5 * d_mean * dt * dt, 0.0)
-    return speed, dist
+    return _per_case(_stop_actions_slopes, (interval_s, accel_brakes_slope, accel_idle_slope), 2)
+
+
+@kernel
+def _stop_actions_slope_one(dt, d1, d_idle):
+    """:func:`stop_actions_slope` for one case. Returns (speed slope, distance slope)."""
+    if not dt > 0.0:
+        return 1.0, 0.0
+    d_mean = 0.5 * (d1 + d_idle)
+    return 1.0 + (d1 + d_mean) * dt, dt + 0.5 * d1 * dt * dt + (1.0 + d1 * dt) * dt + 0.5 * d_mean * dt * dt
+
+
+@kernel
+def _stop_actions_slopes(dt, d1, d_idle, speed_out, dist_out):
+    """:func:`stop_actions_slope` per case, in place."""
+    for j in range(dt.shape[0]):
+        speed_out[j], dist_out[j] = _stop_actions_slope_one(dt[j], d1[j], d_idle[j])
 
 
 def available_after_lineup_m(declared_m, lineup_allowance_m):

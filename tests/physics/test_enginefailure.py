@@ -585,3 +585,63 @@ def test_regime_acceleration_equals_the_equation_of_motion():
     # a subset taken from the regime gives the same numbers
     part = np.arange(0, n, 3)
     np.testing.assert_array_equal(regime.take(part).acceleration(v[part]), acc[part])
+
+
+def test_compiled_timed_newton_step_equals_the_formulas_written_with_numpy():
+    # The V1 search's Newton step with the timed events (h, its slope in V_EF through
+    # dV1/dV_EF = 1 + a' t_r, the slope with V1 held at VR where the step keeps it there)
+    # and the stop actions' braking accelerations are compiled passes per case; the same
+    # formulas written with numpy over whole arrays (the path they replace) give the same
+    # numbers to the bit, held and free V1, with and without recognition and action times.
+    from fieldlimits.physics import takeoffevents as te
+
+    rng = np.random.default_rng(8)
+    n = 4000
+    u = lambda lo, hi: rng.uniform(lo, hi, n)  # noqa: E731
+    vi, wi = u(40.0, 80.0), u(-6.0, 9.0)
+    t_r = rng.choice([0.0, 1.0, 2.0], n)
+    a_oo, d_oo = u(0.5, 3.0), u(-0.03, 0.0)
+    v1_raw = vi + a_oo * t_r
+    v1i = np.clip(v1_raw, vi, np.maximum(vi + u(-1.0, 3.0), vi))  # VR below V_EF + a t_r for some
+    a_ae, d_ae, a_sa1, d_sa1 = u(1.0, 3.5), u(-0.03, 0.0), u(-5.0, -2.0), u(-0.03, 0.0)
+    interval = rng.choice([0.0, 1.0], n)
+    ev = ef.StopEvents(t_r, interval, u(20e3, 300e3), u(0.5, 3.0), u(0.0, 2.0), u(0.0, 3.0))
+    v_act, act, dv_act, d_act = ev.actions(v1i, wi, a_ae, a_sa1, slopes=(d_ae, d_sa1))
+    brakes = a_ae - ev.friction_step_mps2 + ev.friction_lift_kg_m * v1i * v1i / ev.mass_kg
+    idle = a_sa1 + ev.dumper_kg_m * v1i * v1i / ev.mass_kg
+    d_brakes = d_ae + 2.0 * ev.friction_lift_kg_m * v1i / ev.mass_kg
+    d_idle = d_sa1 + 2.0 * ev.dumper_kg_m * v1i / ev.mass_kg
+    ref_v, ref_s = te.stop_actions(v1i, interval_s=interval, accel_brakes_mps2=brakes, accel_idle_mps2=idle,
+                                   headwind_mps=wi)
+    ref_dv, ref_ds = te.stop_actions_slope(interval_s=interval, accel_brakes_mps2=brakes,
+                                           accel_brakes_slope=d_brakes, accel_idle_slope=d_idle)
+    for got, ref in ((v_act, ref_v), (act, ref_s), (dv_act, ref_dv), (d_act, ref_ds)):
+        assert np.array_equal(got, ref)
+    assert all(np.array_equal(x, y) for x, y in zip(ev.actions(v1i, wi, a_ae, a_sa1), (v_act, act)))
+
+    base, so, ss, a_sa_act, delay = u(-300.0, 300.0), u(800.0, 2000.0), u(600.0, 1500.0), u(-5.0, -2.0), 2.0
+    out = [np.empty(n) for _ in range(6)]
+    ef._timed_newton_step(base, so, ss, vi, wi, v1i, v1_raw, t_r, a_oo, d_oo, a_ae, d_ae, a_sa1, a_sa_act, interval,
+                          v_act, act, dv_act, d_act, delay, *out)
+    rec = t_r > 0.0
+    gap, mid = v1i - vi, 0.5 * ((vi - wi) + (v1i - wi))
+    pre = np.where(rec, mid * gap / a_ae, 0.0)
+    h = base - so + pre + delay * (v1i - wi) + act + ss
+    vg = vi - wi
+    a_sa = np.where(interval > 0.0, a_sa_act, a_sa1)
+    dv1 = np.where(rec, 1.0 + d_oo * t_r, 1.0)
+
+    def slopes(dv1):
+        d_pre = np.where(rec, (0.5 * (1.0 + dv1) * gap + mid * (dv1 - 1.0)) / a_ae
+                         - mid * gap * d_ae * dv1 / (a_ae * a_ae), 0.0)
+        return d_pre, (vg / a_oo + d_pre + delay * dv1) + d_act * dv1 - (v_act - wi) / a_sa * dv_act * dv1
+
+    d_pre, dh = slopes(dv1)
+    held = v1_raw > v1i
+    d_pre_h, dh_h = slopes(np.zeros(n))
+    keep = held & (h / dh_h < (v1_raw - v1i) / dv1) & (dh_h > 0.0)
+    assert 0 < keep.sum() < held.sum()  # held cases both kept at VR and freed by their step
+    dv1 = np.where(keep, 0.0, dv1)
+    d_pre, dh = np.where(keep, d_pre_h, d_pre), np.where(keep, dh_h, dh)
+    for got, ref in zip(out, (pre, dv1, d_pre, a_sa, dh, h / dh)):
+        assert np.array_equal(got, ref)

@@ -63,6 +63,50 @@ def test_stop_actions_are_two_hand_pieces():
     assert v0[0] == 70.0 and s0[0] == 0.0
 
 
+def _timed_piece_numpy(v0, a, t, w):
+    """The hand formula over whole arrays (the numpy path the compiled kernels replace)."""
+    g0 = v0 - w
+    v1 = v0 + a * t
+    s = g0 * t + 0.5 * a * t * t
+    stops = v1 < w
+    with np.errstate(divide="ignore", invalid="ignore"):
+        s = np.where(stops, g0 * g0 / (2.0 * np.abs(a)), s)
+    return np.where(stops, w, v1), s
+
+
+def test_compiled_stop_actions_equal_the_hand_formulas_written_with_numpy():
+    # timed_piece, stop_actions and stop_actions_slope are compiled loops over the cases;
+    # the formulas of their docstrings written with numpy over whole arrays give the same
+    # numbers to the bit: stops inside a piece, zero and NaN intervals, tail- and headwinds.
+    rng = np.random.default_rng(5)
+    n = 5000
+    v1 = rng.uniform(-5.0, 90.0, n)
+    w = rng.uniform(-8.0, 10.0, n)
+    a_1 = rng.uniform(-12.0, 3.0, n)
+    a_idle = rng.uniform(-14.0, 1.0, n)
+    dt = rng.choice([0.0, 0.5, 1.0, 3.0, 8.0, np.nan], n)
+    d1, d_idle = rng.uniform(-0.05, 0.05, n), rng.uniform(-0.05, 0.05, n)
+    v, s = te.timed_piece(v1, a_1, dt, w)
+    v_ref, s_ref = _timed_piece_numpy(v1, a_1, dt, w)
+    assert np.array_equal(v, v_ref, equal_nan=True) and np.array_equal(s, s_ref, equal_nan=True)
+    assert np.any(v_ref == w) and np.any(v_ref > w)  # both kinds of piece present
+    va, sa = _timed_piece_numpy(v1, a_1, dt, w)
+    vb, sb = _timed_piece_numpy(va, 0.5 * (a_1 + a_idle), dt, w)
+    some = dt > 0.0
+    v, s = te.stop_actions(v1, interval_s=dt, accel_brakes_mps2=a_1, accel_idle_mps2=a_idle, headwind_mps=w)
+    assert np.array_equal(v, np.where(some, vb, v1), equal_nan=True)
+    assert np.array_equal(s, np.where(some, sa + sb, 0.0), equal_nan=True)
+    d_mean = 0.5 * (d1 + d_idle)
+    speed, dist = te.stop_actions_slope(interval_s=dt, accel_brakes_mps2=a_1, accel_brakes_slope=d1,
+                                        accel_idle_slope=d_idle)
+    assert np.array_equal(speed, np.where(some, 1.0 + (d1 + d_mean) * dt, 1.0))
+    assert np.array_equal(dist, np.where(some, dt + 0.5 * d1 * dt * dt + (1.0 + d1 * dt) * dt
+                                         + 0.5 * d_mean * dt * dt, 0.0))
+    # scalars and broadcasting keep the shapes numpy gives
+    v, s = te.timed_piece(70.0, np.array([2.0, -3.0]), 1.0)
+    assert v.shape == (2,) and np.shape(te.timed_piece(70.0, 2.0, 1.0)[0]) == ()
+
+
 def test_ground_acceleration_matches_the_ground_run_coefficients():
     from fieldlimits.physics import groundrun
 
