@@ -692,6 +692,49 @@ def _timed_newton_step(base, so, ss, v_ef, w, v1, v1_raw, t_r, a_oo, d_oo, a_ae,
         step_out[j] = h / dh
 
 
+@kernel
+def _newton_step(base, so, ss, v, w, a_go, a_stop, delay_s, go_slope_out, stop_slope_out, dh_out, step_out):
+    """One Newton step of the idealised V1 search per case, in place: h = C_go − ASDA −
+    S_oei(V1 → V_LOF) + t_d (V1 − w) + S_stop(V1 → w), the slopes −dS_oei/dV1 = (V1 − w)/a_oei
+    and dS_stop/dV1 = −(V1 − w)/a_stop (the accelerations at V1), dh and the step h/dh."""
+    for j in range(v.shape[0]):
+        h = base[j] - so[j] + delay_s * (v[j] - w[j]) + ss[j]
+        vg = v[j] - w[j]
+        go = vg / a_go[j]
+        stop = -vg / a_stop[j]
+        dh = go + delay_s + stop
+        go_slope_out[j], stop_slope_out[j], dh_out[j], step_out[j] = go, stop, dh, h / dh
+
+
+@kernel
+def _newton_advance(v, step, dh, lo, hi, v1, v1_raw, v_act, w, dv1, vr, multi, count, k, step_tol, extrapolate,
+                    timed, moved_out, going_out, near_out):
+    """Where each case's Newton step takes its speed, in place: the step (none where it is not
+    finite, dh ≤ 0 or the type is single-engine), the speed clipped to [lo, hi]; whether the
+    case goes on (evaluations left, a step above ``step_tol`` where that is ≥ 0); and, where
+    ``extrapolate`` ≥ 0, whether it stops by taking a nonzero step of at most that without
+    evaluating there (with the timed events: not where V1 is held at VR or reaches it within
+    the step, nor where the stop actions end at rest)."""
+    for j in range(v.shape[0]):
+        st = step[j]
+        if not (np.isfinite(st) and dh[j] > 0.0 and multi[j]):
+            st = 0.0
+        moved = groundrun._nan_min(groundrun._nan_max(v[j] - st, lo[j]), hi[j])
+        going = k < count[j] - 1
+        if step_tol >= 0.0:
+            going = going and abs(moved - v[j]) > step_tol
+        near = False
+        if extrapolate >= 0.0:
+            d = moved - v[j]
+            near = abs(d) <= extrapolate
+            if timed:
+                v1_to = v1[j] + dv1[j] * d
+                near = near and v1[j] == v1_raw[j] and v_act[j] > w[j] and v1_to <= vr[j] and v1_to >= moved
+            going = going and not near
+            near = near and d != 0.0
+        moved_out[j], going_out[j], near_out[j] = moved, going, near
+
+
 class _DeferredRegime:
     """A :class:`GroundRegime` built on first use (``build()`` makes it): the V1 search of the
     weight solver never needs the engine-failure stop of the idealised sequence."""
@@ -1195,12 +1238,11 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             s_oei[idx], s_stop[idx] = so, ss
             if k == total - 1 and not next_step:
                 break
-            h = base[idx] - so + delay_s * (vi - wi) + ss
-            vg = vi - wi
-            with np.errstate(divide="ignore", invalid="ignore"):
-                go_slope, stop_slope = vg / oo.acceleration(vi), -vg / sa.acceleration(vi)  # -dS_oei/dV, dS_stop/dV
-                dh = go_slope + delay_s + stop_slope
-                step = h / dh
+            # h, its slope −dS_oei/dV + t_d + dS_stop/dV and the Newton step, one pass per case
+            go_slope, stop_slope, dh, step = (np.empty(idx.size) for _ in range(4))
+            _newton_step(*groundrun._kernel_args([base[idx], so, ss, vi, wi, oo.acceleration(vi), sa.acceleration(vi)],
+                                                 vi.shape), float(delay_s), go_slope, stop_slope, dh, step)
+            v1i = v1_raw = v_act = dv1 = vi  # (the timed events' terms, not used without them)
         else:
             # V_EF = vi; V1 one recognition interval later; the all-engines stop from V1
             # with its stop actions (physics.takeoffevents)
@@ -1223,24 +1265,19 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             if k == total - 1 and not next_step:
                 break
             vg = vi - wi
-        # a case stops stepping after its own number of evaluations (last step at k = count − 2)
-        step = np.where(np.isfinite(step) & (dh > 0) & multi[idx], step, 0.0)
-        moved = np.clip(vi - step, lo[idx], hi[idx])
-        going = k < count[idx] - 1
-        if step_tol_mps is not None:
-            going &= np.abs(moved - vi) > step_tol_mps
+        # a case stops stepping after its own number of evaluations (last step at k = count − 2);
+        # the step, where it moves V_EF to, whether the case goes on, and where it stops by
+        # taking the step without evaluating there (extrapolated), one pass per case
+        moved, going, near = np.empty(idx.size), np.empty(idx.size, dtype=np.bool_), np.empty(idx.size, dtype=np.bool_)
+        _newton_advance(*groundrun._kernel_args(
+            [vi, step, dh, lo[idx], hi[idx], v1i, v1_raw, v_act, wi, dv1, model.speeds.vr_mps[idx]], vi.shape),
+            np.ascontiguousarray(multi[idx], dtype=np.bool_), np.ascontiguousarray(count[idx], dtype=np.int64), k,
+            -1.0 if step_tol_mps is None else float(step_tol_mps),
+            -1.0 if extrapolate_mps is None else float(extrapolate_mps), ev is not None, moved, going, near)
         if extrapolate_mps is not None:
-            dv = moved - vi
-            near = np.abs(dv) <= extrapolate_mps
-            if ev is not None:
-                # the slopes hold where V1 is not held at VR nor reaches it within the step,
-                # and the stop actions end above rest (elsewhere the case evaluates on)
-                v1_to = v1i + dv1 * dv
-                near &= (v1i == v1_raw) & (v_act > wi) & (v1_to <= model.speeds.vr_mps[idx]) & (v1_to >= moved)
-            going &= ~near
-            f = np.flatnonzero(near & (dv != 0.0))
+            f = np.flatnonzero(near)
             if f.size:  # the step taken without evaluating there: each part along its slope
-                i, d = idx[f], dv[f]
+                i, d = idx[f], moved[f] - vi[f]
                 if ev is None:
                     s_oei[i] -= go_slope[f] * d
                     s_stop[i] += stop_slope[f] * d
@@ -1250,13 +1287,11 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
                     out_pre[i] += d_pre[f] * d
                     out_act[i] += d_act[f] * dvf
                     s_stop[i] -= (v_act[f] - wi[f]) / a_sa[f] * dv_act[f] * dvf
-                    out_v1[i] = v1_to[f]
+                    out_v1[i] = v1i[f] + dvf
                     out_a[i] = a_oo[f] + d_oo[f] * d
-                vi = np.array(vi, copy=True)
-                vi[f] = moved[f]
         if step_tol_mps is not None or extrapolate_mps is not None:
             settled[idx] = ~going
-        v1[idx] = np.where(going, moved, vi)
+        v1[idx] = np.where(going | near, moved, vi)
         if next_step:
             v_next[idx] = moved
     if ev is None:

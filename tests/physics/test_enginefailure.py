@@ -645,3 +645,54 @@ def test_compiled_timed_newton_step_equals_the_formulas_written_with_numpy():
     d_pre, dh = np.where(keep, d_pre_h, d_pre), np.where(keep, dh_h, dh)
     for got, ref in zip(out, (pre, dv1, d_pre, a_sa, dh, h / dh)):
         assert np.array_equal(got, ref)
+
+
+def test_compiled_newton_step_and_advance_equal_the_formulas_written_with_numpy():
+    # The idealised Newton step (h, −dS_oei/dV1, dS_stop/dV1, dh, h/dh) and where each case's
+    # step takes it (no step where it is not finite, dh ≤ 0 or single-engine; clipped to the
+    # range; whether it goes on; where it stops by taking the step unevaluated, with and
+    # without the timed events) are compiled passes per case; the formulas written with
+    # numpy over whole arrays (the path they replace) give the same numbers to the bit.
+    rng = np.random.default_rng(9)
+    n = 4000
+    u = lambda lo, hi: rng.uniform(lo, hi, n)  # noqa: E731
+    base, so, ss, vi, wi = u(-300.0, 300.0), u(800.0, 2000.0), u(600.0, 1500.0), u(40.0, 80.0), u(-6.0, 9.0)
+    a_go, a_stop = u(-0.2, 3.0), u(-5.0, 0.1)
+    out = [np.empty(n) for _ in range(4)]
+    ef._newton_step(base, so, ss, vi, wi, a_go, a_stop, 2.0, *out)
+    h = base - so + 2.0 * (vi - wi) + ss
+    go, stop = (vi - wi) / a_go, -(vi - wi) / a_stop
+    dh = go + 2.0 + stop
+    for got, ref in zip(out, (go, stop, dh, h / dh)):
+        assert np.array_equal(got, ref)
+
+    step = rng.choice([1.0, 1e-3, 1e-5, np.nan, np.inf], n) * u(-1.0, 1.0)
+    dh = u(-0.5, 2.0)
+    lo, hi = vi - u(0.0, 0.01), vi + u(0.0, 0.01)
+    multi = rng.random(n) < 0.9
+    count = rng.integers(1, 4, n)
+    v1 = vi + u(0.0, 1.5)
+    v1_raw = np.where(rng.random(n) < 0.8, v1, v1 + 0.5)
+    v_act, dv1, vr = wi + u(-1.0, 60.0), u(0.9, 1.1), v1 + u(-0.001, 0.01)
+    for k, tol, ext, timed in ((0, -1.0, -1.0, False), (1, 1e-4, -1.0, False), (0, 1e-4, 0.05, False),
+                               (1, 1e-4, 0.05, True), (0, -1.0, 0.05, True)):
+        moved, going, near = np.empty(n), np.empty(n, dtype=np.bool_), np.empty(n, dtype=np.bool_)
+        ef._newton_advance(vi, step, dh, lo, hi, v1, v1_raw, v_act, wi, dv1, vr, multi, count, k, tol, ext, timed,
+                           moved, going, near)
+        st = np.where(np.isfinite(step) & (dh > 0) & multi, step, 0.0)
+        ref_moved = np.clip(vi - st, lo, hi)
+        ref_going = k < count - 1
+        if tol >= 0.0:
+            ref_going &= np.abs(ref_moved - vi) > tol
+        ref_near = np.zeros(n, dtype=bool)
+        if ext >= 0.0:
+            d = ref_moved - vi
+            ref_near = np.abs(d) <= ext
+            if timed:
+                to = v1 + dv1 * d
+                ref_near &= (v1 == v1_raw) & (v_act > wi) & (to <= vr) & (to >= ref_moved)
+            ref_going &= ~ref_near
+            ref_near &= d != 0.0
+            assert 0 < ref_near.sum() < n
+        assert np.array_equal(moved, ref_moved) and np.array_equal(going, ref_going)
+        assert np.array_equal(near, ref_near)
