@@ -456,18 +456,21 @@ class GroundRegime:
             self._closed = (self._a0n < 0.0) & (self._a2p < 0.0) & (self._p_m > 0.0)
             self._root = None  # groundrun.CubicRoot of the propeller cases, on first use
 
-    def distance_m(self, v_from, v_to):
+    def distance_m(self, v_from, v_to, index=None):
         """Ground distance between two true airspeeds (NaN where not reachable).
 
         Parameters
         ----------
         v_from, v_to : array_like
             True airspeeds at the start and end (end below start: deceleration). [m/s]
+        index : numpy.ndarray, optional
+            The cases to evaluate (increasing integer positions; default: all): the speeds
+            and the result are those cases' (no regime is gathered for them). [–]
 
         Returns
         -------
         numpy.ndarray
-            Ground distance, shape (n,). [m]
+            Ground distance, shape (n,) (``index``'s size where given). [m]
 
         Notes
         -----
@@ -482,16 +485,23 @@ class GroundRegime:
         args = self.__dict__.get("_distance_args")
         if args is None:
             args = self._distance_args = self._kernel_terms()
-        n = self.w.shape
+        subset = index is not None
+        index = np.ascontiguousarray(index, dtype=np.intp) if subset else _NO_INDEX
+        n = index.shape if subset else self.w.shape
         v_from, v_to = groundrun._kernel_args([_as_shape(v_from, n), _as_shape(v_to, n)], n)
         s = np.empty(n)
-        _regime_distance(v_from, v_to, *args, s)
+        _regime_distance(index, subset, v_from, v_to, *args, s)
         gl = self.__dict__.get("_gauss_legendre")
         if gl is not None and gl.size:
             # propeller cases above the kink without the closed form: Gauss–Legendre
             i, k = self.prop.take(gl), gl
-            g_from, g_to = np.maximum(v_from.take(i), self.kink.take(i)), np.maximum(v_to.take(i), self.kink.take(i))
-            s[i] += groundrun._propeller_power_piece(self._p_m.take(k), -self._a2p.take(k), -self._a0n.take(k), g_from,
+            q = i
+            if subset:  # those among the cases evaluated, and their positions there
+                q = np.minimum(np.searchsorted(index, i), max(index.size - 1, 0))
+                hit = np.flatnonzero(index.take(q) == i) if index.size else np.zeros(0, dtype=np.intp)
+                i, k, q = i.take(hit), k.take(hit), q.take(hit)
+            g_from, g_to = np.maximum(v_from.take(q), self.kink.take(i)), np.maximum(v_to.take(q), self.kink.take(i))
+            s[q] += groundrun._propeller_power_piece(self._p_m.take(k), -self._a2p.take(k), -self._a0n.take(k), g_from,
                                                      g_to, self.w.take(i), PROPELLER_NODES)[0]
         return s
 
@@ -558,15 +568,17 @@ class GroundRegime:
             new._root = None if self._root is None else type(self._root)(*(x.take(local) for x in self._root))
         return new
 
-    def acceleration(self, v, slope=False):
+    def acceleration(self, v, slope=False, index=None):
         """Acceleration at true airspeeds (and its slope dA/dV).
 
         Parameters
         ----------
         v : array_like
-            True airspeed per case, shape (n,). [m/s]
+            True airspeed per case, shape (n,) (``index``'s size where given). [m/s]
         slope : bool, optional
             Also return dA/dV. [–]
+        index : numpy.ndarray, optional
+            The cases to evaluate (integer positions; default: all). [–]
 
         Returns
         -------
@@ -586,46 +598,57 @@ class GroundRegime:
         if args is None:  # the regime's coefficients for the compiled kernel, once
             n = self.w.shape
             a2r = self.a2_reverse if self.a2_reverse is not None else np.zeros(0)
-            prop = np.asarray(self.prop, dtype=np.intp)
-            pa = (self._p_m, self._a0n, self._a2p) if prop.size else (np.zeros(0),) * 3
+            prop_at = np.full(n, -1, dtype=np.intp)  # each case's place among the propeller cases
+            prop_at[self.prop] = np.arange(self.prop.size)
+            pa = (self._p_m, self._a0n, self._a2p) if self.prop.size else (np.zeros(0),) * 3
             args = (*groundrun._kernel_args([_as_shape(x, n) for x in (*self.coeffs, self.kink)], n),
-                    *groundrun._kernel_args([np.asarray(a2r, dtype=float)], np.shape(a2r)), prop,
+                    *groundrun._kernel_args([np.asarray(a2r, dtype=float)], np.shape(a2r)), prop_at,
                     *groundrun._kernel_args([np.asarray(x, dtype=float) for x in pa], np.shape(pa[0])))
             self._acceleration_args = args
-        (v,) = groundrun._kernel_args([_as_shape(v, self.w.shape)], self.w.shape)
-        out, d_out = np.empty(v.shape), np.empty(v.shape)
-        _regime_acceleration(v, *args, out, d_out)
+        subset = index is not None
+        index = np.ascontiguousarray(index, dtype=np.intp) if subset else _NO_INDEX
+        n = index.shape if subset else self.w.shape
+        (v,) = groundrun._kernel_args([_as_shape(v, n)], n)
+        out, d_out = np.empty(n), np.empty(n)
+        _regime_acceleration(index, subset, v, *args, out, d_out)
         return (out, d_out) if slope else out
 
 
+#: No case index (a regime evaluated for all its cases).
+_NO_INDEX = np.zeros(0, dtype=np.intp)
+
+
 @kernel
-def _regime_acceleration(v, a0, a1, a2, kink, a2_reverse, prop, p_m, a0n, a2p, out, d_out):
-    """a(V) and da/dV of a :class:`GroundRegime` at one airspeed per case, in place: the
-    polynomial (reverse-flow a2 below V = 0 where ``a2_reverse`` is given), then the
-    propeller cases ``prop`` above their kink."""
+def _regime_acceleration(index, subset, v, a0, a1, a2, kink, a2_reverse, prop_at, p_m, a0n, a2p, out, d_out):
+    """a(V) and da/dV of a :class:`GroundRegime` at one airspeed per case, in place (the cases
+    at ``index`` where ``subset``): the polynomial (reverse-flow a2 below V = 0 where
+    ``a2_reverse`` is given), the propeller law above the kink for the propeller cases
+    (``prop_at``: a case's place among them, −1 for the others)."""
     reverse = a2_reverse.shape[0] > 0
-    for j in range(v.shape[0]):
-        vj = v[j]
-        a2j = a2_reverse[j] if reverse and vj < 0.0 else a2[j]
-        out[j] = a0[j] + (a1[j] + a2j * vj) * vj
-        d_out[j] = a1[j] + 2.0 * a2j * vj
-    for k in range(prop.shape[0]):
-        j = prop[k]
-        vj = v[j]
-        if vj > kink[j]:
-            out[j] = p_m[k] / vj + a0n[k] + a2p[k] * vj * vj
-            d_out[j] = -p_m[k] / (vj * vj) + 2.0 * a2p[k] * vj
+    for q in range(v.shape[0]):
+        j = index[q] if subset else q
+        vj = v[q]
+        k = prop_at[j]
+        if k >= 0 and vj > kink[j]:
+            out[q] = p_m[k] / vj + a0n[k] + a2p[k] * vj * vj
+            d_out[q] = -p_m[k] / (vj * vj) + 2.0 * a2p[k] * vj
+        else:
+            a2j = a2_reverse[j] if reverse and vj < 0.0 else a2[j]
+            out[q] = a0[j] + (a1[j] + a2j * vj) * vj
+            d_out[q] = a1[j] + 2.0 * a2j * vj
 
 
 @kernel
-def _regime_distance(v_from, v_to, kink, split, fa0, fa1, fa2, fw, fform, fk0, fk1, fk2, reverse_at, ra0, ra1, ra2,
-                     rw, rform, rk0, rk1, rk2, prop_at, closed, pm, c2, c0, r, p, d_inv, e, out):
-    """Ground distance of a :class:`GroundRegime` between two airspeeds per case, in place:
-    the closed form below the propeller kink (split at V = 0 where the regime has tailwind
-    cases: reverse-flow drag below it) and the propeller piece above it where its closed
-    form applies (the others are added afterwards by Gauss–Legendre)."""
-    for j in range(v_from.shape[0]):
-        c_from, c_to = min(v_from[j], kink[j]), min(v_to[j], kink[j])
+def _regime_distance(index, subset, v_from, v_to, kink, split, fa0, fa1, fa2, fw, fform, fk0, fk1, fk2, reverse_at,
+                     ra0, ra1, ra2, rw, rform, rk0, rk1, rk2, prop_at, closed, pm, c2, c0, r, p, d_inv, e, out):
+    """Ground distance of a :class:`GroundRegime` between two airspeeds per case, in place
+    (the cases at ``index`` where ``subset``): the closed form below the propeller kink
+    (split at V = 0 where the regime has tailwind cases: reverse-flow drag below it) and the
+    propeller piece above it where its closed form applies (the others are added afterwards
+    by Gauss–Legendre)."""
+    for q in range(v_from.shape[0]):
+        j = index[q] if subset else q
+        c_from, c_to = min(v_from[q], kink[j]), min(v_to[q], kink[j])
         if split:
             s = groundrun._segment_one(fa0[j], fa1[j], fa2[j], fw[j], fform[j], fk0[j], fk1[j], fk2[j],
                                        max(c_from, 0.0), max(c_to, 0.0))[0]
@@ -639,9 +662,9 @@ def _regime_distance(v_from, v_to, kink, split, fa0, fa1, fa2, fw, fform, fk0, f
                                        c_to)[0]
         k = prop_at[j]
         if k >= 0 and closed[k]:
-            s += groundrun._propeller_one(pm[k], c2[k], c0[k], max(v_from[j], kink[j]), max(v_to[j], kink[j]),
+            s += groundrun._propeller_one(pm[k], c2[k], c0[k], max(v_from[q], kink[j]), max(v_to[q], kink[j]),
                                           fw[j], r[k], p[k], d_inv[k], e[k])[0]
-        out[j] = s
+        out[q] = s
 
 
 @kernel
@@ -1215,7 +1238,8 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
     if ev is not None:
         out_v1, out_pre, out_act = np.full(w.shape, np.nan), np.zeros(w.shape), np.zeros(w.shape)
         out_a = np.full(w.shape, np.nan)
-    idx, oo, sa, ae, evi = None, model.one_out, model.stop_all, model.all_engines, ev
+    idx, evi, sub = None, ev, None
+    oo, sa, ae = model.one_out, model.stop_all, model.all_engines  # evaluated at the cases ``sub`` (None: all)
     v_next = np.array(v1, copy=True) if next_step else None
     settled = np.zeros(w.shape, dtype=bool)
     for k in range(total):
@@ -1226,39 +1250,39 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             if idx.size == 0:
                 break
             full = idx.size == w.size
-            oo = model.one_out if full else model.one_out.take(idx)
-            sa = model.stop_all if full else model.stop_all.take(idx)
+            sub = None if full else idx  # the regimes evaluate these cases (none gathered)
             if ev is not None:
-                ae = model.all_engines if full else model.all_engines.take(idx)
                 evi = ev if full else ev.take(idx)
         vi, wi = v1[idx], w[idx]
-        so = oo.distance_m(vi, vlof[idx])
+        so = oo.distance_m(vi, vlof[idx], index=sub)
         if ev is None:
-            ss = sa.distance_m(vi, wi)
+            ss = sa.distance_m(vi, wi, index=sub)
             s_oei[idx], s_stop[idx] = so, ss
             if k == total - 1 and not next_step:
                 break
             # h, its slope −dS_oei/dV + t_d + dS_stop/dV and the Newton step, one pass per case
             go_slope, stop_slope, dh, step = (np.empty(idx.size) for _ in range(4))
-            _newton_step(*groundrun._kernel_args([base[idx], so, ss, vi, wi, oo.acceleration(vi), sa.acceleration(vi)],
+            _newton_step(*groundrun._kernel_args([base[idx], so, ss, vi, wi, oo.acceleration(vi, index=sub),
+                                                  sa.acceleration(vi, index=sub)],
                                                  vi.shape), float(delay_s), go_slope, stop_slope, dh, step)
             v1i = v1_raw = v_act = dv1 = vi  # (the timed events' terms, not used without them)
         else:
             # V_EF = vi; V1 one recognition interval later; the all-engines stop from V1
             # with its stop actions (physics.takeoffevents)
             # (accelerations of the timed pieces taken at V1, as by hand)
-            a_oo, d_oo = oo.acceleration(vi, slope=True)
+            a_oo, d_oo = oo.acceleration(vi, slope=True, index=sub)
             t_r = evi.recognition_s
             v1_raw = takeoffevents.recognition_v1_mps(vi, a_oo, t_r)
             v1i = np.clip(v1_raw, vi, np.maximum(model.speeds.vr_mps[idx], vi))
-            (a_ae, d_ae), (a_sa1, d_sa1) = ae.acceleration(v1i, slope=True), sa.acceleration(v1i, slope=True)
+            (a_ae, d_ae), (a_sa1, d_sa1) = (ae.acceleration(v1i, slope=True, index=sub),
+                                            sa.acceleration(v1i, slope=True, index=sub))
             v_act, act, dv_act, d_act = evi.actions(v1i, wi, a_ae, a_sa1, slopes=(d_ae, d_sa1))
-            ss = sa.distance_m(v_act, wi)
+            ss = sa.distance_m(v_act, wi, index=sub)
             # h, its slope in V_EF and the Newton step, one pass per case (_timed_newton_step)
             pre, dv1, d_pre, a_sa, dh, step = (np.empty(idx.size) for _ in range(6))
             _timed_newton_step(*groundrun._kernel_args(
                 [base[idx], so, ss, vi, wi, v1i, v1_raw, _as_shape(t_r, vi.shape), a_oo, d_oo, a_ae, d_ae, a_sa1,
-                 sa.acceleration(v_act), _as_shape(evi.action_interval_s, vi.shape), v_act, act, dv_act, d_act],
+                 sa.acceleration(v_act, index=sub), _as_shape(evi.action_interval_s, vi.shape), v_act, act, dv_act, d_act],
                 vi.shape), float(delay_s), pre, dv1, d_pre, a_sa, dh, step)
             s_oei[idx], s_stop[idx] = so, ss
             out_v1[idx], out_pre[idx], out_act[idx], out_a[idx] = v1i, pre, act, a_oo

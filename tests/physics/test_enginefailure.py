@@ -582,9 +582,40 @@ def test_regime_acceleration_equals_the_equation_of_motion():
     central = (regime.acceleration(v + h) - regime.acceleration(v - h)) / (2.0 * h)
     smooth = (np.abs(v) > 2 * h) & (np.abs(v - regime.kink) > 2 * h)
     assert_allclose(slope[smooth], central[smooth], rtol=1e-6, atol=1e-9)
-    # a subset taken from the regime gives the same numbers
+    # a subset taken from the regime, or evaluated by index (the V1 search), gives the same numbers
     part = np.arange(0, n, 3)
     np.testing.assert_array_equal(regime.take(part).acceleration(v[part]), acc[part])
+    np.testing.assert_array_equal(regime.acceleration(v[part], slope=True, index=part)[1], slope[part])
+
+
+def test_regime_distance_at_an_index_equals_the_whole_set_and_a_gathered_regime():
+    # The V1 search evaluates a regime's distances and accelerations at the cases still
+    # iterating by index, without gathering a regime for them: the same numbers to the bit
+    # as the whole set and as a regime taken for the subset, for every thrust model,
+    # tailwinds crossing V = 0, and propeller cases with and without the closed form above
+    # the kink (downhill steeper than the friction: Gauss-Legendre).
+    from fieldlimits.physics import thrust
+    from tests.physics import fleet
+
+    n = 3000
+    a, site = fleet.random_cases(n, seed=6)
+    rng = np.random.default_rng(6)
+    law = thrust.thrust_law_for_aircraft(a, site.pressure_pa, site.temperature_k)
+    rho = site.pressure_pa / (c.R_AIR * site.temperature_k)
+    w = rng.uniform(-8.0, 10.0, n)
+    slope = np.where(rng.random(n) < 0.1, -0.06, site.slope)
+    regime = ef.GroundRegime(law, mass_kg=rng.uniform(0.7, 1.0, n) * a.mtow_kg, wing_area_m2=a.wing_area_m2,
+                             density_kg_m3=rho, cd=rng.uniform(0.03, 0.1, n), cl=a.cl_ground_roll, mu=site.mu_roll,
+                             slope=slope, headwind_mps=w)
+    v_from, v_to = w, rng.uniform(40.0, 80.0, n)
+    whole = regime.distance_m(v_from, v_to)
+    gl = regime.prop.take(regime._gauss_legendre)
+    assert gl.size > 5 and np.any(law.is_propeller & ~np.isin(np.arange(n), gl) & (v_to > regime.kink))
+    assert np.any(w < 0.0) and np.all(np.isfinite(whole[gl]))
+    for part in (np.arange(0, n, 3), np.sort(rng.choice(n, 40, replace=False)), gl[::2], np.arange(n)):
+        got = regime.distance_m(v_from[part], v_to[part], index=part)
+        np.testing.assert_array_equal(got, whole[part])
+        np.testing.assert_array_equal(got, regime.take(part).distance_m(v_from[part], v_to[part]))
 
 
 def test_compiled_timed_newton_step_equals_the_formulas_written_with_numpy():
