@@ -256,6 +256,21 @@ def run_with_prefect(input_dir, db_path, params: RunParams | None = None, *, clu
         if server is not None:  # processes started from here find it too
             os.environ["PREFECT_API_URL"] = server.api_url
         runner = _task_runner(cluster, n)
-        return fieldlimits_run.with_options(task_runner=runner)(
-            str(input_dir), str(db_path), (params or RunParams()).as_dict(),
-            str(work_root) if work_root else None)
+        try:
+            return fieldlimits_run.with_options(task_runner=runner)(
+                str(input_dir), str(db_path), (params or RunParams()).as_dict(),
+                str(work_root) if work_root else None)
+        finally:
+            _send_run_logs()
+
+
+def _send_run_logs(timeout_s: float = 10.0) -> None:
+    """Wait until Prefect has sent the flow run's log messages to its API (they go in batches
+    from a background thread): the caller may stop a temporary server next, and the run's
+    last messages (its summary) would be lost with it."""
+    try:
+        from prefect.logging.handlers import APILogWorker
+
+        APILogWorker.drain_all(timeout=timeout_s)
+    except Exception:  # the log's delivery is best effort; the run's result stands
+        pass
