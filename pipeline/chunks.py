@@ -431,6 +431,37 @@ def release_free_memory() -> None:
         libc.malloc_trim(0)
 
 
+_OTHER_POOLS: set = set()  # other pools of this process's worker processes (the landing step's)
+
+
+def track_pool(pool, add: bool = True) -> None:
+    """Count ``pool`` among the pools :func:`terminate_pools` stops (``add=False``: no more)."""
+    with _POOL_LOCK:
+        (_OTHER_POOLS.add if add else _OTHER_POOLS.discard)(pool)
+
+
+def terminate_pools() -> None:
+    """Stop every worker process of this process at once (a stopped command that exits
+    without waiting): a chunk or block in progress is abandoned. Without this the workers
+    outlive the command, each waiting for work that never comes (they hold their queue's
+    other end, so they never see it close)."""
+    global _POOL
+    with _POOL_LOCK:
+        pools = [p for p in (_POOL, *_OTHER_POOLS) if p is not None]
+        _POOL = None
+        _OTHER_POOLS.clear()
+    for pool in pools:
+        for proc in list((getattr(pool, "_processes", None) or {}).values()):
+            try:
+                proc.terminate()
+            except Exception:
+                pass
+        try:
+            pool.shutdown(wait=False, cancel_futures=True)
+        except Exception:
+            pass
+
+
 def shutdown_pool() -> None:
     """Stop the worker processes (also done at exit)."""
     global _POOL

@@ -643,9 +643,40 @@ def _route_function(prepared: PreparedRun) -> Callable | None:
     return getattr(routes, "route_payload_frame", None)
 
 
-#: Landing steps started early (:func:`start_landing`), by work folder.
-_LANDING: dict[str, Future] = {}
+#: Landing steps started early (:func:`start_landing`), by work folder: (its result, its
+#: executor).
+_LANDING: dict[str, tuple[Future, "_LandingExecutor"]] = {}
 _LANDING_LOCK = threading.Lock()
+
+
+class _LandingExecutor:
+    """The chunks' process pool as the early landing step's executor, that can be stopped:
+    once stopped, no further block is handed to the pool and the blocks still waiting there
+    are cancelled. The pool itself stays up (chunk tasks still running may use it; a pool
+    closed under them would be started again and outlive a stopped run)."""
+
+    def __init__(self, pool):
+        self.pool = pool
+        self._max_workers = getattr(pool, "_max_workers", 1)
+        self._lock = threading.Lock()
+        self._futures: list = []
+        self.stopped = False
+
+    def submit(self, fn, *args, **kwargs):
+        from concurrent.futures import CancelledError
+
+        with self._lock:
+            if self.stopped:
+                raise CancelledError("the run stopped before its landing step finished")
+            future = self.pool.submit(fn, *args, **kwargs)
+            self._futures.append(future)
+            return future
+
+    def stop(self) -> None:
+        with self._lock:
+            self.stopped = True
+            for future in self._futures:
+                future.cancel()
 
 
 def start_landing(prepared: PreparedRun, work: Path) -> bool:
@@ -665,17 +696,18 @@ def start_landing(prepared: PreparedRun, work: Path) -> bool:
     if pool is None:
         return False
     future: Future = Future()
+    executor = _LandingExecutor(pool)
 
     def run() -> None:
         if not future.set_running_or_notify_cancel():
             return
         try:
-            future.set_result(landing_rows(prepared, work, executor=pool))
+            future.set_result(landing_rows(prepared, work, executor=executor))
         except BaseException as exc:  # handed to whoever waits for it
             future.set_exception(exc)
 
     with _LANDING_LOCK:
-        _LANDING[str(work)] = future
+        _LANDING[str(work)] = (future, executor)
     threading.Thread(target=run, name="fieldlimits-landing", daemon=True).start()
     return True
 
@@ -684,26 +716,28 @@ def await_landing(work: Path) -> None:
     """Wait for a landing step started by :func:`start_landing` (its error is raised by the
     route step that takes its parts)."""
     with _LANDING_LOCK:
-        future = _LANDING.get(str(work))
-    if future is not None:
-        future.exception()
+        started = _LANDING.get(str(work))
+    if started is not None:
+        started[0].exception()
 
 
 def _take_landing(work: Path):
     """The parts of the landing step started early for ``work`` (None: not started)."""
     with _LANDING_LOCK:
-        future = _LANDING.pop(str(work), None)
-    return None if future is None else future.result()
+        started = _LANDING.pop(str(work), None)
+    return None if started is None else started[0].result()
 
 
 def _drop_landing(work: Path) -> None:
-    """Stop a landing step started early (a failed or stopped run): its blocks not yet
-    started are cancelled with the pool; wait for the thread, ignoring its error."""
+    """Stop a landing step started early (a failed or stopped run): no further block is
+    handed to the pool and those waiting there are cancelled; wait for its thread (at most
+    the blocks already being solved), ignoring its error."""
     with _LANDING_LOCK:
-        future = _LANDING.pop(str(work), None)
-    if future is None:
+        started = _LANDING.pop(str(work), None)
+    if started is None:
         return
-    chunks.shutdown_pool()
+    future, executor = started
+    executor.stop()
     future.exception()
 
 
@@ -756,8 +790,10 @@ def _landing_pool(n_blocks: int):
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
 
-    return ProcessPoolExecutor(max_workers=size, mp_context=multiprocessing.get_context("spawn"),
+    pool = ProcessPoolExecutor(max_workers=size, mp_context=multiprocessing.get_context("spawn"),
                                initializer=chunks.start_chunk_process)
+    chunks.track_pool(pool)  # stopped with the chunks' pool by a stopped command
+    return pool
 
 
 def landing_rows(prepared: PreparedRun, work: Path, executor=None):
@@ -783,6 +819,7 @@ def landing_rows(prepared: PreparedRun, work: Path, executor=None):
     finally:
         if pool is not None:  # its memory is free for the load
             pool.shutdown(wait=True, cancel_futures=True)
+            chunks.track_pool(pool, add=False)
 
 
 def _landing_parts(prepared: PreparedRun, run_id: int, folder: str) -> list[str] | None:

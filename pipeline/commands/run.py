@@ -146,6 +146,9 @@ class Stopper:
             self._done = True
         if self.server is not None:
             self.server.stop(wait_s=2.0)
+        from fieldlimits.pipeline import chunks
+
+        chunks.terminate_pools()  # the worker processes would outlive os._exit below
         state = steps.CURRENT
         state.remove_work_dir()  # parts a still-running chunk task wrote after the cleanup
         if state.run_id is None:

@@ -162,3 +162,33 @@ def test_landing_blocks_beside_the_chunks_in_their_pool_store_the_rows_of_one_bl
     assert len(m) == len(rp) > 0
     np.testing.assert_array_equal(m["destination_landing_limit_kg"].to_numpy(float),
                                   m["landing_limit_kg"].to_numpy(float))
+
+
+def test_a_failed_run_stops_its_early_landing_step_and_leaves_the_pool_to_the_chunks(
+        demo_dir, tmp_path, monkeypatch):
+    """A run that fails (or is stopped) while its landing step runs beside the chunks: the
+    clean-up hands no further block to the pool, cancels those waiting, waits for the step's
+    thread and removes the folder; the pool stays up for chunk tasks still running (closing
+    it under them started a new one that outlived the run)."""
+    import threading
+
+    from fieldlimits.pipeline import chunks
+
+    monkeypatch.setenv("FIELDLIMITS_CHUNK_PROCESSES", "2")
+    monkeypatch.setattr(chunks, "PROCESS_MIN_CASES", 1)  # the demo is a small run
+    monkeypatch.setattr(landing, "BLOCK_AIRFIELDS", 1)  # many blocks: most still waiting
+    params = steps.RunParams(reliability_levels=(0.5,), conditions=("dry",))
+    prepared = steps.prepare_run(demo_dir, tmp_path / "stop.duckdb", params)
+    run_id = steps.register(prepared)
+    work = steps.build_cases(prepared, run_id)
+    chunks.shutdown_pool()
+    try:
+        assert steps.start_landing(prepared, work)
+        pool = chunks._POOL
+        steps.cleanup(prepared, run_id)
+        assert steps._LANDING == {} and chunks._POOL is pool
+        assert not any(t.name == "fieldlimits-landing" and t.is_alive() for t in threading.enumerate())
+        assert pool.submit(int, "7").result() == 7
+    finally:
+        chunks.shutdown_pool()
+    assert not work.exists()

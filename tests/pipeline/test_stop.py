@@ -95,3 +95,39 @@ def test_a_killed_run_leaves_no_server_and_the_next_run_tidies_up(tmp_path):
               progress=lambda *a: None)
     assert _status(db, 1)[0] == "interrupted"
     assert not (tmp_path / "kill.duckdb.work").exists()  # removed with the dead run's record
+
+
+def _sleep_and_return(seconds: float) -> float:
+    time.sleep(seconds)
+    return seconds
+
+
+def test_a_stopped_command_takes_its_worker_processes_with_it(monkeypatch, tmp_path):
+    """A stop ends the command with ``os._exit``, which skips the pools' shut-down at exit: the
+    worker processes (the chunks' pool and a landing pool) are stopped first, a chunk in
+    progress abandoned. Without that they waited for work forever, about 0.5 GB each, after
+    every stopped run on a network large enough for worker processes."""
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    from fieldlimits.pipeline import chunks
+
+    monkeypatch.setenv("FIELDLIMITS_CHUNK_PROCESSES", "2")
+    monkeypatch.setattr(chunks, "PROCESS_MIN_CASES", 0)
+    (tmp_path / "cases.json").write_text('{"cases_per_chunk": [1]}')
+    chunks.shutdown_pool()
+    pool = chunks._process_pool(tmp_path)
+    other = ProcessPoolExecutor(max_workers=1, mp_context=multiprocessing.get_context("spawn"))
+    chunks.track_pool(other)
+    busy = [pool.submit(_sleep_and_return, 60.0), pool.submit(_sleep_and_return, 60.0),
+            other.submit(_sleep_and_return, 60.0)]
+    time.sleep(1.0)
+    procs = [*pool._processes.values(), *other._processes.values()]
+    assert len(procs) >= 2 and all(p.is_alive() for p in procs)  # started on submit
+    t0 = time.monotonic()
+    chunks.terminate_pools()
+    for p in procs:
+        p.join(timeout=10)
+    assert not any(p.is_alive() for p in procs) and time.monotonic() - t0 < 10
+    assert chunks._POOL is None and chunks._OTHER_POOLS == set()
+    assert all(f.cancelled() or f.exception(timeout=30) is not None for f in busy)  # abandoned
