@@ -324,17 +324,17 @@ def write_best_part(direction: pa.Table, path: Path, key: str, airfield_level_ba
     _write_part(best_direction_rows(direction, airfield_level_bases), path, key, tuple(airfield_level_bases))
 
 
-def best_part(work_dir: Path, result: "ChunkResult", airfield_level_bases) -> str | None:
-    """The best-direction part of a chunk result when it was written with the same key as the
-    chunk's direction part and for these bases, else None."""
+def best_part(result: "ChunkResult", airfield_level_bases) -> str:
+    """The best-direction part of a chunk result: the one the chunk wrote when it carries the
+    key of the chunk's direction part and was made for these bases, else written here from
+    the direction rows (a part from before, a chunk whose rows came back from Dask)."""
     direction = Path(result.direction_path)
     best = best_part_path(direction.parent.parent, result.chunk)
-    try:
-        key = (pq.read_schema(direction).metadata or {}).get(_KEY_META, b"").decode()
-    except Exception:
-        return None
+    key = (pq.read_schema(direction).metadata or {}).get(_KEY_META, b"").decode()
     done, bases, _ = _existing_part(best, key)
-    return str(best) if key and done and sorted(bases) == sorted(airfield_level_bases) else None
+    if not (key and done and sorted(bases) == sorted(airfield_level_bases)):
+        write_best_part(pq.read_table(direction), best, key, airfield_level_bases)
+    return str(best)
 
 
 _POOL = None

@@ -579,16 +579,7 @@ def best_directions(work: Path, results: Sequence[ChunkResult]) -> list[str]:
         os.replace(tmp, out)
         return [str(out)]
     bases = sorted({b for r in results for b in r.airfield_bases})
-    paths = []
-    for r in results:
-        path = chunks.best_part(work, r, bases)
-        if path is None:
-            key = (pq.read_schema(r.direction_path).metadata or {}).get(b"fieldlimits_chunk_key", b"").decode()
-            out = chunks.best_part_path(Path(r.direction_path).parent.parent, r.chunk)
-            chunks.write_best_part(pq.read_table(r.direction_path), out, key, bases)
-            path = str(out)
-        paths.append(path)
-    return paths
+    return [chunks.best_part(r, bases) for r in results]
 
 
 ROUTE_AIRFIELD_COLUMNS = ("run_id", "airfield_id", "runway_id", "aircraft_type_id", "month", "condition",

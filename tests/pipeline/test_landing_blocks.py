@@ -89,20 +89,9 @@ def test_no_routes_no_parts(demo_tables, tmp_path):
     assert len(landing.route_rows(parts)) == 0
 
 
-def test_a_run_with_landing_blocks_in_worker_processes_stores_the_rows_of_one_block(
-        demo_dir, demo_tables, tmp_path, monkeypatch):
-    """A whole run with the landing step in blocks of three destinations on two worker
-    processes: the stored landing tables hold the rows of all destinations solved at once
-    here, and the route payloads carry the same destination limits."""
-    monkeypatch.setenv("FIELDLIMITS_CHUNK_PROCESSES", "2")
-    monkeypatch.setattr(landing, "BLOCK_AIRFIELDS", 3)
-    pools = []
-    real = steps._landing_pool
-    monkeypatch.setattr(steps, "_landing_pool", lambda n: pools.append(real(n)) or pools[-1])
-    params = steps.RunParams(reliability_levels=(0.5, 0.95), conditions=("dry",))
-    db = tmp_path / "blocks.duckdb"
-    steps.run_local(demo_dir, db, params, progress=lambda *a: None)
-    assert len(pools) == 1 and pools[0] is not None  # the landing step used worker processes
+def _assert_stored_landing_is_one_block(db, demo_tables, params):
+    """The stored landing tables hold the rows of all destinations solved at once here, and
+    the route payloads carry the same destination limits; returns the route payload rows."""
     one = landing.landing_frames(demo_tables, params.as_dict())
     with duckdb.connect(str(db), read_only=True) as con:
         stored = {t: con.sql(f"SELECT * EXCLUDE (run_id) FROM {t}").df()
@@ -120,6 +109,24 @@ def test_a_run_with_landing_blocks_in_worker_processes_stores_the_rows_of_one_bl
     assert len(m) == len(rp)
     np.testing.assert_array_equal(m["destination_landing_limit_kg"].to_numpy(float),
                                   m["landing_limit_kg"].to_numpy(float))
+    return rp
+
+
+def test_a_run_with_landing_blocks_in_worker_processes_stores_the_rows_of_one_block(
+        demo_dir, demo_tables, tmp_path, monkeypatch):
+    """A whole run with the landing step in blocks of three destinations on two worker
+    processes: the stored landing tables hold the rows of all destinations solved at once
+    here, and the route payloads carry the same destination limits."""
+    monkeypatch.setenv("FIELDLIMITS_CHUNK_PROCESSES", "2")
+    monkeypatch.setattr(landing, "BLOCK_AIRFIELDS", 3)
+    pools = []
+    real = steps._landing_pool
+    monkeypatch.setattr(steps, "_landing_pool", lambda n: pools.append(real(n)) or pools[-1])
+    params = steps.RunParams(reliability_levels=(0.5, 0.95), conditions=("dry",))
+    db = tmp_path / "blocks.duckdb"
+    steps.run_local(demo_dir, db, params, progress=lambda *a: None)
+    assert len(pools) == 1 and pools[0] is not None  # the landing step used worker processes
+    _assert_stored_landing_is_one_block(db, demo_tables, params)
 
 
 def test_landing_blocks_beside_the_chunks_in_their_pool_store_the_rows_of_one_block(
@@ -145,23 +152,7 @@ def test_landing_blocks_beside_the_chunks_in_their_pool_store_the_rows_of_one_bl
         chunks.shutdown_pool()
     assert started == [True] and own_pools == []  # started early, in the chunks' pool
     assert steps._LANDING == {}
-    one = landing.landing_frames(demo_tables, params.as_dict())
-    with duckdb.connect(str(db), read_only=True) as con:
-        stored = {t: con.sql(f"SELECT * EXCLUDE (run_id) FROM {t}").df()
-                  for t in ("landing_direction", "landing_airfield")}
-        rp = con.sql("SELECT destination_id, aircraft_type_id, month, condition, basis, reliability, "
-                     "destination_landing_limit_kg FROM route_payload").df()
-    for table, frame in (("landing_direction", one.direction), ("landing_airfield", one.airfield)):
-        got = stored[table].sort_values(KEYS, ignore_index=True)
-        exp = frame.sort_values(KEYS, ignore_index=True)
-        assert len(got) == len(exp) > 0
-        pd.testing.assert_frame_equal(got, exp, check_exact=True, check_dtype=False)
-    limits = one.airfield.rename(columns={"airfield_id": "destination_id"})
-    m = rp.merge(limits, on=["destination_id", "aircraft_type_id", "month", "condition", "basis"], how="left")
-    m = m[(m["reliability_x"] == m["reliability_y"]) | (m["reliability_x"].isna() & m["reliability_y"].isna())]
-    assert len(m) == len(rp) > 0
-    np.testing.assert_array_equal(m["destination_landing_limit_kg"].to_numpy(float),
-                                  m["landing_limit_kg"].to_numpy(float))
+    assert len(_assert_stored_landing_is_one_block(db, demo_tables, params)) > 0
 
 
 def test_a_failed_run_stops_its_early_landing_step_and_leaves_the_pool_to_the_chunks(
