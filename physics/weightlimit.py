@@ -26,7 +26,7 @@ the two). ``ALL_ENGINES_REQUIREMENTS`` keeps the all-engines pair on its own.
 
 The solver (:func:`solve_takeoff_weight`) is a vectorised bracket search on the mass between
 OEW and MTOW, to ``tol_kg`` (ITP: interpolation, truncation and projection, never more than a
-few evaluations beyond bisection, :func:`_itp_search`): feasible at MTOW → ``structural``; infeasible at OEW → ``no_takeoff``
+few evaluations beyond bisection, :func:`physics.masssearch.bracket_search`): feasible at MTOW → ``structural``; infeasible at OEW → ``no_takeoff``
 (NaN mass); otherwise the returned mass is the feasible end of a bracket narrower than
 ``tol_kg`` whose other end fails, and the limiting factor is the requirement most violated at
 that other end. It assumes every margin falls as the mass rises (true of field lengths and
@@ -62,6 +62,7 @@ from fieldlimits.physics import fieldlength
 from fieldlimits.physics import flightpath
 from fieldlimits.physics import groundrun
 from fieldlimits.physics import limits
+from fieldlimits.physics import masssearch
 from fieldlimits.physics import takeoffevents
 from fieldlimits.physics import thrust
 from fieldlimits.physics.select import choose
@@ -677,10 +678,10 @@ def solve_takeoff_weight(aircraft, site, *, tol_kg=1.0, requirements=None, rules
 
     Notes
     -----
-    Bracket search on [OEW, MTOW] for every case at once (:func:`_itp_search`): MTOW is
+    Bracket search on [OEW, MTOW] for every case at once (:func:`physics.masssearch.bracket_search`): MTOW is
     evaluated first (feasible → ``structural``), then ITP steps interpolating in ln m, with
     OEW evaluated only where the first trial fails (infeasible → ``no_takeoff``). Invariant:
-    the lower end meets every requirement, the upper end fails one; at most ITP_N0
+    the lower end meets every requirement, the upper end fails one; at most ``masssearch.ITP_N0``
     evaluations more than bisection's ceil(log2((MTOW − OEW)/tol)).
     Wet never better than dry: limit_wet = min(limit with the wet friction and 15 ft screen,
     limit on the same runway dry with a 35 ft screen), figures of the lower.
@@ -802,13 +803,13 @@ OBSTACLE_MARGIN_SLOPE = 7.5
 
 def _obstacle_search_margin(margin):
     """The obstacle margin as its search sees it: −ln(1 + margin) scaled by
-    DISTANCE_MASS_EXPONENT / OBSTACLE_MARGIN_SLOPE (same sign, so the same limit; −inf, an
+    masssearch.DISTANCE_MASS_EXPONENT / OBSTACLE_MARGIN_SLOPE (same sign, so the same limit; −inf, an
     impossible case, stays). The search estimates the value at OEW, before evaluating it,
     with the distance margins' slope; scaled to it, the first step lands near the root
     (4.3 evaluations per case instead of 5.35 on that network)."""
     m = np.asarray(margin, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
-        scaled = np.expm1(DISTANCE_MASS_EXPONENT / OBSTACLE_MARGIN_SLOPE * np.log1p(m))
+        scaled = np.expm1(masssearch.DISTANCE_MASS_EXPONENT / OBSTACLE_MARGIN_SLOPE * np.log1p(m))
     return np.where(m > -1.0, scaled, m)
 
 
@@ -824,7 +825,7 @@ def _obstacle_search(cases, hi_kg, margin_hi, tol_kg, reqs, figures):
         margin, memo = requirement_margins(cs, mass, only)
         return _obstacle_search_margin(margin), memo
 
-    lo, _, _, none, _, v1_state = _itp_search(
+    lo, _, _, none, _, v1_state = masssearch.bracket_search(
         cases, margins_fn, np.asarray(cases.aircraft.oew_kg, dtype=float), np.asarray(hi_kg, dtype=float),
         _obstacle_search_margin(margin_hi), tol_kg)
     out = {f.name: np.full(n, np.nan) for f in fields(WeightLimit)}
@@ -888,332 +889,6 @@ def _solve_accepted(aircraft, site, tol_kg, reqs, figures, obstacles=None):
     return WeightLimit(**out)
 
 
-#: ITP parameters (Oliveira & Takahashi 2020): kappa1 = ITP_KAPPA1/(b0 − a0), kappa2, n0.
-#: A small kappa1 keeps the first steps close to the interpolated root (the margins are
-#: smooth in the mass); n0 = 3 allows at most three evaluations beyond bisection.
-ITP_KAPPA1 = 1e-4
-ITP_KAPPA2 = 2.0
-ITP_N0 = 3
-
-#: Exponent p of the estimate d ∝ m^p used for the value at OEW before it is evaluated
-#: (ground run ∝ V_LOF²/a with V_LOF² ∝ m and a falling with m: p ≈ 2). [–]
-DISTANCE_MASS_EXPONENT = 2.0
-
-
-#: Failed trials before OEW is evaluated when no trial has yet succeeded (the secant through
-#: two failed trials landing at or below OEW calls for it at once). [–]
-OEW_CHECK_FAILS = 3
-
-#: Cases whose bracket has closed are dropped from the evaluations once those still open are
-#: at most this share of the cases evaluated (gathering the state costs far less than
-#: evaluating the closed ones again, above all with the engine-failure requirements). [–]
-COMPACT_SHARE = 0.7
-
-# rows of the search state F (see _itp_search)
-_ROWS = 15
-
-
-def _itp_value(margin):
-    """Function the ITP search interpolates: g = −log(1 + margin) (−margin to first order).
-
-    For the distance margins A/d − 1 this is log(d/A), close to linear in the mass (d grows
-    roughly as m²); its sign is that of −margin, so feasibility is unchanged. Margins ≤ −1
-    (impossible) give +inf, i.e. a bisection step.
-    """
-    m = np.asarray(margin, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        g = np.log1p(np.fmax(m, -1.0))  # fmax: NaN → −1 → log1p = −inf
-    return np.negative(g, out=g) if isinstance(g, np.ndarray) else -g
-
-
-def _least_met(g):
-    """Index (int8) and value of the largest g_i (the least-met requirement) over the first
-    axis; the first of equal values, as ``argmax``. A pass over the few requirement rows:
-    ``argmax`` along a short first axis is many times slower."""
-    val = g[0]
-    i = np.zeros(g.shape[1:], dtype=np.int8)
-    for k in range(1, g.shape[0]):
-        more = g[k] > val
-        i += more * np.int8(k) - more * i  # i = k where more (branch-free: the mask is random)
-        val = np.maximum(val, g[k])
-    return i, val
-
-
-def _interpolated_root(ul, up, uq, gl, gp, gq, j):
-    """Root in u of the interpolant through the last evaluations (u, g): the secant through
-    the last two (j = 1), inverse quadratic interpolation through the last three (j ≥ 2), in
-    Newton's form: ul − gl u[gl, gp] + gl gp u[gl, gp, gq]. Any shape; NaN/inf where
-    degenerate."""
-    f1 = (ul - up) / (gl - gp)  # divided difference du/dg
-    est = ul - gl * f1
-    if j >= 2:
-        est = est + gl * gp * ((f1 - (up - uq) / (gp - gq)) / (gl - gq))
-    return est
-
-
-def _itp_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
-    """Vectorised ITP bracket search for the largest mass with least margin ≥ 0.
-
-    Parameters
-    ----------
-    cases : Cases
-        Prepared cases (one per element of ``lo``).
-    margins_fn : callable
-        ``margins_fn(cases, mass) -> (margins, memo)``: every requirement's margin, shape
-        (n_requirements, n) (−inf where impossible), and the trial mass's memo. [–]
-    lo, hi : numpy.ndarray
-        Bracket: OEW (not yet evaluated) and a mass that fails (MTOW). [kg]
-    m_hi : numpy.ndarray
-        Margins at ``hi``, shape (n_requirements, n). [–]
-    tol_kg : float
-        Final bracket width. [kg]
-    capture : callable, optional
-        ``capture(cases, mass, memo, local, index)``, called after each evaluation with the
-        positions ``local`` (into ``cases``) and ``index`` (into the full arrays) of the
-        cases found feasible at ``mass``: the last call for a case is at its final mass.
-
-    Returns
-    -------
-    lo, hi : numpy.ndarray
-        Bracket narrower than ``tol_kg``, feasible at ``lo``, infeasible at ``hi``; where
-        ``none``, lo = hi = OEW. [kg]
-    margins_hi : numpy.ndarray
-        Every requirement's margin at ``hi``. [–]
-    none : numpy.ndarray of bool
-        Cases that fail at OEW (``no_takeoff``).
-    iterations : int
-        Evaluations made. [–]
-    v1_state : dict or None
-        The last V1 of each case and the mass it was found for (warm start for the final
-        evaluations). [m/s], [kg]
-
-    Notes
-    -----
-    Interpolate each requirement on its own (g_i = −log(1 + margin_i), :func:`_itp_value`):
-    the secant through the last two evaluations, or inverse quadratic interpolation through
-    the last three, where it falls inside the bracket; the estimate is the lowest of the
-    requirements' roots (the least margin, max g_i, has a kink wherever the requirement that
-    is least met changes, e.g. a climb margin, flat in the mass, least met at light masses
-    and a distance binding at the limit; interpolating it across the kink costs steps).
-    Where no requirement's estimate is inside, regula falsi on max g_i with the Illinois
-    halving of an end's value when the other end has moved twice in a row. Then truncate towards
-    the midpoint by max(kappa1 (b − a)^kappa2, eps/2) (the floor of eps/2 makes the step land
-    across the root once the interpolation is that accurate, so the bracket closes from both
-    sides), project into the ball of radius eps 2^(n_max − j) − (b − a)/2 around the midpoint
-    (eps = tol/2, n_max = ceil(log2((b0 − a0)/tol)) + n0): never more than n0 evaluations
-    beyond bisection, superlinear where the margin is smooth. A margin of −inf (impossible)
-    makes that step a bisection.
-
-    OEW is evaluated only when needed: until then its value is estimated from the value at
-    MTOW as g(MTOW) + p ln(OEW/MTOW) (:data:`DISTANCE_MASS_EXPONENT`, d ∝ m^p); a case
-    found feasible at a trial mass is feasible at OEW (margins fall with the mass). A case
-    with no feasible trial yet has OEW evaluated when the secant through its failed trials
-    puts the root at or below OEW, after :data:`OEW_CHECK_FAILS` failed trials, or when its
-    bracket has closed; failing there ends its search as ``no_takeoff``. Each case follows
-    its own sequence, so a scalar call equals the array element. Cases whose bracket has
-    closed are dropped from the evaluations once they are at least 1 − :data:`COMPACT_SHARE`
-    of those still evaluated.
-
-    References
-    ----------
-    .. [4] I. F. D. Oliveira, R. H. C. Takahashi, "An enhancement of the bisection method
-       average performance preserving minmax optimality", *ACM Trans. Math. Software* 47(1),
-       2020, Algorithm 1.
-    .. [3] Numerical Recipes §9.1–9.2 (bisection, false position).
-    .. [5] M. Dowell, P. Jarratt, "A modified regula falsi method for computing the root of an
-       equation", *BIT* 11, 1971 (the Illinois method).
-    """
-    lo_out, hi_out = lo.astype(float).copy(), hi.astype(float).copy()
-    mhi_out = np.array(m_hi, dtype=float, copy=True, order="C")
-    none_out = np.zeros(lo.size, dtype=bool)
-    v1_state = None  # last V1 of each case (engine-failure search), handed back for reuse
-    if lo.size == 0:
-        return lo_out, hi_out, mhi_out, none_out, 0, v1_state
-    eps = 0.5 * tol_kg
-    grid = tol_kg / 64.0
-    # State of the cases still searched, one row each of F (compacted together as brackets
-    # close): ends A < B (masses, their logarithms u and the interpolated values G,
-    # Illinois-halved), the ITP constants, and the last three evaluations (u, g) for the
-    # secant and inverse quadratic steps; margins at B in MH.
-    F = np.empty((_ROWS, lo.size))
-    A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq, gl, gp, gq = F
-    A[:], B[:] = lo_out, hi_out
-    MH = mhi_out.copy()
-    np.log(A, out=uA)
-    np.log(B, out=uB)
-    # each requirement's value at the last three evaluations, and which was least met (where
-    # that changed, the steps interpolate each requirement on its own: the least margin has
-    # a kink there)
-    H = [_itp_value(MH), np.full(MH.shape, np.nan), np.full(MH.shape, np.nan)]  # newest first
-    AR = np.full((3, lo.size), -1, dtype=np.int8)
-    AR[0], GB[:] = _least_met(H[0])
-    with np.errstate(invalid="ignore"):
-        GA[:] = np.minimum(GB + DISTANCE_MASS_EXPONENT * (uA - uB), -1e-3)  # estimate until evaluated
-    width0 = np.maximum(B - A, tol_kg)
-    n_max = np.ceil(np.log2(width0 / tol_kg)) + ITP_N0
-    r_base[:] = eps * 2.0 ** n_max  # projection radius eps 2^(n_max − j), before − (b − a)/2
-    k1[:] = ITP_KAPPA1 / width0
-    lo0[:] = A
-    ul[:], gl[:] = uB, GB
-    up[:] = uq[:] = gp[:] = gq[:] = np.nan
-    idx = np.arange(lo.size)
-    known = np.zeros(lo.size, dtype=bool)  # the low end is known feasible (evaluated, or a trial)
-    none = np.zeros(lo.size, dtype=bool)
-    side = np.zeros(lo.size, dtype=np.int8)  # +1: the low end moved last, −1: the high end
-    fails = np.zeros(lo.size, dtype=np.int8)  # trials failed while the low end is not yet known
-    sub = cases
-    # V1, the mass it was found for (and the previous pair) of each case's own last trial: a
-    # closed bracket evaluated until the batch is compacted keeps those of the trial before
-    # it closed (taken when it is first left out, or when the batch is compacted), so what
-    # follows does not depend on the batch
-    kept = np.zeros(lo.size, dtype=bool)
-
-    def keep_v1(k):
-        nonlocal v1_state
-        st = sub._cache.get("engine_failure_state")
-        if k.size and st and st.get("v1") is not None:
-            if v1_state is None:
-                v1_state = {}
-            i = idx.take(k)
-            for key, val in st.items():
-                if np.shape(val) == idx.shape:
-                    v1_state.setdefault(key, np.full(lo.size, np.nan))[i] = val.take(k)
-            kept[k] = True
-
-    def flush(k, A, B):
-        i = idx.take(k)
-        lo_out[i], hi_out[i], none_out[i] = A.take(k), B.take(k), none.take(k)
-        mhi_out[:, i] = MH.take(k, axis=1)
-        keep_v1(k[~kept.take(k)])
-
-    j = 0
-    limit_iter = int(n_max.max()) + 3
-    while j < limit_iter:
-        w = B - A
-        open_ = w > tol_kg
-        # a bracket that closed with OEW unevaluated stays live until OEW is evaluated
-        live = open_ | ~(known | none)
-        n_live = int(np.count_nonzero(live))
-        if n_live == 0:
-            break
-        if n_live <= COMPACT_SHARE * idx.size:
-            flush(np.flatnonzero(~live), A, B)
-            keep = np.flatnonzero(live)
-            sub = sub.take(keep)
-            F, MH, AR = F.take(keep, axis=1), MH.take(keep, axis=1), AR.take(keep, axis=1)
-            H = [h.take(keep, axis=1) for h in H]
-            A, B, uA, uB, GA, GB, r_base, k1, lo0, ul, up, uq, gl, gp, gq = F
-            idx, known, none, side, fails, w, open_, kept = (
-                v.take(keep) for v in (idx, known, none, side, fails, w, open_, kept))
-        xh = 0.5 * (A + B)
-        r = r_base * 2.0 ** -j - 0.5 * w
-        np.maximum(r, 0.0, out=r)
-        delta = k1 * (w * w)  # kappa2 = 2
-        np.maximum(delta, 0.5 * eps, out=delta)  # at least half a tolerance: straddle the root
-        below = None  # the secant puts the root at or below the low end
-        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-            # in u = ln m: regula falsi on the bracket (the least margin); the secant through
-            # the last two evaluations, or inverse quadratic interpolation through the last
-            # three, where it falls inside the bracket: of the least margin where the same
-            # requirement was least met at those evaluations, else of each requirement on its
-            # own, the lowest of their roots
-            rf = (GB * uA - GA * uB) / (GB - GA)
-            uf = rf
-            if j >= 1:
-                est = _interpolated_root(ul, up, uq, gl, gp, gq, j)
-                uf = np.where((est > uA) & (est < uB), est, rf)
-                kink = AR[0] != AR[1]
-                if j >= 2:
-                    kink |= AR[1] != AR[2]
-                k = np.flatnonzero(kink)  # never with one requirement
-                if k.size:  # (take: fancy indexing on the last axis gives strided views)
-                    uak, ubk = uA.take(k), uB.take(k)
-                    e = _interpolated_root(ul.take(k), up.take(k), uq.take(k), *(h.take(k, axis=1) for h in H), j)
-                    lowest = np.where((e > uak) & (e < ubk), e, np.inf).min(axis=0)
-                    uf[k] = np.where(lowest < np.inf, lowest, rf.take(k))
-                unknown = np.flatnonzero(~known)
-                if unknown.size:  # the secants of the requirements, through failed trials
-                    below = np.zeros(known.shape, dtype=bool)
-                    ubu = uB.take(unknown)
-                    e = _interpolated_root(ul.take(unknown), up.take(unknown), None,
-                                           *(h.take(unknown, axis=1) for h in H[:2]),
-                                           None, 1)
-                    below[unknown] = np.where(e < ubu, e, np.inf).min(axis=0) <= uA.take(unknown)
-            xf = np.exp(uf)
-        bad = ~np.isfinite(xf)
-        if bad.any():
-            np.copyto(xf, xh, where=bad)
-        d = xh - xf
-        sigma = np.sign(d)
-        xt = choose(delta <= np.abs(d), xf + sigma * delta, xh)
-        # close-out: the estimate within 0.9 tolerance of an end → step across it, to midway
-        # between it and one tolerance from that end, so the bracket closes
-        near_b, near_a = (B - xf) < 0.9 * tol_kg, (xf - A) < 0.9 * tol_kg
-        xt = choose(near_b & ~near_a, 0.5 * (xf + B - tol_kg), xt)  # (choose: the masks mix)
-        xt = choose(near_a & ~near_b, 0.5 * (xf + A + tol_kg), xt)
-        inside = np.abs(xt - xh) <= r  # the projection binds only in the worst case
-        x = xt if inside.all() else np.where(inside, xt, xh - sigma * r)
-        # on a grid of tol/64 from the starting end: rounding noise of the margins (SIMD paths
-        # differ with the batch) then cannot move the result, so a scalar call equals the
-        # array element exactly
-        x -= lo0
-        x /= grid
-        np.round(x, out=x)
-        x *= grid
-        x += lo0
-        np.clip(x, A, B, out=x)
-        # OEW itself where the bracket closed before any trial succeeded, where the secant
-        # through two failed trials puts the root at or below OEW, or after OEW_CHECK_FAILS
-        # failed trials
-        check = ~open_
-        if below is not None:
-            check |= below | (fails >= OEW_CHECK_FAILS)
-        check &= ~known
-        np.copyto(x, A, where=check)
-        if j:  # the cases this trial does not serve for the first time: their last trial's V1
-            keep_v1(np.flatnonzero(~(open_ | check | kept)))
-        mg, memo = margins_fn(sub, x)
-        gi = _itp_value(mg)
-        ar, g = _least_met(gi)
-        ok = g <= 0.0
-        feas = (open_ | check) & ok
-        infeas = open_ & ~ok & ~check
-        failed = check & ~ok
-        # the state is updated at integer positions: feasible and infeasible cases are mixed
-        # at random, where a masked copy (np.copyto(where=), np.where) costs several times
-        # a plain gather and scatter
-        fi, ii = np.flatnonzero(feas), np.flatnonzero(infeas)
-        if capture is not None and fi.size:
-            capture(sub, x, memo, fi, idx.take(fi))
-        ux = np.log(x)
-        # Illinois: an end kept twice in a row has its value halved for the interpolation
-        prev = side
-        known |= feas
-        none |= failed
-        fails = (fails + infeas) * ~known  # failed trials while the low end is unknown
-        halve = ii[prev.take(ii) == -1]
-        GA[halve] *= 0.5
-        halve = fi[(prev.take(fi) == 1) & ~check.take(fi)]
-        GB[halve] *= 0.5
-        A[fi], uA[fi], GA[fi] = x.take(fi), ux.take(fi), g.take(fi)
-        if failed.any():
-            fl = np.flatnonzero(failed)
-            B[fl], uB[fl] = A.take(fl), uA.take(fl)
-        B[ii], uB[ii], GB[ii] = x.take(ii), ux.take(ii), g.take(ii)
-        MH[:, ii] = mg.take(ii, axis=1)
-        side = prev.copy()
-        side[fi] = 1
-        side[ii] = -1
-        side *= ~check  # 0 where OEW was checked (a multiply: the mask is random)
-        uq[:], up[:], ul[:] = up, ul, ux
-        gq[:], gp[:], gl[:] = gp, gl, g
-        H = [gi, H[0], H[1]]
-        AR[2], AR[1], AR[0] = AR[1], AR[0], ar
-        j += 1
-    flush(np.arange(idx.size), A, B)
-    return lo_out, hi_out, mhi_out, none_out, j, v1_state
-
-
 def _solve(aircraft, site, tol_kg, reqs, figures=True, obstacles=None):
     engine_failure = any(r.margin in _ENGINE_FAILURE_MARGINS for r in reqs)
     cases = prepare_cases(aircraft, site, vmcg_floor=engine_failure)
@@ -1246,7 +921,7 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True, obstacles=None):
     codes = np.array([limits.code(r.factor) for r in reqs])
     if rest.size:
         sub = cases.take(rest)
-        lo, hi, m_top, none_rest, _, v1_state = _itp_search(
+        lo, hi, m_top, none_rest, _, v1_state = masssearch.bracket_search(
             sub, margins_fn, a.oew_kg[rest], a.mtow_kg[rest], m_hi.take(rest, axis=1), tol_kg,
             capture=None if engine_failure or not figures else _shifted(capture, rest))
         none[rest] = none_rest
@@ -1272,7 +947,7 @@ def _solve(aircraft, site, tol_kg, reqs, figures=True, obstacles=None):
             m_top = m_top.take(np.flatnonzero(ok), axis=1)
         # the requirement most violated just above the limit (the margins at the bracket's
         # upper end)
-        factor[active] = codes[_least_met(-m_top)[0]]
+        factor[active] = codes[masssearch.least_met(-m_top)[0]]
         limit[active] = lo[ok]
 
     # Figures at the limit mass: without engine-failure requirements they were taken during
@@ -1334,7 +1009,7 @@ def _solve_staged(cases, tol_kg, reqs, figures):
         m_c, _ = requirement_margins(cases, mtow, cheap)
         rest = np.flatnonzero(m_c.min(axis=0) < 0.0)
         if rest.size:
-            lo, hi, m_top, none_rest, _, _ = _itp_search(
+            lo, hi, m_top, none_rest, _, _ = masssearch.bracket_search(
                 cases.take(rest), lambda cs, mass: requirement_margins(cs, mass, cheap), oew[rest], mtow[rest],
                 m_c.take(rest, axis=1), tol_kg)
             limit_at[rest], above[rest], none[rest] = lo, hi, none_rest
@@ -1355,7 +1030,7 @@ def _solve_staged(cases, tol_kg, reqs, figures):
     searched = np.zeros(n, dtype=bool)
     if fail.size:
         gi = idx[fail]
-        lo, hi, m_top, none_f, _, v1_state = _itp_search(
+        lo, hi, m_top, none_f, _, v1_state = masssearch.bracket_search(
             ef.take(fail), lambda cs, mass: requirement_margins(cs, mass, costly), oew[gi], limit_at[gi],
             m_chk.take(fail, axis=1), tol_kg)
         none[gi], limit_at[gi], above[gi] = none_f, lo, hi
@@ -1394,13 +1069,13 @@ def _solve_staged(cases, tol_kg, reqs, figures):
         m_again, _ = requirement_margins(final_cases(again), above[again], costly)
         m_above[np.ix_(np.flatnonzero(costly_row), again)] = m_again
     limited = np.flatnonzero(~none & ~structural)
-    factor[limited] = codes[_least_met(-m_above.take(limited, axis=1))[0]]
+    factor[limited] = codes[masssearch.least_met(-m_above.take(limited, axis=1))[0]]
 
     out = {k: np.full(n, np.nan) for k in _RESULT_FIELDS}
     if figures:
         final = np.flatnonzero(~none)
         if final.size:
-            if final.size > COMPACT_SHARE * idx.size:
+            if final.size > masssearch.COMPACT_SHARE * idx.size:
                 # evaluate every case of the V1 stage (those without a limit at OEW, their
                 # figures left out) rather than gather the set-up for most of them
                 sub, rows = ef, pos[final]
@@ -1491,7 +1166,7 @@ def _searched_factor(reqs, m_above, required_m, available_m):
                     tie = b[e[b] == e_go[b]]  # the binding go requirement (both where equal)
                     pred[k, tie] = big_e[tie] / d[tie]
                 pred[k_asd, b] = eb / asd[b] + enginefailure.STOP_TIE_BIAS
-    return _least_met(-pred)[0]
+    return masssearch.least_met(-pred)[0]
 
 
 def _shifted(capture, index):
