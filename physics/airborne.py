@@ -17,7 +17,8 @@ from __future__ import annotations
 import numpy as np
 
 from fieldlimits.physics import constants as c
-from fieldlimits.physics.select import choose
+from fieldlimits.physics.compiled import kernel
+from fieldlimits.physics.thrust import _thrust_one, _trail
 
 #: Raymer's load factor in the transition arc (V_TR = 1.15 V_stall, C_L = 0.9 C_Lmax). [–]
 TRANSITION_LOAD_FACTOR = 1.2
@@ -111,21 +112,103 @@ def airborne_distance_m(*, v_transition_mps, climb_sine, screen_height_m=c.SCREE
     ----------
     .. [1] Raymer, Eqs. 17.107–17.112. .. [2] Anderson (1999), Eqs. 6.95–6.98.
     """
-    r = transition_radius_m(v_transition_mps, load_factor)
-    sg = np.asarray(climb_sine, dtype=float)
-    h = np.asarray(screen_height_m, dtype=float)
-    ok = (sg > 0.0) & (sg < 1.0)
-    all_ok = bool(np.all(ok))
-    sg_safe = sg if all_ok else np.where(ok, sg, 0.5)
-    cg = np.sqrt(1.0 - sg_safe * sg_safe)
+    from fieldlimits.physics import groundrun
+
+    args = [np.asarray(x, dtype=float) for x in (v_transition_mps, climb_sine, screen_height_m, load_factor)]
+    shape = np.broadcast_shapes(*(x.shape for x in args))
+    out = np.empty(shape).reshape(-1)
+    _airborne_pass(*groundrun._kernel_args(args, shape), out)
+    return float(out[0]) if shape == () else out.reshape(shape)
+
+
+@kernel
+def _airborne_one(v_tr, sin_g, h, load_factor):
+    """:func:`airborne_distance_m` of one case (NaN where sin gamma is not in (0, 1)). [m]"""
+    r = v_tr * v_tr / (c.G0 * (load_factor - 1.0))
+    if not (sin_g > 0.0 and sin_g < 1.0):
+        return np.nan
+    cg = np.sqrt(1.0 - sin_g * sin_g)
     h_tr = r * (1.0 - cg)
-    inside = h <= h_tr
-    s_arc = np.sqrt(np.maximum(h * (2.0 * r - h), 0.0))
-    s_climb = r * sg_safe + (h - h_tr) * cg / sg_safe
-    out = choose(inside, s_arc, s_climb) if np.ndim(inside) == 1 else np.where(inside, s_arc, s_climb)
-    if not all_ok:
-        out = np.where(ok, out, np.nan)
-    return float(out) if np.ndim(out) == 0 else out
+    if h <= h_tr:  # the screen inside the arc
+        arc = h * (2.0 * r - h)
+        return np.sqrt(arc if arc > 0.0 or arc != arc else 0.0)
+    return r * sin_g + (h - h_tr) * cg / sin_g
+
+
+@kernel
+def _airborne_pass(v_tr, sin_g, h, load_factor, out):
+    """:func:`_airborne_one` per case, in place."""
+    for j in range(out.shape[0]):
+        out[j] = _airborne_one(v_tr[j], sin_g[j], h[j], load_factor[j])
+
+
+def climb_out(thrust_law, *, mass_kg, density_kg_m3, wing_area_m2, v_transition_mps, cd0, induced_factor,
+              screen_height_m, headwind_mps, load_factor=TRANSITION_LOAD_FACTOR):
+    """Climb sine and distances from lift-off to the screen height, n cases in one pass.
+
+    Parameters
+    ----------
+    thrust_law : physics.thrust.ThrustLaw
+        Thrust of the operating engines, n cases.
+    mass_kg, density_kg_m3, wing_area_m2 : array_like
+        Mass, air density and reference area. [kg], [kg/m³], [m²]
+    v_transition_mps : array_like
+        True airspeed in the arc. [m/s]
+    cd0, induced_factor : array_like
+        Zero-lift drag in the air and K = 1/(pi e AR) (no ground effect). [–]
+    screen_height_m, headwind_mps : array_like
+        Screen height and headwind (negative: tailwind). [m], [m/s]
+    load_factor : array_like, optional
+        Load factor in the arc. [–]
+
+    Returns
+    -------
+    climb_sine, air_m, ground_m : numpy.ndarray
+        sin gamma [–], the air distance (NaN where the aircraft cannot climb) and the ground
+        distance over it [m], shape (n,).
+
+    Notes
+    -----
+    C_L = W/(q S), q S = ½ rho V_TR² S; D = q S (C_D0 + K C_L²) (Anderson Eq. 6.78, out of
+    ground effect); sin gamma = (T(V_TR) − D)/W (:func:`climb_sine`); the air distance of
+    :func:`airborne_distance_m`; ground distance × (V_TR − w)/V_TR
+    (:func:`airborne_ground_distance_m`). One compiled pass per case (these functions'
+    formulas, in their order: the same numbers to the bit).
+
+    References
+    ----------
+    .. [1] Raymer, Eqs. 17.105–17.112. .. [2] Anderson (1999), Eq. 6.78, §6.7.2.
+    """
+    from fieldlimits.physics import groundrun
+
+    law, v = thrust_law, np.asarray(v_transition_mps, dtype=float)
+    # the law's fields broadcast against the speeds as in ThrustLaw.thrust_n (trailing axes)
+    floats = [np.asarray(x, dtype=float) for x in (
+        mass_kg, density_kg_m3, wing_area_m2, v, cd0, induced_factor,
+        *(_trail(x, v) for x in (law.t0_n, law.t1_n_per_mps, law.t2_n_per_mps2, law.propeller_power_w)),
+        screen_height_m, load_factor, headwind_mps)]
+    is_prop = _trail(np.asarray(law.is_propeller, dtype=bool), v)
+    shape = np.broadcast_shapes(is_prop.shape, *(x.shape for x in floats))
+    args = groundrun._kernel_args(floats, shape)
+    is_prop = np.ascontiguousarray(np.broadcast_to(is_prop, shape), dtype=np.bool_).reshape(-1)
+    out = np.empty((3,) + args[0].shape)
+    _climb_out_pass(*args, is_prop, *out)
+    return tuple(x.reshape(shape) for x in out)
+
+
+@kernel
+def _climb_out_pass(m, rho, area, v_tr, cd0, k, t0, t1, t2, power, h, load_factor, w, is_prop, sin_out, air_out,
+                    ground_out):
+    """:func:`climb_out` per case, in place."""
+    for j in range(m.shape[0]):
+        v = v_tr[j]
+        weight = m[j] * c.G0
+        q_s = 0.5 * rho[j] * v * v * area[j]
+        cl = weight / q_s
+        drag = q_s * (cd0[j] + k[j] * cl * cl)
+        sin_g = (_thrust_one(t0[j], t1[j], t2[j], power[j], is_prop[j], v) - drag) / weight
+        air = _airborne_one(v, sin_g, h[j], load_factor[j])
+        sin_out[j], air_out[j], ground_out[j] = sin_g, air, air * (v - w[j]) / v
 
 
 def airborne_ground_distance_m(air_distance_m, v_transition_mps, headwind_mps):

@@ -418,43 +418,59 @@ class GroundRegime:
         [kg/m³], [–], [–], [–], [–]
     headwind_mps : array_like
         Headwind, shape (n,). [m/s]
+    terms : physics.groundrun.GroundRunTerms, optional
+        The mass-independent parts (computed from the arguments above if omitted).
+    cases_index : tuple of numpy.ndarray, optional
+        The propeller cases and the tailwind cases (integer positions; found if omitted).
+    inputs : tuple of numpy.ndarray, optional
+        :func:`_regime_inputs` of ``terms`` (kept per solve by :func:`engine_failure_model`).
+
+    Notes
+    -----
+    The constants of a(V) at the mass (its form and roots, the reverse-flow form of the
+    tailwind cases, the propeller terms and the cubic's root) are found in one compiled pass
+    per case (:func:`_regime_constants`); the numpy formulas are the tests' reference.
     """
 
     def __init__(self, thrust_law, *, mass_kg, wing_area_m2, density_kg_m3, cd, cl, mu, slope, headwind_mps,
-                 terms=None, cases_index=None):
-        from fieldlimits.physics import groundrun
-
+                 terms=None, cases_index=None, inputs=None):
         n = np.shape(thrust_law.t0_n)
-        m, w = (_as_shape(x, n) for x in (mass_kg, headwind_mps))
-        if terms is None:
-            terms = groundrun.ground_run_terms(thrust_law, wing_area_m2=wing_area_m2, density_kg_m3=density_kg_m3,
-                                               cd=cd, cl=cl, mu=mu, slope=slope)
-        self.law, self.w = thrust_law, w
-        # as groundrun.acceleration_coefficients, with the mass-independent parts given
-        aero = terms.drag_term_kg_m / m
-        a0 = np.asarray(thrust_law.t0_n, dtype=float) / m - terms.resistance_mps2
-        a1 = _as_shape(np.asarray(thrust_law.t1_n_per_mps, dtype=float) / m, n)
-        t2m = np.asarray(thrust_law.t2_n_per_mps2, dtype=float) / m
-        self.coeffs = groundrun.AccelerationCoefficients(_as_shape(a0, n), a1, _as_shape(t2m - aero, n))
+        if inputs is None:
+            if terms is None:
+                terms = groundrun.ground_run_terms(thrust_law, wing_area_m2=wing_area_m2,
+                                                   density_kg_m3=density_kg_m3, cd=cd, cl=cl, mu=mu, slope=slope)
+            inputs = _regime_inputs(terms, headwind_mps, n)
+        t0, t1, t2, power, drag, resistance, kink, w = inputs
+        (m,) = groundrun._kernel_args([_as_shape(mass_kg, n)], n)
         # the propeller cases, and the tailwind cases whose segments may cross V = 0
         # (reverse-flow drag below it): per case, given by the caller once per solve
         if cases_index is None:
-            cases_index = (np.nonzero(np.asarray(thrust_law.is_propeller, dtype=bool))[0], np.nonzero(w < 0.0)[0])
-        self.prop, self.tail = cases_index
-        self.a2_reverse = _as_shape(t2m + aero, n) if self.tail.size else None
-        self.kink = _as_shape(terms.kink_mps, n)
-        self._forward = None  # groundrun.QuadraticSegments of the V ≥ 0 coefficients, on first use
-        self._reverse = None  # the same of the V < 0 coefficients of the tailwind cases
-        if self.prop.size:
-            i = self.prop
-            a0, _, a2 = self.coeffs
-            m_i = m.take(i)
-            self._p_m = np.asarray(thrust_law.propeller_power_w).take(i) / m_i
-            self._a0n = a0.take(i) - np.asarray(thrust_law.t0_n).take(i) / m_i
-            self._a2p = a2.take(i)
+            cases_index = (np.nonzero(np.broadcast_to(np.asarray(thrust_law.is_propeller, dtype=bool), n))[0],
+                           np.nonzero(w < 0.0)[0])
+        prop, tail = (np.ascontiguousarray(x, dtype=np.intp) for x in cases_index)
+        size, n_t, n_p = m.shape[0], tail.size, prop.size
+        a0, a1, a2, a2r = np.empty(size), np.empty(size), np.empty(size), np.empty(size if n_t else 0)
+        form, k = np.empty(size, dtype=np.int8), np.empty((3, size))
+        rev = np.empty((4, n_t))  # a0, a1, reverse-flow a2 and w of the tailwind cases
+        r_form, r_k = np.empty(n_t, dtype=np.int8), np.empty((3, n_t))
+        pa = np.empty((7, n_p))  # P/m, a0 without the static thrust, a2; the cubic's root and constants
+        closed = np.empty(n_p, dtype=np.bool_)
+        prop_at, reverse_at = np.empty(size, dtype=np.intp), np.empty(size, dtype=np.intp)
+        _regime_constants(t0, t1, t2, power, drag, resistance, m, w, prop, tail, a0, a1, a2, a2r, form, *k, *rev,
+                          r_form, *r_k, *pa, closed, prop_at, reverse_at)
+        self.law, self.w = thrust_law, w.reshape(n)
+        self.coeffs = groundrun.AccelerationCoefficients(a0.reshape(n), a1.reshape(n), a2.reshape(n))
+        self.prop, self.tail = prop, tail
+        self.a2_reverse = a2r.reshape(n) if n_t else None
+        self.kink = kink.reshape(n)
+        self._forward = groundrun.QuadraticSegments.of_forms(a0, a1, a2, w, form, k)
+        self._reverse = groundrun.QuadraticSegments.of_forms(*rev, r_form, r_k) if n_t else None
+        self._prop_at, self._reverse_at = prop_at, reverse_at
+        if n_p:
+            self._p_m, self._a0n, self._a2p = pa[0], pa[1], pa[2]
             # the closed form above the kink where the cubic of a = 0 has one real root
-            self._closed = (self._a0n < 0.0) & (self._a2p < 0.0) & (self._p_m > 0.0)
-            self._root = None  # groundrun.CubicRoot of the propeller cases, on first use
+            self._closed = closed
+            self._root = groundrun.CubicRoot(*pa[3:])
 
     def distance_m(self, v_from, v_to, index=None):
         """Ground distance between two true airspeeds (NaN where not reachable).
@@ -515,21 +531,22 @@ class GroundRegime:
             self._forward = groundrun.QuadraticSegments(a0, a1, a2, self.w)
         fw = self._forward
         t = self.tail
-        reverse_at = np.full(n, -1, dtype=np.intp)
+        reverse_at, prop_at = self.__dict__.get("_reverse_at"), self.__dict__.get("_prop_at")
+        if reverse_at is None:  # a regime taken for a subset: each case's place among its tail and propeller cases
+            reverse_at, prop_at = np.full(n, -1, dtype=np.intp), np.full(n, -1, dtype=np.intp)
+            reverse_at[t] = np.arange(t.size)
+            prop_at[self.prop] = np.arange(self.prop.size)
         if self.a2_reverse is not None and t.size:
             if self._reverse is None:
                 self._reverse = groundrun.QuadraticSegments(a0.take(t), a1.take(t), self.a2_reverse.take(t),
                                                             self.w.take(t))
             rv = self._reverse
-            reverse_at[t] = np.arange(t.size)
             rev = (rv.a0, rv.a1, rv.a2, rv.w, rv.form, *rv.k)
         else:
             rev = (*(np.zeros(0),) * 4, np.zeros(0, dtype=np.int8), *(np.zeros(0),) * 3)
-        prop_at = np.full(n, -1, dtype=np.intp)
         closed = np.zeros(0, dtype=np.bool_)
         prop_terms = (np.zeros(0),) * 7
         if self.prop.size:
-            prop_at[self.prop] = np.arange(self.prop.size)
             closed = np.ascontiguousarray(self._closed, dtype=np.bool_)
             pm, c2, c0 = self._p_m, -self._a2p, -self._a0n
             if self._root is None:  # the cubic's root of every propeller case (used where the form applies)
@@ -598,8 +615,10 @@ class GroundRegime:
         if args is None:  # the regime's coefficients for the compiled kernel, once
             n = self.w.shape
             a2r = self.a2_reverse if self.a2_reverse is not None else np.zeros(0)
-            prop_at = np.full(n, -1, dtype=np.intp)  # each case's place among the propeller cases
-            prop_at[self.prop] = np.arange(self.prop.size)
+            prop_at = self.__dict__.get("_prop_at")  # each case's place among the propeller cases
+            if prop_at is None:
+                prop_at = np.full(n, -1, dtype=np.intp)
+                prop_at[self.prop] = np.arange(self.prop.size)
             pa = (self._p_m, self._a0n, self._a2p) if self.prop.size else (np.zeros(0),) * 3
             args = (*groundrun._kernel_args([_as_shape(x, n) for x in (*self.coeffs, self.kink)], n),
                     *groundrun._kernel_args([np.asarray(a2r, dtype=float)], np.shape(a2r)), prop_at,
@@ -616,6 +635,58 @@ class GroundRegime:
 
 #: No case index (a regime evaluated for all its cases).
 _NO_INDEX = np.zeros(0, dtype=np.intp)
+
+
+def _regime_inputs(terms, headwind_mps, shape):
+    """The mass-independent inputs of a :class:`GroundRegime` (from
+    :func:`physics.groundrun.ground_run_terms`) as its kernel takes them: thrust t0, t1, t2
+    and power, the drag term, the resistance, the propeller kink and the headwind, each a
+    contiguous one-dimensional array of ``shape``'s size (built once per solve and kept).
+    [N, N s/m, N s²/m², W, kg/m, m/s², m/s, m/s]"""
+    law = terms.law
+    return tuple(groundrun._kernel_args([np.asarray(x, dtype=float) for x in (
+        law.t0_n, law.t1_n_per_mps, law.t2_n_per_mps2, law.propeller_power_w, terms.drag_term_kg_m,
+        terms.resistance_mps2, terms.kink_mps, headwind_mps)], shape))
+
+
+@kernel
+def _regime_constants(t0, t1, t2, power, drag, resistance, m, w, prop, tail, a0, a1, a2, a2r, form, k0, k1, k2,
+                      ra0, ra1, ra2, rw, r_form, rk0, rk1, rk2, p_m, a0n, a2p, r, p, d_inv, e, closed, prop_at,
+                      reverse_at):
+    """A :class:`GroundRegime`'s constants at a mass in one pass per case, in place: a(V) =
+    a0 + a1 V + a2 V² (T/m less the drag term/m and the resistance; reverse-flow a2 with the
+    drag term's sign turned where ``a2r`` has room), its form and constants
+    (:func:`physics.groundrun._form_one`); those of the reverse-flow a(V) of the tailwind
+    cases (``tail``) and, for the propeller cases (``prop``), P/m, a0 without the static
+    thrust, a2, whether the closed form above the kink applies and the cubic's root
+    (:func:`physics.groundrun._cubic_one`); each case's place among the tailwind and the
+    propeller cases (−1: none)."""
+    reverse = a2r.shape[0] > 0
+    for j in range(m.shape[0]):
+        mj = m[j]
+        aero = drag[j] / mj
+        a0[j] = t0[j] / mj - resistance[j]
+        a1[j] = t1[j] / mj
+        t2m = t2[j] / mj
+        a2[j] = t2m - aero
+        if reverse:
+            a2r[j] = t2m + aero
+        form[j], k0[j], k1[j], k2[j] = groundrun._form_one(a0[j], a1[j], a2[j])
+        prop_at[j] = -1
+        reverse_at[j] = -1
+    for q in range(tail.shape[0]):
+        j = tail[q]
+        reverse_at[j] = q
+        ra0[q], ra1[q], ra2[q], rw[q] = a0[j], a1[j], a2r[j], w[j]
+        r_form[q], rk0[q], rk1[q], rk2[q] = groundrun._form_one(ra0[q], ra1[q], ra2[q])
+    for q in range(prop.shape[0]):
+        j = prop[q]
+        prop_at[j] = q
+        p_m[q] = power[j] / m[j]
+        a0n[q] = a0[j] - t0[j] / m[j]
+        a2p[q] = a2[j]
+        closed[q] = a0n[q] < 0.0 and a2p[q] < 0.0 and p_m[q] > 0.0
+        r[q], p[q], d_inv[q], e[q] = groundrun._cubic_one(p_m[q], -a2p[q], -a0n[q])
 
 
 @kernel
@@ -1019,7 +1090,9 @@ def _mass_independent(su, aircraft):
                  "speed_ratios": (b(a.vr_over_vs), b(a.vlof_over_vs), b(a.v2_over_vs)), "vmcg_mps": vmcg,
                  # the propeller and the tailwind cases (GroundRegime): the same in every regime
                  "cases_index": (np.nonzero(np.asarray(su.law_all.is_propeller, dtype=bool))[0],
-                                 np.nonzero(su.headwind_mps < 0.0)[0])}
+                                 np.nonzero(su.headwind_mps < 0.0)[0]),
+                 # each ground regime's inputs to its kernel (GroundRegime), contiguous
+                 "regime_inputs": {k: _regime_inputs(t, su.headwind_mps, su.n) for k, t in su.regime_terms.items()}}
         if su.timed_events:  # StopEvents' friction step, friction lift and lift-dumper terms
             _, cos_g = groundrun.slope_sin_cos(su.slope)
             d_mu = su.mu_brake - su.mu_roll
@@ -1072,14 +1145,15 @@ def engine_failure_model(aircraft, site, mass_kg, setup=None):
                   headwind_mps=w)
     roll = dict(common, mu=su.mu_roll, cl=su.cl_roll)
     brake = dict(common, mu=su.mu_brake, cl=su.cl_brake)
-    t = su.regime_terms
+    t, inputs = su.regime_terms, fixed["regime_inputs"]
     roll["cases_index"] = brake["cases_index"] = fixed["cases_index"]
-    all_engines = GroundRegime(su.law_all, cd=su.cd_roll, **roll, terms=t["all_engines"])
-    one_out = GroundRegime(su.law_one_out, cd=su.cd_roll_one_out, **roll, terms=t["one_out"])
-    stop_all = GroundRegime(su.law_idle_all, cd=su.cd_brake, **brake, terms=t["stop_all"])
+    all_engines = GroundRegime(su.law_all, cd=su.cd_roll, **roll, terms=t["all_engines"],
+                               inputs=inputs["all_engines"])
+    one_out = GroundRegime(su.law_one_out, cd=su.cd_roll_one_out, **roll, terms=t["one_out"], inputs=inputs["one_out"])
+    stop_all = GroundRegime(su.law_idle_all, cd=su.cd_brake, **brake, terms=t["stop_all"], inputs=inputs["stop_all"])
     # the engine-failure stop is needed only for the figures or the timed events: built on first use
     stop_one_out = _DeferredRegime(lambda: GroundRegime(su.law_idle_one_out, cd=su.cd_brake_one_out, **brake,
-                                                        terms=t["stop_one_out"]))
+                                                        terms=t["stop_one_out"], inputs=inputs["stop_one_out"]))
     events = None
     if su.timed_events:
         a_vr = one_out.acceleration(speeds.vr_mps)
@@ -1394,19 +1468,15 @@ def continued_takeoff_airborne_m(model, setup, screen_height_m):
     ----------
     .. [1] 14 CFR 25.111, 25.113(a)(1). .. [2] Raymer, §17.8.
     """
-    from fieldlimits.physics import aerodynamics, airborne
+    from fieldlimits.physics import airborne
 
     sp = model.speeds
     v_tr = 0.5 * (sp.vlof_mps + np.fmax(sp.v2_mps, sp.vlof_mps))  # a rotation may lift off above V2
-    weight = model.mass_kg * c.G0
-    q_s = 0.5 * setup.density_kg_m3 * v_tr * v_tr * setup.wing_area_m2
-    cl = weight / q_s
-    drag = q_s * aerodynamics.drag_coefficient(setup.cd0_airborne_one_out, setup.induced_factor, cl)
-    sin_g = airborne.climb_sine(setup.law_one_out.thrust_n(v_tr), drag, weight)
-    air = airborne.airborne_distance_m(v_transition_mps=v_tr, climb_sine=sin_g,
-                                       screen_height_m=np.broadcast_to(screen_height_m, v_tr.shape))
-    out = airborne.airborne_ground_distance_m(air, v_tr, model.headwind_mps)
-    return np.where(model.multi_engine, out, np.nan)
+    out = airborne.climb_out(setup.law_one_out, mass_kg=model.mass_kg, density_kg_m3=setup.density_kg_m3,
+                             wing_area_m2=setup.wing_area_m2, v_transition_mps=v_tr,
+                             cd0=setup.cd0_airborne_one_out, induced_factor=setup.induced_factor,
+                             screen_height_m=screen_height_m, headwind_mps=model.headwind_mps)[2]
+    return np.where(model.multi_engine, out.reshape(v_tr.shape), np.nan)
 
 
 @dataclass(frozen=True)

@@ -188,14 +188,9 @@ def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_
     if np.any(np.asarray(rotation_time_s) != 0.0):
         ground = ground + groundrun.rotation_allowance_m(vlof, w, rotation_time_s)
     v_tr = 0.5 * (vlof + v2)
-    weight = m * c.G0
-    q_s = 0.5 * rho * v_tr * v_tr * s
-    cl_air = weight / q_s
-    drag = q_s * aero.drag_coefficient(cd0_airborne, induced_factor, cl_air)
-    sin_g = airborne.climb_sine(thrust_law.thrust_n(v_tr), drag, weight)
-    air = airborne.airborne_distance_m(v_transition_mps=v_tr, climb_sine=sin_g, screen_height_m=screen_height_m,
-                                       load_factor=load_factor)
-    air_ground = airborne.airborne_ground_distance_m(air, v_tr, w)
+    sin_g, air, air_ground = airborne.climb_out(
+        thrust_law, mass_kg=m, density_kg_m3=rho, wing_area_m2=s, v_transition_mps=v_tr, cd0=cd0_airborne,
+        induced_factor=induced_factor, screen_height_m=screen_height_m, headwind_mps=w, load_factor=load_factor)
     reason = np.where((gr.reason == groundrun.REASON_OK) & np.isnan(air), airborne.REASON_NO_CLIMB, gr.reason)
     tod = ground + air_ground
     tor = takeoff_run_m(ground, air_ground, clearway_m)

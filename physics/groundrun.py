@@ -312,6 +312,15 @@ class QuadraticSegments:
         self.k = np.empty((3, n))  # real roots: sqrt(Δ) with a1's sign, q, r2; special: sqrt(|Δ|)
         _segment_forms(a0, a1, a2, self.form, *self.k)
 
+    @classmethod
+    def of_forms(cls, a0, a1, a2, w, form, k):
+        """The segments whose forms and constants a caller's kernel has found already (the
+        coefficients, headwind, ``form`` and ``k`` as :attr:`form`, :attr:`k`: contiguous
+        one-dimensional arrays, kept as given)."""
+        new = object.__new__(cls)
+        new.a0, new.a1, new.a2, new.w, new.form, new.k = a0, a1, a2, w, form, k
+        return new
+
     def take(self, index):
         """The segments of the cases at ``index`` (integer array): forms and constants
         gathered, so each case keeps the form it had."""

@@ -62,6 +62,7 @@ import numpy as np
 
 from fieldlimits.physics import atmosphere
 from fieldlimits.physics import constants as c
+from fieldlimits.physics.compiled import kernel
 
 MODEL_CODES = {"quadratic": 0, "turbofan": 1, "propeller": 2}
 MODEL_NAMES = tuple(MODEL_CODES)
@@ -176,6 +177,18 @@ def _trail(x, like):
     x = np.asarray(x)
     extra = np.ndim(like) - x.ndim
     return x.reshape(x.shape + (1,) * extra) if extra > 0 else x
+
+
+@kernel
+def _thrust_one(t0, t1, t2, power, is_prop, v):
+    """:meth:`ThrustLaw.thrust_n` of one case at one true airspeed, for compiled kernels:
+    t0 + (t1 + t2 V) V, and min(t0, P/|V|) for a propeller (NaN where either is NaN). [N]"""
+    if is_prop:
+        cap = power / abs(v)
+        if t0 != t0 or cap != cap:
+            return t0 + cap
+        return t0 if t0 < cap else cap
+    return t0 + (t1 + t2 * v) * v
 
 
 @dataclass(frozen=True)

@@ -80,3 +80,56 @@ def test_takeoff_run_with_and_without_clearway():
     # 14 CFR 25.113(b)-(c): with a clearway the run ends midway between lift-off and 35 ft.
     out = fieldlength.takeoff_run_m(1500.0, 400.0, np.array([0.0, 150.0]))
     assert out.tolist() == [1900.0, 1700.0]
+
+
+def _airborne_with_numpy(v_tr, sin_g, h, load_factor):
+    # The transition arc and climb (Raymer Eqs. 17.107-17.112) written with numpy over whole
+    # arrays: the path the compiled pass replaced, kept here as its reference.
+    r = v_tr * v_tr / (c.G0 * (load_factor - 1.0))
+    ok = (sin_g > 0.0) & (sin_g < 1.0)
+    sg = np.where(ok, sin_g, 0.5)
+    cg = np.sqrt(1.0 - sg * sg)
+    h_tr = r * (1.0 - cg)
+    s_arc = np.sqrt(np.maximum(h * (2.0 * r - h), 0.0))
+    s_climb = r * sg + (h - h_tr) * cg / sg
+    return np.where(ok, np.where(h <= h_tr, s_arc, s_climb), np.nan)
+
+
+def test_compiled_climb_out_equals_the_formulas_written_with_numpy():
+    # airborne_distance_m and climb_out are compiled passes per case; the same formulas
+    # written with numpy (C_L = W/(qS), D = qS (C_D0 + K C_L²), sin gamma = (T(V_TR) − D)/W,
+    # the arc or the climb, ground distance × (V − w)/V) give the same numbers to the bit:
+    # polynomial and propeller thrust, screens inside the arc and beyond it, and cases that
+    # cannot climb (NaN in the same places).
+    from tests.physics import fleet
+
+    n = 5000
+    a, site = fleet.random_cases(n, seed=12)
+    rng = np.random.default_rng(12)
+    law = thrust.thrust_law_for_aircraft(a, site.pressure_pa, site.temperature_k,
+                                         engines_operating=rng.choice([1.0, 2.0], n), throttle=1.0)
+    rho = site.pressure_pa / (c.R_AIR * site.temperature_k)
+    m = rng.uniform(0.5, 1.1, n) * a.mtow_kg
+    v_tr = rng.uniform(40.0, 110.0, n)
+    cd0, k = rng.uniform(0.02, 0.09, n), rng.uniform(0.03, 0.06, n)
+    h = rng.choice([4.572, 10.668, 15.24, 60.0], n)
+    w = rng.uniform(-8.0, 12.0, n)
+    sin_g, air, ground = airborne.climb_out(law, mass_kg=m, density_kg_m3=rho, wing_area_m2=a.wing_area_m2,
+                                            v_transition_mps=v_tr, cd0=cd0, induced_factor=k, screen_height_m=h,
+                                            headwind_mps=w)
+    weight = m * c.G0
+    q_s = 0.5 * rho * v_tr * v_tr * a.wing_area_m2
+    cl = weight / q_s
+    ref_sin = (law.thrust_n(v_tr) - q_s * aero.drag_coefficient(cd0, k, cl)) / weight
+    ref_air = _airborne_with_numpy(v_tr, ref_sin, h, airborne.TRANSITION_LOAD_FACTOR)
+    assert np.any(np.isnan(ref_air)) and np.any(law.is_propeller & np.isfinite(ref_air))
+    r = airborne.transition_radius_m(v_tr)
+    h_tr = r * (1.0 - np.sqrt(1.0 - np.clip(ref_sin, 0.0, 1.0) ** 2))
+    assert np.any(np.isfinite(ref_air) & (h <= h_tr)) and np.any(np.isfinite(ref_air) & (h > h_tr))
+    np.testing.assert_array_equal(sin_g, ref_sin)
+    np.testing.assert_array_equal(air, ref_air)
+    np.testing.assert_array_equal(ground, ref_air * (v_tr - w) / v_tr)
+    np.testing.assert_array_equal(airborne.airborne_distance_m(v_transition_mps=v_tr, climb_sine=ref_sin,
+                                                               screen_height_m=h), ref_air)
+    # a scalar stays a float
+    assert isinstance(airborne.airborne_distance_m(v_transition_mps=70.0, climb_sine=0.05), float)

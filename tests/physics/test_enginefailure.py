@@ -198,8 +198,11 @@ def test_propeller_power_piece_closed_form_and_gauss_legendre_against_quadrature
         ref = sign * quad(lambda v: (v - headwind) / regime.acceleration(v)[0], min(v_from, v_to), max(v_from, v_to),
                           points=[vk], epsabs=0.0, epsrel=1e-12, limit=200)[0]
         assert got == pytest.approx(ref, rel=1e-9)
+        regime = getattr(regime, "_regime", None) or regime  # (the engine-failure stop is built on first use)
         regime._closed = np.zeros_like(regime._closed)  # the 8-node Gauss–Legendre path
+        del regime._distance_args  # (the kernel's arguments are kept from the first call)
         assert float(regime.distance_m(v_from, v_to)[0]) == pytest.approx(got, rel=1e-6)
+        assert regime._gauss_legendre.size == 1
 
 
 def test_propeller_regime_mixing_closed_form_and_gauss_legendre():
@@ -727,3 +730,53 @@ def test_compiled_newton_step_and_advance_equal_the_formulas_written_with_numpy(
             assert 0 < ref_near.sum() < n
         assert np.array_equal(moved, ref_moved) and np.array_equal(going, ref_going)
         assert np.array_equal(near, ref_near)
+
+
+def test_compiled_regime_constants_equal_the_formulas_written_with_numpy():
+    # A GroundRegime finds its constants at a mass in one compiled pass per case; the same
+    # formulas written with numpy (a0 = T0/m − R, a1 = T1/m, a2 = (T2 − ½ rho S (C_D − mu C_L))/m,
+    # reverse flow with the drag term's sign turned, Raymer Eq. 17.100; each form and its roots
+    # from groundrun.QuadraticSegments, the propeller terms and the cubic's root from
+    # groundrun._cubic_root) give the same numbers to the bit, for every thrust model,
+    # tailwinds and propellers with and without the closed form above the kink.
+    from fieldlimits.physics import groundrun, thrust
+    from tests.physics import fleet
+
+    n = 4000
+    a, s = fleet.random_cases(n, seed=13)
+    rng = np.random.default_rng(13)
+    law = thrust.thrust_law_for_aircraft(a, s.pressure_pa, s.temperature_k)
+    rho = s.pressure_pa / (c.R_AIR * s.temperature_k)
+    w = rng.uniform(-8.0, 10.0, n)
+    m = rng.uniform(0.6, 1.05, n) * a.mtow_kg
+    kw = dict(wing_area_m2=a.wing_area_m2, density_kg_m3=rho, cd=rng.uniform(0.03, 0.1, n), cl=a.cl_ground_roll,
+              mu=s.mu_roll, slope=np.where(rng.random(n) < 0.1, -0.06, s.slope))
+    regime = ef.GroundRegime(law, mass_kg=m, headwind_mps=w, **kw)
+    terms = groundrun.ground_run_terms(law, **kw)
+    aero_term = terms.drag_term_kg_m / m
+    a0 = law.t0_n / m - terms.resistance_mps2
+    a1 = law.t1_n_per_mps / m
+    a2 = law.t2_n_per_mps2 / m - aero_term
+    for got, ref in zip(regime.coeffs, (a0, a1, a2)):
+        np.testing.assert_array_equal(got, ref)
+    np.testing.assert_array_equal(regime.a2_reverse, law.t2_n_per_mps2 / m + aero_term)
+    forward = groundrun.QuadraticSegments(a0, a1, a2, w)
+    np.testing.assert_array_equal(regime._forward.form, forward.form)
+    np.testing.assert_array_equal(regime._forward.k, forward.k)
+    t = np.flatnonzero(w < 0.0)
+    np.testing.assert_array_equal(regime.tail, t)
+    reverse = groundrun.QuadraticSegments(a0[t], a1[t], (law.t2_n_per_mps2 / m + aero_term)[t], w[t])
+    for name in ("a0", "a1", "a2", "w", "form", "k"):
+        np.testing.assert_array_equal(getattr(regime._reverse, name), getattr(reverse, name))
+    p = np.flatnonzero(law.is_propeller)
+    np.testing.assert_array_equal(regime.prop, p)
+    p_m = law.propeller_power_w[p] / m[p]
+    a0n = a0[p] - law.t0_n[p] / m[p]
+    np.testing.assert_array_equal(regime._p_m, p_m)
+    np.testing.assert_array_equal(regime._a0n, a0n)
+    np.testing.assert_array_equal(regime._a2p, a2[p])
+    closed = (a0n < 0.0) & (a2[p] < 0.0) & (p_m > 0.0)
+    assert np.any(closed) and np.any(~closed)
+    np.testing.assert_array_equal(regime._closed, closed)
+    for got, ref in zip(regime._root, groundrun._cubic_root(p_m, -a2[p], -a0n)):
+        np.testing.assert_array_equal(got[closed], ref[closed])
