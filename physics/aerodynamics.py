@@ -15,6 +15,7 @@ from __future__ import annotations
 import numpy as np
 
 from fieldlimits.physics import constants as c
+from fieldlimits.physics.compiled import kernel
 
 
 def aspect_ratio(wing_span_m, wing_area_m2):
@@ -272,3 +273,16 @@ def takeoff_speeds_mps(stall_speed_mps, vr_over_vs, vlof_over_vs, v2_over_vs):
     vs = np.asarray(stall_speed_mps, dtype=float)
     return (vs * np.asarray(vr_over_vs, dtype=float), vs * np.asarray(vlof_over_vs, dtype=float),
             vs * np.asarray(v2_over_vs, dtype=float))
+
+
+@kernel
+def _scheduled_speed_one(mass, stall_denominator, vr_over_vs, vx_over_vs, vmcg):
+    """One case of :func:`physics.enginefailure.scheduled_speeds_mps`, for compiled kernels:
+    V_S = sqrt(2 m g/(rho S C_Lmax)) (``stall_denominator`` = rho S C_Lmax) and the speed
+    (V_x/V_S) V_S raised by max(1, V_MCG/VR) (NaN where that is NaN). Returns
+    (V_S, VR, V_x, raised). [m/s]"""
+    vs = np.sqrt(2.0 * mass * c.G0 / stall_denominator)
+    vr = vs * vr_over_vs
+    ratio = vmcg / vr
+    raise_by = ratio if (ratio != ratio or ratio > 1.0) else 1.0
+    return vs, vr * raise_by, vs * vx_over_vs * raise_by, raise_by > 1.0

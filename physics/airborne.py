@@ -190,7 +190,7 @@ def climb_out(thrust_law, *, mass_kg, density_kg_m3, wing_area_m2, v_transition_
     is_prop = _trail(np.asarray(law.is_propeller, dtype=bool), v)
     shape = np.broadcast_shapes(is_prop.shape, *(x.shape for x in floats))
     args = groundrun._kernel_args(floats, shape)
-    is_prop = np.ascontiguousarray(np.broadcast_to(is_prop, shape), dtype=np.bool_).reshape(-1)
+    is_prop = np.array(np.broadcast_to(is_prop, shape), dtype=np.bool_).reshape(-1)
     out = np.empty((3,) + args[0].shape)
     _climb_out_pass(*args, is_prop, *out)
     return tuple(x.reshape(shape) for x in out)

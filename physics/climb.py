@@ -42,7 +42,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from fieldlimits.physics import aerodynamics
 from fieldlimits.physics import constants as c
+from fieldlimits.physics.compiled import kernel
+from fieldlimits.physics.thrust import _thrust_one
 
 #: Minimum second-segment gradient by engine count, 14 CFR 25.121(b). [–]
 SECOND_SEGMENT_MIN_GRADIENT = {2: 0.024, 3: 0.027, 4: 0.030}
@@ -281,23 +284,76 @@ def takeoff_climb_gradient(aircraft, *, mass_kg, pressure_pa, temperature_k, v2_
     ----------
     .. [1] 14 CFR 25.121(b). .. [2] Raymer, §17.3.
     """
-    from fieldlimits.physics import aerodynamics, atmosphere, enginefailure
+    law = climb_thrust_law(aircraft, pressure_pa, temperature_k) if thrust_law is None else thrust_law
+    return _climb_gradient(_climb_terms(aircraft, pressure_pa, temperature_k, law), mass_kg, v2_mps)
+
+
+def _climb_terms(aircraft, pressure_pa, temperature_k, law):
+    """The mass-independent parts of :func:`takeoff_climb_gradient` (kept per solve by
+    :func:`weight_limit_climb_gradient`): density, rho S C_Lmax, VR/V_S and V2/V_S, V_MCG as a
+    true airspeed (0 for a single), C_D without its induced part, K and the thrust law's
+    fields, contiguous arrays of the cases' shape. [kg/m³, kg/m, –, –, m/s, –, –, N, N s/m,
+    N s²/m², W, –]"""
+    from fieldlimits.physics import atmosphere
 
     a = aircraft
-    m = np.asarray(mass_kg, dtype=float)
     rho = atmosphere.density_kg_m3(pressure_pa, temperature_k)
-    if v2_mps is None:
-        v2_mps = enginefailure.scheduled_speeds_mps(a, mass_kg=m, density_kg_m3=rho).v2_mps
-    v2 = np.asarray(v2_mps, dtype=float)
-    cl = 2.0 * m * c.G0 / (rho * v2 * v2 * a.wing_area_m2)
     k = aerodynamics.induced_drag_factor(a.oswald_efficiency,
                                          aerodynamics.aspect_ratio(a.wing_span_m, a.wing_area_m2))
-    cd = climb_drag_coefficient(cd0_clean=a.cd0_clean, cd0_takeoff_flaps=a.cd0_takeoff_flaps,
-                                engine_out_drag_cd=a.engine_out_drag_cd, engine_count=a.engine_count,
-                                lift_coefficient=cl, induced_drag_factor=k)
-    law = climb_thrust_law(a, pressure_pa, temperature_k) if thrust_law is None else thrust_law
-    t = law.thrust_n(np.broadcast_to(v2, np.broadcast_shapes(np.shape(v2), np.shape(law.t0_n))))
-    return climb_gradient(thrust_n=t, mass_kg=m, drag_coefficient=cd, lift_coefficient=cl)
+    # climb_drag_coefficient with C_L = 0: C_D0 clean + takeoff flaps + the failed engine's
+    cd_fixed = climb_drag_coefficient(cd0_clean=a.cd0_clean, cd0_takeoff_flaps=a.cd0_takeoff_flaps,
+                                      engine_out_drag_cd=a.engine_out_drag_cd, engine_count=a.engine_count,
+                                      lift_coefficient=0.0, induced_drag_factor=0.0)
+    # as enginefailure.scheduled_speeds_mps: V_MCG (≈ equivalent airspeed) as a true airspeed
+    vmcg = np.where(np.asarray(a.engine_count, dtype=float) > 1,
+                    np.asarray(a.vmcg_mps, dtype=float) * np.sqrt(c.RHO0_KG_M3 / rho), 0.0)
+    floats = [np.asarray(x, dtype=float) for x in (
+        rho, rho * np.asarray(a.wing_area_m2, dtype=float) * np.asarray(a.cl_max_takeoff, dtype=float),
+        a.vr_over_vs, a.v2_over_vs, vmcg, a.wing_area_m2, cd_fixed, k, law.t0_n, law.t1_n_per_mps,
+        law.t2_n_per_mps2, law.propeller_power_w)]
+    is_prop = np.asarray(law.is_propeller, dtype=bool)
+    shape = np.broadcast_shapes(is_prop.shape, *(x.shape for x in floats))
+    return tuple(np.array(np.broadcast_to(x, shape)) for x in (*floats, is_prop))
+
+
+def _climb_gradient(terms, mass_kg, v2_mps=None):
+    """:func:`takeoff_climb_gradient` from :func:`_climb_terms` at masses (one compiled pass
+    per case, :func:`_climb_gradient_pass`). [–]"""
+    from fieldlimits.physics import groundrun
+
+    m = np.asarray(mass_kg, dtype=float)
+    given = v2_mps is not None
+    v2 = np.asarray(v2_mps if given else 0.0, dtype=float)
+    shape = np.broadcast_shapes(m.shape, v2.shape, terms[0].shape)
+    args = groundrun._kernel_args([m, v2, *terms[:-1]], shape)
+    is_prop = np.array(np.broadcast_to(terms[-1], shape), dtype=np.bool_).reshape(-1)
+    out = np.empty(args[0].shape)
+    _climb_gradient_pass(*args, is_prop, given, out)
+    return out.reshape(shape)
+
+
+@kernel
+def _climb_gradient_pass(m, v2_in, rho, stall_denominator, vr_over_vs, v2_over_vs, vmcg, area, cd_fixed, k, t0, t1,
+                         t2, power, is_prop, given, out):
+    """:func:`takeoff_climb_gradient` per case, in place: V2 (given, or scheduled as
+    :func:`physics.enginefailure.scheduled_speeds_mps`), C_L = 2W/(rho V2² S), C_D of
+    :func:`climb_drag_coefficient`, the thrust at V2 and :func:`climb_gradient`."""
+    for j in range(m.shape[0]):
+        if given:
+            v2 = v2_in[j]
+        else:
+            v2 = aerodynamics._scheduled_speed_one(m[j], stall_denominator[j], vr_over_vs[j], v2_over_vs[j],
+                                                   vmcg[j])[2]
+        cl = 2.0 * m[j] * c.G0 / (rho[j] * v2 * v2 * area[j])
+        cd = cd_fixed[j] + k[j] * cl * cl
+        s = _thrust_one(t0[j], t1[j], t2[j], power[j], is_prop[j], v2) / (m[j] * c.G0) - cd / cl
+        if s >= 1.0:
+            out[j] = np.inf
+        elif s <= -1.0:
+            out[j] = -np.inf
+        else:
+            room = 1.0 - s * s
+            out[j] = s / np.sqrt(room if room > 0.0 or room != room else 0.0)
 
 
 def climb_thrust_law(aircraft, pressure_pa, temperature_k):
@@ -359,9 +415,9 @@ def weight_limit_climb_gradient(cases, mass_kg, memo):
     if "climb_gradient" not in memo:
         law = cases.cached("climb_thrust_law",
                            lambda cs: climb_thrust_law(cs.aircraft, cs.site.pressure_pa, cs.site.temperature_k))
-        memo["climb_gradient"] = takeoff_climb_gradient(
-            cases.aircraft, mass_kg=mass_kg, pressure_pa=cases.site.pressure_pa,
-            temperature_k=cases.site.temperature_k, thrust_law=law)
+        terms = cases.cached("climb_terms", lambda cs: _climb_terms(cs.aircraft, cs.site.pressure_pa,
+                                                                      cs.site.temperature_k, law))
+        memo["climb_gradient"] = _climb_gradient(terms, mass_kg)
     return memo["climb_gradient"]
 
 

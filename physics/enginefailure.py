@@ -62,6 +62,7 @@ from typing import NamedTuple
 
 import numpy as np
 
+from fieldlimits.physics import aerodynamics
 from fieldlimits.physics import constants as c
 from fieldlimits.physics.compiled import kernel
 from fieldlimits.physics import groundrun
@@ -373,16 +374,39 @@ def scheduled_speeds_mps(aircraft, *, mass_kg, density_kg_m3):
     .. [1] 14 CFR 25.107 (takeoff speeds).
     .. [2] Raymer, §17.8 (V_LOF ≈ 1.1 V_S, V2 ≈ 1.2 V_S).
     """
-    from fieldlimits.physics import aerodynamics
-
     a = aircraft
     rho = np.asarray(density_kg_m3, dtype=float)
-    vs = aerodynamics.stall_speed_mps(mass_kg, rho, a.wing_area_m2, a.cl_max_takeoff)
-    vr, vlof, v2 = aerodynamics.takeoff_speeds_mps(vs, a.vr_over_vs, a.vlof_over_vs, a.v2_over_vs)
     multi = np.asarray(a.engine_count, dtype=float) > 1
     vmcg = np.where(multi, np.asarray(a.vmcg_mps, dtype=float) * np.sqrt(c.RHO0_KG_M3 / rho), 0.0)
-    raise_by = np.maximum(1.0, vmcg / vr)
-    return TakeoffSpeeds(vs, vmcg, vr * raise_by, vlof * raise_by, v2 * raise_by, raise_by > 1.0)
+    stall_denominator = rho * np.asarray(a.wing_area_m2, dtype=float) * np.asarray(a.cl_max_takeoff, dtype=float)
+    return _scheduled_speeds(mass_kg, stall_denominator, (a.vr_over_vs, a.vlof_over_vs, a.v2_over_vs), vmcg)
+
+
+def _scheduled_speeds(mass_kg, stall_denominator, speed_ratios, vmcg_mps):
+    """:class:`TakeoffSpeeds` from the mass and the mass-independent parts (rho S C_Lmax, the
+    ratios VR/V_S, V_LOF/V_S, V2/V_S, V_MCG as a true airspeed), one compiled pass per case
+    (:func:`_speeds_pass`). [m/s]"""
+    floats = [np.asarray(x, dtype=float) for x in (mass_kg, stall_denominator, *speed_ratios, vmcg_mps)]
+    shape = np.broadcast_shapes(*(x.shape for x in floats))
+    args = groundrun._kernel_args(floats, shape)
+    out = np.empty((5,) + args[0].shape)
+    limited = np.empty(args[0].shape, dtype=np.bool_)
+    _speeds_pass(*args, *out, limited)
+    vs, vr, vlof, v2, vmcg = (x.reshape(shape) for x in out)
+    return TakeoffSpeeds(vs, vmcg, vr, vlof, v2, limited.reshape(shape))
+
+
+@kernel
+def _speeds_pass(m, stall_denominator, vr_over_vs, vlof_over_vs, v2_over_vs, vmcg, vs_out, vr_out, vlof_out, v2_out,
+                 vmcg_out, limited_out):
+    """:func:`scheduled_speeds_mps` per case, in place
+    (:func:`physics.aerodynamics._scheduled_speed_one`)."""
+    for j in range(m.shape[0]):
+        sd, r, vm = stall_denominator[j], vr_over_vs[j], vmcg[j]
+        vs_out[j], vr_out[j], vlof_out[j], limited_out[j] = aerodynamics._scheduled_speed_one(
+            m[j], sd, r, vlof_over_vs[j], vm)
+        v2_out[j] = aerodynamics._scheduled_speed_one(m[j], sd, r, v2_over_vs[j], vm)[2]
+        vmcg_out[j] = vm
 
 
 #: Gauss–Legendre nodes per piece for propeller segments of the engine-failure cases.
@@ -1136,10 +1160,7 @@ def engine_failure_model(aircraft, site, mass_kg, setup=None):
     m = np.broadcast_to(np.asarray(mass_kg, dtype=float), su.n)
     fixed = _mass_independent(su, aircraft)
     # scheduled_speeds_mps with its mass-independent parts computed once per solve
-    vs = np.sqrt(2.0 * m * c.G0 / fixed["stall_denominator"])
-    vr, vlof, v2 = (vs * ratio for ratio in fixed["speed_ratios"])
-    raise_by = np.maximum(1.0, fixed["vmcg_mps"] / vr)
-    speeds = TakeoffSpeeds(vs, fixed["vmcg_mps"], vr * raise_by, vlof * raise_by, v2 * raise_by, raise_by > 1.0)
+    speeds = _scheduled_speeds(m, fixed["stall_denominator"], fixed["speed_ratios"], fixed["vmcg_mps"])
     w = su.headwind_mps
     common = dict(mass_kg=m, wing_area_m2=su.wing_area_m2, density_kg_m3=su.density_kg_m3, slope=su.slope,
                   headwind_mps=w)

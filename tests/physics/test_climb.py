@@ -138,3 +138,61 @@ def test_numpydoc_sections_and_units(modname):
             if any(k in header for k in td.NOT_PHYSICAL + objects):
                 continue
             assert re.search(r"\[[^\]]+\]", body), f"{modname}.{name}: no [unit] for '{header}'"
+
+
+def _scheduled_speeds_with_numpy(a, mass, rho):
+    # V_S = sqrt(2 m g/(rho S C_Lmax)), the ratio speeds, all raised by max(1, V_MCG/VR) with
+    # V_MCG (≈ EAS) as a true airspeed (14 CFR 25.107): the numpy path the compiled pass replaced.
+    vs = aerodynamics.stall_speed_mps(mass, rho, a.wing_area_m2, a.cl_max_takeoff)
+    vr, vlof, v2 = aerodynamics.takeoff_speeds_mps(vs, a.vr_over_vs, a.vlof_over_vs, a.v2_over_vs)
+    vmcg = np.where(np.asarray(a.engine_count) > 1, a.vmcg_mps * np.sqrt(c.RHO0_KG_M3 / rho), 0.0)
+    raise_by = np.maximum(1.0, vmcg / vr)
+    return vs, vmcg, vr * raise_by, vlof * raise_by, v2 * raise_by, raise_by > 1.0
+
+
+def test_compiled_speeds_and_climb_gradient_equal_the_formulas_written_with_numpy():
+    # The scheduled speeds and the second-segment gradient are compiled passes per case; the
+    # same formulas written with numpy (V2 as above; C_L = 2W/(rho V2² S), climb_drag_coefficient,
+    # the thrust of N − 1 engines at V2, climb_gradient: sin = T/W − C_D/C_L, tan = sin/sqrt(1 −
+    # sin²), ±inf at |sin| ≥ 1) give the same numbers to the bit: every thrust model, V2 raised
+    # by V_MCG and not, gradients negative, positive and vertical.
+    from fieldlimits.physics import atmosphere, enginefailure
+    from tests.physics import fleet
+
+    n = 5000
+    a, s = fleet.random_cases(n, seed=14)
+    rng = np.random.default_rng(14)
+    mass = rng.uniform(0.3, 1.1, n) * a.mtow_kg
+    rho = atmosphere.density_kg_m3(s.pressure_pa, s.temperature_k)
+    got = enginefailure.scheduled_speeds_mps(a, mass_kg=mass, density_kg_m3=rho)
+    ref = _scheduled_speeds_with_numpy(a, mass, rho)
+    assert np.any(ref[5]) and not np.all(ref[5])
+    for name, x in zip(("vs_mps", "vmcg_mps", "vr_mps", "vlof_mps", "v2_mps", "vmcg_limited"), ref):
+        np.testing.assert_array_equal(getattr(got, name), x)
+    law = climb.climb_thrust_law(a, s.pressure_pa, s.temperature_k)
+    law = thrust.ThrustLaw(law.t0_n * rng.choice([1.0, 1.0, 40.0], n), law.t1_n_per_mps, law.t2_n_per_mps2,
+                           law.propeller_power_w, law.is_propeller)  # some cases far above the vertical
+    g = climb.takeoff_climb_gradient(a, mass_kg=mass, pressure_pa=s.pressure_pa, temperature_k=s.temperature_k,
+                                     thrust_law=law)
+    v2 = ref[4]
+    cl = 2.0 * mass * c.G0 / (rho * v2 * v2 * a.wing_area_m2)
+    k = aerodynamics.induced_drag_factor(a.oswald_efficiency, aerodynamics.aspect_ratio(a.wing_span_m, a.wing_area_m2))
+    cd = climb.climb_drag_coefficient(cd0_clean=a.cd0_clean, cd0_takeoff_flaps=a.cd0_takeoff_flaps,
+                                      engine_out_drag_cd=a.engine_out_drag_cd, engine_count=a.engine_count,
+                                      lift_coefficient=cl, induced_drag_factor=k)
+    want = climb.climb_gradient(thrust_n=law.thrust_n(v2), mass_kg=mass, drag_coefficient=cd, lift_coefficient=cl)
+    assert np.any(want < 0.0) and np.any((want > 0.0) & np.isfinite(want)) and np.any(want == np.inf)
+    assert np.any(law.is_propeller & np.isfinite(want))
+    np.testing.assert_array_equal(g, want)
+    # a given V2, and a scalar case
+    v2_given = v2 * 1.05
+    cl = 2.0 * mass * c.G0 / (rho * v2_given * v2_given * a.wing_area_m2)
+    cd = climb.climb_drag_coefficient(cd0_clean=a.cd0_clean, cd0_takeoff_flaps=a.cd0_takeoff_flaps,
+                                      engine_out_drag_cd=a.engine_out_drag_cd, engine_count=a.engine_count,
+                                      lift_coefficient=cl, induced_drag_factor=k)
+    np.testing.assert_array_equal(
+        climb.takeoff_climb_gradient(a, mass_kg=mass, pressure_pa=s.pressure_pa, temperature_k=s.temperature_k,
+                                     v2_mps=v2_given, thrust_law=law),
+        climb.climb_gradient(thrust_n=law.thrust_n(v2_given), mass_kg=mass, drag_coefficient=cd, lift_coefficient=cl))
+    one = make_aircraft()
+    assert np.shape(climb.takeoff_climb_gradient(one, mass_kg=55_000.0, **SEA_LEVEL_ISA)) == ()
