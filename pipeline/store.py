@@ -71,7 +71,9 @@ _IDENT = re.compile(r"^[a-z_][a-z0-9_]*$")
 
 #: DuckDB's memory cap for the run's writer and the best-direction query (it spills to disk
 #: beyond it); ``FIELDLIMITS_DUCKDB_MEMORY_LIMIT`` overrides (DuckDB size text, e.g. "2GB").
-DEFAULT_DUCKDB_MEMORY_LIMIT = "1GB"
+#: The load of a large run fills it: 20 M result rows appended in one transaction held
+#: 0.95–1.05 GiB under a 1 GB cap and 0.57 GiB under 512 MB, in about the same time.
+DEFAULT_DUCKDB_MEMORY_LIMIT = "512MB"
 
 BUSY_MESSAGE = (
     "the database {path} is being written by a fieldlimits run right now; "

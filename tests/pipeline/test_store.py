@@ -126,6 +126,18 @@ def test_reader_is_read_only_and_has_no_file_access(tmp_path):
     assert not (tmp_path / "leak.csv").exists()
 
 
+def test_writer_is_capped_at_512_mb_unless_the_environment_says_otherwise(tmp_path, monkeypatch):
+    # The run's writer spills to disk beyond its cap; DuckDB reports the setting back in
+    # its own units (512 MB = 488.2 MiB, DuckDB's memory_limit documentation: a size text
+    # in base 10 units, shown in base 2).
+    monkeypatch.delenv("FIELDLIMITS_DUCKDB_MEMORY_LIMIT", raising=False)
+    with store.writer(tmp_path / "s.duckdb") as con:
+        assert con.execute("SELECT current_setting('memory_limit')").fetchone()[0] == "488.2 MiB"
+    monkeypatch.setenv("FIELDLIMITS_DUCKDB_MEMORY_LIMIT", "2GB")
+    with store.writer(tmp_path / "s.duckdb") as con:
+        assert con.execute("SELECT current_setting('memory_limit')").fetchone()[0] == "1.8 GiB"
+
+
 def test_missing_database_is_bad_input(tmp_path):
     with pytest.raises(BadInput, match="no database"):
         with store.reader(tmp_path / "absent.duckdb"):
