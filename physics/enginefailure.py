@@ -1017,7 +1017,10 @@ class EngineFailureSetup:
             if f.name == "n":
                 v = (index.size,)
             elif f.name == "regime_terms":  # groundrun.GroundRunTerms per regime
-                v = {k: type(t)(law(t.law), *(np.asarray(x)[index] for x in t[1:])) for k, t in v.items()}
+                # each regime's law holds the values of the setup's law of that engine state
+                same = {k: getattr(self, name) for k, name in _REGIME_LAWS.items()}
+                v = {k: type(t)(law(same[k] if k in same and np.shape(same[k].t0_n) == np.shape(t.law.t0_n)
+                                    else t.law), *(np.asarray(x)[index] for x in t[1:])) for k, t in v.items()}
             elif f.name.startswith("law_"):
                 v = law(v)
             elif v is None:
@@ -1026,6 +1029,11 @@ class EngineFailureSetup:
                 v = np.asarray(v)[index]
             vals[f.name] = v
         return EngineFailureSetup(**vals)
+
+
+#: The setup's thrust law of each ground regime's engine state (``regime_terms``).
+_REGIME_LAWS = {"all_engines": "law_all", "one_out": "law_one_out", "stop_all": "law_idle_all",
+                "stop_one_out": "law_idle_one_out"}
 
 
 def engine_failure_setup(aircraft, site, shape=()):
@@ -1346,18 +1354,21 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
                 break
             full = idx.size == w.size
             sub = None if full else idx  # the regimes evaluate these cases (none gathered)
+            # the cases' inputs (the arrays themselves where every case is evaluated)
+            pick = (lambda x: x) if full else (lambda x: x[idx])  # noqa: E731
+            at = slice(None) if full else idx  # where their results go
             if ev is not None:
                 evi = ev if full else ev.take(idx)
-        vi, wi = v1[idx], w[idx]
-        so = oo.distance_m(vi, vlof[idx], index=sub)
+        vi, wi = pick(v1), pick(w)
+        so = oo.distance_m(vi, pick(vlof), index=sub)
         if ev is None:
             ss = sa.distance_m(vi, wi, index=sub)
-            s_oei[idx], s_stop[idx] = so, ss
+            s_oei[at], s_stop[at] = so, ss
             if k == total - 1 and not next_step:
                 break
             # h, its slope −dS_oei/dV + t_d + dS_stop/dV and the Newton step, one pass per case
             go_slope, stop_slope, dh, step = (np.empty(idx.size) for _ in range(4))
-            _newton_step(*groundrun._kernel_args([base[idx], so, ss, vi, wi, oo.acceleration(vi, index=sub),
+            _newton_step(*groundrun._kernel_args([pick(base), so, ss, vi, wi, oo.acceleration(vi, index=sub),
                                                   sa.acceleration(vi, index=sub)],
                                                  vi.shape), float(delay_s), go_slope, stop_slope, dh, step)
             v1i = v1_raw = v_act = dv1 = vi  # (the timed events' terms, not used without them)
@@ -1368,7 +1379,7 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             a_oo, d_oo = oo.acceleration(vi, slope=True, index=sub)
             t_r = evi.recognition_s
             v1_raw = takeoffevents.recognition_v1_mps(vi, a_oo, t_r)
-            v1i = np.clip(v1_raw, vi, np.maximum(model.speeds.vr_mps[idx], vi))
+            v1i = np.clip(v1_raw, vi, np.maximum(pick(model.speeds.vr_mps), vi))
             (a_ae, d_ae), (a_sa1, d_sa1) = (ae.acceleration(v1i, slope=True, index=sub),
                                             sa.acceleration(v1i, slope=True, index=sub))
             v_act, act, dv_act, d_act = evi.actions(v1i, wi, a_ae, a_sa1, slopes=(d_ae, d_sa1))
@@ -1376,11 +1387,11 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             # h, its slope in V_EF and the Newton step, one pass per case (_timed_newton_step)
             pre, dv1, d_pre, a_sa, dh, step = (np.empty(idx.size) for _ in range(6))
             _timed_newton_step(*groundrun._kernel_args(
-                [base[idx], so, ss, vi, wi, v1i, v1_raw, _as_shape(t_r, vi.shape), a_oo, d_oo, a_ae, d_ae, a_sa1,
+                [pick(base), so, ss, vi, wi, v1i, v1_raw, _as_shape(t_r, vi.shape), a_oo, d_oo, a_ae, d_ae, a_sa1,
                  sa.acceleration(v_act, index=sub), _as_shape(evi.action_interval_s, vi.shape), v_act, act, dv_act, d_act],
                 vi.shape), float(delay_s), pre, dv1, d_pre, a_sa, dh, step)
-            s_oei[idx], s_stop[idx] = so, ss
-            out_v1[idx], out_pre[idx], out_act[idx], out_a[idx] = v1i, pre, act, a_oo
+            s_oei[at], s_stop[at] = so, ss
+            out_v1[at], out_pre[at], out_act[at], out_a[at] = v1i, pre, act, a_oo
             if k == total - 1 and not next_step:
                 break
             vg = vi - wi
@@ -1389,8 +1400,8 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
         # taking the step without evaluating there (extrapolated), one pass per case
         moved, going, near = np.empty(idx.size), np.empty(idx.size, dtype=np.bool_), np.empty(idx.size, dtype=np.bool_)
         _newton_advance(*groundrun._kernel_args(
-            [vi, step, dh, lo[idx], hi[idx], v1i, v1_raw, v_act, wi, dv1, model.speeds.vr_mps[idx]], vi.shape),
-            np.ascontiguousarray(multi[idx], dtype=np.bool_), np.ascontiguousarray(count[idx], dtype=np.int64), k,
+            [vi, step, dh, pick(lo), pick(hi), v1i, v1_raw, v_act, wi, dv1, pick(model.speeds.vr_mps)], vi.shape),
+            np.array(pick(multi), dtype=np.bool_), np.array(pick(count), dtype=np.int64), k,
             -1.0 if step_tol_mps is None else float(step_tol_mps),
             -1.0 if extrapolate_mps is None else float(extrapolate_mps), ev is not None, moved, going, near)
         if extrapolate_mps is not None:
@@ -1409,10 +1420,10 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
                     out_v1[i] = v1i[f] + dvf
                     out_a[i] = a_oo[f] + d_oo[f] * d
         if step_tol_mps is not None or extrapolate_mps is not None:
-            settled[idx] = ~going
-        v1[idx] = np.where(going | near, moved, vi)
+            settled[at] = ~going
+        v1[at] = np.where(going | near, moved, vi)
         if next_step:
-            v_next[idx] = moved
+            v_next[at] = moved
     if ev is None:
         zero = np.zeros(w.shape)
         return V1Search(v1, v1, s_oei, s_stop, zero, zero, v_next_mps=v_next)
