@@ -853,6 +853,20 @@ def _newton_advance(v, step, dh, lo, hi, v1, v1_raw, v_act, w, dv1, vr, multi, c
         moved_out[j], going_out[j], near_out[j] = moved, going, near
 
 
+@kernel
+def _extrapolate_step(idx, near, moved, v, go_slope, stop_slope, s_oei, s_stop):
+    """The idealised V1 search's step taken without evaluating there, in place: where
+    ``near``, each distance of case ``idx[q]`` carried along its slope in V1 over the step
+    (S_oei by −(V1 − w)/a_oei, S_stop by its slope; second-order error,
+    :data:`V1_EXTRAPOLATE_MPS`)."""
+    for q in range(near.shape[0]):
+        if near[q]:
+            i = idx[q]
+            d = moved[q] - v[q]
+            s_oei[i] -= go_slope[q] * d
+            s_stop[i] += stop_slope[q] * d
+
+
 class _DeferredRegime:
     """A :class:`GroundRegime` built on first use (``build()`` makes it): the V1 search of the
     weight solver never needs the engine-failure stop of the idealised sequence."""
@@ -1404,21 +1418,20 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             np.array(pick(multi), dtype=np.bool_), np.array(pick(count), dtype=np.int64), k,
             -1.0 if step_tol_mps is None else float(step_tol_mps),
             -1.0 if extrapolate_mps is None else float(extrapolate_mps), ev is not None, moved, going, near)
-        if extrapolate_mps is not None:
+        if extrapolate_mps is not None and ev is None:
+            # the step taken without evaluating there: each distance along its slope, one pass
+            _extrapolate_step(idx, near, moved, vi, go_slope, stop_slope, s_oei, s_stop)
+        elif extrapolate_mps is not None:
             f = np.flatnonzero(near)
             if f.size:  # the step taken without evaluating there: each part along its slope
                 i, d = idx[f], moved[f] - vi[f]
-                if ev is None:
-                    s_oei[i] -= go_slope[f] * d
-                    s_stop[i] += stop_slope[f] * d
-                else:
-                    dvf = dv1[f] * d
-                    s_oei[i] -= (vg[f] / a_oo[f]) * d
-                    out_pre[i] += d_pre[f] * d
-                    out_act[i] += d_act[f] * dvf
-                    s_stop[i] -= (v_act[f] - wi[f]) / a_sa[f] * dv_act[f] * dvf
-                    out_v1[i] = v1i[f] + dvf
-                    out_a[i] = a_oo[f] + d_oo[f] * d
+                dvf = dv1[f] * d
+                s_oei[i] -= (vg[f] / a_oo[f]) * d
+                out_pre[i] += d_pre[f] * d
+                out_act[i] += d_act[f] * dvf
+                s_stop[i] -= (v_act[f] - wi[f]) / a_sa[f] * dv_act[f] * dvf
+                out_v1[i] = v1i[f] + dvf
+                out_a[i] = a_oo[f] + d_oo[f] * d
         if step_tol_mps is not None or extrapolate_mps is not None:
             settled[at] = ~going
         v1[at] = np.where(going | near, moved, vi)
