@@ -75,15 +75,19 @@ def least_met(g):
     return i, val
 
 
-@kernel
-def _search_value(margin):
-    """g = −ln(1 + margin), the value the search interpolates (−margin to first order).
+def _search_values(margins, out):
+    """g = −ln(1 + margin) of every margin, into ``out``: the value the search interpolates
+    (−margin to first order).
 
     For the distance margins A/d − 1 this is ln(d/A), close to linear in ln m (d grows
     roughly as m²); its sign is that of −margin, so feasibility is unchanged. A margin ≤ −1
-    (impossible) or NaN gives +inf, i.e. a bisection step."""
-    m = margin if margin > -1.0 else -1.0  # NaN → −1
-    return -math.log1p(m)
+    (impossible) or NaN gives +inf, i.e. a bisection step. (A numpy pass over every
+    requirement and case: numpy's log1p is vectorised, many times faster than one call per
+    value in a compiled loop.)"""
+    np.fmax(margins, -1.0, out=out)  # NaN → −1
+    with np.errstate(divide="ignore"):
+        np.log1p(out, out=out)
+    return np.negative(out, out=out)
 
 
 @kernel
@@ -99,24 +103,6 @@ def _root(ul, up, uq, gl, gp, gq, j):
 
 
 @kernel
-def _start(margins, values, least, least_value):
-    """Each requirement's value (:func:`_search_value`) of ``margins`` (n_requirements, n)
-    into ``values``, the least met (the first of the largest values) and its value."""
-    for c in range(margins.shape[1]):
-        best = 0
-        g = _search_value(margins[0, c])
-        values[0, c] = g
-        for i in range(1, margins.shape[0]):
-            gi = _search_value(margins[i, c])
-            values[i, c] = gi
-            if gi > g:
-                g = gi
-                best = i
-        least[c] = best
-        least_value[c] = g
-
-
-@kernel
 def _open_cases(F, known, none, tol, live):
     """Mark the cases still searched (bracket wider than ``tol``, or closed with OEW not yet
     evaluated) in ``live``; their number."""
@@ -129,10 +115,12 @@ def _open_cases(F, known, none, tol, live):
 
 
 @kernel
-def _propose(j, tol, eps, grid, F, H, AR, known, fails, x, open_, check):
+def _propose(j, tol, eps, grid, F, H, AR, head, known, fails, x, open_, check):
     """The next trial mass of every case (``x``), and which brackets are open and which cases
-    evaluate OEW itself (``check``). See :func:`bracket_search`."""
+    evaluate OEW itself (``check``). ``H`` and ``AR`` hold the last three evaluations' values
+    and least-met requirements as a ring, the newest at ``head``. See :func:`bracket_search`."""
     scale = 2.0 ** -j
+    h0, h1, h2 = head, (head + 2) % 3, (head + 1) % 3  # newest, previous, the one before
     n_req = H.shape[1]
     near = 0.9 * tol
     half_eps = 0.5 * eps
@@ -159,13 +147,13 @@ def _propose(j, tol, eps, grid, F, H, AR, known, fails, x, open_, check):
             est = _root(ul, up, uq, gl, gp, gq, j)
             if est > ua and est < ub:
                 uf = est
-            kink = AR[0, c] != AR[1, c]
-            if j >= 2 and AR[1, c] != AR[2, c]:
+            kink = AR[h0, c] != AR[h1, c]
+            if j >= 2 and AR[h1, c] != AR[h2, c]:
                 kink = True
             if kink:
                 lowest = np.inf
                 for i in range(n_req):
-                    e = _root(ul, up, uq, H[0, i, c], H[1, i, c], H[2, i, c], j)
+                    e = _root(ul, up, uq, H[h0, i, c], H[h1, i, c], H[h2, i, c], j)
                     if e > ua and e < ub and e < lowest:
                         lowest = e
                 if lowest < np.inf:
@@ -175,7 +163,7 @@ def _propose(j, tol, eps, grid, F, H, AR, known, fails, x, open_, check):
             if not known[c]:  # the secants of the requirements, through failed trials
                 lowest = np.inf
                 for i in range(n_req):
-                    e = _root(ul, up, uq, H[0, i, c], H[1, i, c], 0.0, 1)
+                    e = _root(ul, up, uq, H[h0, i, c], H[h1, i, c], 0.0, 1)
                     if e < ub and e < lowest:
                         lowest = e
                 below = lowest <= ua
@@ -211,22 +199,21 @@ def _propose(j, tol, eps, grid, F, H, AR, known, fails, x, open_, check):
 
 
 @kernel
-def _record(x, margins, F, MH, H, AR, known, none, side, fails, open_, check, feasible):
-    """Take in the margins found at the trial masses ``x``: move the bracket's ends (with the
-    Illinois halving of an end kept twice in a row), keep the last three evaluations, mark
-    the ``feasible`` trials. See :func:`bracket_search`."""
+def _record(x, ux, margins, values, least, F, MH, known, none, side, fails, open_, check, feasible):
+    """Take in the margins found at the trial masses ``x`` (``ux`` = ln x; ``values`` their
+    :func:`_search_values`): move the bracket's ends (with the Illinois halving of an end
+    kept twice in a row), keep the last evaluation for the interpolation, the least-met
+    requirement in ``least``, mark the ``feasible`` trials. See :func:`bracket_search`."""
     n_req = margins.shape[0]
     for c in range(x.shape[0]):
         best = 0
-        g = 0.0
-        for i in range(n_req):
-            gi = _search_value(margins[i, c])
-            H[2, i, c] = H[1, i, c]
-            H[1, i, c] = H[0, i, c]
-            H[0, i, c] = gi
-            if i == 0 or gi > g:
+        g = values[0, c]
+        for i in range(1, n_req):
+            gi = values[i, c]
+            if gi > g:
                 g = gi
                 best = i
+        least[c] = best
         ok = g <= 0.0
         is_open, chk = open_[c], check[c]
         feas = (is_open or chk) and ok
@@ -234,7 +221,7 @@ def _record(x, margins, F, MH, H, AR, known, none, side, fails, open_, check, fe
         failed = chk and not ok
         feasible[c] = feas
         xc = x[c]
-        ux = math.log(xc)
+        uc = ux[c]
         prev = side[c]
         kn = known[c] or feas
         known[c] = kn
@@ -247,11 +234,11 @@ def _record(x, margins, F, MH, H, AR, known, none, side, fails, open_, check, fe
         if feas and prev == 1 and not chk:
             F[_GB, c] *= 0.5
         if feas:
-            F[_A, c], F[_UA, c], F[_GA, c] = xc, ux, g
+            F[_A, c], F[_UA, c], F[_GA, c] = xc, uc, g
         if failed:
             F[_B, c], F[_UB, c] = F[_A, c], F[_UA, c]
         if infeas:
-            F[_B, c], F[_UB, c], F[_GB, c] = xc, ux, g
+            F[_B, c], F[_UB, c], F[_GB, c] = xc, uc, g
             for i in range(n_req):
                 MH[i, c] = margins[i, c]
         s = prev
@@ -262,9 +249,8 @@ def _record(x, margins, F, MH, H, AR, known, none, side, fails, open_, check, fe
         if chk:
             s = 0  # OEW was checked
         side[c] = s
-        F[_UQ, c], F[_UP, c], F[_UL, c] = F[_UP, c], F[_UL, c], ux
+        F[_UQ, c], F[_UP, c], F[_UL, c] = F[_UP, c], F[_UL, c], uc
         F[_GQ, c], F[_GP, c], F[_GL, c] = F[_GP, c], F[_GL, c], g
-        AR[2, c], AR[1, c], AR[0, c] = AR[1, c], AR[0, c], best
 
 
 def bracket_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
@@ -305,7 +291,7 @@ def bracket_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
 
     Notes
     -----
-    Interpolate each requirement on its own (g_i = −ln(1 + margin_i), :func:`_search_value`):
+    Interpolate each requirement on its own (g_i = −ln(1 + margin_i), :func:`_search_values`):
     the secant through the last two evaluations, or inverse quadratic interpolation through
     the last three, where it falls inside the bracket; the estimate is the lowest of the
     requirements' roots (the least margin, max g_i, has a kink wherever the requirement that
@@ -349,7 +335,8 @@ def bracket_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     # close): F, rows _A … _GQ: ends A < B (masses, their logarithms u and the interpolated
     # values G, Illinois-halved), the ITP constants, and the last three evaluations (u, g)
     # for the secant and inverse quadratic steps; margins at B in MH; each requirement's
-    # value at the last three evaluations in H (newest first) and which was least met in AR
+    # value at the last three evaluations in H (a ring, the newest at ``head``) and which was
+    # least met in AR (the same ring)
     # (where that changed, the steps interpolate each requirement on its own: the least
     # margin has a kink there).
     F = np.empty((_ROWS, lo.size))
@@ -359,7 +346,8 @@ def bracket_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
     np.log(F[_B], out=F[_UB])
     H = np.full((3, n_req, lo.size), np.nan)
     AR = np.full((3, lo.size), -1, dtype=np.int8)
-    _start(MH, H[0], AR[0], F[_GB])
+    head = 0  # H[head], AR[head]: the newest evaluation (a ring of three)
+    AR[0], F[_GB] = least_met(_search_values(MH, H[0]))
     with np.errstate(invalid="ignore"):
         F[_GA] = np.minimum(F[_GB] + DISTANCE_MASS_EXPONENT * (F[_UA] - F[_UB]), -1e-3)  # estimate until evaluated
     width0 = np.maximum(F[_B] - F[_A], tol)
@@ -417,13 +405,15 @@ def bracket_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         # V1 was found for)
         x = np.empty(idx.size)
         open_, check, feasible = (np.empty(idx.size, dtype=bool) for _ in range(3))
-        _propose(j, tol, eps, grid, F, H, AR, known, fails, x, open_, check)
+        _propose(j, tol, eps, grid, F, H, AR, head, known, fails, x, open_, check)
         if j and sub._cache.get("engine_failure_state"):
             # the cases this trial does not serve for the first time: their last trial's V1
             keep_v1(np.flatnonzero(~(open_ | check | kept)))
         mg, memo = margins_fn(sub, x)
         mg = np.ascontiguousarray(np.broadcast_to(np.asarray(mg, dtype=float), (n_req, idx.size)))
-        _record(x, mg, F, MH, H, AR, known, none, side, fails, open_, check, feasible)
+        head = (head + 1) % 3  # the new evaluation takes the place of the oldest
+        _record(x, np.log(x), mg, _search_values(mg, H[head]), AR[head], F, MH, known, none, side, fails, open_,
+                check, feasible)
         if capture is not None:
             fi = np.flatnonzero(feasible)
             if fi.size:

@@ -231,9 +231,9 @@ def test_a_case_alone_equals_its_element_in_a_batch():
 def test_search_value_is_minus_log_one_plus_margin():
     # g = −ln(1 + margin); impossible (≤ −1) and NaN margins give +inf (a bisection step).
     m = np.array([[0.5, -0.25, -1.0, -3.0, np.nan, 0.0]])
-    g = np.empty_like(m)
-    least, val = np.empty(6, dtype=np.int8), np.empty(6)
-    ms._start(m, g, least, val)
+    g = ms._search_values(m, np.empty_like(m))
     np.testing.assert_allclose(g[0, :2], [-math.log(1.5), -math.log(0.75)], rtol=1e-15)
     assert np.all(np.isposinf(g[0, 2:5])) and g[0, 5] == 0.0
-    np.testing.assert_array_equal(least, 0)
+    least, value = ms.least_met(ms._search_values(np.array([[0.2, -0.1], [0.1, 0.3], [0.1, -0.1]]), np.empty((3, 2))))
+    np.testing.assert_array_equal(least, [1, 0])  # the least margin; the first of equal ones
+    np.testing.assert_allclose(value, [-math.log(1.1), -math.log(0.9)], rtol=1e-15)
