@@ -258,15 +258,22 @@ class Cases:
     clearway_m: np.ndarray
     vmcg_floor: bool = False
     _cache: dict = field(default_factory=dict, repr=False)
+    _computed: set = field(default_factory=set, repr=False)  # cache keys :meth:`cached` computed
+    _read: set = field(default_factory=set, repr=False)  # cache keys :meth:`cached` was asked for
 
     @property
     def n(self):
         """Number of cases."""
         return self.density_kg_m3.shape[0]
 
-    def take(self, index):
-        """The prepared cases at ``index`` (integer array); the cache starts empty except for
-        the per-case V1 warm start of the engine-failure search."""
+    def take(self, index, keys=None):
+        """The prepared cases at ``index`` (integer array), with the mass-independent items
+        of the cache gathered (the per-case V1 warm start of the engine-failure search too).
+
+        ``keys``: gather, of the items :meth:`cached` computed, only these (a search over
+        some of the requirements leaves out what only the others use; an item left out is
+        computed again if asked for). Items put in the cache otherwise are always gathered.
+        """
         out = Cases(_lazy_take(self.aircraft, index), _lazy_take(self.site, index), self.density_kg_m3[index],
                     self.thrust_all_engines.take(index), self.induced_factor[index], self.cd0_takeoff[index],
                     self.cd_ground_roll[index], self.clearway_m[index], self.vmcg_floor)
@@ -274,16 +281,21 @@ class Cases:
         if state and state.get("v1") is not None and np.shape(state["v1"]) == (self.n,):
             out._cache["engine_failure_state"] = {k: np.asarray(v)[index] for k, v in state.items()}
         for key, val in self._cache.items():  # the mass-independent items, by gathering
-            if key != "engine_failure_state":
-                sub = _take_cached(val, index, self.n)
-                if sub is not None:
-                    out._cache[key] = sub
+            if key == "engine_failure_state" or (keys is not None and key in self._computed and key not in keys):
+                continue
+            sub = _take_cached(val, index, self.n)
+            if sub is not None:
+                out._cache[key] = sub
+                if key in self._computed:
+                    out._computed.add(key)
         return out
 
     def cached(self, key, fn):
         """Mass-independent item ``key``, computed by ``fn(self)`` on first use."""
+        self._read.add(key)
         if key not in self._cache:
             self._cache[key] = fn(self)
+            self._computed.add(key)
         return self._cache[key]
 
 
@@ -1018,7 +1030,9 @@ def _solve_staged(cases, tol_kg, reqs, figures):
     # 2. the engine-failure requirements at that limit
     idx = np.flatnonzero(~none)
     ef = cases if idx.size == n else cases.take(idx)
+    ef._read.clear()
     m_chk, _ = requirement_margins(ef, limit_at[idx], costly)
+    costly_keys = set(ef._read)  # what the V1 requirements use of the cache
     least = m_chk.min(axis=0)
     state = ef._cache.get("engine_failure_state")
     if not state or state.get("v1") is None:
@@ -1031,8 +1045,8 @@ def _solve_staged(cases, tol_kg, reqs, figures):
     if fail.size:
         gi = idx[fail]
         lo, hi, m_top, none_f, _, v1_state = masssearch.bracket_search(
-            ef.take(fail), lambda cs, mass: requirement_margins(cs, mass, costly), oew[gi], limit_at[gi],
-            m_chk.take(fail, axis=1), tol_kg)
+            ef.take(fail, keys=costly_keys), lambda cs, mass: requirement_margins(cs, mass, costly), oew[gi],
+            limit_at[gi], m_chk.take(fail, axis=1), tol_kg)
         none[gi], limit_at[gi], above[gi] = none_f, lo, hi
         m_above[:, gi] = np.inf
         m_above[np.ix_(np.flatnonzero(costly_row), gi)] = m_top

@@ -313,3 +313,19 @@ def test_transport_result_does_not_depend_on_the_batch():
         np.testing.assert_array_equal(sub.limiting_factor, whole.limiting_factor[part])
         np.testing.assert_allclose(sub.v1_mps, whole.v1_mps[part], rtol=1e-12)
         np.testing.assert_allclose(sub.accelerate_stop_m, whole.accelerate_stop_m[part], rtol=1e-12)
+
+
+def test_a_subset_of_the_cases_leaves_out_the_items_only_other_requirements_use():
+    # Cases.take(index, keys=...) gathers, of the items cached() computed, only those named;
+    # an item put in the cache otherwise (the obstacles, set by the caller) is always
+    # gathered, and an item left out is computed again, for the subset, when asked for.
+    a, s = fleet.aircraft(["turbofan", "propeller", "quadratic", "turbofan"]), fleet.site(4)
+    cases = wl.prepare_cases(a, s)
+    rho = cases.cached("rho_twice", lambda cs: 2.0 * cs.density_kg_m3)
+    cases.cached("span", lambda cs: np.asarray(cs.aircraft.wing_span_m, dtype=float) + 0.0)
+    cases._cache["given"] = np.arange(4.0)
+    sub = cases.take(np.array([3, 1]), keys={"span"})
+    assert set(sub._cache) == {"span", "given"}
+    np.testing.assert_array_equal(sub._cache["given"], [3.0, 1.0])
+    np.testing.assert_array_equal(sub.cached("rho_twice", lambda cs: 2.0 * cs.density_kg_m3), rho[[3, 1]])
+    assert cases.take(np.array([0]))._cache.keys() >= {"rho_twice", "span", "given"}  # no keys: everything
