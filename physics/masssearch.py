@@ -11,10 +11,11 @@ The step from one trial to the next is a handful of scalar operations per case (
 interpolated root, a truncation, a projection, the Illinois halving, three evaluations kept
 for the next interpolation), over arrays that shrink from tens of thousands of cases to a
 few: as numpy passes it was bound by call overhead and temporaries, a fifth of a
-transport-rule solve. It is therefore a pair of compiled kernels (:mod:`physics.compiled`),
-one for the next trial masses (:func:`_propose`) and one for taking in the margins found
-there (:func:`_record`), each a loop over the cases; the tests keep the numpy formulation of
-the same step as their reference.
+transport-rule solve. It is therefore compiled kernels (:mod:`physics.compiled`), each a loop
+over the cases: the interpolated roots (:func:`_interpolate`), the next trial masses
+(:func:`_propose`), taking in the margins found there (:func:`_record`); the logarithms and
+exponentials between them are numpy passes (vectorised). The tests keep the numpy
+formulation of the same step as their reference.
 
 Planning estimates only: the aircraft flight manual, the operator's approved performance
 methods and local regulations govern.
@@ -115,34 +116,23 @@ def _open_cases(F, known, none, tol, live):
 
 
 @kernel
-def _propose(j, tol, eps, grid, F, H, AR, head, known, fails, x, open_, check):
-    """The next trial mass of every case (``x``), and which brackets are open and which cases
-    evaluate OEW itself (``check``). ``H`` and ``AR`` hold the last three evaluations' values
-    and least-met requirements as a ring, the newest at ``head``. See :func:`bracket_search`."""
-    scale = 2.0 ** -j
+def _interpolate(j, F, H, AR, head, known, u, below):
+    """The estimate of each case's root in u = ln m (``u``) and whether the secants through
+    its failed trials put the root at or below the low end (``below``). ``H`` and ``AR``
+    hold the last three evaluations' values and least-met requirements as a ring, the newest
+    at ``head``. See :func:`bracket_search`."""
     h0, h1, h2 = head, (head + 2) % 3, (head + 1) % 3  # newest, previous, the one before
     n_req = H.shape[1]
-    near = 0.9 * tol
-    half_eps = 0.5 * eps
     for c in range(F.shape[1]):
-        a, b, ua, ub, ga, gb = F[_A, c], F[_B, c], F[_UA, c], F[_UB, c], F[_GA, c], F[_GB, c]
+        ua, ub, ga, gb = F[_UA, c], F[_UB, c], F[_GA, c], F[_GB, c]
         ul, up, uq, gl, gp, gq = F[_UL, c], F[_UP, c], F[_UQ, c], F[_GL, c], F[_GP, c], F[_GQ, c]
-        w = b - a
-        is_open = w > tol
-        xh = 0.5 * (a + b)
-        r = F[_R_BASE, c] * scale - 0.5 * w  # projection radius eps 2^(n_max − j) − (b − a)/2
-        if r < 0.0:
-            r = 0.0
-        delta = F[_K1, c] * (w * w)  # kappa2 = 2
-        if delta < half_eps:  # at least half a tolerance: straddle the root
-            delta = half_eps
-        # in u = ln m: regula falsi on the bracket (the least margin); the secant through the
-        # last two evaluations, or inverse quadratic interpolation through the last three,
-        # where it falls inside the bracket: of the least margin where the same requirement
-        # was least met at those evaluations, else of each requirement on its own, the lowest
-        # of their roots
+        # regula falsi on the bracket (the least margin); the secant through the last two
+        # evaluations, or inverse quadratic interpolation through the last three, where it
+        # falls inside the bracket: of the least margin where the same requirement was least
+        # met at those evaluations, else of each requirement on its own, the lowest of their
+        # roots
         uf = (gb * ua - ga * ub) / (gb - ga)
-        below = False  # the secant puts the root at or below the low end
+        low = False
         if j >= 1:
             est = _root(ul, up, uq, gl, gp, gq, j)
             if est > ua and est < ub:
@@ -166,8 +156,31 @@ def _propose(j, tol, eps, grid, F, H, AR, head, known, fails, x, open_, check):
                     e = _root(ul, up, uq, H[h0, i, c], H[h1, i, c], 0.0, 1)
                     if e < ub and e < lowest:
                         lowest = e
-                below = lowest <= ua
-        xf = math.exp(uf)
+                low = lowest <= ua
+        u[c] = uf
+        below[c] = low
+
+
+@kernel
+def _propose(j, tol, eps, grid, F, xf_all, below, known, fails, x, open_, check):
+    """The next trial mass of every case (``x``) from its interpolated root ``xf_all`` (a
+    mass: exp of :func:`_interpolate`'s), and which brackets are open and which cases
+    evaluate OEW itself (``check``). See :func:`bracket_search`."""
+    scale = 2.0 ** -j
+    near = 0.9 * tol
+    half_eps = 0.5 * eps
+    for c in range(F.shape[1]):
+        a, b = F[_A, c], F[_B, c]
+        w = b - a
+        is_open = w > tol
+        xh = 0.5 * (a + b)
+        r = F[_R_BASE, c] * scale - 0.5 * w  # projection radius eps 2^(n_max − j) − (b − a)/2
+        if r < 0.0:
+            r = 0.0
+        delta = F[_K1, c] * (w * w)  # kappa2 = 2
+        if delta < half_eps:  # at least half a tolerance: straddle the root
+            delta = half_eps
+        xf = xf_all[c]
         if not math.isfinite(xf):
             xf = xh
         d = xh - xf
@@ -190,7 +203,7 @@ def _propose(j, tol, eps, grid, F, H, AR, head, known, fails, x, open_, check):
         # OEW itself where the bracket closed before any trial succeeded, where the secant
         # through two failed trials puts the root at or below OEW, or after OEW_CHECK_FAILS
         # failed trials
-        chk = (not is_open or (j >= 1 and (below or fails[c] >= OEW_CHECK_FAILS))) and not known[c]
+        chk = (not is_open or (j >= 1 and (below[c] or fails[c] >= OEW_CHECK_FAILS))) and not known[c]
         if chk:
             xv = a
         x[c] = xv
@@ -405,7 +418,11 @@ def bracket_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
         # V1 was found for)
         x = np.empty(idx.size)
         open_, check, feasible = (np.empty(idx.size, dtype=bool) for _ in range(3))
-        _propose(j, tol, eps, grid, F, H, AR, head, known, fails, x, open_, check)
+        u, below = np.empty(idx.size), np.empty(idx.size, dtype=bool)
+        _interpolate(j, F, H, AR, head, known, u, below)
+        with np.errstate(over="ignore", invalid="ignore"):
+            xf = np.exp(u, out=u)  # (vectorised: several times faster than exp per case in the loop)
+        _propose(j, tol, eps, grid, F, xf, below, known, fails, x, open_, check)
         if j and sub._cache.get("engine_failure_state"):
             # the cases this trial does not serve for the first time: their last trial's V1
             keep_v1(np.flatnonzero(~(open_ | check | kept)))
