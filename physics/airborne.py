@@ -183,13 +183,18 @@ def climb_out(thrust_law, *, mass_kg, density_kg_m3, wing_area_m2, v_transition_
 
     law, v = thrust_law, np.asarray(v_transition_mps, dtype=float)
     # the law's fields broadcast against the speeds as in ThrustLaw.thrust_n (trailing axes)
+    lf = np.asarray(load_factor, dtype=float)
     floats = [np.asarray(x, dtype=float) for x in (
         mass_kg, density_kg_m3, wing_area_m2, v, cd0, induced_factor,
         *(_trail(x, v) for x in (law.t0_n, law.t1_n_per_mps, law.t2_n_per_mps2, law.propeller_power_w)),
-        screen_height_m, load_factor, headwind_mps)]
+        screen_height_m, lf if lf.size != 1 else np.zeros(()), headwind_mps)]
     is_prop = _trail(np.asarray(law.is_propeller, dtype=bool), v)
     shape = np.broadcast_shapes(is_prop.shape, *(x.shape for x in floats))
-    args = groundrun._kernel_args(floats, shape)
+    if lf.size == 1:  # one load factor for every case (the usual): not spread over them
+        floats[11] = np.array(lf, dtype=float).reshape(1)
+    args = groundrun._kernel_args(floats[:11], shape) + [floats[11] if lf.size == 1 else
+                                                          groundrun._kernel_args(floats[11:12], shape)[0]] \
+        + groundrun._kernel_args(floats[12:], shape)
     is_prop = np.array(np.broadcast_to(is_prop, shape), dtype=np.bool_).reshape(-1)
     out = np.empty((3,) + args[0].shape)
     _climb_out_pass(*args, is_prop, *out)
@@ -199,7 +204,8 @@ def climb_out(thrust_law, *, mass_kg, density_kg_m3, wing_area_m2, v_transition_
 @kernel
 def _climb_out_pass(m, rho, area, v_tr, cd0, k, t0, t1, t2, power, h, load_factor, w, is_prop, sin_out, air_out,
                     ground_out):
-    """:func:`climb_out` per case, in place."""
+    """:func:`climb_out` per case, in place (``load_factor``: per case, or one value for all)."""
+    one_load_factor = load_factor.shape[0] != m.shape[0]
     for j in range(m.shape[0]):
         v = v_tr[j]
         weight = m[j] * c.G0
@@ -207,7 +213,7 @@ def _climb_out_pass(m, rho, area, v_tr, cd0, k, t0, t1, t2, power, h, load_facto
         cl = weight / q_s
         drag = q_s * (cd0[j] + k[j] * cl * cl)
         sin_g = (_thrust_one(t0[j], t1[j], t2[j], power[j], is_prop[j], v) - drag) / weight
-        air = _airborne_one(v, sin_g, h[j], load_factor[j])
+        air = _airborne_one(v, sin_g, h[j], load_factor[0] if one_load_factor else load_factor[j])
         sin_out[j], air_out[j], ground_out[j] = sin_g, air, air * (v - w[j]) / v
 
 

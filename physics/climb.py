@@ -325,10 +325,12 @@ def _climb_gradient(terms, mass_kg, v2_mps=None):
     given = v2_mps is not None
     v2 = np.asarray(v2_mps if given else 0.0, dtype=float)
     shape = np.broadcast_shapes(m.shape, v2.shape, terms[0].shape)
-    args = groundrun._kernel_args([m, v2, *terms[:-1]], shape)
+    args = groundrun._kernel_args([m, *terms[:-1]], shape)
+    # V2 scheduled in the pass where not given: its argument is not read, not spread over the cases
+    v2 = groundrun._kernel_args([v2], shape)[0] if given else np.zeros(1)
     is_prop = np.array(np.broadcast_to(terms[-1], shape), dtype=np.bool_).reshape(-1)
     out = np.empty(args[0].shape)
-    _climb_gradient_pass(*args, is_prop, given, out)
+    _climb_gradient_pass(args[0], v2, *args[1:], is_prop, given, out)
     return out.reshape(shape)
 
 

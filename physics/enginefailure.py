@@ -1087,7 +1087,7 @@ def engine_failure_setup(aircraft, site, shape=()):
     rho = atmosphere.density_kg_m3(s.pressure_pa, s.temperature_k)
     n = np.broadcast_shapes(*(np.shape(x) for x in (rho, a.engine_count, s.tora_m, s.headwind_mps,
                                                      a.mtow_kg, s.mu_brake)), tuple(shape)) or (1,)
-    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), n)  # noqa: E731
+    b = lambda x: _as_shape(x, n)  # noqa: E731
     n_eng = b(a.engine_count)
     multi = n_eng > 1
     k = b(aerodynamics.induced_drag_factor(a.oswald_efficiency,
@@ -1128,7 +1128,7 @@ def _mass_independent(su, aircraft):
     first use and kept with the setup ``su`` (a setup taken for a subset computes its own)."""
     fixed = su.__dict__.get("_fixed")
     if fixed is None:
-        b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), su.n)  # noqa: E731
+        b = lambda x: _as_shape(x, su.n)  # noqa: E731
         a, rho = aircraft, su.density_kg_m3
         # as scheduled_speeds_mps: V_S = sqrt(2 m g/(rho S C_Lmax)); V_MCG as a true airspeed
         vmcg = np.where(su.multi_engine, b(a.vmcg_mps) * np.sqrt(c.RHO0_KG_M3 / rho), 0.0)
@@ -1179,7 +1179,8 @@ def engine_failure_model(aircraft, site, mass_kg, setup=None):
     .. [1] 14 CFR 25.107, 25.109. .. [2] Anderson (1999), Eq. 6.78, §6.8.
     """
     su = engine_failure_setup(aircraft, site, np.shape(mass_kg)) if setup is None else setup
-    m = np.broadcast_to(np.asarray(mass_kg, dtype=float), su.n)
+    # writeable and contiguous: the compiled passes of the regimes and speeds take it as it is
+    (m,) = groundrun._kernel_args([_as_shape(mass_kg, su.n)], su.n)
     fixed = _mass_independent(su, aircraft)
     # scheduled_speeds_mps with its mass-independent parts computed once per solve
     speeds = _scheduled_speeds(m, fixed["stall_denominator"], fixed["speed_ratios"], fixed["vmcg_mps"])
@@ -1607,7 +1608,7 @@ def engine_failure_takeoff(aircraft, site, mass_kg, *, setup=None, v1_start_mps=
     """
     su = engine_failure_setup(aircraft, site, np.shape(mass_kg)) if setup is None else setup
     model = engine_failure_model(aircraft, site, mass_kg, setup=su)
-    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), su.n)  # noqa: E731
+    b = lambda x: _as_shape(x, su.n)  # noqa: E731
     toda, tora, asda = b(site.toda_m), b(site.tora_m), b(site.asda_m)
     air = continued_takeoff_airborne_m(model, su, b(site.screen_height_m))
     go_avail = go_constant_m(toda_m=toda, tora_m=tora, airborne_m=air)

@@ -167,6 +167,8 @@ def all_engines_takeoff(*, thrust_law, mass_kg, wing_area_m2, density_kg_m3, cd_
     .. [2] Raymer, §17.8. .. [3] Anderson (1999), §6.7. .. [1] 14 CFR 25.113.
     """
     m = np.asarray(mass_kg, dtype=float)
+    if not m.flags.writeable:  # one copy for the compiled passes below (each would make its own)
+        m = np.array(m)
     rho = np.asarray(density_kg_m3, dtype=float)
     s = np.asarray(wing_area_m2, dtype=float)
     w = np.asarray(headwind_mps, dtype=float)

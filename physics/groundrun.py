@@ -225,6 +225,8 @@ def _segment_one(a_0, a_1, a_2, w_j, form, k0, k1, k2, v_i, v_f):
     """∫(V − w)/a dV and ∫dV/a from v_i to v_f for one case of :class:`QuadraticSegments`
     (its coefficients, form and constants). Returns (distance, time)."""
     dv = v_f - v_i
+    if dv == 0.0:  # an empty segment (e.g. one side of a propeller kink): no logarithms
+        return 0.0, 0.0
     a_i = a_0 + (a_1 + a_2 * v_i) * v_i
     if form == FORM_REAL:
         # written to stay exact as a2 → 0: (r1 − w) ln((vf − r1)/(vi − r1)) through log1p
@@ -261,9 +263,6 @@ def _segment_one(a_0, a_1, a_2, w_j, form, k0, k1, k2, v_i, v_f):
     if not (dv * a_i > 0.0 and np.isfinite(d)):
         d = np.nan
         t = np.nan
-    if dv == 0.0:
-        d = 0.0
-        t = 0.0
     return d, t
 
 
@@ -652,8 +651,10 @@ def _propeller_power_closed(pm, c2, c0, v0, v1, w, root=None):
 def _propeller_one(pm, c2, c0, v_0, v_1, w, r, p, d_inv, e):
     """One case of :func:`_propeller_power_closed` (its cubic's root and constants).
     Returns (distance, time)."""
-    r2 = r * r
     dv = v_1 - v_0
+    if dv == 0.0:  # an empty piece (e.g. a segment below the kink): no logarithms
+        return 0.0, 0.0
+    r2 = r * r
     l1 = np.log1p(-dv / (r - v_0))
     l2 = np.log1p(dv * (v_1 + v_0 + r) / (v_0 * (v_0 + r) + r2 + p))
     x = (2.0 * v_1 + r) / e
@@ -663,10 +664,7 @@ def _propeller_one(pm, c2, c0, v_0, v_1, w, r, p, d_inv, e):
     i2 = (r2 * l1 + (r2 + 0.5 * p) * l2 + 0.5 * r * p * theta) * d_inv
     t = -i1 / c2
     d = -(i2 - w * i1) / c2
-    if dv == 0.0:
-        d = 0.0
-        t = 0.0
-    elif not (dv * (pm / v_1 - c2 * v_1 * v_1 - c0) > 0.0 and np.isfinite(d) and np.isfinite(t)):
+    if not (dv * (pm / v_1 - c2 * v_1 * v_1 - c0) > 0.0 and np.isfinite(d) and np.isfinite(t)):
         d = np.nan
         t = np.nan
     return d, t
@@ -1093,7 +1091,9 @@ def ground_run_from_terms(terms, *, mass_kg, v_lof_mps, headwind_mps=0.0, nodes=
     """
     law = terms.law
     n1 = terms.valid.shape
-    m, vlof, w = (np.broadcast_to(np.atleast_1d(_f(x)), n1) for x in (mass_kg, v_lof_mps, headwind_mps))
+    # a view where the shape is already n1 (a broadcast view is read-only: the kernel would copy it)
+    m, vlof, w = (x if x.shape == n1 else np.broadcast_to(x, n1)
+                  for x in (np.atleast_1d(_f(x)) for x in (mass_kg, v_lof_mps, headwind_mps)))
     t0, t1, t2, power, drag, resistance, kink, m, vlof, w = _kernel_args(
         [_f(x) for x in (law.t0_n, law.t1_n_per_mps, law.t2_n_per_mps2, law.propeller_power_w,
                          terms.drag_term_kg_m, terms.resistance_mps2, terms.kink_mps, m, vlof, w)], n1)

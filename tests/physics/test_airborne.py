@@ -133,3 +133,26 @@ def test_compiled_climb_out_equals_the_formulas_written_with_numpy():
                                                                screen_height_m=h), ref_air)
     # a scalar stays a float
     assert isinstance(airborne.airborne_distance_m(v_transition_mps=70.0, climb_sine=0.05), float)
+
+
+def test_climb_out_load_factor_per_case_or_one_for_all():
+    # climb_out takes one load factor for every case without spreading it over them, or one
+    # per case: both give the numpy formulas' arc and climb (Raymer Eqs. 17.107-17.112,
+    # R = V²/(g (n − 1))) at each case's own load factor, to the bit.
+    n = 400
+    rng = np.random.default_rng(5)
+    law = thrust.ThrustLaw(np.full(n, 180e3), np.zeros(n), np.zeros(n), np.zeros(n), np.zeros(n, dtype=bool))
+    m, rho, area = rng.uniform(40e3, 70e3, n), np.full(n, 1.225), np.full(n, 120.0)
+    v_tr = rng.uniform(60.0, 80.0, n)
+    cd0, k, h, w = np.full(n, 0.03), np.full(n, 0.04), np.full(n, 10.668), np.zeros(n)
+    lf = rng.choice([1.1, 1.15, 1.2], n)
+    kw = dict(mass_kg=m, density_kg_m3=rho, wing_area_m2=area, v_transition_mps=v_tr, cd0=cd0, induced_factor=k,
+              screen_height_m=h, headwind_mps=w)
+    sin_g, air, _ = airborne.climb_out(law, load_factor=lf, **kw)
+    np.testing.assert_array_equal(air, _airborne_with_numpy(v_tr, sin_g, h, lf))
+    for one in (1.15, np.array([1.15]), np.full(n, 1.15)):
+        np.testing.assert_array_equal(airborne.climb_out(law, load_factor=one, **kw)[1],
+                                      _airborne_with_numpy(v_tr, sin_g, h, 1.15))
+    # each case's own load factor is read: a larger one (smaller radius) gives a shorter distance
+    same = airborne.climb_out(law, load_factor=1.15, **kw)[1]
+    assert np.all(np.isfinite(air)) and np.all((air < same) == (lf > 1.15)) and np.all((air > same) == (lf < 1.15))
