@@ -1027,13 +1027,19 @@ def _solve_staged(cases, tol_kg, reqs, figures):
             limit_at[rest], above[rest], none[rest] = lo, hi, none_rest
             m_above[np.ix_(np.flatnonzero(~costly_row), rest)] = m_top
 
-    # 2. the engine-failure requirements at that limit
+    # 2. the engine-failure requirements at that limit: every case where those without a
+    # limit at OEW are few (evaluating them costs less than gathering the others), else the
+    # cases with a limit
     idx = np.flatnonzero(~none)
-    ef = cases if idx.size == n else cases.take(idx)
+    if idx.size >= masssearch.COMPACT_SHARE * n:
+        idx, ef = np.arange(n), cases
+    else:
+        ef = cases.take(idx)
     ef._read.clear()
     m_chk, _ = requirement_margins(ef, limit_at[idx], costly)
     costly_keys = set(ef._read)  # what the V1 requirements use of the cache
     least = m_chk.min(axis=0)
+    least[none.take(idx)] = np.inf  # (no_takeoff: not searched)
     state = ef._cache.get("engine_failure_state")
     if not state or state.get("v1") is None:
         state = {"v1": np.full(idx.size, np.nan), "mass": np.full(idx.size, np.nan)}
