@@ -861,6 +861,47 @@ def _obstacle_search(cases, hi_kg, margin_hi, tol_kg, reqs, figures):
     return out
 
 
+def _input_columns(aircraft, site, obstacles, n):
+    """Every aircraft and site field (but the dry-friction pair) and the obstacles of n cases
+    as float columns of length n, in a fixed order."""
+    cols = [np.broadcast_to(np.asarray(getattr(aircraft, f.name), dtype=float), (n,)) for f in fields(aircraft)]
+    cols += [np.broadcast_to(np.asarray(getattr(site, f.name), dtype=float), (n,)) for f in fields(site)
+             if f.name not in ("mu_roll_dry", "mu_brake_dry")]
+    if obstacles is not None:
+        for x in (obstacles.distance_m, obstacles.height_m):
+            x = np.asarray(x, dtype=float).reshape(n, -1)
+            cols += [x[:, k] for k in range(x.shape[1])]
+    return cols
+
+
+def _row_hashes(cols):
+    """A 64-bit hash of each row of the columns (their bits, in order)."""
+    h = np.zeros(cols[0].shape[0], dtype=np.uint64)
+    for c in cols:
+        h *= np.uint64(0x9E3779B97F4A7C15)  # wraps modulo 2^64
+        h ^= np.ascontiguousarray(c).view(np.uint64)
+    return h
+
+
+def _dry_twins(aircraft, site, obstacles, n, dry_aircraft, dry_site, dry_obstacles):
+    """For each wet case (the m cases of ``dry_aircraft``/``dry_site``, their dry inputs), a
+    case among the n of the call whose inputs are the same to the bit (every field, the
+    obstacles), or −1."""
+    m = np.shape(dry_site.mu_roll)[0]
+    every = _input_columns(aircraft, site, obstacles, n)
+    wet = _input_columns(dry_aircraft, dry_site, dry_obstacles, m)
+    if len(every) != len(wet):  # obstacles of a different width
+        return np.full(m, -1, dtype=np.intp)
+    h_every, h_wet = _row_hashes(every), _row_hashes(wet)
+    order = np.argsort(h_every, kind="stable")
+    at = np.minimum(np.searchsorted(h_every, h_wet, sorter=order), n - 1)
+    twin = order.take(at)
+    same = h_every.take(twin) == h_wet
+    for a, b in zip(every, wet):  # the candidates, field by field, to the bit (NaN matches NaN)
+        same &= np.ascontiguousarray(a).view(np.uint64).take(twin) == np.ascontiguousarray(b).view(np.uint64)
+    return np.where(same, twin, -1)
+
+
 def _gather(obj, index, n):
     """``obj`` (an :class:`Aircraft` or :class:`Site`) with every field at ``index`` of n."""
     return type(obj)(**{f.name: np.broadcast_to(np.asarray(getattr(obj, f.name), dtype=float), (n,))[index]
@@ -888,8 +929,26 @@ def _solve_accepted(aircraft, site, tol_kg, reqs, figures, obstacles=None):
                        "mu_brake": np.broadcast_to(dry_brake, (n,))[idx],
                        "screen_height_m": np.full(idx.size, const.SCREEN_HEIGHT_35FT_M),
                        "mu_roll_dry": math.nan, "mu_brake_dry": math.nan})
-    dry = _solve(take(aircraft), dry_site, tol_kg, reqs, figures,
-                 None if obstacles is None else obstacles.take_cases(idx))
+    dry_aircraft = take(aircraft)
+    dry_obstacles = None if obstacles is None else obstacles.take_cases(idx)
+    # a wet case whose dry inputs are those of a case of this call (the dry condition of the
+    # same runway, day and type, as a planning run has) takes that case's result: the
+    # results do not depend on the batch, so solving it again gives the same to the bit
+    twin = _dry_twins(aircraft, site, obstacles, n, dry_aircraft, dry_site, dry_obstacles)
+    alone = np.flatnonzero(twin < 0)
+    dry = {f.name: np.empty(idx.size) for f in fields(WeightLimit)}
+    dry["limiting_factor"] = np.empty(idx.size, dtype=np.int64)
+    paired = np.flatnonzero(twin >= 0)
+    for f in fields(WeightLimit):
+        dry[f.name][paired] = np.asarray(getattr(result, f.name)).take(twin.take(paired))
+    if alone.size:
+        sub = alone if alone.size < idx.size else slice(None)
+        solved = _solve(_gather(dry_aircraft, alone, idx.size) if alone.size < idx.size else dry_aircraft,
+                        _gather(dry_site, alone, idx.size) if alone.size < idx.size else dry_site, tol_kg, reqs,
+                        figures, None if dry_obstacles is None else dry_obstacles.take_cases(alone))
+        for f in fields(WeightLimit):
+            dry[f.name][sub] = getattr(solved, f.name)
+    dry = WeightLimit(**dry)
     w_lim = result.tow_limit_kg[idx]
     lower = ~np.isnan(w_lim) & (np.isnan(dry.tow_limit_kg) | (dry.tow_limit_kg < w_lim))
     out = {}

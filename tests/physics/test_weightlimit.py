@@ -1,6 +1,8 @@
 """Takeoff-weight solver: requirement met with equality at the limit, factors, properties,
 and agreement with an independent per-case loop (solve_ivp + brentq)."""
 
+import dataclasses
+
 import numpy as np
 import pytest
 
@@ -329,3 +331,40 @@ def test_a_subset_of_the_cases_leaves_out_the_items_only_other_requirements_use(
     np.testing.assert_array_equal(sub._cache["given"], [3.0, 1.0])
     np.testing.assert_array_equal(sub.cached("rho_twice", lambda cs: 2.0 * cs.density_kg_m3), rho[[3, 1]])
     assert cases.take(np.array([0]))._cache.keys() >= {"rho_twice", "span", "given"}  # no keys: everything
+
+
+def _joined(first, second, n):
+    """Two Aircraft (or Site) of n cases each as one of 2n."""
+    return type(first)(**{f.name: np.concatenate([np.broadcast_to(np.asarray(getattr(o, f.name), dtype=float), (n,))
+                                                  for o in (first, second)]) for f in dataclasses.fields(first)})
+
+
+def test_wet_cases_take_the_result_of_their_dry_twin_in_the_same_call(monkeypatch):
+    # A wet case is also solved on the same runway dry (35 ft screen, dry friction) and keeps
+    # the lower limit. Where the call holds that dry case itself (a planning run solves both
+    # conditions of each runway, day and type together), its result is taken instead of a
+    # second solve: the results must be the same to the bit as solving the wet cases alone,
+    # where nothing can be taken. Wet friction from Raymer Table 17.1 (rolling 0.05, braking
+    # 0.15-0.3), 15 ft screen from 14 CFR 25.113(b).
+    n = 3000
+    a, dry = fleet.random_cases(n, seed=23)
+    wet = dataclasses.replace(dry, mu_roll=np.full(n, 0.05), mu_brake=np.full(n, 0.225),
+                              screen_height_m=np.full(n, c.SCREEN_HEIGHT_15FT_M), mu_roll_dry=dry.mu_roll,
+                              mu_brake_dry=dry.mu_brake)
+    dry = dataclasses.replace(dry, mu_roll_dry=dry.mu_roll, mu_brake_dry=dry.mu_brake)
+    # the dry twin of the last 500 wet cases is 1 K warmer: no twin, solved again
+    warmer = dataclasses.replace(dry, temperature_k=dry.temperature_k + np.where(np.arange(n) >= n - 500, 1.0, 0.0))
+    solved = []
+    real = wl._solve
+    monkeypatch.setattr(wl, "_solve", lambda *args, **kw: solved.append(wl.case_count(args[0], args[1]))
+                        or real(*args, **kw))
+    alone = wl.solve_takeoff_weight(a, wet)
+    assert solved == [n, n]  # the wet cases, then the same dry
+    solved.clear()
+    both = wl.solve_takeoff_weight(_joined(a, a, n), _joined(warmer, wet, n))
+    assert solved == [2 * n, 500]  # only the 500 without a twin solved dry again
+    for f in dataclasses.fields(wl.WeightLimit):
+        np.testing.assert_array_equal(getattr(both, f.name)[n:], getattr(alone, f.name), err_msg=f.name)
+    limited = np.isfinite(alone.tow_limit_kg) & (np.arange(n) < n - 500)
+    assert limited.sum() > 1500
+    assert np.all(both.tow_limit_kg[n:][limited] <= both.tow_limit_kg[:n][limited])  # never better than dry
