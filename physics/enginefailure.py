@@ -522,28 +522,21 @@ class GroundRegime:
         ----------
         .. [1] Raymer, §17.8; see :mod:`physics.groundrun`. .. [2] Trefethen (2008).
         """
-        args = self.__dict__.get("_distance_args")
-        if args is None:
-            args = self._distance_args = self._kernel_terms()
+        args = self._distance_terms()
         subset = index is not None
         index = np.ascontiguousarray(index, dtype=np.intp) if subset else _NO_INDEX
         n = index.shape if subset else self.w.shape
         v_from, v_to = groundrun._kernel_args([_as_shape(v_from, n), _as_shape(v_to, n)], n)
         s = np.empty(n)
         _regime_distance(index, subset, v_from, v_to, *args, s)
-        gl = self.__dict__.get("_gauss_legendre")
-        if gl is not None and gl.size:
-            # propeller cases above the kink without the closed form: Gauss–Legendre
-            i, k = self.prop.take(gl), gl
-            q = i
-            if subset:  # those among the cases evaluated, and their positions there
-                q = np.minimum(np.searchsorted(index, i), max(index.size - 1, 0))
-                hit = np.flatnonzero(index.take(q) == i) if index.size else np.zeros(0, dtype=np.intp)
-                i, k, q = i.take(hit), k.take(hit), q.take(hit)
-            g_from, g_to = np.maximum(v_from.take(q), self.kink.take(i)), np.maximum(v_to.take(q), self.kink.take(i))
-            s[q] += groundrun._propeller_power_piece(self._p_m.take(k), -self._a2p.take(k), -self._a0n.take(k), g_from,
-                                                     g_to, self.w.take(i), PROPELLER_NODES)[0]
         return s
+
+    def _distance_terms(self):
+        """:meth:`_kernel_terms`, found on first use and kept."""
+        args = self.__dict__.get("_distance_args")
+        if args is None:
+            args = self._distance_args = self._kernel_terms()
+        return args
 
     def _kernel_terms(self):
         """The regime's constants for :func:`_regime_distance`: each case's form and roots of
@@ -566,10 +559,10 @@ class GroundRegime:
                                                             self.w.take(t))
             rv = self._reverse
             rev = (rv.a0, rv.a1, rv.a2, rv.w, rv.form, *rv.k)
-        else:
-            rev = (*(np.zeros(0),) * 4, np.zeros(0, dtype=np.int8), *(np.zeros(0),) * 3)
-        closed = np.zeros(0, dtype=np.bool_)
-        prop_terms = (np.zeros(0),) * 7
+        else:  # (one element: the kernel reads a case's entry before its test of reverse_at)
+            rev = (*(np.zeros(1),) * 4, np.zeros(1, dtype=np.int8), *(np.zeros(1),) * 3)
+        closed = np.zeros(1, dtype=np.bool_)  # (as above, for prop_at)
+        prop_terms = (np.zeros(1),) * 7
         if self.prop.size:
             closed = np.ascontiguousarray(self._closed, dtype=np.bool_)
             pm, c2, c0 = self._p_m, -self._a2p, -self._a0n
@@ -577,9 +570,26 @@ class GroundRegime:
                 self._root = groundrun._cubic_root(pm, c2, c0)
             prop_terms = tuple(groundrun._kernel_args([np.asarray(x, dtype=float) for x in (pm, c2, c0, *self._root)],
                                                       pm.shape))
-            self._gauss_legendre = np.flatnonzero(~closed)
         return (*groundrun._kernel_args([_as_shape(self.kink, n)], n), self.a2_reverse is not None,
-                fw.a0, fw.a1, fw.a2, fw.w, fw.form, *fw.k, reverse_at, *rev, prop_at, closed, *prop_terms)
+                fw.a0, fw.a1, fw.a2, fw.w, fw.form, *fw.k, reverse_at, *rev, prop_at, closed, *prop_terms,
+                *_GAUSS_LEGENDRE)
+
+    def _acceleration_terms(self):
+        """The regime's coefficients for :func:`_acceleration_one` (kept once found)."""
+        args = self.__dict__.get("_acceleration_args")
+        if args is None:
+            n = self.w.shape
+            a2r = self.a2_reverse if self.a2_reverse is not None else np.zeros(0)
+            prop_at = self.__dict__.get("_prop_at")  # each case's place among the propeller cases
+            if prop_at is None:
+                prop_at = np.full(n, -1, dtype=np.intp)
+                prop_at[self.prop] = np.arange(self.prop.size)
+            pa = (self._p_m, self._a0n, self._a2p) if self.prop.size else (np.zeros(1),) * 3  # (read, not used)
+            args = (*groundrun._kernel_args([_as_shape(x, n) for x in (*self.coeffs, self.kink)], n),
+                    *groundrun._kernel_args([np.asarray(a2r, dtype=float)], np.shape(a2r)), prop_at,
+                    *groundrun._kernel_args([np.asarray(x, dtype=float) for x in pa], np.shape(pa[0])))
+            self._acceleration_args = args
+        return args
 
     def take(self, index):
         """The regime for a subset of the cases (``index``: integer array)."""
@@ -635,19 +645,7 @@ class GroundRegime:
         ----------
         .. [1] Raymer, Eq. 17.100.
         """
-        args = self.__dict__.get("_acceleration_args")
-        if args is None:  # the regime's coefficients for the compiled kernel, once
-            n = self.w.shape
-            a2r = self.a2_reverse if self.a2_reverse is not None else np.zeros(0)
-            prop_at = self.__dict__.get("_prop_at")  # each case's place among the propeller cases
-            if prop_at is None:
-                prop_at = np.full(n, -1, dtype=np.intp)
-                prop_at[self.prop] = np.arange(self.prop.size)
-            pa = (self._p_m, self._a0n, self._a2p) if self.prop.size else (np.zeros(0),) * 3
-            args = (*groundrun._kernel_args([_as_shape(x, n) for x in (*self.coeffs, self.kink)], n),
-                    *groundrun._kernel_args([np.asarray(a2r, dtype=float)], np.shape(a2r)), prop_at,
-                    *groundrun._kernel_args([np.asarray(x, dtype=float) for x in pa], np.shape(pa[0])))
-            self._acceleration_args = args
+        args = self._acceleration_terms()
         subset = index is not None
         index = np.ascontiguousarray(index, dtype=np.intp) if subset else _NO_INDEX
         n = index.shape if subset else self.w.shape
@@ -659,6 +657,8 @@ class GroundRegime:
 
 #: No case index (a regime evaluated for all its cases).
 _NO_INDEX = np.zeros(0, dtype=np.intp)
+#: Nodes and weights of the propeller pieces integrated by Gauss–Legendre (:data:`PROPELLER_NODES`).
+_GAUSS_LEGENDRE = tuple(np.ascontiguousarray(x, dtype=float) for x in np.polynomial.legendre.leggauss(PROPELLER_NODES))
 
 
 def _regime_inputs(terms, headwind_mps, shape):
@@ -714,33 +714,39 @@ def _regime_constants(t0, t1, t2, power, drag, resistance, m, w, prop, tail, a0,
 
 
 @kernel
+def _acceleration_one(vj, a0, a1, a2, a2r, reverse, kink, prop, p_m, a0n, a2p):
+    """a(V) and da/dV of one case of a :class:`GroundRegime` (its constants, scalars) at the
+    airspeed ``vj``: the polynomial (the reverse-flow a2r below V = 0 where ``reverse``), the
+    propeller law above the kink where ``prop``. Returns (a, da/dV)."""
+    if prop and vj > kink:
+        return p_m / vj + a0n + a2p * vj * vj, -p_m / (vj * vj) + 2.0 * a2p * vj
+    a2j = a2r if reverse and vj < 0.0 else a2
+    return a0 + (a1 + a2j * vj) * vj, a1 + 2.0 * a2j * vj
+
+
+@kernel
 def _regime_acceleration(index, subset, v, a0, a1, a2, kink, a2_reverse, prop_at, p_m, a0n, a2p, out, d_out):
     """a(V) and da/dV of a :class:`GroundRegime` at one airspeed per case, in place (the cases
-    at ``index`` where ``subset``): the polynomial (reverse-flow a2 below V = 0 where
-    ``a2_reverse`` is given), the propeller law above the kink for the propeller cases
-    (``prop_at``: a case's place among them, −1 for the others)."""
+    at ``index`` where ``subset``; :func:`_acceleration_one`; ``prop_at``: a case's place
+    among the propeller cases, −1 for the others; ``a2_reverse`` empty: no reverse flow)."""
     reverse = a2_reverse.shape[0] > 0
     for q in range(v.shape[0]):
         j = index[q] if subset else q
-        vj = v[q]
         k = prop_at[j]
-        if k >= 0 and vj > kink[j]:
-            out[q] = p_m[k] / vj + a0n[k] + a2p[k] * vj * vj
-            d_out[q] = -p_m[k] / (vj * vj) + 2.0 * a2p[k] * vj
-        else:
-            a2j = a2_reverse[j] if reverse and vj < 0.0 else a2[j]
-            out[q] = a0[j] + (a1[j] + a2j * vj) * vj
-            d_out[q] = a1[j] + 2.0 * a2j * vj
+        kk = max(k, 0)  # (the propeller arrays have at least one element, :meth:`GroundRegime._acceleration_terms`)
+        out[q], d_out[q] = _acceleration_one(v[q], a0[j], a1[j], a2[j], a2_reverse[j] if reverse else 0.0, reverse,
+                                             kink[j], k >= 0, p_m[kk], a0n[kk], a2p[kk])
 
 
 @kernel
 def _regime_distance(index, subset, v_from, v_to, kink, split, fa0, fa1, fa2, fw, fform, fk0, fk1, fk2, reverse_at,
-                     ra0, ra1, ra2, rw, rform, rk0, rk1, rk2, prop_at, closed, pm, c2, c0, r, p, d_inv, e, out):
+                     ra0, ra1, ra2, rw, rform, rk0, rk1, rk2, prop_at, closed, pm, c2, c0, r, p, d_inv, e, gl_x, gl_w,
+                     out):
     """Ground distance of a :class:`GroundRegime` between two airspeeds per case, in place
     (the cases at ``index`` where ``subset``): the closed form below the propeller kink
     (split at V = 0 where the regime has tailwind cases: reverse-flow drag below it) and the
-    propeller piece above it where its closed form applies (the others are added afterwards
-    by Gauss–Legendre)."""
+    propeller piece above it, in closed form where it applies and by Gauss–Legendre (nodes
+    ``gl_x``, weights ``gl_w``; :func:`_gauss_legendre_one`) where it does not."""
     for q in range(v_from.shape[0]):
         j = index[q] if subset else q
         c_from, c_to = min(v_from[q], kink[j]), min(v_to[q], kink[j])
@@ -759,7 +765,36 @@ def _regime_distance(index, subset, v_from, v_to, kink, split, fa0, fa1, fa2, fw
         if k >= 0 and closed[k]:
             s += groundrun._propeller_one(pm[k], c2[k], c0[k], max(v_from[q], kink[j]), max(v_to[q], kink[j]),
                                           fw[j], r[k], p[k], d_inv[k], e[k])[0]
+        elif k >= 0:
+            s += _gauss_legendre_one(pm[k], c2[k], c0[k], groundrun._nan_max(v_from[q], kink[j]),
+                                     groundrun._nan_max(v_to[q], kink[j]), fw[j], gl_x, gl_w)
         out[q] = s
+
+
+@kernel
+def _gauss_legendre_one(pm, c2, c0, v0, v1, w, x, wts):
+    """Distance of the propeller piece a(V) = pm/V − c2 V² − c0 from v0 to v1 by
+    Gauss–Legendre (nodes ``x``, weights ``wts``) for one case: the sums of
+    :func:`physics.groundrun._propeller_power_piece` node by node in its order (the same
+    number to the bit); NaN where a does not keep the sign of v1 − v0 at the nodes and ends."""
+    if v1 == v0:
+        return 0.0
+    half = 0.5 * (v1 - v0)
+    mid = 0.5 * (v1 + v0)
+    sgn = 1.0 if v1 > v0 else -1.0
+    ok = sgn * (pm / v1 - c2 * v1 * v1 - c0) > 0.0 and sgn * (pm / v0 - c2 * v0 * v0 - c0) > 0.0
+    s_inv = 0.0
+    s_v_inv = 0.0
+    for i in range(x.shape[0]):
+        v = mid + half * x[i]
+        a = pm / v - c2 * v * v - c0
+        ok = ok and sgn * a > 0.0
+        inv = wts[i] / a
+        s_inv += inv
+        s_v_inv += v * inv
+    if not ok:
+        return np.nan
+    return half * s_v_inv - w * (half * s_inv)
 
 
 @kernel
@@ -811,60 +846,138 @@ def _timed_newton_step(base, so, ss, v_ef, w, v1, v1_raw, t_r, a_oo, d_oo, a_ae,
 
 
 @kernel
-def _newton_step(base, so, ss, v, w, a_go, a_stop, delay_s, go_slope_out, stop_slope_out, dh_out, step_out):
-    """One Newton step of the idealised V1 search per case, in place: h = C_go − ASDA −
+def _newton_step_one(base, so, ss, v, w, a_go, a_stop, delay_s):
+    """One Newton step of the idealised V1 search for one case: h = C_go − ASDA −
     S_oei(V1 → V_LOF) + t_d (V1 − w) + S_stop(V1 → w), the slopes −dS_oei/dV1 = (V1 − w)/a_oei
-    and dS_stop/dV1 = −(V1 − w)/a_stop (the accelerations at V1), dh and the step h/dh."""
-    for j in range(v.shape[0]):
-        h = base[j] - so[j] + delay_s * (v[j] - w[j]) + ss[j]
-        vg = v[j] - w[j]
-        go = vg / a_go[j]
-        stop = -vg / a_stop[j]
-        dh = go + delay_s + stop
-        go_slope_out[j], stop_slope_out[j], dh_out[j], step_out[j] = go, stop, dh, h / dh
+    and dS_stop/dV1 = −(V1 − w)/a_stop (the accelerations at V1), dh and the step h/dh.
+    Returns (go slope, stop slope, dh, step)."""
+    h = base - so + delay_s * (v - w) + ss
+    vg = v - w
+    go = vg / a_go
+    stop = -vg / a_stop
+    dh = go + delay_s + stop
+    return go, stop, dh, h / dh
+
+
+@kernel
+def _advance_one(v, step, dh, lo, hi, v1, v1_raw, v_act, w, dv1, vr, multi, count, k, step_tol, extrapolate, timed):
+    """Where one case's Newton step takes its speed: the step (none where it is not finite,
+    dh ≤ 0 or the type is single-engine), the speed clipped to [lo, hi]; whether the case goes
+    on (evaluations left, a step above ``step_tol`` where that is ≥ 0); and, where
+    ``extrapolate`` ≥ 0, whether it stops by taking a nonzero step of at most that without
+    evaluating there (with the timed events: not where V1 is held at VR or reaches it within
+    the step, nor where the stop actions end at rest). Returns (speed, goes on, extrapolated)."""
+    st = step
+    if not (np.isfinite(st) and dh > 0.0 and multi):
+        st = 0.0
+    moved = groundrun._nan_min(groundrun._nan_max(v - st, lo), hi)
+    going = k < count - 1
+    if step_tol >= 0.0:
+        going = going and abs(moved - v) > step_tol
+    near = False
+    if extrapolate >= 0.0:
+        d = moved - v
+        near = abs(d) <= extrapolate
+        if timed:
+            v1_to = v1 + dv1 * d
+            near = near and v1 == v1_raw and v_act > w and v1_to <= vr and v1_to >= moved
+        going = going and not near
+        near = near and d != 0.0
+    return moved, going, near
 
 
 @kernel
 def _newton_advance(v, step, dh, lo, hi, v1, v1_raw, v_act, w, dv1, vr, multi, count, k, step_tol, extrapolate,
                     timed, moved_out, going_out, near_out):
-    """Where each case's Newton step takes its speed, in place: the step (none where it is not
-    finite, dh ≤ 0 or the type is single-engine), the speed clipped to [lo, hi]; whether the
-    case goes on (evaluations left, a step above ``step_tol`` where that is ≥ 0); and, where
-    ``extrapolate`` ≥ 0, whether it stops by taking a nonzero step of at most that without
-    evaluating there (with the timed events: not where V1 is held at VR or reaches it within
-    the step, nor where the stop actions end at rest)."""
+    """:func:`_advance_one` per case, in place."""
     for j in range(v.shape[0]):
-        st = step[j]
-        if not (np.isfinite(st) and dh[j] > 0.0 and multi[j]):
-            st = 0.0
-        moved = groundrun._nan_min(groundrun._nan_max(v[j] - st, lo[j]), hi[j])
-        going = k < count[j] - 1
-        if step_tol >= 0.0:
-            going = going and abs(moved - v[j]) > step_tol
-        near = False
-        if extrapolate >= 0.0:
-            d = moved - v[j]
-            near = abs(d) <= extrapolate
-            if timed:
-                v1_to = v1[j] + dv1[j] * d
-                near = near and v1[j] == v1_raw[j] and v_act[j] > w[j] and v1_to <= vr[j] and v1_to >= moved
-            going = going and not near
-            near = near and d != 0.0
-        moved_out[j], going_out[j], near_out[j] = moved, going, near
+        moved_out[j], going_out[j], near_out[j] = _advance_one(
+            v[j], step[j], dh[j], lo[j], hi[j], v1[j], v1_raw[j], v_act[j], w[j], dv1[j], vr[j], multi[j], count[j], k,
+            step_tol, extrapolate, timed)
 
 
 @kernel
-def _extrapolate_step(idx, near, moved, v, go_slope, stop_slope, s_oei, s_stop):
-    """The idealised V1 search's step taken without evaluating there, in place: where
-    ``near``, each distance of case ``idx[q]`` carried along its slope in V1 over the step
-    (S_oei by −(V1 − w)/a_oei, S_stop by its slope; second-order error,
-    :data:`V1_EXTRAPOLATE_MPS`)."""
-    for q in range(near.shape[0]):
-        if near[q]:
-            i = idx[q]
-            d = moved[q] - v[q]
-            s_oei[i] -= go_slope[q] * d
-            s_stop[i] += stop_slope[q] * d
+def _newton_search(v, base, vlof, w, lo, hi, multi, count, total, delay_s, next_step, step_tol, extrapolate, oo_d,
+                   sa_d, oo_a, sa_a, s_oei, s_stop, v_next):
+    """The idealised V1 search of :func:`_newton_v1`, each case's whole Newton loop in one
+    pass, in place: at each evaluation S_oei(V1 → V_LOF) and S_stop(V1 → w)
+    (as :func:`_regime_distance`, with the one-engine-out and the all-engines stop regimes' terms
+    ``oo_d``, ``sa_d``), the accelerations at V1 (``oo_a``, ``sa_a``; :func:`_acceleration_one`),
+    the step (:func:`_newton_step_one`) and where it takes V1 (:func:`_advance_one`); the
+    step taken without evaluating there carries each distance along its slope. A case is
+    evaluated again while it goes on; ``v`` ends at each case's V1, ``v_next`` (where
+    ``next_step``) one step on from its last evaluation."""
+    (o_kink, o_split, o_a0, o_a1, o_a2, o_w, o_form, o_k0, o_k1, o_k2, o_rev_at, o_ra0, o_ra1, o_ra2, o_rw, o_rform,
+     o_rk0, o_rk1, o_rk2, o_prop_at, o_closed, o_pm, o_c2, o_c0, o_r, o_p, o_d_inv, o_e, gl_x, gl_w) = oo_d
+    (s_kink, s_split, s_a0, s_a1, s_a2, s_w, s_form, s_k0, s_k1, s_k2, s_rev_at, s_ra0, s_ra1, s_ra2, s_rw, s_rform,
+     s_rk0, s_rk1, s_rk2, s_prop_at, s_closed, s_pm, s_c2, s_c0, s_r, s_p, s_d_inv, s_e, _, _) = sa_d
+    o_a2r, s_a2r = oo_a[4], sa_a[4]
+    o_reverse, s_reverse = o_a2r.shape[0] > 0, s_a2r.shape[0] > 0
+    o_p_m, o_a0n, o_a2p, s_p_m, s_a0n, s_a2p = oo_a[6], oo_a[7], oo_a[8], sa_a[6], sa_a[7], sa_a[8]
+    for j in range(v.shape[0]):
+        vj = v[j]
+        oi, ok, si, sk = o_rev_at[j], o_prop_at[j], s_rev_at[j], s_prop_at[j]
+        for k in range(total):
+            # as _regime_distance: S_oei(V1 → V_LOF)
+            v_to, kj = vlof[j], o_kink[j]
+            c_from, c_to = min(vj, kj), min(v_to, kj)
+            if o_split:
+                so = groundrun._segment_one(o_a0[j], o_a1[j], o_a2[j], o_w[j], o_form[j], o_k0[j], o_k1[j], o_k2[j],
+                                            max(c_from, 0.0), max(c_to, 0.0))[0]
+                r_from, r_to = min(c_from, 0.0), min(c_to, 0.0)
+                if oi >= 0 and min(r_from, r_to) < 0.0:
+                    so += groundrun._segment_one(o_ra0[oi], o_ra1[oi], o_ra2[oi], o_rw[oi], o_rform[oi], o_rk0[oi],
+                                                 o_rk1[oi], o_rk2[oi], r_from, r_to)[0]
+            else:
+                so = groundrun._segment_one(o_a0[j], o_a1[j], o_a2[j], o_w[j], o_form[j], o_k0[j], o_k1[j], o_k2[j],
+                                            c_from, c_to)[0]
+            if ok >= 0 and o_closed[ok]:
+                so += groundrun._propeller_one(o_pm[ok], o_c2[ok], o_c0[ok], max(vj, kj), max(v_to, kj), o_w[j],
+                                               o_r[ok], o_p[ok], o_d_inv[ok], o_e[ok])[0]
+            elif ok >= 0:
+                so += _gauss_legendre_one(o_pm[ok], o_c2[ok], o_c0[ok], groundrun._nan_max(vj, kj),
+                                          groundrun._nan_max(v_to, kj), o_w[j], gl_x, gl_w)
+            # S_stop(V1 → w)
+            v_to, kj = w[j], s_kink[j]
+            c_from, c_to = min(vj, kj), min(v_to, kj)
+            if s_split:
+                ss = groundrun._segment_one(s_a0[j], s_a1[j], s_a2[j], s_w[j], s_form[j], s_k0[j], s_k1[j], s_k2[j],
+                                            max(c_from, 0.0), max(c_to, 0.0))[0]
+                r_from, r_to = min(c_from, 0.0), min(c_to, 0.0)
+                if si >= 0 and min(r_from, r_to) < 0.0:
+                    ss += groundrun._segment_one(s_ra0[si], s_ra1[si], s_ra2[si], s_rw[si], s_rform[si], s_rk0[si],
+                                                 s_rk1[si], s_rk2[si], r_from, r_to)[0]
+            else:
+                ss = groundrun._segment_one(s_a0[j], s_a1[j], s_a2[j], s_w[j], s_form[j], s_k0[j], s_k1[j], s_k2[j],
+                                            c_from, c_to)[0]
+            if sk >= 0 and s_closed[sk]:
+                ss += groundrun._propeller_one(s_pm[sk], s_c2[sk], s_c0[sk], max(vj, kj), max(v_to, kj), s_w[j],
+                                               s_r[sk], s_p[sk], s_d_inv[sk], s_e[sk])[0]
+            elif sk >= 0:
+                ss += _gauss_legendre_one(s_pm[sk], s_c2[sk], s_c0[sk], groundrun._nan_max(vj, kj),
+                                          groundrun._nan_max(v_to, kj), s_w[j], gl_x, gl_w)
+            s_oei[j], s_stop[j] = so, ss
+            if k == total - 1 and not next_step:
+                break
+            a_go = _acceleration_one(vj, oo_a[0][j], oo_a[1][j], oo_a[2][j], o_a2r[j] if o_reverse else 0.0, o_reverse,
+                                     oo_a[3][j], ok >= 0, o_p_m[max(ok, 0)], o_a0n[max(ok, 0)], o_a2p[max(ok, 0)])[0]
+            a_stop = _acceleration_one(vj, sa_a[0][j], sa_a[1][j], sa_a[2][j], s_a2r[j] if s_reverse else 0.0,
+                                       s_reverse, sa_a[3][j], sk >= 0, s_p_m[max(sk, 0)], s_a0n[max(sk, 0)],
+                                       s_a2p[max(sk, 0)])[0]
+            go, stop, dh, step = _newton_step_one(base[j], so, ss, vj, w[j], a_go, a_stop, delay_s)
+            moved, going, near = _advance_one(vj, step, dh, lo[j], hi[j], vj, vj, vj, w[j], vj, vj, multi[j],
+                                              count[j], k, step_tol, extrapolate, False)
+            if extrapolate >= 0.0 and near:
+                d = moved - vj
+                s_oei[j] -= go * d
+                s_stop[j] += stop * d
+            if next_step:
+                v_next[j] = moved
+            if going or near:
+                vj = moved
+            v[j] = vj
+            if not going:
+                break
 
 
 class _DeferredRegime:
@@ -1353,9 +1466,21 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
     s_oei = np.full(w.shape, np.nan)
     s_stop = np.full(w.shape, np.nan)
     ev = model.events
-    if ev is not None:
-        out_v1, out_pre, out_act = np.full(w.shape, np.nan), np.zeros(w.shape), np.zeros(w.shape)
-        out_a = np.full(w.shape, np.nan)
+    if ev is None:  # the idealised sequence: each case's whole loop in one compiled pass
+        oo, sa = model.one_out, model.stop_all
+        v_next = np.array(v1, copy=True) if next_step else np.zeros(0)
+        (v1,) = groundrun._kernel_args([np.asarray(v1, dtype=float)], w.shape)
+        _newton_search(v1, *groundrun._kernel_args([base, vlof, w, lo, hi], w.shape),
+                       np.ascontiguousarray(np.broadcast_to(multi, w.shape), dtype=np.bool_),
+                       np.ascontiguousarray(count, dtype=np.int64), total, float(delay_s), bool(next_step),
+                       -1.0 if step_tol_mps is None else float(step_tol_mps),
+                       -1.0 if extrapolate_mps is None else float(extrapolate_mps), oo._distance_terms(),
+                       sa._distance_terms(), oo._acceleration_terms(), sa._acceleration_terms(), s_oei, s_stop, v_next)
+        zero = np.zeros(w.shape)
+        return V1Search(v1, v1, s_oei, s_stop, zero, zero, v_next_mps=v_next if next_step else None)
+    # the timed event sequence (physics.takeoffevents): passes per case at each evaluation
+    out_v1, out_pre, out_act = np.full(w.shape, np.nan), np.zeros(w.shape), np.zeros(w.shape)
+    out_a = np.full(w.shape, np.nan)
     idx, evi, sub = None, ev, None
     oo, sa, ae = model.one_out, model.stop_all, model.all_engines  # evaluated at the cases ``sub`` (None: all)
     v_next = np.array(v1, copy=True) if next_step else None
@@ -1372,44 +1497,31 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             # the cases' inputs (the arrays themselves where every case is evaluated)
             pick = (lambda x: x) if full else (lambda x: x[idx])  # noqa: E731
             at = slice(None) if full else idx  # where their results go
-            if ev is not None:
-                evi = ev if full else ev.take(idx)
+            evi = ev if full else ev.take(idx)
         vi, wi = pick(v1), pick(w)
         so = oo.distance_m(vi, pick(vlof), index=sub)
-        if ev is None:
-            ss = sa.distance_m(vi, wi, index=sub)
-            s_oei[at], s_stop[at] = so, ss
-            if k == total - 1 and not next_step:
-                break
-            # h, its slope −dS_oei/dV + t_d + dS_stop/dV and the Newton step, one pass per case
-            go_slope, stop_slope, dh, step = (np.empty(idx.size) for _ in range(4))
-            _newton_step(*groundrun._kernel_args([pick(base), so, ss, vi, wi, oo.acceleration(vi, index=sub),
-                                                  sa.acceleration(vi, index=sub)],
-                                                 vi.shape), float(delay_s), go_slope, stop_slope, dh, step)
-            v1i = v1_raw = v_act = dv1 = vi  # (the timed events' terms, not used without them)
-        else:
-            # V_EF = vi; V1 one recognition interval later; the all-engines stop from V1
-            # with its stop actions (physics.takeoffevents)
-            # (accelerations of the timed pieces taken at V1, as by hand)
-            a_oo, d_oo = oo.acceleration(vi, slope=True, index=sub)
-            t_r = evi.recognition_s
-            v1_raw = takeoffevents.recognition_v1_mps(vi, a_oo, t_r)
-            v1i = np.clip(v1_raw, vi, np.maximum(pick(model.speeds.vr_mps), vi))
-            (a_ae, d_ae), (a_sa1, d_sa1) = (ae.acceleration(v1i, slope=True, index=sub),
-                                            sa.acceleration(v1i, slope=True, index=sub))
-            v_act, act, dv_act, d_act = evi.actions(v1i, wi, a_ae, a_sa1, slopes=(d_ae, d_sa1))
-            ss = sa.distance_m(v_act, wi, index=sub)
-            # h, its slope in V_EF and the Newton step, one pass per case (_timed_newton_step)
-            pre, dv1, d_pre, a_sa, dh, step = (np.empty(idx.size) for _ in range(6))
-            _timed_newton_step(*groundrun._kernel_args(
-                [pick(base), so, ss, vi, wi, v1i, v1_raw, _as_shape(t_r, vi.shape), a_oo, d_oo, a_ae, d_ae, a_sa1,
-                 sa.acceleration(v_act, index=sub), _as_shape(evi.action_interval_s, vi.shape), v_act, act, dv_act, d_act],
-                vi.shape), float(delay_s), pre, dv1, d_pre, a_sa, dh, step)
-            s_oei[at], s_stop[at] = so, ss
-            out_v1[at], out_pre[at], out_act[at], out_a[at] = v1i, pre, act, a_oo
-            if k == total - 1 and not next_step:
-                break
-            vg = vi - wi
+        # V_EF = vi; V1 one recognition interval later; the all-engines stop from V1
+        # with its stop actions (physics.takeoffevents)
+        # (accelerations of the timed pieces taken at V1, as by hand)
+        a_oo, d_oo = oo.acceleration(vi, slope=True, index=sub)
+        t_r = evi.recognition_s
+        v1_raw = takeoffevents.recognition_v1_mps(vi, a_oo, t_r)
+        v1i = np.clip(v1_raw, vi, np.maximum(pick(model.speeds.vr_mps), vi))
+        (a_ae, d_ae), (a_sa1, d_sa1) = (ae.acceleration(v1i, slope=True, index=sub),
+                                        sa.acceleration(v1i, slope=True, index=sub))
+        v_act, act, dv_act, d_act = evi.actions(v1i, wi, a_ae, a_sa1, slopes=(d_ae, d_sa1))
+        ss = sa.distance_m(v_act, wi, index=sub)
+        # h, its slope in V_EF and the Newton step, one pass per case (_timed_newton_step)
+        pre, dv1, d_pre, a_sa, dh, step = (np.empty(idx.size) for _ in range(6))
+        _timed_newton_step(*groundrun._kernel_args(
+            [pick(base), so, ss, vi, wi, v1i, v1_raw, _as_shape(t_r, vi.shape), a_oo, d_oo, a_ae, d_ae, a_sa1,
+             sa.acceleration(v_act, index=sub), _as_shape(evi.action_interval_s, vi.shape), v_act, act, dv_act, d_act],
+            vi.shape), float(delay_s), pre, dv1, d_pre, a_sa, dh, step)
+        s_oei[at], s_stop[at] = so, ss
+        out_v1[at], out_pre[at], out_act[at], out_a[at] = v1i, pre, act, a_oo
+        if k == total - 1 and not next_step:
+            break
+        vg = vi - wi
         # a case stops stepping after its own number of evaluations (last step at k = count − 2);
         # the step, where it moves V_EF to, whether the case goes on, and where it stops by
         # taking the step without evaluating there (extrapolated), one pass per case
@@ -1418,11 +1530,8 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
             [vi, step, dh, pick(lo), pick(hi), v1i, v1_raw, v_act, wi, dv1, pick(model.speeds.vr_mps)], vi.shape),
             np.array(pick(multi), dtype=np.bool_), np.array(pick(count), dtype=np.int64), k,
             -1.0 if step_tol_mps is None else float(step_tol_mps),
-            -1.0 if extrapolate_mps is None else float(extrapolate_mps), ev is not None, moved, going, near)
-        if extrapolate_mps is not None and ev is None:
-            # the step taken without evaluating there: each distance along its slope, one pass
-            _extrapolate_step(idx, near, moved, vi, go_slope, stop_slope, s_oei, s_stop)
-        elif extrapolate_mps is not None:
+            -1.0 if extrapolate_mps is None else float(extrapolate_mps), True, moved, going, near)
+        if extrapolate_mps is not None:
             f = np.flatnonzero(near)
             if f.size:  # the step taken without evaluating there: each part along its slope
                 i, d = idx[f], moved[f] - vi[f]
@@ -1438,9 +1547,6 @@ def _newton_v1(model, base, v1_start_mps, iterations, delay_s, next_step=False, 
         v1[at] = np.where(going | near, moved, vi)
         if next_step:
             v_next[at] = moved
-    if ev is None:
-        zero = np.zeros(w.shape)
-        return V1Search(v1, v1, s_oei, s_stop, zero, zero, v_next_mps=v_next)
     return V1Search(v1, out_v1, s_oei, s_stop, out_pre, out_act, out_a, v_next_mps=v_next)
 
 

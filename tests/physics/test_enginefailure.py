@@ -1,5 +1,6 @@
 """Engine failure on takeoff: continued takeoff, accelerate-stop, V1 choice, balanced field."""
 
+import dataclasses
 import types
 
 import numpy as np
@@ -202,7 +203,7 @@ def test_propeller_power_piece_closed_form_and_gauss_legendre_against_quadrature
         regime._closed = np.zeros_like(regime._closed)  # the 8-node Gauss–Legendre path
         del regime._distance_args  # (the kernel's arguments are kept from the first call)
         assert float(regime.distance_m(v_from, v_to)[0]) == pytest.approx(got, rel=1e-6)
-        assert regime._gauss_legendre.size == 1
+        assert np.count_nonzero(~regime._closed) == 1  # (that path taken)
 
 
 def test_propeller_regime_mixing_closed_form_and_gauss_legendre():
@@ -612,7 +613,7 @@ def test_regime_distance_at_an_index_equals_the_whole_set_and_a_gathered_regime(
                              slope=slope, headwind_mps=w)
     v_from, v_to = w, rng.uniform(40.0, 80.0, n)
     whole = regime.distance_m(v_from, v_to)
-    gl = regime.prop.take(regime._gauss_legendre)
+    gl = regime.prop.take(np.flatnonzero(~regime._closed))  # propeller cases without the closed form
     assert gl.size > 5 and np.any(law.is_propeller & ~np.isin(np.arange(n), gl) & (v_to > regime.kink))
     assert np.any(w < 0.0) and np.all(np.isfinite(whole[gl]))
     for part in (np.arange(0, n, 3), np.sort(rng.choice(n, 40, replace=False)), gl[::2], np.arange(n)):
@@ -692,8 +693,8 @@ def test_compiled_newton_step_and_advance_equal_the_formulas_written_with_numpy(
     u = lambda lo, hi: rng.uniform(lo, hi, n)  # noqa: E731
     base, so, ss, vi, wi = u(-300.0, 300.0), u(800.0, 2000.0), u(600.0, 1500.0), u(40.0, 80.0), u(-6.0, 9.0)
     a_go, a_stop = u(-0.2, 3.0), u(-5.0, 0.1)
-    out = [np.empty(n) for _ in range(4)]
-    ef._newton_step(base, so, ss, vi, wi, a_go, a_stop, 2.0, *out)
+    out = np.array([ef._newton_step_one(base[j], so[j], ss[j], vi[j], wi[j], a_go[j], a_stop[j], 2.0)
+                    for j in range(n)]).T
     h = base - so + 2.0 * (vi - wi) + ss
     go, stop = (vi - wi) / a_go, -(vi - wi) / a_stop
     dh = go + 2.0 + stop
@@ -780,3 +781,108 @@ def test_compiled_regime_constants_equal_the_formulas_written_with_numpy():
     np.testing.assert_array_equal(regime._closed, closed)
     for got, ref in zip(regime._root, groundrun._cubic_root(p_m, -a2[p], -a0n)):
         np.testing.assert_array_equal(got[closed], ref[closed])
+
+
+def test_compiled_gauss_legendre_piece_equals_the_numpy_sums():
+    # The propeller pieces without the closed form (downhill steeper than the friction, or
+    # braking lift above the drag) are integrated by Gauss–Legendre inside the compiled
+    # distance pass, node by node; the sums written with numpy over (nodes, cases) arrays
+    # (groundrun._propeller_power_piece, the path it replaces) give the same numbers to the
+    # bit, accelerating and decelerating, NaN where a(V) changes sign on the piece, 0 on an
+    # empty piece.
+    from fieldlimits.physics import groundrun
+
+    rng = np.random.default_rng(21)
+    n = 3000
+    pm = rng.uniform(5.0, 80.0, n)
+    c2 = rng.uniform(-2e-4, 4e-4, n)
+    c0 = rng.uniform(-0.6, 0.5, n)
+    v0 = rng.uniform(15.0, 90.0, n)
+    v1 = np.where(rng.random(n) < 0.05, v0, rng.uniform(15.0, 90.0, n))
+    w = rng.uniform(-8.0, 10.0, n)
+    x, wts = ef._GAUSS_LEGENDRE
+    got = np.array([ef._gauss_legendre_one(pm[j], c2[j], c0[j], v0[j], v1[j], w[j], x, wts) for j in range(n)])
+    up = v1 >= v0  # one direction in a call: numpy's test of the sign at the end only
+    for part in (np.flatnonzero(up), np.arange(n)):
+        ref = groundrun._propeller_power_piece(pm[part], c2[part], c0[part], v0[part], v1[part], w[part],
+                                               ef.PROPELLER_NODES)[0]
+        np.testing.assert_array_equal(got[part], ref)
+    assert np.any(np.isnan(got)) and np.any(np.isfinite(got) & (v1 < v0)) and np.any(got == 0.0)
+
+
+def _idealised_search_with_numpy(model, base, v1, count, next_step, tol, ext):
+    # The idealised V1 search written with numpy over the cases still iterating (the path the
+    # compiled loop per case replaced): at each evaluation S_oei(V1 → V_LOF) and S_stop(V1 → w)
+    # (the regimes' distances), h = base − S_oei + 2 (V1 − w) + S_stop, dh = (V1 − w)/a_oei + 2
+    # − (V1 − w)/a_stop, the step h/dh (none where not finite, dh ≤ 0 or single-engine),
+    # clipped to the range; a case goes on while it has evaluations left and its step exceeds
+    # ``tol``; a step of at most ``ext`` is taken unevaluated, the distances along their slopes.
+    w, vlof, lo, hi = model.headwind_mps, model.speeds.vlof_mps, model.v1_min_mps, model.v1_max_mps
+    v1 = np.array(v1, dtype=float)
+    total = int(count.max())
+    s_oei, s_stop, v_next = np.full(w.shape, np.nan), np.full(w.shape, np.nan), v1.copy()
+    idx = np.arange(w.size)
+    for k in range(total):
+        vi, wi = v1[idx], w[idx]
+        so = model.one_out.distance_m(vi, vlof[idx], index=idx)
+        ss = model.stop_all.distance_m(vi, wi, index=idx)
+        s_oei[idx], s_stop[idx] = so, ss
+        if k == total - 1 and not next_step:
+            break
+        h = base[idx] - so + 2.0 * (vi - wi) + ss
+        go = (vi - wi) / model.one_out.acceleration(vi, index=idx)
+        stop = -(vi - wi) / model.stop_all.acceleration(vi, index=idx)
+        dh = go + 2.0 + stop
+        step = h / dh
+        step = np.where(np.isfinite(step) & (dh > 0.0) & model.multi_engine[idx], step, 0.0)
+        moved = np.minimum(np.maximum(vi - step, lo[idx]), hi[idx])
+        going = k < count[idx] - 1
+        if tol >= 0.0:
+            going &= np.abs(moved - vi) > tol
+        near = np.zeros(idx.size, dtype=bool)
+        if ext >= 0.0:
+            d = moved - vi
+            near = np.abs(d) <= ext
+            going &= ~near
+            near &= d != 0.0
+            s_oei[idx] -= np.where(near, go * d, 0.0)
+            s_stop[idx] += np.where(near, stop * d, 0.0)
+        v1[idx] = np.where(going | near, moved, vi)
+        v_next[idx] = moved
+        idx = idx[going]
+        if idx.size == 0:
+            break
+    return v1, s_oei, s_stop, v_next
+
+
+@pytest.mark.parametrize("next_step, tol, ext", [(False, -1.0, -1.0), (True, 1e-4, -1.0), (True, 1e-4, 0.05),
+                                                 (True, 1e-9, -1.0)])
+def test_compiled_v1_search_equals_the_search_written_with_numpy(next_step, tol, ext):
+    # The idealised V1 search runs each case's whole Newton loop in one compiled pass; the
+    # search written with numpy over the cases still iterating gives the same V1, distances
+    # and next speeds to the bit: mixed thrust models, tailwinds, single-engine types, cases
+    # with one to five evaluations, warm and cold starts, propeller cases with and without the
+    # closed form above the kink (Gauss–Legendre: downhill steeper than the friction).
+    from tests.physics import fleet
+
+    n = 4000
+    a, s = fleet.random_cases(n, seed=31)
+    rng = np.random.default_rng(31)
+    s = dataclasses.replace(s, slope=np.where(rng.random(n) < 0.05, -0.06, s.slope))
+    a = dataclasses.replace(a, engine_count=np.where(rng.random(n) < 0.05, 1.0, np.asarray(a.engine_count, dtype=float)))
+    model = ef.engine_failure_model(a, s, rng.uniform(0.75, 1.0, n) * a.mtow_kg)
+    gl = model.one_out.prop.take(np.flatnonzero(~model.one_out._closed))
+    assert gl.size > 0 and np.any(~model.multi_engine) and np.any(model.headwind_mps < 0.0)
+    base = rng.uniform(-400.0, 200.0, n)
+    start = np.where(rng.random(n) < 0.5, model.v1_min_mps + rng.uniform(0.0, 1.0, n) * (
+        model.v1_max_mps - model.v1_min_mps), ef._v1_estimate_mps(model, base, ef.STOP_DELAY_S))
+    count = rng.integers(1, 6, n)
+    got = ef._newton_v1(model, base, start, count, ef.STOP_DELAY_S, next_step=next_step,
+                        step_tol_mps=None if tol < 0.0 else tol, extrapolate_mps=None if ext < 0.0 else ext)
+    v1, s_oei, s_stop, v_next = _idealised_search_with_numpy(model, base, start, count, next_step, max(tol, -1.0), ext)
+    np.testing.assert_array_equal(got.v1_mps, v1)
+    np.testing.assert_array_equal(got.one_out_m, s_oei)
+    np.testing.assert_array_equal(got.braking_m, s_stop)
+    if next_step:
+        np.testing.assert_array_equal(got.v_next_mps, v_next)
+    assert np.all(np.isfinite(s_oei[gl])) and np.count_nonzero(v1 != start) > n // 2
