@@ -559,10 +559,10 @@ class GroundRegime:
                                                             self.w.take(t))
             rv = self._reverse
             rev = (rv.a0, rv.a1, rv.a2, rv.w, rv.form, *rv.k)
-        else:  # (one element: the kernel reads a case's entry before its test of reverse_at)
-            rev = (*(np.zeros(1),) * 4, np.zeros(1, dtype=np.int8), *(np.zeros(1),) * 3)
-        closed = np.zeros(1, dtype=np.bool_)  # (as above, for prop_at)
-        prop_terms = (np.zeros(1),) * 7
+        else:
+            rev = (*(np.zeros(0),) * 4, np.zeros(0, dtype=np.int8), *(np.zeros(0),) * 3)
+        closed = np.zeros(0, dtype=np.bool_)
+        prop_terms = (np.zeros(0),) * 7
         if self.prop.size:
             closed = np.ascontiguousarray(self._closed, dtype=np.bool_)
             pm, c2, c0 = self._p_m, -self._a2p, -self._a0n
@@ -584,7 +584,9 @@ class GroundRegime:
             if prop_at is None:
                 prop_at = np.full(n, -1, dtype=np.intp)
                 prop_at[self.prop] = np.arange(self.prop.size)
-            pa = (self._p_m, self._a0n, self._a2p) if self.prop.size else (np.zeros(1),) * 3  # (read, not used)
+            # (one element where there are no propeller cases: _acceleration_one's arguments
+            # are read for every case, at place 0 where it has none)
+            pa = (self._p_m, self._a0n, self._a2p) if self.prop.size else (np.zeros(1),) * 3
             args = (*groundrun._kernel_args([_as_shape(x, n) for x in (*self.coeffs, self.kink)], n),
                     *groundrun._kernel_args([np.asarray(a2r, dtype=float)], np.shape(a2r)), prop_at,
                     *groundrun._kernel_args([np.asarray(x, dtype=float) for x in pa], np.shape(pa[0])))
