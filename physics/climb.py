@@ -389,6 +389,32 @@ def climb_thrust_law(aircraft, pressure_pa, temperature_k):
                                           engines_operating=climb_engines_operating(aircraft.engine_count))
 
 
+def cases_climb_thrust_law(cases):
+    """:func:`climb_thrust_law` of prepared cases.
+
+    Parameters
+    ----------
+    cases : physics.weightlimit.Cases
+        Prepared cases (their one-engine takeoff thrust law for the day).
+
+    Returns
+    -------
+    physics.thrust.ThrustLaw
+        Takeoff-rated thrust of ``climb_engines_operating(engine_count)`` engines.
+
+    Notes
+    -----
+    The one-engine law scaled by the engines operating in the climb: the same to the bit as
+    :func:`climb_thrust_law` (:func:`physics.thrust.thrust_law` multiplies the one-engine
+    terms by the engines operating last).
+
+    References
+    ----------
+    .. [1] 14 CFR 25.121(b) (one engine inoperative, remaining at takeoff thrust).
+    """
+    return cases.one_engine_thrust_law().scaled(climb_engines_operating(cases.aircraft.engine_count))
+
+
 def weight_limit_climb_gradient(cases, mass_kg, memo):
     """Takeoff climb gradient at the solver's trial masses (memoised per mass).
 
@@ -415,8 +441,7 @@ def weight_limit_climb_gradient(cases, mass_kg, memo):
     .. [1] 14 CFR 25.121(b); 14 CFR 23.65(a) (from memory).
     """
     if "climb_gradient" not in memo:
-        law = cases.cached("climb_thrust_law",
-                           lambda cs: climb_thrust_law(cs.aircraft, cs.site.pressure_pa, cs.site.temperature_k))
+        law = cases.cached("climb_thrust_law", cases_climb_thrust_law)
         terms = cases.cached("climb_terms", lambda cs: _climb_terms(cs.aircraft, cs.site.pressure_pa,
                                                                       cs.site.temperature_k, law))
         memo["climb_gradient"] = _climb_gradient(terms, mass_kg)

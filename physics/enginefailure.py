@@ -1165,7 +1165,7 @@ _REGIME_LAWS = {"all_engines": "law_all", "one_out": "law_one_out", "stop_all": 
                 "stop_one_out": "law_idle_one_out"}
 
 
-def engine_failure_setup(aircraft, site, shape=()):
+def engine_failure_setup(aircraft, site, shape=(), one_engine_law=None):
     """Mass-independent thrust laws and coefficients of the engine-failure cases.
 
     Parameters
@@ -1176,6 +1176,9 @@ def engine_failure_setup(aircraft, site, shape=()):
         Runway and day fields (arrays over cases).
     shape : tuple, optional
         Extra shape to broadcast to (e.g. that of an array of trial masses). [–]
+    one_engine_law : physics.thrust.ThrustLaw, optional
+        The takeoff thrust of one engine for these cases and day, when the caller has it
+        (:meth:`physics.weightlimit.Cases.one_engine_thrust_law`; shape of the cases).
 
     Returns
     -------
@@ -1220,7 +1223,7 @@ def engine_failure_setup(aircraft, site, shape=()):
     rho_b, area, slope = b(rho), b(a.wing_area_m2), b(s.slope)
     cl_roll, cl_brake, mu_roll, mu_brake = b(a.cl_ground_roll), b(a.braking_cl), b(s.mu_roll), b(s.mu_brake)
     # T is linear in engines × throttle (physics.thrust.thrust_law): one engine's law, scaled
-    one = law(1.0)
+    one = law(1.0) if one_engine_law is None or np.shape(one_engine_law.t0_n) != n else one_engine_law
     laws = tuple(one.scaled(ops * tau) for ops, tau in ((n_eng, 1.0), (n_out, 1.0), (n_eng, idle), (n_out, idle)))
     terms = lambda lw, cd, cl, mu: groundrun.ground_run_terms(  # noqa: E731
         lw, wing_area_m2=area, density_kg_m3=rho_b, cd=cd, cl=cl, mu=mu, slope=slope)
@@ -1829,7 +1832,8 @@ def weight_limit_engine_failure(cases, mass_kg, memo):
     .. [1] 14 CFR 25.109, 25.113.
     """
     if "engine_failure" not in memo:
-        setup = cases.cached("engine_failure_setup", lambda cs: engine_failure_setup(cs.aircraft, cs.site))
+        setup = cases.cached("engine_failure_setup", lambda cs: engine_failure_setup(
+            cs.aircraft, cs.site, one_engine_law=cs.one_engine_thrust_law()))
         state = cases.cached("engine_failure_state", lambda cs: {})
         guess, last = state.get("v1"), state.get("mass")
         if guess is not None and last is not None and np.shape(guess) == setup.n == np.shape(last):

@@ -482,8 +482,7 @@ def weight_limit_flight_path(cases, mass_kg, memo):
             aeo = weightlimit.all_engines(singles, np.asarray(mass_kg, dtype=float)[single], {})
             tod, v2 = np.array(tod, dtype=float), np.array(v2, dtype=float)
             tod[single], v2[single] = aeo.takeoff_distance_m, aeo.v2_mps
-    law = cases.cached("climb_thrust_law", lambda cs: climb.climb_thrust_law(cs.aircraft, cs.site.pressure_pa,
-                                                                             cs.site.temperature_k))
+    law = cases.cached("climb_thrust_law", climb.cases_climb_thrust_law)
     inputs = path_inputs(a, mass_kg=mass_kg, density_kg_m3=cases.density_kg_m3, v2_mps=v2, thrust_fn=law.thrust_n)
     x = (np.asarray(s.toda_m, dtype=float) - tod)[:, None] + obstacles.distance_m
     heights = acceleration_heights_m(a.acceleration_height_m, a.max_acceleration_height_m)

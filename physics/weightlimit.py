@@ -290,6 +290,17 @@ class Cases:
                     out._computed.add(key)
         return out
 
+    def one_engine_thrust_law(self):
+        """Takeoff thrust of one engine for the day (:func:`physics.thrust.thrust_law`, one
+        engine operating), kept with the cases :func:`prepare_cases` made and computed for a
+        subset. The law of N engines is this one scaled by N to the bit (``thrust_law``
+        multiplies the one-engine terms by the engines operating last)."""
+        law = self.__dict__.get("_one_engine_law")
+        if law is None:
+            law = self.__dict__["_one_engine_law"] = thrust.thrust_law_for_aircraft(
+                self.aircraft, self.site.pressure_pa, self.site.temperature_k, engines_operating=1.0)
+        return law
+
     def cached(self, key, fn):
         """Mass-independent item ``key``, computed by ``fn(self)`` on first use."""
         self._read.add(key)
@@ -397,8 +408,10 @@ def prepare_cases(aircraft, site, *, vmcg_floor=False):
     cd0 = a.cd0_clean + a.cd0_gear + a.cd0_takeoff_flaps
     phi = aero.ground_effect_factor(a.wing_height_m, a.wing_span_m)
     cd_ground = aero.drag_coefficient(cd0, k, a.cl_ground_roll, phi)
-    law = thrust.thrust_law_for_aircraft(a, s.pressure_pa, s.temperature_k)
-    return Cases(a, s, rho, law, k, cd0, cd_ground, s.toda_m - s.tora_m, bool(vmcg_floor))
+    one = thrust.thrust_law_for_aircraft(a, s.pressure_pa, s.temperature_k, engines_operating=1.0)
+    out = Cases(a, s, rho, one.scaled(a.engine_count), k, cd0, cd_ground, s.toda_m - s.tora_m, bool(vmcg_floor))
+    out.__dict__["_one_engine_law"] = one  # the other engine states' laws are it scaled
+    return out
 
 
 # ---------------------------------------------------------------------------------------------

@@ -368,3 +368,25 @@ def test_wet_cases_take_the_result_of_their_dry_twin_in_the_same_call(monkeypatc
     limited = np.isfinite(alone.tow_limit_kg) & (np.arange(n) < n - 500)
     assert limited.sum() > 1500
     assert np.all(both.tow_limit_kg[n:][limited] <= both.tow_limit_kg[:n][limited])  # never better than dry
+
+
+def test_every_engine_state_law_is_the_one_engine_law_scaled_to_the_bit():
+    # physics.thrust.thrust_law multiplies the one-engine terms by engines x throttle last,
+    # so the solve builds the one-engine law once and scales it: the all-engines law of the
+    # cases, the climb law (N - 1 engines) and the engine-failure set-up must equal the laws
+    # built for those engine counts directly, bit for bit, for every thrust model.
+    from fieldlimits.physics import climb, enginefailure, thrust
+
+    a, s = fleet.random_cases(3000, seed=31)
+    cases = wl.prepare_cases(a, s)
+    direct = thrust.thrust_law_for_aircraft(cases.aircraft, cases.site.pressure_pa, cases.site.temperature_k)
+    climb_direct = climb.climb_thrust_law(cases.aircraft, cases.site.pressure_pa, cases.site.temperature_k)
+    for got, want in ((cases.thrust_all_engines, direct), (climb.cases_climb_thrust_law(cases), climb_direct)):
+        for f in ("t0_n", "t1_n_per_mps", "t2_n_per_mps2", "propeller_power_w", "is_propeller"):
+            np.testing.assert_array_equal(getattr(got, f), getattr(want, f), err_msg=f)
+    given = enginefailure.engine_failure_setup(cases.aircraft, cases.site, one_engine_law=cases.one_engine_thrust_law())
+    built = enginefailure.engine_failure_setup(cases.aircraft, cases.site)
+    for got, want in zip((given.law_all, given.law_one_out), (built.law_all, built.law_one_out)):
+        np.testing.assert_array_equal(got.t0_n, want.t0_n)
+        np.testing.assert_array_equal(got.propeller_power_w, want.propeller_power_w)
+    assert np.unique(np.asarray(a.thrust_model)).size == 3
