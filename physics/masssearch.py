@@ -392,7 +392,9 @@ def bracket_search(cases, margins_fn, lo, hi, m_hi, tol_kg, capture=None):
             i = idx.take(k)
             for key, val in st.items():
                 if np.shape(val) == idx.shape:
-                    v1_state.setdefault(key, np.full(lo.size, np.nan))[i] = val.take(k)
+                    if key not in v1_state:  # (setdefault would build the default every time)
+                        v1_state[key] = np.full(lo.size, np.nan)
+                    v1_state[key][i] = val.take(k)
             kept[k] = True
 
     def flush(k):

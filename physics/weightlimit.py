@@ -1132,7 +1132,9 @@ def _solve_staged(cases, tol_kg, reqs, figures):
         if v1_state is not None:
             got = np.isfinite(v1_state["v1"])
             for key, val in v1_state.items():
-                state.setdefault(key, np.full(idx.size, np.nan))[fail[got]] = val[got]
+                if key not in state:
+                    state[key] = np.full(idx.size, np.nan)
+                state[key][fail[got]] = val[got]
     ef._cache["engine_failure_state"] = state
     pos = np.full(n, -1)
     pos[idx] = np.arange(idx.size)
