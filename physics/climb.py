@@ -400,7 +400,7 @@ def cases_climb_thrust_law(cases):
     Returns
     -------
     physics.thrust.ThrustLaw
-        Takeoff-rated thrust of ``climb_engines_operating(engine_count)`` engines.
+        As :func:`climb_thrust_law`.
 
     Notes
     -----

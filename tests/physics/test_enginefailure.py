@@ -559,21 +559,29 @@ def test_setup_thrust_laws_equal_the_law_of_each_engine_state():
             np.testing.assert_array_equal(getattr(law, f), getattr(ref, f))
 
 
+def _random_ground_inputs(n, seed):
+    """n mixed cases (tests.physics.fleet), a generator, their all-engines thrust law, the air
+    density and a headwind from −8 to 10 m/s."""
+    from fieldlimits.physics import thrust
+    from tests.physics import fleet
+
+    a, s = fleet.random_cases(n, seed=seed)
+    rng = np.random.default_rng(seed)
+    law = thrust.thrust_law_for_aircraft(a, s.pressure_pa, s.temperature_k)
+    rho = s.pressure_pa / (c.R_AIR * s.temperature_k)
+    return a, s, rng, law, rho, rng.uniform(-8.0, 10.0, n)
+
+
 def test_regime_acceleration_equals_the_equation_of_motion():
     # GroundRegime.acceleration (a compiled kernel) against a(V) = [T(V) − ½ rho S (C_D −
     # mu C_L) V|V|]/m − g (mu cos g + sin g) from the thrust law (groundrun.
     # acceleration_function, Raymer Eq. 17.100), for the three thrust models, tailwinds
     # (reverse flow below V = 0) and propellers on both sides of the power kink; the slope
     # against a central difference (step 1e-3 m/s: the error of order step², far below 1e-6).
-    from fieldlimits.physics import groundrun, thrust
-    from tests.physics import fleet
+    from fieldlimits.physics import groundrun
 
     n = 4000
-    a, site = fleet.random_cases(n, seed=5)
-    rng = np.random.default_rng(5)
-    law = thrust.thrust_law_for_aircraft(a, site.pressure_pa, site.temperature_k)
-    rho = site.pressure_pa / (c.R_AIR * site.temperature_k)
-    w = rng.uniform(-8.0, 10.0, n)
+    a, site, rng, law, rho, w = _random_ground_inputs(n, 5)
     kw = dict(mass_kg=rng.uniform(0.7, 1.0, n) * a.mtow_kg, wing_area_m2=a.wing_area_m2, density_kg_m3=rho,
               cd=rng.uniform(0.03, 0.1, n), cl=a.cl_ground_roll, mu=site.mu_roll, slope=site.slope)
     regime = ef.GroundRegime(law, **kw, headwind_mps=w)
@@ -740,15 +748,10 @@ def test_compiled_regime_constants_equal_the_formulas_written_with_numpy():
     # from groundrun.QuadraticSegments, the propeller terms and the cubic's root from
     # groundrun._cubic_root) give the same numbers to the bit, for every thrust model,
     # tailwinds and propellers with and without the closed form above the kink.
-    from fieldlimits.physics import groundrun, thrust
-    from tests.physics import fleet
+    from fieldlimits.physics import groundrun
 
     n = 4000
-    a, s = fleet.random_cases(n, seed=13)
-    rng = np.random.default_rng(13)
-    law = thrust.thrust_law_for_aircraft(a, s.pressure_pa, s.temperature_k)
-    rho = s.pressure_pa / (c.R_AIR * s.temperature_k)
-    w = rng.uniform(-8.0, 10.0, n)
+    a, s, rng, law, rho, w = _random_ground_inputs(n, 13)
     m = rng.uniform(0.6, 1.05, n) * a.mtow_kg
     kw = dict(wing_area_m2=a.wing_area_m2, density_kg_m3=rho, cd=rng.uniform(0.03, 0.1, n), cl=a.cl_ground_roll,
               mu=s.mu_roll, slope=np.where(rng.random(n) < 0.1, -0.06, s.slope))
