@@ -258,3 +258,32 @@ def test_route_step_reads_only_the_origin_type_pairs_flown(tmp_path):
     got = steps._route_airfield_rows(routes, [part])
     assert sorted(zip(got["airfield_id"], got["aircraft_type_id"], got["tow_limit_kg"])) == \
         [("A", "t1", 1.0), ("B", "t2", 4.0)]
+
+
+def test_route_step_in_blocks_of_routes_stores_the_same_rows(tmp_path, demo_dir, demo_run, monkeypatch):
+    # The route step builds the payloads in blocks of whole routes (route_id order, the order
+    # of the stored rows), so a large network never holds all payload frames at once: the
+    # demo's 44 routes in blocks of 5 must store the same rows, in the same order, as in one
+    # block (the shared demo run).
+    import duckdb
+
+    from fieldlimits.pipeline import steps
+
+    import pandas as pd
+
+    from fieldlimits.pipeline import routes
+
+    monkeypatch.setattr(steps, "ROUTE_BLOCK_ROUTES", 5)
+    frames = []
+    whole_frame = routes.route_payload_frame
+    monkeypatch.setattr(routes, "route_payload_frame",
+                        lambda tables, *a, **k: frames.append(len(tables["routes"])) or whole_frame(tables, *a, **k))
+    db = tmp_path / "blocks.duckdb"
+    steps.run_local(demo_dir, db, steps.RunParams(reliability_levels=()), progress=lambda *a: None)
+    assert frames == [5] * 8 + [4]  # the demo's 44 routes
+    query = "SELECT * EXCLUDE (run_id) FROM route_payload_stored ORDER BY rowid"
+    one, _ = demo_run
+    with duckdb.connect(str(one), read_only=True) as a, duckdb.connect(str(db), read_only=True) as b:
+        whole, blocks = a.sql(query).df(), b.sql(query).df()
+    assert len(whole) > 1000
+    pd.testing.assert_frame_equal(blocks, whole, check_exact=True)
