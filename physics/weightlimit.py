@@ -903,8 +903,6 @@ def _dry_twins(aircraft, site, obstacles, n, dry_aircraft, dry_site, dry_obstacl
     m = np.shape(dry_site.mu_roll)[0]
     every = _input_columns(aircraft, site, obstacles, n)
     wet = _input_columns(dry_aircraft, dry_site, dry_obstacles, m)
-    if len(every) != len(wet):  # obstacles of a different width
-        return np.full(m, -1, dtype=np.intp)
     h_every, h_wet = _row_hashes(every), _row_hashes(wet)
     order = np.argsort(h_every, kind="stable")
     at = np.minimum(np.searchsorted(h_every, h_wet, sorter=order), n - 1)
@@ -954,13 +952,14 @@ def _solve_accepted(aircraft, site, tol_kg, reqs, figures, obstacles=None):
     paired = np.flatnonzero(twin >= 0)
     for f in fields(WeightLimit):
         dry[f.name][paired] = np.asarray(getattr(result, f.name)).take(twin.take(paired))
-    if alone.size:
-        sub = alone if alone.size < idx.size else slice(None)
-        solved = _solve(_gather(dry_aircraft, alone, idx.size) if alone.size < idx.size else dry_aircraft,
-                        _gather(dry_site, alone, idx.size) if alone.size < idx.size else dry_site, tol_kg, reqs,
+    if alone.size == idx.size:  # no twin: the wet cases' dry inputs as they are
+        solved = _solve(dry_aircraft, dry_site, tol_kg, reqs, figures, dry_obstacles)
+    elif alone.size:
+        solved = _solve(_gather(dry_aircraft, alone, idx.size), _gather(dry_site, alone, idx.size), tol_kg, reqs,
                         figures, None if dry_obstacles is None else dry_obstacles.take_cases(alone))
+    if alone.size:
         for f in fields(WeightLimit):
-            dry[f.name][sub] = getattr(solved, f.name)
+            dry[f.name][alone] = getattr(solved, f.name)
     dry = WeightLimit(**dry)
     w_lim = result.tow_limit_kg[idx]
     lower = ~np.isnan(w_lim) & (np.isnan(dry.tow_limit_kg) | (dry.tow_limit_kg < w_lim))

@@ -760,40 +760,41 @@ def route_payloads(prepared: PreparedRun, work: Path, best_path) -> Path | None:
     # held as a frame at a time (a frame of 20 000 routes' payloads took the main process to
     # 2.2 GB); the blocks are kept as Arrow tables until they are written
     routes = tables["routes"]
-    ids = routes["route_id"].astype(str) if "route_id" in routes else None
-    order = sorted(ids.unique()) if ids is not None else []
+    blockwise = all(c in routes for c in ("route_id", "origin_id", "destination_id"))
+    ids = routes["route_id"].astype(str) if blockwise else None
+    order = sorted(ids.unique()) if blockwise else []
     blocks = [order[i:i + ROUTE_BLOCK_ROUTES] for i in range(0, len(order), ROUTE_BLOCK_ROUTES)]
-    if len(blocks) <= 1 or "origin_id" not in routes or "destination_id" not in routes:
-        pieces = [func(tables, airfield, params, landing=destinations)]
-    else:
-        import pyarrow as pa
 
+    def block_inputs():
+        if len(blocks) <= 1:
+            yield tables, airfield, destinations
+            return
         origin_of = airfield["airfield_id"].astype(str)
         landing_of = destinations["airfield_id"].astype(str) if "airfield_id" in destinations else None
-        pieces = []
         for block in blocks:
             sub = routes[ids.isin(block).to_numpy()]
-            frame = func({**tables, "routes": sub}, airfield[origin_of.isin(set(sub["origin_id"].astype(str)))],
-                         params, landing=destinations if landing_of is None else
-                         destinations[landing_of.isin(set(sub["destination_id"].astype(str)))])
-            if frame is None:
-                pieces = [None]
-                break
-            pieces.append(pa.Table.from_pandas(frame, preserve_index=False))
-            del frame
+            yield ({**tables, "routes": sub}, airfield[origin_of.isin(set(sub["origin_id"].astype(str)))],
+                   destinations if landing_of is None else
+                   destinations[landing_of.isin(set(sub["destination_id"].astype(str)))])
+
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    pieces = []
+    for block_tables, origins, dests in block_inputs():
+        frame = func(block_tables, origins, params, landing=dests)
+        if frame is None:
+            pieces = None
+            break
+        pieces.append(pa.Table.from_pandas(frame, preserve_index=False))
+        del frame
     del airfield, destinations
-    if pieces[0] is None:
+    if pieces is None:
         chunks.release_free_memory()
         return None
     out = Path(work) / ROUTE_FILE
     tmp = out.with_name(f".{out.name}.tmp")
-    if len(pieces) == 1 and isinstance(pieces[0], pd.DataFrame):
-        pieces[0].to_parquet(tmp, index=False)
-    else:
-        import pyarrow as pa
-        import pyarrow.parquet as pq
-
-        pq.write_table(pa.concat_tables(pieces, promote_options="default"), tmp)
+    pq.write_table(pa.concat_tables(pieces, promote_options="default"), tmp)
     os.replace(tmp, out)
     del pieces
     chunks.release_free_memory()  # the origins' rows and the payloads' frames, before the load
